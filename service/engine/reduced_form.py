@@ -1,0 +1,36 @@
+"""Reduced-form elasticities of the equilibrium (MODEL.md section 7).
+
+For a shifter with demand elasticity eta_i and supply elasticity eps_j (either may be 0),
+at supply elasticity eps (short or long run):
+
+    price     d ln P* / d ln x = (eta_i - eps_j) / (eps - eta)
+    quantity  d ln Q* / d ln x = (eps eta_i - eta eps_j) / (eps - eta)
+
+the equilibrium displacement formulas of Muth (1964), "The Incidence of a Tax", and
+Gardner (1987); Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["reduced_form"]
+
+
+def reduced_form(
+    demand_elasticity: np.ndarray,
+    supply_elasticity: np.ndarray,
+    demand_shifter_elasticity: np.ndarray,
+    supply_shifter_elasticity: np.ndarray,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Price and quantity elasticities (scenarios, shifters) at one supply elasticity.
+
+    demand_elasticity and supply_elasticity are (scenarios,); shifter elasticities are
+    (scenarios, shifters), 0 where a shifter does not enter a curve.
+    """
+    eta = demand_elasticity[:, None]
+    eps = supply_elasticity[:, None]
+    denominator = eps - eta
+    price = (demand_shifter_elasticity - supply_shifter_elasticity) / denominator
+    quantity = (eps * demand_shifter_elasticity - eta * supply_shifter_elasticity) / denominator
+    return price, quantity

@@ -1,0 +1,305 @@
+"""From path arrays to one answer per scenario: paths, summary, reduced form, cautions.
+
+`simulate` is the engine's entry point for a list of scenarios: it packs them, solves all
+of them in one vectorised pass, and returns, in order, a ScenarioResult or the EngineError
+that explains why that scenario has no answer. The summary figures are computed for all
+policy rows at once; only the final slicing into per-scenario objects walks the list.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from .batch import PolicyRows, ScenarioBatch, pack
+from .cautions import scenario_cautions
+from .errors import (
+    EngineError,
+    InfeasiblePolicyError,
+    InputError,
+    LinearFormRangeError,
+    NonFiniteResultError,
+)
+from .paths import PathArrays, solve
+from .policies import CEILING_KINDS
+from .reduced_form import reduced_form
+from .scenario import Scenario
+
+__all__ = ["PolicyPath", "PolicySummary", "ScenarioResult", "SERIES", "simulate", "summarise"]
+
+#: The per-period series of every policy path, in response order.
+SERIES = (
+    "consumer_price",
+    "producer_price",
+    "quantity",
+    "quantity_demanded",
+    "quantity_supplied",
+    "shortage",
+    "excess_supply",
+    "marginal_value",
+    "marginal_cost",
+    "binding",
+    "consumer_surplus_change",
+    "producer_surplus_change",
+    "government_revenue",
+    "deadweight_loss",
+    "misallocation_loss",
+    "cumulative_deadweight_loss",
+    "discounted_deadweight_loss",
+)
+
+_POLICY_FIELD = {
+    "price_ceiling": "level",
+    "price_floor": "level",
+    "quantity_cap": "level",
+    "unit_tax": "amount",
+    "unit_subsidy": "amount",
+    "ad_valorem_tax": "rate",
+    "none": "kind",
+}
+
+
+@dataclass(frozen=True)
+class PolicyPath:
+    """One policy's series, each (T+1,), period 0 first."""
+
+    name: str
+    kind: str
+    series: dict[str, np.ndarray]
+
+
+@dataclass(frozen=True)
+class PolicySummary:
+    """Headline figures of one policy over the horizon; money per model period summed."""
+
+    name: str
+    kind: str
+    total_deadweight_loss: float
+    discounted_deadweight_loss: float
+    peak_shortage: float
+    peak_shortage_period: int | None
+    binding_periods: int
+    final_consumer_price: float
+    final_quantity: float
+    total_consumer_surplus_change: float
+    total_producer_surplus_change: float
+    total_government_revenue: float
+
+
+@dataclass(frozen=True)
+class ScenarioResult:
+    horizon: int
+    supply_elasticity: np.ndarray  # (T+1,)
+    reduced_form: dict[str, dict[str, dict[str, float]]]
+    paths: tuple[PolicyPath, ...]
+    summary: tuple[PolicySummary, ...]
+    cautions: tuple[str, ...]
+
+
+def series_of(arrays: PathArrays) -> dict[str, np.ndarray]:
+    """Every reported series, (R, T+1), by response name."""
+    o, w = arrays.outcome, arrays.welfare
+    out = {name: getattr(o, name) for name in SERIES[:10]}
+    out.update({name: getattr(w, name) for name in SERIES[10:15]})
+    out["cumulative_deadweight_loss"] = arrays.cumulative_deadweight_loss
+    out["discounted_deadweight_loss"] = arrays.discounted_deadweight_loss
+    return out
+
+
+def summarise(arrays: PathArrays, batch: ScenarioBatch, rows: PolicyRows) -> dict[str, np.ndarray]:
+    """Summary figures of every policy row, each (R,)."""
+    horizon = batch.horizon[rows.scenario][:, None]
+    valid = arrays.valid[rows.scenario]
+    o, w = arrays.outcome, arrays.welfare
+
+    def final(a):
+        return np.take_along_axis(a, horizon, axis=1)[:, 0]
+
+    shortage = np.where(valid, o.shortage, 0.0)
+    peak = shortage.max(axis=1)
+    return {
+        "total_deadweight_loss": final(arrays.cumulative_deadweight_loss),
+        "discounted_deadweight_loss": final(arrays.discounted_deadweight_loss),
+        "peak_shortage": peak,
+        "peak_shortage_period": np.where(peak > 0.0, shortage.argmax(axis=1), -1),
+        "binding_periods": (o.binding & valid).sum(axis=1),
+        "final_consumer_price": final(o.consumer_price),
+        "final_quantity": final(o.quantity),
+        "total_consumer_surplus_change": np.where(valid, w.consumer_surplus_change, 0.0).sum(axis=1),
+        "total_producer_surplus_change": np.where(valid, w.producer_surplus_change, 0.0).sum(axis=1),
+        "total_government_revenue": np.where(valid, w.government_revenue, 0.0).sum(axis=1),
+    }
+
+
+def _first_period(mask: np.ndarray) -> int:
+    return int(np.argmax(mask))
+
+
+def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: np.ndarray) -> EngineError:
+    """The first problem of a failed scenario, with the pointer of the input to change."""
+    names = scenario.market.shifter_names
+    for j in np.flatnonzero(arrays.shift_out_of_range[i]):
+        name = names[j]
+        first = next(k for k, s in enumerate(scenario.shocks) if s.shifter == name)
+        return InputError(
+            f"the shocks on '{name}' add up to a change of -100 % or less, or above a "
+            f"million-fold rise, in some period; each shifter's summed change must stay above -1",
+            f"/shocks/{first}",
+        )
+    if arrays.schedule_undefined[i]:
+        return InputError(
+            "a geometric schedule without rate or half_life uses the Nerlove rate "
+            "short_run / long_run, which needs 0 < short-run <= long-run elasticity; give a rate",
+            "/adjustment",
+        )
+    if arrays.linear_out_of_range[i].any():
+        t = _first_period(arrays.linear_out_of_range[i])
+        return LinearFormRangeError(
+            f"in period {t} the linear (first-order) form gives a free-market price or quantity "
+            "of zero or less: the shock is too large for the linear form; use "
+            '"form": "constant_elasticity"',
+            "/shocks",
+            period=t,
+        )
+    for local, r in enumerate(row_index):
+        policy = scenario.policies[local]
+        if arrays.unbounded_willingness[r]:
+            return InputError(
+                "random rationing needs finite willingness to pay: with constant-elasticity "
+                "demand the price elasticity must be below -1 when the request has a price "
+                f"ceiling ('{policy.name}')",
+                "/welfare/rationing",
+            )
+    for local, r in enumerate(row_index):
+        policy = scenario.policies[local]
+        if arrays.policy_infeasible[r].any():
+            t = _first_period(arrays.policy_infeasible[r])
+            field = "growth" if policy.growth is not None else _POLICY_FIELD[policy.kind]
+            return InfeasiblePolicyError(
+                f"policy '{policy.name}' leaves zero or negative quantity or price in period {t} "
+                "(for example a tax at or above the choke price, or a ceiling below the lowest "
+                "supply price)",
+                f"/policies/{local}/{field}",
+                period=t,
+            )
+    for local, r in enumerate(row_index):
+        if arrays.non_finite[r]:
+            return NonFiniteResultError(
+                f"policy '{scenario.policies[local].name}' produces numbers outside the "
+                "representable range; reduce the shocks or the horizon",
+                f"/policies/{local}",
+            )
+    return EngineError("the scenario could not be computed")
+
+
+def _largest_shock(batch: ScenarioBatch, arrays: PathArrays) -> tuple[np.ndarray, np.ndarray]:
+    """Largest |g| per scenario over shifters and valid periods, and its period."""
+    n, m, periods = batch.size, batch.shifter_change.shape[1], batch.periods
+    if m == 0:
+        return np.zeros(n), np.zeros(n, dtype=np.int64)
+    change = np.abs(np.broadcast_to(batch.shifter_change, (n, m, periods)))
+    per_period = np.where(arrays.valid[:, None, :], change, 0.0).max(axis=1)
+    return per_period.max(axis=1), per_period.argmax(axis=1)
+
+
+def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    price_gap = np.where(arrays.valid, np.abs(arrays.alternate_price / arrays.free_price - 1.0), 0.0)
+    quantity_gap = np.where(arrays.valid, np.abs(arrays.alternate_quantity / arrays.free_quantity - 1.0), 0.0)
+    return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
+
+
+def simulate(scenarios: Sequence[Scenario]) -> list[ScenarioResult | EngineError]:
+    """Every scenario's paths in one vectorised pass; errors are returned, not raised."""
+    if not scenarios:
+        return []
+    batch, rows = pack(scenarios)
+    arrays = solve(batch, rows)
+    return assemble(scenarios, batch, rows, arrays)
+
+
+def assemble(
+    scenarios: Sequence[Scenario], batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays
+) -> list[ScenarioResult | EngineError]:
+    """Slice the batch's arrays into one result (or error) per scenario."""
+    failed = arrays.scenario_failed(rows)
+    series = series_of(arrays)
+    summary = summarise(arrays, batch, rows)
+    sr_price, sr_quantity = reduced_form(
+        batch.demand_elasticity,
+        batch.short_run_elasticity,
+        batch.demand_shifter_elasticity,
+        batch.supply_shifter_elasticity,
+    )
+    lr_price, lr_quantity = reduced_form(
+        batch.demand_elasticity,
+        batch.long_run_elasticity,
+        batch.demand_shifter_elasticity,
+        batch.supply_shifter_elasticity,
+    )
+    largest, largest_at = _largest_shock(batch, arrays)
+    price_gap, price_gap_at, quantity_gap = _gaps(arrays)
+    is_ceiling = np.isin(rows.kind, CEILING_KINDS)
+    starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
+
+    results: list[ScenarioResult | EngineError] = []
+    for i, scenario in enumerate(scenarios):
+        row_index = np.arange(starts[i], starts[i + 1])
+        if failed[i]:
+            results.append(_scenario_error(i, scenario, arrays, row_index))
+            continue
+        end = int(batch.horizon[i]) + 1
+        paths = []
+        summaries = []
+        for local, r in enumerate(row_index):
+            policy = scenario.policies[local]
+            paths.append(PolicyPath(policy.name, policy.kind, {k: v[r, :end] for k, v in series.items()}))
+            peak_period = int(summary["peak_shortage_period"][r])
+            summaries.append(
+                PolicySummary(
+                    name=policy.name,
+                    kind=policy.kind,
+                    total_deadweight_loss=float(summary["total_deadweight_loss"][r]),
+                    discounted_deadweight_loss=float(summary["discounted_deadweight_loss"][r]),
+                    peak_shortage=float(summary["peak_shortage"][r]),
+                    peak_shortage_period=peak_period if peak_period >= 0 else None,
+                    binding_periods=int(summary["binding_periods"][r]),
+                    final_consumer_price=float(summary["final_consumer_price"][r]),
+                    final_quantity=float(summary["final_quantity"][r]),
+                    total_consumer_surplus_change=float(summary["total_consumer_surplus_change"][r]),
+                    total_producer_surplus_change=float(summary["total_producer_surplus_change"][r]),
+                    total_government_revenue=float(summary["total_government_revenue"][r]),
+                )
+            )
+        rf = {
+            name: {
+                "short_run": {"price": float(sr_price[i, j]), "quantity": float(sr_quantity[i, j])},
+                "long_run": {"price": float(lr_price[i, j]), "quantity": float(lr_quantity[i, j])},
+            }
+            for j, name in enumerate(scenario.market.shifter_names)
+        }
+        ceiling_rows = row_index[is_ceiling[row_index]]
+        cautions = scenario_cautions(
+            form=scenario.market.form,
+            largest_shock=float(largest[i]),
+            largest_shock_period=int(largest_at[i]),
+            alternate_feasible=bool(arrays.alternate_feasible[i]),
+            price_gap=float(price_gap[i]),
+            price_gap_period=int(price_gap_at[i]),
+            quantity_gap=float(quantity_gap[i]),
+            ceiling_binds=bool(summary["binding_periods"][ceiling_rows].sum() > 0),
+            random_rationing=scenario.welfare.rationing == "random",
+            never_binding=[s.name for s in summaries if s.kind != "none" and s.binding_periods == 0],
+        )
+        results.append(
+            ScenarioResult(
+                horizon=end - 1,
+                supply_elasticity=arrays.supply_elasticity[i, :end],
+                reduced_form=rf,
+                paths=tuple(paths),
+                summary=tuple(summaries),
+                cautions=tuple(cautions),
+            )
+        )
+    return results

@@ -1,0 +1,138 @@
+"""Inputs of the model: one scenario as frozen dataclasses (MODEL.md section 1).
+
+Prices are per unit and per price interval (e.g. a month's rent); quantities are units traded
+per price interval; `payments_per_period` (k) price intervals make one model period. Shock
+changes are fractions of the base (0.10 = +10 %). Validation of single fields happens before
+these objects are built (the HTTP schemas); the engine checks what needs the model.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+__all__ = [
+    "Market",
+    "Shock",
+    "Adjustment",
+    "Policy",
+    "Welfare",
+    "DiscountStep",
+    "Scenario",
+    "FORMS",
+    "SHOCK_PROFILES",
+    "SCHEDULES",
+    "RATIONING_RULES",
+]
+
+FORMS = ("linear", "constant_elasticity")
+SHOCK_PROFILES = ("step", "ramp", "growth", "path")
+SCHEDULES = ("linear", "geometric", "explicit")
+RATIONING_RULES = ("efficient", "random")
+
+
+@dataclass(frozen=True)
+class Market:
+    """The base point and the two curves' elasticities.
+
+    demand_elasticity < 0; short- and long-run supply elasticities >= 0. Shifter mappings
+    give each named shifter's elasticity (any sign); one name may appear in both.
+    """
+
+    price: float
+    quantity: float
+    demand_elasticity: float
+    short_run_elasticity: float
+    long_run_elasticity: float
+    demand_shifters: Mapping[str, float] = field(default_factory=dict)
+    supply_shifters: Mapping[str, float] = field(default_factory=dict)
+    payments_per_period: float = 1.0
+    form: str = "linear"
+
+    @property
+    def shifter_names(self) -> tuple[str, ...]:
+        """Every declared shifter, demand side first, each once."""
+        names = list(self.demand_shifters)
+        names += [n for n in self.supply_shifters if n not in self.demand_shifters]
+        return tuple(names)
+
+
+@dataclass(frozen=True)
+class Shock:
+    """A path of fractional changes of one shifter over periods 1..T.
+
+    profile `step` uses change and start; `ramp` change, periods and start; `growth` rate and
+    start; `path` values (held at the last value past its end).
+    """
+
+    shifter: str
+    profile: str
+    change: float = 0.0
+    rate: float = 0.0
+    start: int = 1
+    periods: int = 1
+    values: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
+class Adjustment:
+    """How supply elasticity moves from short to long run (MODEL.md section 2).
+
+    schedule `linear` uses periods (K >= 0); `geometric` rate (lambda in (0, 1]) or
+    half_life (> 0) or neither (Nerlove default); `explicit` elasticities (eps_t, t >= 1).
+    schedule None means constant elasticity (allowed only when short and long run agree).
+    """
+
+    schedule: str | None = None
+    periods: int = 0
+    rate: float | None = None
+    half_life: float | None = None
+    elasticities: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
+class Policy:
+    """One policy, active in periods start..end (inclusive).
+
+    kind: none, price_ceiling (level, or base_level=True for P0, or growth), price_floor
+    (level), unit_tax (amount), ad_valorem_tax (rate), unit_subsidy (amount), quantity_cap
+    (level). Money is per unit per price interval; quantity per price interval.
+    """
+
+    name: str
+    kind: str
+    level: float | None = None
+    base_level: bool = False
+    growth: float | None = None
+    amount: float = 0.0
+    rate: float = 0.0
+    start: int = 1
+    end: int | None = None
+
+
+@dataclass(frozen=True)
+class DiscountStep:
+    """Rate per model period that applies up to and including `through_period`."""
+
+    through_period: int
+    rate: float
+
+
+@dataclass(frozen=True)
+class Welfare:
+    """Rationing rule under a binding ceiling and the discount rate per model period."""
+
+    rationing: str = "efficient"
+    discount_rate: float | tuple[DiscountStep, ...] = 0.0
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """Everything one path computation needs."""
+
+    market: Market
+    horizon: int
+    policies: tuple[Policy, ...]
+    shocks: tuple[Shock, ...] = ()
+    adjustment: Adjustment = Adjustment()
+    welfare: Welfare = Welfare()

@@ -1,0 +1,84 @@
+"""Shock profiles expanded to paths of fractional changes (MODEL.md sections 1 and 11).
+
+For a shock with change c, rate r, start s, ramp length n and explicit values v_1..v_L, the
+fractional change of its shifter in period t = 1..T is
+
+    step    g(t) = c                       for t >= s, else 0
+    ramp    g(t) = c * min((t-s+1)/n, 1)   for t >= s, else 0
+    growth  g(t) = (1+r)^(t-s+1) - 1       for t >= s, else 0
+    path    g(t) = v_min(t, L)             (held at the last value, cut at the horizon)
+
+and g(0) = 0 (the base point). Several shocks on one shifter add their changes.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = [
+    "PROFILE_CODES",
+    "MAX_CHANGE",
+    "shock_paths",
+    "shifter_paths",
+]
+
+PROFILE_CODES = {"step": 0, "ramp": 1, "growth": 2, "path": 3}
+
+#: Largest fractional change a shifter may reach (a million-fold rise); beyond it the
+#: model's numbers stop meaning anything and floating point starts to overflow.
+MAX_CHANGE = 1.0e6
+_MAX_LOG_GROWTH = float(np.log1p(MAX_CHANGE))
+
+
+def shock_paths(
+    profile: np.ndarray,
+    change: np.ndarray,
+    rate: np.ndarray,
+    start: np.ndarray,
+    ramp_periods: np.ndarray,
+    values: np.ndarray,
+    value_count: np.ndarray,
+    horizon: int,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Fractional change of each shock's shifter per period.
+
+    All inputs have shape (shocks,) except `values` (shocks, L) with `value_count` (shocks,)
+    entries used per row. Returns the paths (shocks, horizon + 1), period 0 first, and a
+    boolean (shocks,) that is True where a growth path would pass MAX_CHANGE.
+    """
+    t = np.arange(horizon + 1)[None, :]
+    start = start[:, None]
+    after_start = t >= start
+    code = profile[:, None]
+
+    step = np.where(after_start, change[:, None], 0.0)
+    ramp_share = np.clip((t - start + 1) / np.maximum(ramp_periods, 1)[:, None], 0.0, 1.0)
+    ramp = change[:, None] * ramp_share
+
+    log_growth = (t - start + 1) * np.log1p(rate)[:, None]
+    too_large = ((log_growth > _MAX_LOG_GROWTH) & after_start & (code == 2)).any(axis=1)
+    growth = np.where(after_start, np.expm1(np.minimum(log_growth, _MAX_LOG_GROWTH)), 0.0)
+
+    if values.shape[1] == 0:
+        explicit = np.zeros((profile.shape[0], horizon + 1))
+    else:
+        last = np.maximum(value_count, 1)[:, None] - 1
+        column = np.minimum(np.maximum(t - 1, 0), last)
+        explicit = np.take_along_axis(values, column, axis=1)
+        explicit = np.where(t >= 1, explicit, 0.0)
+
+    paths = np.select([code == 0, code == 1, code == 2], [step, ramp, growth], explicit)
+    return paths, too_large
+
+
+def shifter_paths(
+    paths: np.ndarray,
+    scenario: np.ndarray,
+    shifter: np.ndarray,
+    scenarios: int,
+    shifters: int,
+) -> np.ndarray:
+    """Sum shock paths (shocks, T+1) per (scenario, shifter): (scenarios, shifters, T+1)."""
+    total = np.zeros((scenarios, shifters, paths.shape[1]))
+    np.add.at(total, (scenario, shifter), paths)
+    return total
