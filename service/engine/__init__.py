@@ -28,6 +28,7 @@ MODEL_VERSION = "1.0.0"
 
 __all__ = [
     "MODEL_VERSION",
+    "SERIES",
     "Adjustment",
     "DiscountStep",
     "EngineError",
@@ -41,7 +42,6 @@ __all__ = [
     "PolicyPath",
     "PolicyRows",
     "PolicySummary",
-    "SERIES",
     "Scenario",
     "ScenarioBatch",
     "ScenarioResult",

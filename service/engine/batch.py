@@ -18,7 +18,7 @@ from .scenario import Scenario
 from .schedules import SCHEDULE_CODES, rate_from_half_life
 from .shocks import PROFILE_CODES, shifter_paths, shock_paths
 
-__all__ = ["ScenarioBatch", "PolicyRows", "pack", "policy_kind_code"]
+__all__ = ["PolicyRows", "ScenarioBatch", "pack", "policy_kind_code"]
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-__all__ = ["Curves", "LinearCurves", "ConstantElasticityCurves"]
+__all__ = ["ConstantElasticityCurves", "Curves", "LinearCurves"]
 
 
 @dataclass(frozen=True)

@@ -23,7 +23,7 @@ from scipy.optimize import elementwise
 
 from .curves import ConstantElasticityCurves, Curves, LinearCurves
 
-__all__ = ["free_market", "clear_with_wedge"]
+__all__ = ["clear_with_wedge", "free_market"]
 
 
 def free_market(curves: Curves) -> tuple[np.ndarray, np.ndarray]:
@@ -82,9 +82,7 @@ def _constant_elasticity_root(curves, gap, free_price, solve):
     low = np.where(is_tax, tax_low, subsidy_low)
     high = np.where(is_tax, p_star + magnitude, p_star)
     low = np.minimum(low, high)
-    result = elementwise.find_root(
-        _excess_log_demand, (low, high), args=(eta, eps, log_a, log_b, p0, g)
-    )
+    result = elementwise.find_root(_excess_log_demand, (low, high), args=(eta, eps, log_a, log_b, p0, g))
     price = free_price.copy()
     price[rows, cols] = np.where(result.success, result.x, np.nan)
     return price

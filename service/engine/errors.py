@@ -8,9 +8,9 @@ from __future__ import annotations
 
 __all__ = [
     "EngineError",
+    "InfeasiblePolicyError",
     "InputError",
     "LinearFormRangeError",
-    "InfeasiblePolicyError",
     "NonFiniteResultError",
 ]
 

@@ -168,7 +168,12 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         infeasible[r] = bad
         outcome = outcome.where(~bad, free_outcome(price, quantity))
         welfare = welfare_change(
-            curves, price, quantity, outcome, batch.payments_per_period[sc, None], batch.random_rationing[sc, None]
+            curves,
+            price,
+            quantity,
+            outcome,
+            batch.payments_per_period[sc, None],
+            batch.random_rationing[sc, None],
         )
         for f in fields(Outcome):
             outcome_parts[f.name][r] = getattr(outcome, f.name)

@@ -27,7 +27,7 @@ import numpy as np
 from .curves import Curves
 from .equilibrium import clear_with_wedge
 
-__all__ = ["Outcome", "KIND_CODES", "KINDS", "CEILING_KINDS", "free_outcome", "market_outcome"]
+__all__ = ["CEILING_KINDS", "KINDS", "KIND_CODES", "Outcome", "free_outcome", "market_outcome"]
 
 
 @dataclass(frozen=True)

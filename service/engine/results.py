@@ -27,7 +27,7 @@ from .policies import CEILING_KINDS
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
-__all__ = ["PolicyPath", "PolicySummary", "ScenarioResult", "SERIES", "simulate", "summarise"]
+__all__ = ["SERIES", "PolicyPath", "PolicySummary", "ScenarioResult", "simulate", "summarise"]
 
 #: The per-period series of every policy path, in response order.
 SERIES = (

@@ -12,17 +12,17 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 __all__ = [
-    "Market",
-    "Shock",
-    "Adjustment",
-    "Policy",
-    "Welfare",
-    "DiscountStep",
-    "Scenario",
     "FORMS",
-    "SHOCK_PROFILES",
-    "SCHEDULES",
     "RATIONING_RULES",
+    "SCHEDULES",
+    "SHOCK_PROFILES",
+    "Adjustment",
+    "DiscountStep",
+    "Market",
+    "Policy",
+    "Scenario",
+    "Shock",
+    "Welfare",
 ]
 
 FORMS = ("linear", "constant_elasticity")

@@ -18,10 +18,10 @@ import numpy as np
 
 __all__ = [
     "SCHEDULE_CODES",
-    "rate_from_half_life",
+    "adjustment_weights",
     "half_life_from_rate",
     "nerlove_rate",
-    "adjustment_weights",
+    "rate_from_half_life",
     "supply_elasticity_path",
 ]
 

@@ -16,10 +16,10 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = [
-    "PROFILE_CODES",
     "MAX_CHANGE",
-    "shock_paths",
+    "PROFILE_CODES",
     "shifter_paths",
+    "shock_paths",
 ]
 
 PROFILE_CODES = {"step": 0, "ramp": 1, "growth": 2, "path": 3}

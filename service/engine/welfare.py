@@ -23,7 +23,7 @@ import numpy as np
 from .curves import Curves
 from .policies import Outcome
 
-__all__ = ["WelfareChange", "welfare_change", "misallocation", "discount_factors"]
+__all__ = ["WelfareChange", "discount_factors", "misallocation", "welfare_change"]
 
 
 @dataclass(frozen=True)

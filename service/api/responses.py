@@ -1,0 +1,145 @@
+"""Response schemas: they document the bodies in the OpenAPI document and test them.
+
+Bodies of a few thousand floats are written directly with orjson (a marshmallow dump
+costs more than the model); the tests validate every response against these schemas
+through the generated document instead.
+"""
+
+from __future__ import annotations
+
+from marshmallow import Schema, fields
+
+from ..engine.results import SERIES
+from .fields import Either
+
+__all__ = [
+    "BatchResponseSchema",
+    "ExampleListSchema",
+    "HealthSchema",
+    "PathsResponseSchema",
+    "ProblemSchema",
+]
+
+
+def _numbers(description: str) -> fields.List:
+    return fields.List(fields.Float(), required=True, metadata={"description": description})
+
+
+class FieldErrorSchema(Schema):
+    pointer = fields.String(
+        required=True, metadata={"description": "RFC 6901 JSON Pointer into the request."}
+    )
+    message = fields.String(required=True)
+
+
+class ProblemSchema(Schema):
+    """RFC 9457 problem details."""
+
+    type = fields.String(required=True, metadata={"description": "URI of the problem type."})
+    title = fields.String(required=True)
+    status = fields.Integer(required=True)
+    detail = fields.String(required=True)
+    errors = fields.List(fields.Nested(FieldErrorSchema), metadata={"description": "Field errors (422)."})
+    period = fields.Integer(metadata={"description": "Period in which the model found the problem."})
+    request_id = fields.String(metadata={"description": "Id to quote when reporting a server error."})
+
+
+class ResponseSide(Schema):
+    price = fields.Float(required=True, metadata={"description": "d ln P* / d ln shifter."})
+    quantity = fields.Float(required=True, metadata={"description": "d ln Q* / d ln shifter."})
+
+
+class ReducedFormSchema(Schema):
+    short_run = fields.Nested(ResponseSide, required=True)
+    long_run = fields.Nested(ResponseSide, required=True)
+
+
+_SERIES_HELP = {
+    "consumer_price": "Pc, paid per unit per price interval.",
+    "producer_price": "Pp, received per unit per price interval.",
+    "quantity": "Units traded per price interval.",
+    "quantity_demanded": "Qd(Pc).",
+    "quantity_supplied": "Qs(Pp).",
+    "shortage": "max(Qd - Qs, 0) under a binding ceiling; 0 elsewhere.",
+    "excess_supply": "Qs - Q under a binding floor or quantity cap; 0 elsewhere.",
+    "marginal_value": "Qd^-1(Q): what the last unit is worth to buyers.",
+    "marginal_cost": "Qs^-1(Q): what the last unit costs sellers.",
+    "binding": "Whether the policy binds in the period.",
+    "consumer_surplus_change": "Money per model period, against the period's free market.",
+    "producer_surplus_change": "Money per model period.",
+    "government_revenue": "Money per model period; negative for a subsidy.",
+    "deadweight_loss": "Money per model period, >= 0 (includes misallocation).",
+    "misallocation_loss": "Random-rationing loss, money per model period.",
+    "cumulative_deadweight_loss": "Sum of deadweight loss through the period.",
+    "discounted_deadweight_loss": "Discounted sum of deadweight loss through the period.",
+}
+
+
+def _path_fields() -> dict:
+    out: dict = {
+        "name": fields.String(required=True),
+        "kind": fields.String(required=True),
+    }
+    for name in SERIES:
+        if name == "binding":
+            out[name] = fields.List(
+                fields.Boolean(), required=True, metadata={"description": _SERIES_HELP[name]}
+            )
+        else:
+            out[name] = _numbers(_SERIES_HELP[name])
+    return out
+
+
+PolicyPathSchema = Schema.from_dict(_path_fields(), name="PolicyPath")
+
+
+class PolicySummarySchema(Schema):
+    name = fields.String(required=True)
+    kind = fields.String(required=True)
+    total_deadweight_loss = fields.Float(required=True)
+    discounted_deadweight_loss = fields.Float(required=True)
+    peak_shortage = fields.Float(required=True)
+    peak_shortage_period = fields.Integer(required=True, allow_none=True)
+    binding_periods = fields.Integer(required=True)
+    final_consumer_price = fields.Float(required=True)
+    final_quantity = fields.Float(required=True)
+    total_consumer_surplus_change = fields.Float(required=True)
+    total_producer_surplus_change = fields.Float(required=True)
+    total_government_revenue = fields.Float(required=True)
+
+
+class PathsResponseSchema(Schema):
+    scenario_id = fields.String(
+        required=True, metadata={"description": "sha-256 of the normalised request and model version."}
+    )
+    model_version = fields.String(required=True)
+    periods = fields.List(fields.Integer(), required=True)
+    supply_elasticity = _numbers("eps_t per period, period 0 first.")
+    reduced_form = fields.Dict(keys=fields.String(), values=fields.Nested(ReducedFormSchema), required=True)
+    paths = fields.List(fields.Nested(PolicyPathSchema), required=True)
+    summary = fields.List(fields.Nested(PolicySummarySchema), required=True)
+    cautions = fields.List(fields.String(), required=True)
+
+
+class BatchResponseSchema(Schema):
+    results = fields.List(
+        Either([PathsResponseSchema, ProblemSchema]),
+        required=True,
+        metadata={"description": "One result, or one problem document, per scenario, in order."},
+    )
+
+
+class ExampleSchema(Schema):
+    name = fields.String(required=True)
+    title = fields.String(required=True)
+    description = fields.String(required=True)
+    href = fields.String(required=True)
+
+
+class ExampleListSchema(Schema):
+    examples = fields.List(fields.Nested(ExampleSchema), required=True)
+
+
+class HealthSchema(Schema):
+    status = fields.String(required=True)
+    model_version = fields.String(required=True)

@@ -1,0 +1,245 @@
+"""Endpoints: each view validates, calls one function of the Python API, and answers.
+
+OPERATIONS describes every operation for the OpenAPI document (openapi.py); the request
+and response bodies it names are the marshmallow schemas themselves.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from flask import Blueprint, Response, current_app, request, url_for
+from marshmallow import ValidationError
+
+from .. import limits
+from ..engine import MODEL_VERSION
+from ..examples import example_request, examples
+from ..problems import ProblemError, problem, validation_problem
+from ..simulation import compute, load_scenario, scenario_id, simulate_many
+from .csv_output import paths_csv
+from .jsonio import json_response, read_json
+from .schemas import BatchRequestSchema
+
+__all__ = ["OPERATIONS", "blueprint"]
+
+blueprint = Blueprint("shockpath", __name__)
+
+_BATCH = BatchRequestSchema()
+
+
+def _wants_csv() -> bool:
+    """Content negotiation between JSON (default) and CSV; 406 for anything else."""
+    if not request.accept_mimetypes:
+        return False
+    best = request.accept_mimetypes.best_match(["application/json", "text/csv"])
+    if best is None:
+        raise ProblemError(
+            problem(406, "Not Acceptable", "This endpoint answers application/json or text/csv.")
+        )
+    return best == "text/csv"
+
+
+@blueprint.post("/v1/paths")
+def post_paths() -> Response:
+    as_csv = _wants_csv()
+    scenario = load_scenario(read_json())
+    sid = scenario_id(scenario)
+    etag = f"{sid}.csv" if as_csv else sid
+    if request.if_none_match.contains(etag):
+        response = Response(status=304)
+    else:
+        (body,) = compute([scenario])
+        if "status" in body:
+            raise ProblemError(body)
+        if as_csv:
+            response = Response(paths_csv(body), mimetype="text/csv")
+        else:
+            response = json_response(body)
+    response.set_etag(etag)
+    response.vary.add("Accept")
+    return response
+
+
+@blueprint.post("/v1/paths/batch")
+def post_batch() -> Response:
+    body = read_json()
+    if not isinstance(body, dict):
+        raise ProblemError(validation_problem(["Must be a JSON object."]))
+    try:
+        envelope = _BATCH.load(body)
+    except ValidationError as error:
+        raise ProblemError(validation_problem(error.messages)) from None
+    scenarios = envelope["scenarios"]
+    work = _policy_periods(scenarios)
+    if work > limits.MAX_POLICY_PERIODS:
+        raise ProblemError(
+            validation_problem(
+                {
+                    "scenarios": [
+                        f"The batch asks for {work} policy-periods (policies x (longest horizon + 1)); "
+                        f"the limit is {limits.MAX_POLICY_PERIODS}."
+                    ]
+                }
+            )
+        )
+    return json_response({"results": simulate_many(scenarios, prefix="/scenarios/{i}")})
+
+
+def _policy_periods(scenarios: list[dict[str, Any]]) -> int:
+    """Work a batch asks for, read from the raw bodies before any validation or model work."""
+
+    def policies(s: dict[str, Any]) -> int:
+        p = s.get("policies")
+        return len(p) if isinstance(p, list) else 0
+
+    def horizon(s: dict[str, Any]) -> int:
+        h = s.get("horizon")
+        if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
+            return 0
+        return int(min(max(h, 0), limits.MAX_HORIZON))
+
+    return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))
+
+
+@blueprint.get("/v1/examples")
+def list_examples() -> Response:
+    items = [
+        {
+            "name": name,
+            "title": entry["title"],
+            "description": entry["description"],
+            "href": url_for("shockpath.get_example", name=name),
+        }
+        for name, entry in examples().items()
+    ]
+    return json_response({"examples": items})
+
+
+@blueprint.get("/v1/examples/<name>")
+def get_example(name: str) -> Response:
+    body = example_request(name)
+    if body is None:
+        raise ProblemError(problem(404, "Not Found", f"No example named '{name}'."))
+    return json_response(body)
+
+
+@blueprint.get("/healthz")
+def healthz() -> Response:
+    return json_response({"status": "ok", "model_version": MODEL_VERSION})
+
+
+_CANNED = {
+    "market": {
+        "price": 100.0,
+        "quantity": 1000.0,
+        "demand": {"price_elasticity": -1.0, "shifters": {"income": 1.0}},
+        "supply": {"short_run_elasticity": 1.0, "long_run_elasticity": 1.0},
+    },
+    "shocks": [{"shifter": "income", "profile": "step", "change": 0.1}],
+    "horizon": 1,
+    "policies": [{"name": "free market", "kind": "none"}],
+}
+
+
+@blueprint.get("/readyz")
+def readyz() -> Response:
+    """Solve a tiny market whose answer is known: EP = 0.10 / (1 + 1), so P* = 105."""
+    (body,) = simulate_many([_CANNED])
+    try:
+        price = body["paths"][0]["consumer_price"][1]
+        ok = abs(price - 105.0) < 1e-9
+    except (KeyError, IndexError, TypeError):
+        ok = False
+    if not ok:
+        current_app.logger.error("readiness check failed: canned market gave %r", body)
+        raise ProblemError(problem(503, "Service Unavailable", "The model failed its readiness check."))
+    return json_response({"status": "ready", "model_version": MODEL_VERSION})
+
+
+_PROBLEMS = {
+    "400": "Malformed JSON.",
+    "406": "Only application/json or text/csv can be answered.",
+    "413": "The body is over the size limit.",
+    "415": "The body is not application/json.",
+    "422": "The request is invalid; `errors` points at each field.",
+}
+
+
+def _problems(*codes: str) -> dict[str, Any]:
+    return {code: {"description": _PROBLEMS[code], "problem": True} for code in codes}
+
+
+#: Every operation: path, method, summary, request schema, success responses, problems.
+OPERATIONS: list[dict[str, Any]] = [
+    {
+        "path": "/v1/paths",
+        "method": "post",
+        "operationId": "postPaths",
+        "summary": "Transition paths of one scenario under each policy",
+        "request": "PathsRequest",
+        "responses": {
+            "200": {
+                "description": "A path per policy, period 0 (the base point) first.",
+                "content": {"application/json": "PathsResponse", "text/csv": "csv"},
+                "headers": ["ETag"],
+            },
+            "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+            **_problems("400", "406", "413", "415", "422"),
+        },
+        "parameters": ["If-None-Match", "Accept"],
+    },
+    {
+        "path": "/v1/paths/batch",
+        "method": "post",
+        "operationId": "postPathsBatch",
+        "summary": "Many scenarios in one vectorised call; one result or one problem each, in order",
+        "request": "BatchRequest",
+        "responses": {
+            "200": {
+                "description": "Results in request order.",
+                "content": {"application/json": "BatchResponse"},
+            },
+            **_problems("400", "413", "415", "422"),
+        },
+    },
+    {
+        "path": "/v1/examples",
+        "method": "get",
+        "operationId": "listExamples",
+        "summary": "Ready-made demo scenarios (invented markets)",
+        "responses": {
+            "200": {"description": "The examples.", "content": {"application/json": "ExampleList"}}
+        },
+    },
+    {
+        "path": "/v1/examples/{name}",
+        "method": "get",
+        "operationId": "getExample",
+        "summary": "One demo scenario, postable as it is to /v1/paths",
+        "path_parameters": ["name"],
+        "responses": {
+            "200": {
+                "description": "A /v1/paths request body.",
+                "content": {"application/json": "PathsRequest"},
+            },
+            "404": {"description": "No such example.", "problem": True},
+        },
+    },
+    {
+        "path": "/healthz",
+        "method": "get",
+        "operationId": "liveness",
+        "summary": "Liveness: the process answers",
+        "responses": {"200": {"description": "Alive.", "content": {"application/json": "Health"}}},
+    },
+    {
+        "path": "/readyz",
+        "method": "get",
+        "operationId": "readiness",
+        "summary": "Readiness: the model solves a canned market correctly",
+        "responses": {
+            "200": {"description": "Ready.", "content": {"application/json": "Health"}},
+            "503": {"description": "The model failed its check.", "problem": True},
+        },
+    },
+]

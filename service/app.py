@@ -1,0 +1,85 @@
+"""The WSGI application factory: settings, the blueprint, and one error envelope.
+
+    gunicorn --config deploy/gunicorn.conf.py 'service:create_app()'
+
+Three handlers: HTTP errors (404, 405, 413, ...) keep their status and headers (Allow);
+ProblemError carries its own document; anything else is logged with the request id and
+answered with a generic 500 that carries no detail of the failure.
+"""
+
+from __future__ import annotations
+
+import logging
+import uuid
+from collections.abc import Mapping
+from typing import Any
+
+from flask import Flask, g, request
+from werkzeug.exceptions import HTTPException
+
+from .api.jsonio import json_response, problem_response
+from .api.openapi import build_document
+from .api.views import blueprint
+from .problems import ProblemError, problem
+from .settings import load_settings
+
+__all__ = ["create_app"]
+
+_log = logging.getLogger("shockpath")
+
+
+def create_app(config: Mapping[str, Any] | None = None) -> Flask:
+    """Build the app: defaults < SHOCKPATH_* environment < `config`."""
+    settings = load_settings(config)
+    app = Flask("shockpath")
+    app.config["MAX_CONTENT_LENGTH"] = settings.max_body_bytes
+    app.config["TESTING"] = bool(config and config.get("TESTING"))
+    app.extensions["shockpath.settings"] = settings
+    app.extensions["shockpath.openapi"] = build_document()
+    app.url_map.strict_slashes = False
+    logging.getLogger("shockpath").setLevel(settings.log_level)
+    app.register_blueprint(blueprint)
+
+    @app.get("/openapi.json")
+    def openapi_document():
+        return json_response(app.extensions["shockpath.openapi"])
+
+    @app.before_request
+    def _request_id():
+        incoming = request.headers.get("X-Request-ID", "")
+        g.request_id = incoming if 0 < len(incoming) <= 128 and incoming.isprintable() else uuid.uuid4().hex
+
+    @app.after_request
+    def _echo_request_id(response):
+        response.headers["X-Request-ID"] = g.get("request_id", "")
+        return response
+
+    @app.errorhandler(ProblemError)
+    def _problem(error: ProblemError):
+        return problem_response(error.problem)
+
+    @app.errorhandler(HTTPException)
+    def _http(error: HTTPException):
+        status = error.code or 500
+        headers = {}
+        allow = error.get_response().headers.get("Allow")
+        if allow:
+            headers["Allow"] = allow
+        detail = {
+            404: "No such resource.",
+            405: "This method is not allowed here.",
+            413: "The body is over the size limit.",
+        }.get(status, error.description or error.name)
+        return problem_response(problem(status, error.name, detail), headers)
+
+    @app.errorhandler(Exception)
+    def _unexpected(error: Exception):
+        rid = g.get("request_id", "")
+        _log.exception("unhandled error (request id %s)", rid)
+        document = problem(
+            500, "Internal Server Error", "The server failed to answer; quote the request id.", request_id=rid
+        )
+        return problem_response(document)
+
+    _log.info("settings %s", settings.as_log_dict())
+    return app
