@@ -81,7 +81,11 @@ def _constant_elasticity_root(curves, gap, free_price, solve):
     subsidy_low = qd_inverse(qs(p_star + magnitude))
     low = np.where(is_tax, tax_low, subsidy_low)
     high = np.where(is_tax, p_star + magnitude, p_star)
-    low = np.minimum(low, high)
+    # Widen by a few ulps: F is decreasing, so the signs at the ends still hold, and a tiny
+    # wedge (low == high to rounding) still gets a proper bracket.
+    spread = 8.0 * np.finfo(float).eps
+    low = np.minimum(low, high) * (1.0 - spread)
+    high = high * (1.0 + spread)
     result = elementwise.find_root(_excess_log_demand, (low, high), args=(eta, eps, log_a, log_b, p0, g))
     price = free_price.copy()
     price[rows, cols] = np.where(result.success, result.x, np.nan)

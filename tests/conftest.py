@@ -1,0 +1,41 @@
+"""Fixtures: the app built through its factory, a client, and the OpenAPI checker."""
+
+from __future__ import annotations
+
+import copy
+import os
+
+import pytest
+from hypothesis import HealthCheck, settings
+
+from service import create_app
+from service.examples import example_request
+
+from .openapi_check import ResponseChecker
+
+settings.register_profile(
+    "ci", max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow]
+)
+settings.register_profile("thorough", max_examples=500, deadline=None)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci"))
+
+
+@pytest.fixture(scope="session")
+def app():
+    return create_app({"TESTING": True})
+
+
+@pytest.fixture(scope="session")
+def checker(app):
+    return ResponseChecker(app.extensions["shockpath.openapi"])
+
+
+@pytest.fixture()
+def client(app, checker):
+    """A test client whose every response is validated against the OpenAPI document."""
+    return checker.wrap(app.test_client())
+
+
+@pytest.fixture()
+def contract_request():
+    return copy.deepcopy(example_request("contract-example"))
