@@ -127,9 +127,11 @@ def summarise(arrays: PathArrays, batch: ScenarioBatch, rows: PolicyRows) -> dic
         "binding_periods": (o.binding & valid).sum(axis=1),
         "final_consumer_price": final(o.consumer_price),
         "final_quantity": final(o.quantity),
-        "total_consumer_surplus_change": np.where(valid, w.consumer_surplus_change, 0.0).sum(axis=1),
-        "total_producer_surplus_change": np.where(valid, w.producer_surplus_change, 0.0).sum(axis=1),
-        "total_government_revenue": np.where(valid, w.government_revenue, 0.0).sum(axis=1),
+        # Running sums (not np.sum's pairwise order) so that padding a batch to a longer
+        # horizon never changes a total in its last bit.
+        "total_consumer_surplus_change": final(np.cumsum(w.consumer_surplus_change, axis=1)),
+        "total_producer_surplus_change": final(np.cumsum(w.producer_surplus_change, axis=1)),
+        "total_government_revenue": final(np.cumsum(w.government_revenue, axis=1)),
     }
 
 
