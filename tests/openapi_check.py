@@ -39,7 +39,11 @@ class ResponseChecker:
 
     def check(self, method: str, path: str, response) -> None:
         op = self.operation(method, path)
-        declared = op["responses"] if op else {"default": self.document["paths"]["/v1/paths"]["post"]["responses"]["default"]}
+        declared = (
+            op["responses"]
+            if op
+            else {"default": self.document["paths"]["/v1/paths"]["post"]["responses"]["default"]}
+        )
         status = str(response.status_code)
         spec = declared.get(status) or declared.get("default")
         assert spec is not None, f"{method} {path}: status {status} is not documented"

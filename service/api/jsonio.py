@@ -32,7 +32,12 @@ def read_json() -> Any:
     limit = current_app.config["MAX_CONTENT_LENGTH"]
     if request.content_length is not None and request.content_length > limit:
         raise ProblemError(problem(413, "Content Too Large", f"The body is over {limit} bytes."))
-    data = request.stream.read(limit + 1)
+    if request.content_length is None and request.environ.get("wsgi.input_terminated"):
+        # A chunked body: werkzeug's stream would stop silently at the limit, so read the
+        # server's (de-chunked) input directly, one byte past the limit.
+        data = request.environ["wsgi.input"].read(limit + 1)
+    else:
+        data = request.stream.read(limit + 1)
     if len(data) > limit:
         raise ProblemError(problem(413, "Content Too Large", f"The body is over {limit} bytes."))
     try:

@@ -70,11 +70,18 @@ def _shifts(batch: ScenarioBatch, valid: np.ndarray):
     out_of_range = bad.any(axis=2) | batch.shock_out_of_range
     safe = np.where(g > -1.0, np.minimum(g, MAX_CHANGE), 0.0)
     log_safe = np.log1p(safe)
-    d_el = batch.demand_shifter_elasticity[:, None, :]
-    s_el = batch.supply_shifter_elasticity[:, None, :]
-    linear = (np.matmul(d_el, safe)[:, 0, :], np.matmul(s_el, safe)[:, 0, :])
-    constant = (np.matmul(d_el, log_safe)[:, 0, :], np.matmul(s_el, log_safe)[:, 0, :])
-    return linear, constant, out_of_range
+    n, periods = valid.shape
+    linear = [np.zeros((n, periods)), np.zeros((n, periods))]
+    constant = [np.zeros((n, periods)), np.zeros((n, periods))]
+    # Summed shifter by shifter in a fixed order (a loop over shifters, not scenarios): a
+    # BLAS product would round differently as a batch pads to more shifters, and one
+    # scenario must get the same bits alone or in any batch.
+    for j in range(g.shape[1]):
+        for side, elasticity in enumerate((batch.demand_shifter_elasticity, batch.supply_shifter_elasticity)):
+            e = elasticity[:, j : j + 1]
+            linear[side] += e * safe[:, j, :]
+            constant[side] += e * log_safe[:, j, :]
+    return tuple(linear), tuple(constant), out_of_range
 
 
 def _supply_path(batch: ScenarioBatch):

@@ -19,7 +19,9 @@ def curves(cls, eta, eps, d=0.0, s=0.0):
 def test_constant_elasticity_demand_integral_equals_quadrature(eta, lower, upper):
     c = curves(ConstantElasticityCurves, eta, 0.5, d=0.05)
     exact = quad(lambda q: float(c.inverse_demand(np.array([[q]]))[0, 0]), lower, upper, epsrel=1e-12)[0]
-    assert c.demand_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(exact, rel=1e-10)
+    assert c.demand_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(
+        exact, rel=1e-10
+    )
 
 
 @pytest.mark.parametrize("eps", [0.02, 0.3, 1.0, 4.0])
@@ -27,7 +29,9 @@ def test_constant_elasticity_supply_integral_equals_quadrature(eps):
     c = curves(ConstantElasticityCurves, -0.5, eps, s=-0.03)
     lower, upper = 900.0, 1000.0
     exact = quad(lambda q: float(c.inverse_supply(np.array([[q]]))[0, 0]), lower, upper, epsrel=1e-12)[0]
-    assert c.supply_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(exact, rel=1e-10)
+    assert c.supply_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(
+        exact, rel=1e-10
+    )
 
 
 def test_linear_supply_integral_floors_marginal_cost_at_zero():
@@ -37,7 +41,9 @@ def test_linear_supply_integral_floors_marginal_cost_at_zero():
     lower, upper = 300.0, 1000.0
     exact = quad(lambda q: float(c.inverse_supply(np.array([[q]]))[0, 0]), lower, upper, points=[700.0])[0]
     assert c.inverse_supply(np.array([[500.0]]))[0, 0] == 0.0
-    assert c.supply_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(exact, rel=1e-12)
+    assert c.supply_integral(np.array([[lower]]), np.array([[upper]]))[0, 0] == pytest.approx(
+        exact, rel=1e-12
+    )
 
 
 def test_vertical_supply_has_zero_marginal_cost_below_capacity():

@@ -61,7 +61,10 @@ def test_a_ceiling_above_every_free_market_price_is_the_free_market(request, fac
     body = solve(request)
     highest = max(body["paths"][0]["consumer_price"])
     request = copy.deepcopy(request)
-    request["policies"] = [{"name": "free", "kind": "none"}, {"name": "loose", "kind": "price_ceiling", "level": highest * factor}]
+    request["policies"] = [
+        {"name": "free", "kind": "none"},
+        {"name": "loose", "kind": "price_ceiling", "level": highest * factor},
+    ]
     body = simulate(request)
     free, loose = body["paths"]
     assert not any(loose["binding"])
@@ -80,7 +83,10 @@ def test_a_tighter_ceiling_never_lowers_the_shortage(request, level, tighter):
     ]
     body = solve(request)
     looser, tight = body["paths"]
-    assert all(t >= s - 1e-9 * request["market"]["quantity"] for t, s in zip(tight["shortage"], looser["shortage"], strict=True))
+    assert all(
+        t >= s - 1e-9 * request["market"]["quantity"]
+        for t, s in zip(tight["shortage"], looser["shortage"], strict=True)
+    )
 
 
 @given(requests())

@@ -87,7 +87,12 @@ def test_constant_elasticity_tax_loss_approaches_harberger_for_small_taxes():
     errors = []
     for tau in (1.0, 0.5, 0.25):
         body = simulate(
-            one_policy({"name": "tax", "kind": "unit_tax", "amount": tau}, eta=-0.7, eps=0.9, form="constant_elasticity")
+            one_policy(
+                {"name": "tax", "kind": "unit_tax", "amount": tau},
+                eta=-0.7,
+                eps=0.9,
+                form="constant_elasticity",
+            )
         )
         exact = body["paths"][1]["deadweight_loss"][1]
         errors.append(abs(exact / harberger_dwl(tau, 100.0, 1000.0, 0.9, -0.7) - 1.0))
@@ -109,7 +114,9 @@ def test_geometric_schedule_closes_nerloves_share_of_the_gap(rate):
     eps = np.array(body["supply_elasticity"])
     for t in range(0, 12):
         # Period 1 is the impact period: after t more periods the share closed is Nerlove's.
-        assert (eps[t + 1] - sr) / (lr - sr) == pytest.approx(nerlove_share_closed(rate, t), rel=1e-12, abs=1e-15)
+        assert (eps[t + 1] - sr) / (lr - sr) == pytest.approx(
+            nerlove_share_closed(rate, t), rel=1e-12, abs=1e-15
+        )
 
 
 @pytest.mark.parametrize("half_life", [1.0, 2.0, 3.0, 5.0])
@@ -151,7 +158,9 @@ def test_discounted_loss_equals_numpy_financial_npv(rate, contract_request):
     body = simulate(request)
     for path in body["paths"]:
         dwl = path["deadweight_loss"]
-        assert path["discounted_deadweight_loss"][-1] == pytest.approx(npf.npv(rate, dwl), rel=1e-12, abs=1e-6)
+        assert path["discounted_deadweight_loss"][-1] == pytest.approx(
+            npf.npv(rate, dwl), rel=1e-12, abs=1e-6
+        )
         assert path["cumulative_deadweight_loss"] == pytest.approx(np.cumsum(dwl).tolist(), rel=1e-12)
 
 

@@ -44,7 +44,11 @@ def _reference_infeasible(request) -> bool:
         p, q = reference.free_market(reference.Period.of(request, t))
         if p <= 0 or q <= 0:
             return True
-    return any(r.q <= 1e-9 * request["market"]["quantity"] or r.pc <= 0 or r.pp <= 0 for v in rows.values() for r in v)
+    return any(
+        r.q <= 1e-9 * request["market"]["quantity"] or r.pc <= 0 or r.pp <= 0
+        for v in rows.values()
+        for r in v
+    )
 
 
 def compare(request) -> None:
@@ -69,14 +73,21 @@ def compare(request) -> None:
                 assert abs(row.pc - free.pc) <= 1e-9 * p0 and abs(row.q - free.q) <= 1e-9 * q0, where
             for name, attr in FIELDS.items():
                 unit = scale["price"] if "price" in name else scale["quantity"]
-                assert path[name][t] == pytest.approx(getattr(row, attr), rel=1e-8, abs=1e-9 * unit), (where, name)
+                assert path[name][t] == pytest.approx(getattr(row, attr), rel=1e-8, abs=1e-9 * unit), (
+                    where,
+                    name,
+                )
             for name, attr in MONEY.items():
-                assert path[name][t] == pytest.approx(k * getattr(row, attr), rel=1e-7, abs=1e-9 * scale["money"]), (
+                assert path[name][t] == pytest.approx(
+                    k * getattr(row, attr), rel=1e-7, abs=1e-9 * scale["money"]
+                ), (
                     where,
                     name,
                 )
         discounted = sum(k * r.dwl * reference.discount_factor(request, s) for s, r in enumerate(rows))
-        assert path["discounted_deadweight_loss"][-1] == pytest.approx(discounted, rel=1e-7, abs=1e-9 * scale["money"])
+        assert path["discounted_deadweight_loss"][-1] == pytest.approx(
+            discounted, rel=1e-7, abs=1e-9 * scale["money"]
+        )
 
 
 @given(requests(form="linear"))

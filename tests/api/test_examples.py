@@ -1,0 +1,20 @@
+"""Demo scenarios: listed, fetchable, postable as they are, covering every policy kind."""
+
+from __future__ import annotations
+
+from service.api.schemas import POLICY_SCHEMAS
+
+
+def test_every_listed_example_can_be_posted_as_it_is(client):
+    listing = client.get("/v1/examples").get_json()["examples"]
+    assert len(listing) >= 4
+    kinds = set()
+    for item in listing:
+        request = client.get(item["href"]).get_json()
+        kinds |= {p["kind"] for p in request["policies"]}
+        response = client.post("/v1/paths", json=request)
+        assert response.status_code == 200, item["name"]
+        assert any(s["binding_periods"] > 0 for s in response.get_json()["summary"]), item["name"]
+    assert kinds == set(POLICY_SCHEMAS)
+    forms = {client.get(i["href"]).get_json()["market"].get("form", "linear") for i in listing}
+    assert forms == {"linear", "constant_elasticity"}

@@ -1,0 +1,75 @@
+"""POST /v1/paths: the answer, its ETag, CSV and the Python API agree."""
+
+from __future__ import annotations
+
+import csv
+import io
+
+from service import simulate
+
+
+def test_posting_the_contract_example_returns_a_path_per_policy(client, contract_request):
+    response = client.post("/v1/paths", json=contract_request)
+    assert response.status_code == 200
+    body = response.get_json()
+    assert [p["name"] for p in body["paths"]] == [p["name"] for p in contract_request["policies"]]
+    assert [s["name"] for s in body["summary"]] == [p["name"] for p in contract_request["policies"]]
+    assert body["periods"] == list(range(13))
+    assert all(len(p["consumer_price"]) == 13 for p in body["paths"])
+    assert body == simulate(contract_request)
+
+
+def test_the_etag_is_the_scenario_id_and_a_match_gets_304(client, contract_request):
+    first = client.post("/v1/paths", json=contract_request)
+    sid = first.get_json()["scenario_id"]
+    assert first.headers["ETag"] == f'"{sid}"'
+    again = client.post("/v1/paths", json=contract_request, headers={"If-None-Match": f'"{sid}"'})
+    assert again.status_code == 304 and again.data == b""
+    assert again.headers["ETag"] == f'"{sid}"'
+    other = client.post("/v1/paths", json=contract_request, headers={"If-None-Match": '"something-else"'})
+    assert other.status_code == 200
+
+
+def test_the_scenario_id_ignores_defaults_written_out_and_changes_with_any_number(client, contract_request):
+    sid = client.post("/v1/paths", json=contract_request).get_json()["scenario_id"]
+    explicit = {
+        **contract_request,
+        "shocks": [dict(s, start=s.get("start", 1)) for s in contract_request["shocks"]],
+    }
+    explicit["shocks"][2].pop("start")  # path shocks have no start
+    assert client.post("/v1/paths", json=explicit).get_json()["scenario_id"] == sid
+    changed = {**contract_request, "horizon": 11}
+    assert client.post("/v1/paths", json=changed).get_json()["scenario_id"] != sid
+
+
+def test_csv_is_the_same_paths_in_long_form(client, contract_request):
+    body = client.post("/v1/paths", json=contract_request).get_json()
+    response = client.post("/v1/paths", json=contract_request, headers={"Accept": "text/csv"})
+    assert response.status_code == 200 and response.mimetype == "text/csv"
+    assert response.headers["ETag"] == f'"{body["scenario_id"]}.csv"'
+    rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
+    assert list(rows[0]) == ["policy", "period", "variable", "value"]
+    assert len(rows) == len(body["paths"]) * 17 * 13
+    by_key = {(r["policy"], int(r["period"]), r["variable"]): float(r["value"]) for r in rows}
+    for path in body["paths"]:
+        for t in body["periods"]:
+            assert by_key[(path["name"], t, "deadweight_loss")] == path["deadweight_loss"][t]
+            assert by_key[(path["name"], t, "binding")] == float(path["binding"][t])
+
+
+def test_an_unanswerable_accept_header_gets_406(client, contract_request):
+    response = client.post("/v1/paths", json=contract_request, headers={"Accept": "application/xml"})
+    assert response.status_code == 406
+    assert response.mimetype == "application/problem+json"
+
+
+def test_every_number_in_the_body_is_a_json_number(client, contract_request):
+    text = client.post("/v1/paths", json=contract_request).get_data(as_text=True)
+    assert "NaN" not in text and "Infinity" not in text
+
+
+def test_cautions_carry_the_lower_bound_and_the_general_warning(client, contract_request):
+    cautions = client.post("/v1/paths", json=contract_request).get_json()["cautions"]
+    assert any("lower bound" in c for c in cautions)
+    assert any("do not replace" in c for c in cautions)
+    assert any("'3% cap'" in c and "Never binds" in c for c in cautions)
