@@ -45,17 +45,26 @@ def scenario_id(scenario: engine.Scenario) -> str:
     return hashlib.sha256(canonical.encode()).hexdigest()
 
 
-def render(scenario: engine.Scenario, result: engine.ScenarioResult, sid: str) -> dict[str, Any]:
-    """The /v1/paths response body of one computed scenario."""
+def render(
+    scenario: engine.Scenario, result: engine.ScenarioResult, sid: str, lists: bool = True
+) -> dict[str, Any]:
+    """The /v1/paths response body of one computed scenario.
+
+    With lists=False the series stay numpy arrays (for orjson's OPT_SERIALIZE_NUMPY, which
+    writes the same bytes without building millions of Python floats).
+    """
+
+    def out(a):
+        return a.tolist() if lists else a
+
     return {
         "scenario_id": sid,
         "model_version": engine.MODEL_VERSION,
         "periods": list(range(result.horizon + 1)),
-        "supply_elasticity": result.supply_elasticity.tolist(),
+        "supply_elasticity": out(result.supply_elasticity),
         "reduced_form": result.reduced_form,
         "paths": [
-            {"name": p.name, "kind": p.kind, **{k: v.tolist() for k, v in p.series.items()}}
-            for p in result.paths
+            {"name": p.name, "kind": p.kind, **{k: out(v) for k, v in p.series.items()}} for p in result.paths
         ],
         "summary": [dataclasses.asdict(s) for s in result.summary],
         "cautions": list(result.cautions),
@@ -63,7 +72,7 @@ def render(scenario: engine.Scenario, result: engine.ScenarioResult, sid: str) -
 
 
 def compute(
-    scenarios: Sequence[engine.Scenario], prefixes: Sequence[str] | None = None
+    scenarios: Sequence[engine.Scenario], prefixes: Sequence[str] | None = None, lists: bool = True
 ) -> list[dict[str, Any]]:
     """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order."""
     outcomes = engine.simulate(scenarios)
@@ -72,7 +81,7 @@ def compute(
         if isinstance(outcome, engine.EngineError):
             out.append(engine_problem(outcome, prefixes[i] if prefixes else ""))
         else:
-            out.append(render(scenario, outcome, scenario_id(scenario)))
+            out.append(render(scenario, outcome, scenario_id(scenario), lists))
     return out
 
 
@@ -85,10 +94,11 @@ def simulate(request: dict[str, Any]) -> dict[str, Any]:
     return body
 
 
-def simulate_many(requests: Sequence[Any], prefix: str = "") -> list[dict[str, Any]]:
+def simulate_many(requests: Sequence[Any], prefix: str = "", lists: bool = True) -> list[dict[str, Any]]:
     """One body or one problem document per request, in order, from one engine call.
 
     `prefix` formats the pointer prefix of request i (e.g. "/scenarios/{i}"); none by default.
+    lists=False keeps series as numpy arrays (see render).
     """
     loaded: list[engine.Scenario] = []
     where: list[int] = []
@@ -100,7 +110,7 @@ def simulate_many(requests: Sequence[Any], prefix: str = "") -> list[dict[str, A
         except ProblemError as error:
             out[i] = error.problem
     if loaded:
-        bodies = compute(loaded, [prefix.format(i=i) for i in where])
+        bodies = compute(loaded, [prefix.format(i=i) for i in where], lists)
         for i, body in zip(where, bodies, strict=True):
             out[i] = body
     return [b for b in out if b is not None]

@@ -57,7 +57,8 @@ def dumps(body: Any) -> bytes:
 
 
 def json_response(body: Any, status: int = 200, mimetype: str = "application/json") -> Response:
-    return Response(orjson.dumps(body), status=status, mimetype=mimetype)
+    """orjson, with numpy arrays written directly (same bytes as their lists)."""
+    return Response(orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY), status=status, mimetype=mimetype)
 
 
 def problem_response(document: dict[str, Any], headers: dict[str, str] | None = None) -> Response:

@@ -48,7 +48,7 @@ def post_paths() -> Response:
     if request.if_none_match.contains(etag):
         response = Response(status=304)
     else:
-        (body,) = compute([scenario])
+        (body,) = compute([scenario], lists=as_csv)
         if "status" in body:
             raise ProblemError(body)
         if as_csv:
@@ -82,7 +82,7 @@ def post_batch() -> Response:
                 }
             )
         )
-    return json_response({"results": simulate_many(scenarios, prefix="/scenarios/{i}")})
+    return json_response({"results": simulate_many(scenarios, prefix="/scenarios/{i}", lists=False)})
 
 
 def _policy_periods(scenarios: list[dict[str, Any]]) -> int:
