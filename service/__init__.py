@@ -9,5 +9,6 @@ ProblemError              raised by simulate; `.problem` is the RFC 9457 documen
 from .app import create_app
 from .problems import ProblemError
 from .simulation import simulate, simulate_many
+from .uncertain import bands, sensitivity
 
-__all__ = ["ProblemError", "create_app", "simulate", "simulate_many"]
+__all__ = ["ProblemError", "bands", "create_app", "sensitivity", "simulate", "simulate_many"]

@@ -29,6 +29,8 @@ class Settings:
     max_body_bytes: int = limits.MAX_BODY_BYTES
     #: Python logging level name.
     log_level: str = "INFO"
+    #: Threads that solve blocks of draws of one /v1/bands request side by side.
+    band_threads: int = 2
 
     def as_log_dict(self) -> dict[str, Any]:
         return dataclasses.asdict(self)

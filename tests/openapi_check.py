@@ -16,6 +16,10 @@ from referencing.jsonschema import DRAFT202012
 BASE = "urn:shockpath:openapi"
 
 
+def _escape(token: str) -> str:
+    return token.replace("~", "~0").replace("/", "~1")
+
+
 class ResponseChecker:
     def __init__(self, document: dict):
         self.document = document
@@ -25,11 +29,15 @@ class ResponseChecker:
             (re.compile("^" + re.sub(r"\{[^}]+\}", "[^/]+", path) + "$"), path) for path in document["paths"]
         ]
 
-    def operation(self, method: str, path: str) -> dict | None:
+    def template(self, path: str) -> str | None:
         for pattern, template in self.templates:
             if pattern.match(path):
-                return self.document["paths"][template].get(method.lower())
+                return template
         return None
+
+    def operation(self, method: str, path: str) -> dict | None:
+        template = self.template(path)
+        return self.document["paths"][template].get(method.lower()) if template else None
 
     def validate_schema(self, schema: dict, instance) -> None:
         Draft202012Validator(schema, registry=self.registry).validate(instance)
@@ -53,11 +61,26 @@ class ResponseChecker:
             return
         mimetype = response.mimetype
         assert mimetype in content, f"{method} {path}: {status} content type {mimetype} is not documented"
-        schema = content[mimetype]["schema"]
         if mimetype.endswith("json"):
             body = orjson.loads(response.data)
-            ref = schema.get("$ref")
-            self.validate_schema({"$ref": BASE + ref} if ref else schema, body)
+            template = self.template(path) if op else "/v1/paths"
+            where = "/v1/paths" if template is None else template
+            method_key = method.lower() if op else "post"
+            key = status if status in declared else "default"
+            pointer = "/".join(
+                [
+                    "#",
+                    "paths",
+                    _escape(where),
+                    method_key,
+                    "responses",
+                    key,
+                    "content",
+                    _escape(mimetype),
+                    "schema",
+                ]
+            )
+            self.validate_schema({"$ref": BASE + pointer}, body)
 
     def wrap(self, client):
         return _CheckedClient(client, self)

@@ -154,6 +154,8 @@ def _exclusive_range(self, field: fields.Field, ret: dict[str, Any], **kwargs) -
 def _dict_length(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[str, Any]:
     if not isinstance(field, fields.Dict):
         return {}
+    ret.pop("maxLength", None)
+    ret.pop("minLength", None)
     out: dict[str, Any] = {}
     for v in field.validators:
         if isinstance(v, validate.Length):
@@ -175,6 +177,9 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
                 "mapping": {name: ref["$ref"] for name, ref in refs.items()},
             },
         }
+    alternatives = getattr(field, "openapi_alternatives", None)
+    if alternatives is not None:
+        return {"oneOf": [self.field2property(f) for f in alternatives()]}
     if isinstance(field, Either):
         return {"oneOf": [self.resolve_nested_schema(schema) for schema in field.schemas]}
     if isinstance(field, AnyObject):

@@ -19,13 +19,16 @@ from .. import limits
 from ..engine import MODEL_VERSION
 from .fields import openapi_attributes
 from .responses import (
+    BandsResponseSchema,
     BatchResponseSchema,
     ExampleListSchema,
     HealthSchema,
     PathsResponseSchema,
     ProblemSchema,
+    SensitivityResponseSchema,
 )
 from .schemas import BatchRequestSchema, PathsRequestSchema
+from .uncertainty_schemas import MAX_DRAW_CELLS, MAX_DRAWS, BandsRequestSchema, SensitivityRequestSchema
 from .views import OPERATIONS
 
 __all__ = ["DOCUMENT_PATH", "build_document"]
@@ -40,8 +43,9 @@ interval; welfare flows are per model period.
 Limits (422 before any work): horizon <= {limits.MAX_HORIZON} periods, <= {limits.MAX_POLICIES}
 policies, <= {limits.MAX_SHOCKS} shocks, <= {limits.MAX_SHIFTERS_PER_CURVE} shifters per curve,
 <= {limits.MAX_BATCH_SCENARIOS} scenarios per batch and <= {limits.MAX_POLICY_PERIODS:,}
-policy-periods (policies x (longest horizon + 1)) per batch; bodies <= {limits.MAX_BODY_BYTES} bytes
-(413). Every error is RFC 9457 application/problem+json.
+policy-periods (policies x (longest horizon + 1)) per batch; <= {MAX_DRAWS:,} draws and
+<= {MAX_DRAW_CELLS:,} draws x (horizon + 1) x policies per bands request; bodies <= {limits.MAX_BODY_BYTES}
+bytes (413). Every error is RFC 9457 application/problem+json.
 
 Results are model estimates: they inform, and do not replace, local market studies and
 qualified analysts."""
@@ -52,6 +56,10 @@ _SCHEMAS = {
     "BatchRequest": BatchRequestSchema,
     "PathsResponse": PathsResponseSchema,
     "BatchResponse": BatchResponseSchema,
+    "BandsRequest": BandsRequestSchema,
+    "BandsResponse": BandsResponseSchema,
+    "SensitivityRequest": SensitivityRequestSchema,
+    "SensitivityResponse": SensitivityResponseSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
 }
@@ -84,7 +92,7 @@ _PARAMETERS = {
 
 def _schema_name(schema) -> str:
     for name, cls in _SCHEMAS.items():
-        if isinstance(schema, cls) or schema is cls:
+        if type(schema) is cls or schema is cls:  # exact: BandsRequest subclasses PathsRequest
             return name
     return schema.__class__.__name__.removesuffix("Schema")
 
@@ -92,6 +100,9 @@ def _schema_name(schema) -> str:
 def _content(kind: str) -> dict[str, Any]:
     if kind == "csv":
         return {"schema": {"type": "string"}}
+    if kind == "ExampleRequest":
+        refs = ["PathsRequest", "BandsRequest"]
+        return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{r}"} for r in refs]}}
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 

@@ -133,6 +133,9 @@ class ExampleSchema(Schema):
     name = fields.String(required=True)
     title = fields.String(required=True)
     description = fields.String(required=True)
+    endpoint = fields.String(
+        required=True, metadata={"description": "Where to post it: /v1/paths or /v1/bands."}
+    )
     href = fields.String(required=True)
 
 
@@ -143,3 +146,80 @@ class ExampleListSchema(Schema):
 class HealthSchema(Schema):
     status = fields.String(required=True)
     model_version = fields.String(required=True)
+
+
+class UncertainInputSchema(Schema):
+    pointer = fields.String(required=True, metadata={"description": "JSON Pointer of the elasticity."})
+    distribution = fields.String(required=True, metadata={"enum": ["normal", "uniform", "triangular"]})
+    mean = fields.Float()
+    sd = fields.Float()
+    low = fields.Float()
+    mode = fields.Float()
+    high = fields.Float()
+    central = fields.Float(
+        required=True, metadata={"description": "Mean, midpoint or mode: the central path uses it."}
+    )
+
+
+def _by_percentile(values) -> fields.Dict:
+    return fields.Dict(
+        keys=fields.String(), values=values, metadata={"description": 'Keyed by percentile, e.g. "5".'}
+    )
+
+
+class PolicyBandSchema(Schema):
+    name = fields.String(required=True)
+    kind = fields.String(required=True)
+    series = fields.Dict(
+        keys=fields.String(),
+        values=_by_percentile(fields.List(fields.Float())),
+        required=True,
+        metadata={"description": "Per series, per percentile: one number per period, period 0 first."},
+    )
+    summary = fields.Dict(keys=fields.String(), values=_by_percentile(fields.Float()), required=True)
+    binding_share = fields.Float(
+        required=True, metadata={"description": "Share of feasible draws in which it binds."}
+    )
+    infeasible_draws = fields.Integer(required=True, metadata={"description": "Draws left out: infeasible."})
+
+
+class BandsResponseSchema(Schema):
+    scenario_id = fields.String(required=True)
+    model_version = fields.String(required=True)
+    draws = fields.Integer(required=True)
+    seed = fields.Integer(required=True)
+    percentiles = fields.List(fields.Float(), required=True)
+    periods = fields.List(fields.Integer(), required=True)
+    uncertain_inputs = fields.List(fields.Nested(UncertainInputSchema), required=True)
+    central = fields.Nested(PathsResponseSchema, required=True)
+    bands = fields.List(fields.Nested(PolicyBandSchema), required=True)
+    cautions = fields.List(fields.String(), required=True)
+
+
+def _figures(**kwargs) -> fields.Dict:
+    return fields.Dict(keys=fields.String(), values=fields.Float(allow_none=True), **kwargs)
+
+
+class PolicySwingSchema(Schema):
+    name = fields.String(required=True)
+    kind = fields.String(required=True)
+    low = _figures(
+        required=True,
+        metadata={"description": "Headline figures with the input at its low (null: infeasible)."},
+    )
+    high = _figures(required=True)
+    swing = _figures(required=True, metadata={"description": "|high - low| per headline figure."})
+
+
+class SensitivityInputSchema(UncertainInputSchema):
+    largest_swing = _figures(required=True)
+    policies = fields.List(fields.Nested(PolicySwingSchema), required=True)
+
+
+class SensitivityResponseSchema(Schema):
+    scenario_id = fields.String(required=True)
+    model_version = fields.String(required=True)
+    headlines = fields.List(fields.String(), required=True)
+    central = fields.Nested(PathsResponseSchema, required=True)
+    inputs = fields.List(fields.Nested(SensitivityInputSchema), required=True)
+    cautions = fields.List(fields.String(), required=True)

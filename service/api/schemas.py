@@ -423,10 +423,13 @@ class PathsRequestSchema(_Strict):
     )
     welfare = fields.Nested(WelfareSchema, load_default=lambda: WelfareSchema().load({}))
 
+    def _market_of(self, data) -> Market:
+        return data["market"]
+
     @validates_schema
     def _consistent(self, data, **kwargs):
         errors: dict = {}
-        market: Market = data["market"]
+        market: Market = self._market_of(data)
         declared = set(market.shifter_names)
         for i, shock in enumerate(data.get("shocks", [])):
             if shock.shifter not in declared:

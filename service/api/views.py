@@ -16,6 +16,7 @@ from ..engine import MODEL_VERSION
 from ..examples import example_request, examples
 from ..problems import ProblemError, problem, validation_problem
 from ..simulation import compute, load_scenario, scenario_id, simulate_many
+from ..uncertain import bands, sensitivity
 from .csv_output import paths_csv
 from .jsonio import json_response, read_json
 from .schemas import BatchRequestSchema
@@ -101,6 +102,17 @@ def _policy_periods(scenarios: list[dict[str, Any]]) -> int:
     return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))
 
 
+@blueprint.post("/v1/bands")
+def post_bands() -> Response:
+    threads = current_app.extensions["shockpath.settings"].band_threads
+    return json_response(bands(read_json(), threads=threads))
+
+
+@blueprint.post("/v1/sensitivity")
+def post_sensitivity() -> Response:
+    return json_response(sensitivity(read_json()))
+
+
 @blueprint.get("/v1/examples")
 def list_examples() -> Response:
     items = [
@@ -108,6 +120,7 @@ def list_examples() -> Response:
             "name": name,
             "title": entry["title"],
             "description": entry["description"],
+            "endpoint": entry.get("endpoint", "/v1/paths"),
             "href": url_for("shockpath.get_example", name=name),
         }
         for name, entry in examples().items()
@@ -203,6 +216,34 @@ OPERATIONS: list[dict[str, Any]] = [
         },
     },
     {
+        "path": "/v1/bands",
+        "method": "post",
+        "operationId": "postBands",
+        "summary": "Percentile bands of every policy's path over draws of uncertain elasticities",
+        "request": "BandsRequest",
+        "responses": {
+            "200": {
+                "description": "Bands per policy and the central path.",
+                "content": {"application/json": "BandsResponse"},
+            },
+            **_problems("400", "413", "415", "422"),
+        },
+    },
+    {
+        "path": "/v1/sensitivity",
+        "method": "post",
+        "operationId": "postSensitivity",
+        "summary": "One-at-a-time swings of each uncertain input, largest first (a tornado chart)",
+        "request": "SensitivityRequest",
+        "responses": {
+            "200": {
+                "description": "Swings per input and policy.",
+                "content": {"application/json": "SensitivityResponse"},
+            },
+            **_problems("400", "413", "415", "422"),
+        },
+    },
+    {
         "path": "/v1/examples",
         "method": "get",
         "operationId": "listExamples",
@@ -215,12 +256,12 @@ OPERATIONS: list[dict[str, Any]] = [
         "path": "/v1/examples/{name}",
         "method": "get",
         "operationId": "getExample",
-        "summary": "One demo scenario, postable as it is to /v1/paths",
+        "summary": "One demo scenario, postable as it is to its endpoint",
         "path_parameters": ["name"],
         "responses": {
             "200": {
-                "description": "A /v1/paths request body.",
-                "content": {"application/json": "PathsRequest"},
+                "description": "A request body for the example's endpoint.",
+                "content": {"application/json": "ExampleRequest"},
             },
             "404": {"description": "No such example.", "problem": True},
         },

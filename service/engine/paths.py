@@ -18,6 +18,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
+from ._arrays import as_slice
 from .batch import PolicyRows, ScenarioBatch
 from .curves import ConstantElasticityCurves, LinearCurves
 from .equilibrium import free_market
@@ -165,6 +166,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         if r.size == 0:
             continue
         sc = s_of[r]
+        r = as_slice(r)
         curves = cls(p0[sc], q0[sc], eta[sc], eps_safe[sc], demand_shift[sc], supply_shift[sc])
         price, quantity = free_price[sc], free_quantity[sc]
         outcome = market_outcome(curves, price, quantity, rows.kind[r], rows.value[r], active[r])
@@ -173,7 +175,8 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         )
         bad &= row_valid[r]
         infeasible[r] = bad
-        outcome = outcome.where(~bad, free_outcome(price, quantity))
+        if bad.any():
+            outcome = outcome.where(~bad, free_outcome(price, quantity))
         welfare = welfare_change(
             curves,
             price,
@@ -198,11 +201,14 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
 
-    reported = [getattr(outcome, f.name) for f in fields(Outcome) if f.name not in ("binding", "rationed")]
+    # One pass: a sum of finite numbers (all far below 1e300) is finite, and NaN or inf in any
+    # reported series makes it non-finite.
+    reported = [getattr(outcome, f.name) for f in fields(Outcome) if f.name not in flags]
     reported += [getattr(welfare, f.name) for f in fields(WelfareChange)] + [cumulative, discounted]
-    non_finite = np.zeros(R, dtype=bool)
+    total = np.zeros((R, periods))
     for a in reported:
-        non_finite |= (~np.isfinite(a) & row_valid).any(axis=1)
+        total += a
+    non_finite = ~np.isfinite(np.where(row_valid, total, 0.0)).all(axis=1)
 
     return PathArrays(
         valid=valid,

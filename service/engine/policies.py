@@ -24,6 +24,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
+from ._arrays import as_slice
 from .curves import Curves
 from .equilibrium import clear_with_wedge
 
@@ -45,6 +46,10 @@ class Outcome:
     marginal_cost: np.ndarray
     binding: np.ndarray  # bool
     rationed: np.ndarray  # bool: a binding ceiling rations buyers
+
+    def take(self, rows) -> Outcome:
+        """The outcome of a subset of rows."""
+        return Outcome(*(getattr(self, f.name)[rows] for f in fields(self)))
 
     def where(self, mask: np.ndarray, other: Outcome) -> Outcome:
         """This outcome where mask is True, `other` elsewhere."""
@@ -223,12 +228,14 @@ def market_outcome(
     curves, price and quantity are the rows' curves and free-market equilibrium; kind and
     value are (rows,); active is (rows, periods).
     """
-    parts: dict[str, np.ndarray] = {}
-    template = free_outcome(price, quantity)
-    for f in fields(Outcome):
-        parts[f.name] = np.array(getattr(template, f.name), copy=True)
-    for code in np.unique(kind):
-        rows = np.flatnonzero(kind == code)
+    codes = np.unique(kind)
+    if codes.size == 1:
+        return KINDS[int(codes[0])](curves, price, quantity, value[:, None], active)
+    # Every row has exactly one kind, so every element below is written once.
+    flags = ("binding", "rationed")
+    parts = {f.name: np.empty(price.shape, dtype=bool if f.name in flags else float) for f in fields(Outcome)}
+    for code in codes:
+        rows = as_slice(np.flatnonzero(kind == code))
         outcome = KINDS[int(code)](
             curves.take(rows), price[rows], quantity[rows], value[rows, None], active[rows]
         )

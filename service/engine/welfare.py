@@ -16,10 +16,11 @@ model period. Discounting: the factor of period s is prod_(u<=s) 1/(1 + r_u).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 
 import numpy as np
 
+from ._arrays import as_slice
 from .curves import Curves
 from .policies import Outcome
 
@@ -59,7 +60,28 @@ def welfare_change(
     """Surplus changes, revenue, DWL and misallocation of each row; k is (rows, 1).
 
     random_rationing (rows, 1) is True where a binding ceiling rations buyers at random.
+    Rows whose policy never binds are exactly 0 and are not computed.
     """
+    shape = outcome.binding.shape
+    parts = {f.name: np.zeros(shape) for f in fields(WelfareChange)}
+    rows = np.flatnonzero(outcome.binding.any(axis=1))
+    if rows.size == 0:
+        return WelfareChange(**parts)
+    rows = as_slice(rows)
+    sub = _binding_rows_welfare(
+        curves.take(rows),
+        free_price[rows],
+        free_quantity[rows],
+        outcome.take(rows),
+        payments_per_period[rows],
+        random_rationing[rows],
+    )
+    for name, values in sub.items():
+        parts[name][rows] = values
+    return WelfareChange(**parts)
+
+
+def _binding_rows_welfare(curves, free_price, free_quantity, outcome, k, random_rationing) -> dict:
     q, pc, pp = outcome.quantity, outcome.consumer_price, outcome.producer_price
     demand_area = curves.demand_integral(q, free_quantity)
     supply_area = curves.supply_integral(q, free_quantity)
@@ -68,16 +90,16 @@ def welfare_change(
     producer = pp * q - free_spending + supply_area
     revenue = (pc - pp) * q
     deadweight = np.maximum(demand_area - supply_area, 0.0)
-    mis = np.where(outcome.rationed & random_rationing, misallocation(curves, q, pc), 0.0)
-    k = payments_per_period
+    rationed = outcome.rationed & random_rationing
+    mis = np.where(rationed, misallocation(curves, q, pc), 0.0) if rationed.any() else np.zeros_like(q)
     b = outcome.binding
-    return WelfareChange(
-        consumer_surplus_change=np.where(b, k * (consumer - mis), 0.0),
-        producer_surplus_change=np.where(b, k * producer, 0.0),
-        government_revenue=np.where(b, k * revenue, 0.0),
-        deadweight_loss=np.where(b, k * (deadweight + mis), 0.0),
-        misallocation_loss=np.where(b, k * mis, 0.0),
-    )
+    return {
+        "consumer_surplus_change": np.where(b, k * (consumer - mis), 0.0),
+        "producer_surplus_change": np.where(b, k * producer, 0.0),
+        "government_revenue": np.where(b, k * revenue, 0.0),
+        "deadweight_loss": np.where(b, k * (deadweight + mis), 0.0),
+        "misallocation_loss": np.where(b, k * mis, 0.0),
+    }
 
 
 def discount_factors(rates: np.ndarray) -> np.ndarray:

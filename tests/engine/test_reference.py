@@ -6,8 +6,6 @@ rationing rules: every reported number must agree with tests/reference.py.
 
 from __future__ import annotations
 
-import math
-
 import pytest
 from hypothesis import given
 
@@ -108,6 +106,9 @@ def test_random_rationing_misallocation_matches_quadrature(request):
 def test_every_demo_scenario_matches_the_scalar_reference():
     from service.examples import examples
 
+    compared = 0
     for entry in examples().values():
-        compare(entry["request"])
-        assert math.isfinite(1.0)
+        if entry.get("endpoint", "/v1/paths") == "/v1/paths":
+            compare(entry["request"])
+            compared += 1
+    assert compared >= 4
