@@ -195,7 +195,8 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
         "cautions": [
             "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
             "its distribution) with every other input at its central value; inputs are sorted by their "
-            "largest swing in discounted deadweight loss over all policies, then peak shortage, then final price.",
+            "largest swing in discounted deadweight loss over all policies, then peak shortage, then "
+            "final price.",
             *central["cautions"],
         ],
     }
