@@ -229,6 +229,19 @@ def solve_rows(batch: ScenarioBatch, rows: PolicyRows):
     return feasible, series, summary, binds
 
 
+def _linear_percentiles(ordered: np.ndarray, count: int, q: np.ndarray) -> np.ndarray:
+    """numpy's default ('linear') percentiles of the first `count` entries of each sorted row:
+    virtual index (count - 1) q / 100, interpolated between its neighbours. Shape (q, ...)."""
+    position = (count - 1) * q / 100.0
+    low = np.floor(position).astype(np.intp)
+    high = np.minimum(low + 1, count - 1)
+    fraction = position - low
+    below = np.moveaxis(ordered[..., low].astype(float), -1, 0)
+    above = np.moveaxis(ordered[..., high].astype(float), -1, 0)
+    shape = (-1,) + (1,) * (below.ndim - 1)
+    return below + (above - below) * fraction.reshape(shape)
+
+
 def bands(
     scenario: Scenario,
     inputs: Sequence[UncertainInput],
@@ -283,12 +296,13 @@ def bands(
     series_q = np.empty((len(q), p, len(BAND_SERIES), periods))
 
     def band(policy: int) -> None:
+        # Sort in place (a SIMD sort of float32 is several times faster than a selection per
+        # percentile); infeasible draws become NaN, which sorts last and is never reached.
         rows = kept[policy]
-        if feasible[:, policy].all():
-            series_q[:, policy] = np.percentile(rows, q, axis=-1)
-        else:
-            masked = np.where(feasible[None, None, :, policy], rows, np.float32(np.nan))
-            series_q[:, policy] = np.nanpercentile(masked, q, axis=-1)
+        if not feasible[:, policy].all():
+            rows[:, :, ~feasible[:, policy]] = np.nan
+        rows.sort(axis=-1)
+        series_q[:, policy] = _linear_percentiles(rows, int(feasible[:, policy].sum()), q)
 
     if threads > 1:
         with ThreadPoolExecutor(threads) as pool:

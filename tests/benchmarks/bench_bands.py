@@ -1,0 +1,107 @@
+"""Benchmark: percentile bands for 100,000 draws x 40 periods x 3 policies.
+
+    .venv/bin/python -m tests.benchmarks.bench_bands [--draws 100000] [--sample 300]
+
+Prints seconds and peak resident memory of the vectorised engine (one and two threads, each
+in a fresh process), and the ratio against a Python loop over draws that calls the same
+engine one draw at a time (timed on a sample of draws and scaled). Not part of the test run:
+machines are shared and noisy, so this prints figures and asserts nothing.
+"""
+
+from __future__ import annotations
+
+import argparse
+import copy
+import json
+import platform
+import resource
+import subprocess
+import sys
+import time
+
+import numpy as np
+
+
+def scenario(draws: int) -> dict:
+    from service.examples import example_request
+
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["horizon"] = 40
+    request["draws"] = draws
+    request["percentiles"] = [5, 50, 95]
+    return request
+
+
+def _child(draws: int, threads: int) -> None:
+    from service import bands
+
+    request = scenario(draws)
+    bands(copy.deepcopy(request), threads=threads)  # warm: imports, caches
+    start = time.perf_counter()
+    bands(request, threads=threads)
+    seconds = time.perf_counter() - start
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(json.dumps({"seconds": seconds, "peak_mib": peak}))
+
+
+def _run(draws: int, threads: int) -> dict:
+    out = subprocess.run(
+        [sys.executable, "-m", "tests.benchmarks.bench_bands", "--child", str(draws), str(threads)],
+        check=True,
+        capture_output=True,
+        text=True,
+    )
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def _scalar_loop(draws: int, sample: int) -> float:
+    """Seconds per draw of a Python loop that runs the engine once per draw."""
+    from service import simulate
+    from service.api.uncertainty_schemas import BandsRequestSchema
+    from service.engine.uncertainty import draw
+
+    request = scenario(draws)
+    req = BandsRequestSchema().load(request)
+    values = draw(req.inputs, sample, req.seed)
+    plain = copy.deepcopy(request)
+    for key in ("draws", "seed", "percentiles"):
+        plain.pop(key)
+    start = time.perf_counter()
+    for row in values:
+        one = copy.deepcopy(plain)
+        for item, value in zip(req.inputs, row, strict=True):
+            parts = item.pointer.strip("/").split("/")
+            target = one
+            for p in parts[:-1]:
+                target = target[p]
+            target[parts[-1]] = float(value)
+        simulate(one)
+    return (time.perf_counter() - start) / sample
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--draws", type=int, default=100_000)
+    parser.add_argument("--sample", type=int, default=300)
+    parser.add_argument("--child", nargs=2, type=int)
+    args = parser.parse_args()
+    if args.child:
+        _child(*args.child)
+        return
+    one = _run(args.draws, 1)
+    two = _run(args.draws, 2)
+    per_draw = _scalar_loop(args.draws, args.sample)
+    loop = per_draw * args.draws
+    print(f"machine: {platform.machine()}, {platform.python_version()}, numpy {np.__version__}")
+    print(f"bands: {args.draws:,} draws x 41 periods x 3 policies (quillbrook-uncertain-elasticities)")
+    print(f"{'figure':44} {'value':>12} {'target':>10}")
+    print(f"{'vectorised, 1 thread (s)':44} {one['seconds']:12.2f} {'':>10}")
+    print(f"{'vectorised, 2 threads (s)':44} {two['seconds']:12.2f} {'< 2':>10}")
+    print(f"{'peak resident memory, 2 threads (MiB)':44} {two['peak_mib']:12.0f} {'< 1024':>10}")
+    print(f"{'Python loop over draws, one engine call each (s)':44} {loop:12.1f} {'':>10}")
+    print(f"{'  (measured on ' + str(args.sample) + ' draws, scaled)':44}")
+    print(f"{'ratio loop / vectorised (2 threads)':44} {loop / two['seconds']:12.0f} {'':>10}")
+
+
+if __name__ == "__main__":
+    main()
