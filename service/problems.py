@@ -46,10 +46,11 @@ def problem(status: int, title: str, detail: str, code: str | None = None, **ext
 class ProblemError(Exception):
     """Raised by the Python API and the views; carries the problem document."""
 
-    def __init__(self, document: dict[str, Any]):
+    def __init__(self, document: dict[str, Any], headers: dict[str, str] | None = None):
         super().__init__(document.get("detail", ""))
         self.problem = document
         self.status = int(document["status"])
+        self.headers = headers or {}
 
 
 def validation_problem(messages: Any, prefix: str = "") -> dict[str, Any]:

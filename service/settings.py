@@ -10,6 +10,7 @@ import dataclasses
 import os
 from collections.abc import Mapping
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 from . import limits
@@ -31,12 +32,25 @@ class Settings:
     log_level: str = "INFO"
     #: Threads that solve blocks of draws of one /v1/bands request side by side.
     band_threads: int = 2
+    #: Bearer keys for /v1 (comma-separated); none = no authentication.
+    api_keys: tuple[str, ...] = ()
+    #: A file with one key per line (a mounted secret); its keys add to api_keys.
+    api_keys_file: str = ""
+    #: Whether /metrics also needs a key when keys are configured.
+    metrics_require_key: bool = False
 
     def as_log_dict(self) -> dict[str, Any]:
-        return dataclasses.asdict(self)
+        """The effective settings, keys redacted."""
+        out = dataclasses.asdict(self)
+        out["api_keys"] = f"{len(self.api_keys)} configured"
+        return out
 
 
 _LEVELS = {"CRITICAL", "ERROR", "WARNING", "INFO", "DEBUG"}
+
+
+def _variable(name: str) -> str:
+    return PREFIX + name.upper()
 
 
 def _parse(name: str, raw: Any, default: Any) -> Any:
@@ -48,16 +62,29 @@ def _parse(name: str, raw: Any, default: Any) -> Any:
             return True
         if text in {"0", "false", "no", "off"}:
             return False
-        raise SettingsError(f"{PREFIX}{name.upper()} must be true or false, not {raw!r}")
+        raise SettingsError(f"{_variable(name)} must be true or false, not {raw!r}")
     if isinstance(default, int):
         try:
             value = int(raw)
         except (TypeError, ValueError):
-            raise SettingsError(f"{PREFIX}{name.upper()} must be a whole number, not {raw!r}") from None
+            raise SettingsError(f"{_variable(name)} must be a whole number, not {raw!r}") from None
         if value <= 0:
-            raise SettingsError(f"{PREFIX}{name.upper()} must be positive, not {value}")
+            raise SettingsError(f"{_variable(name)} must be positive, not {value}")
         return value
+    if isinstance(default, tuple):
+        items = raw if isinstance(raw, (list, tuple)) else str(raw).split(",")
+        return tuple(k.strip() for k in items if str(k).strip())
     return str(raw)
+
+
+def _keys_from_file(path: str) -> tuple[str, ...]:
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except OSError as error:
+        raise SettingsError(
+            f"{_variable('api_keys_file')}: cannot read {path!r} ({error.strerror})"
+        ) from None
+    return tuple(line.strip() for line in text.splitlines() if line.strip() and not line.startswith("#"))
 
 
 def load_settings(
@@ -68,15 +95,21 @@ def load_settings(
     values: dict[str, Any] = {}
     for f in dataclasses.fields(Settings):
         default = f.default
-        raw = environ.get(PREFIX + f.name.upper())
+        raw = environ.get(_variable(f.name))
         if config is not None:
-            for key in (f.name, f.name.upper(), PREFIX + f.name.upper()):
+            for key in (f.name, f.name.upper(), _variable(f.name)):
                 if key in config:
                     raw = config[key]
         values[f.name] = default if raw is None else _parse(f.name, raw, default)
-    if str(values["log_level"]).upper() not in _LEVELS:
+    level = str(values["log_level"]).upper()
+    if level not in _LEVELS:
         raise SettingsError(
-            f"{PREFIX}LOG_LEVEL must be one of {sorted(_LEVELS)}, not {values['log_level']!r}"
+            f"{_variable('log_level')} must be one of {sorted(_LEVELS)}, not {values['log_level']!r}"
         )
-    values["log_level"] = str(values["log_level"]).upper()
+    values["log_level"] = level
+    if values["api_keys_file"]:
+        values["api_keys"] = values["api_keys"] + _keys_from_file(values["api_keys_file"])
+    short = [k for k in values["api_keys"] if len(k) < 16]
+    if short:
+        raise SettingsError(f"{_variable('api_keys')}: every key must have at least 16 characters")
     return Settings(**values)

@@ -125,6 +125,14 @@ def _operation(op: dict[str, Any]) -> dict[str, Any]:
         if "headers" in spec:
             response["headers"] = {h: _HEADERS[h] for h in spec["headers"]}
         out["responses"][status] = response
+    if op["path"].startswith("/v1/"):
+        # Keys are optional: an empty requirement means the service runs without them.
+        out["security"] = [{}, {"bearer": []}]
+        out["responses"]["401"] = {
+            "description": "Keys are configured and the request has no valid 'Authorization: Bearer <key>'.",
+            "content": {"application/problem+json": _content("Problem")},
+            "headers": {"WWW-Authenticate": {"schema": {"type": "string"}}},
+        }
     out["responses"]["default"] = {
         "description": "Any other error (404, 405, 500, ...) as a problem document.",
         "content": {"application/problem+json": _content("Problem")},
@@ -143,6 +151,14 @@ def build_document() -> dict[str, Any]:
         info={"description": _DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
     )
     openapi_attributes(plugin.converter)
+    spec.components.security_scheme(
+        "bearer",
+        {
+            "type": "http",
+            "scheme": "bearer",
+            "description": "Needed on /v1 only when SHOCKPATH_API_KEYS is set.",
+        },
+    )
     for name, schema in _SCHEMAS.items():
         spec.components.schema(name, schema=schema)
     by_path: dict[str, dict[str, Any]] = {}
@@ -161,6 +177,25 @@ def build_document() -> dict[str, Any]:
                         "description": "OpenAPI 3.1",
                         "content": {"application/json": {"schema": {"type": "object"}}},
                     }
+                },
+            }
+        },
+    )
+    spec.path(
+        path="/metrics",
+        operations={
+            "get": {
+                "operationId": "metrics",
+                "summary": "Prometheus metrics (text exposition format), aggregated over workers",
+                "responses": {
+                    "200": {
+                        "description": "Metrics.",
+                        "content": {"text/plain": {"schema": {"type": "string"}}},
+                    },
+                    "401": {
+                        "description": "Keys are configured and SHOCKPATH_METRICS_REQUIRE_KEY is on.",
+                        "content": {"application/problem+json": _content("Problem")},
+                    },
                 },
             }
         },

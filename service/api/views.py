@@ -8,12 +8,13 @@ from __future__ import annotations
 
 from typing import Any
 
-from flask import Blueprint, Response, current_app, request, url_for
+from flask import Blueprint, Response, current_app, g, request, url_for
 from marshmallow import ValidationError
 
 from .. import limits
 from ..engine import MODEL_VERSION
 from ..examples import example_request, examples
+from ..metrics import DRAWS, SCENARIOS
 from ..problems import ProblemError, problem, validation_problem
 from ..simulation import compute, load_scenario, scenario_id, simulate_many
 from ..uncertain import bands, sensitivity
@@ -45,11 +46,13 @@ def post_paths() -> Response:
     as_csv = _wants_csv()
     scenario = load_scenario(read_json())
     sid = scenario_id(scenario)
+    g.scenario_id = sid
     etag = f"{sid}.csv" if as_csv else sid
     if request.if_none_match.contains(etag):
         response = Response(status=304)
     else:
         (body,) = compute([scenario], lists=as_csv)
+        SCENARIOS.labels("/v1/paths").inc()
         if "status" in body:
             raise ProblemError(body)
         if as_csv:
@@ -83,7 +86,9 @@ def post_batch() -> Response:
                 }
             )
         )
-    return json_response({"results": simulate_many(scenarios, prefix="/scenarios/{i}", lists=False)})
+    results = simulate_many(scenarios, prefix="/scenarios/{i}", lists=False)
+    SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
+    return json_response({"results": results})
 
 
 def _policy_periods(scenarios: list[dict[str, Any]]) -> int:
@@ -105,12 +110,19 @@ def _policy_periods(scenarios: list[dict[str, Any]]) -> int:
 @blueprint.post("/v1/bands")
 def post_bands() -> Response:
     threads = current_app.extensions["shockpath.settings"].band_threads
-    return json_response(bands(read_json(), threads=threads))
+    body = bands(read_json(), threads=threads)
+    g.scenario_id = body["scenario_id"]
+    DRAWS.inc(body["draws"])
+    SCENARIOS.labels("/v1/bands").inc()
+    return json_response(body)
 
 
 @blueprint.post("/v1/sensitivity")
 def post_sensitivity() -> Response:
-    return json_response(sensitivity(read_json()))
+    body = sensitivity(read_json())
+    g.scenario_id = body["scenario_id"]
+    SCENARIOS.labels("/v1/sensitivity").inc(1 + 2 * len(body["inputs"]))
+    return json_response(body)
 
 
 @blueprint.get("/v1/examples")

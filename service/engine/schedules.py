@@ -78,7 +78,8 @@ def supply_elasticity_path(
     `explicit` (scenarios, horizon + 1) is used where schedule is explicit.
     """
     weights = adjustment_weights(schedule, periods, rate, horizon)
-    path = short_run[:, None] + (long_run - short_run)[:, None] * weights
+    # sr (1 - w) + lr w: exactly eps_SR at w = 0 and exactly eps_LR at w = 1.
+    path = short_run[:, None] * (1.0 - weights) + long_run[:, None] * weights
     path = np.where(schedule[:, None] == SCHEDULE_CODES["explicit"], explicit, path)
     path[:, 0] = short_run
     return path

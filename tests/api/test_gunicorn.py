@@ -30,7 +30,13 @@ def _free_port() -> int:
 @pytest.fixture(scope="module")
 def server(tmp_path_factory):
     port = _free_port()
-    env = {**os.environ, "SHOCKPATH_BIND": f"127.0.0.1:{port}", "SHOCKPATH_WORKERS": "2"}
+    metrics_dir = tmp_path_factory.mktemp("metrics")
+    env = {
+        **os.environ,
+        "SHOCKPATH_BIND": f"127.0.0.1:{port}",
+        "SHOCKPATH_WORKERS": "2",
+        "PROMETHEUS_MULTIPROC_DIR": str(metrics_dir),
+    }
     gunicorn = Path(sys.executable).with_name("gunicorn")
     log = (tmp_path_factory.mktemp("gunicorn") / "stderr.log").open("w+b")
     process = subprocess.Popen(
@@ -56,7 +62,7 @@ def server(tmp_path_factory):
         process.wait()
         log.seek(0)
         pytest.fail("gunicorn did not become ready: " + log.read().decode(errors="replace")[-2000:])
-    yield port
+    yield port, metrics_dir
     process.send_signal(signal.SIGTERM)
     try:
         process.wait(timeout=30)
@@ -64,6 +70,15 @@ def server(tmp_path_factory):
         process.kill()
         process.wait()
     log.close()
+
+
+def _get(port, path):
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=10)
+    conn.request("GET", path)
+    response = conn.getresponse()
+    out = response.status, response.read()
+    conn.close()
+    return out
 
 
 def _post(port, path, body: bytes, headers):
@@ -76,6 +91,7 @@ def _post(port, path, body: bytes, headers):
 
 
 def test_a_demo_scenario_over_http_equals_the_python_api(server):
+    server, _ = server
     request = example_request("quillbrook-rent-freeze")
     status, headers, data = _post(
         server, "/v1/paths", json.dumps(request).encode(), {"Content-Type": "application/json"}
@@ -86,6 +102,7 @@ def test_a_demo_scenario_over_http_equals_the_python_api(server):
 
 
 def test_examples_answer_under_gunicorn(server):
+    server, _ = server
     conn = http.client.HTTPConnection("127.0.0.1", server, timeout=10)
     conn.request("GET", "/v1/examples")
     response = conn.getresponse()
@@ -95,6 +112,7 @@ def test_examples_answer_under_gunicorn(server):
 
 
 def test_a_chunked_body_over_the_limit_is_413_over_http(server):
+    server, _ = server
     conn = http.client.HTTPConnection("127.0.0.1", server, timeout=30)
     chunk = b" " * 65536
     size = 8 * 1024 * 1024 // len(chunk) + 2
@@ -110,3 +128,22 @@ def test_a_chunked_body_over_the_limit_is_413_over_http(server):
     assert response.getheader("Content-Type") == "application/problem+json"
     response.read()
     conn.close()
+
+
+def test_metrics_aggregate_over_both_workers(server):
+    port, metrics_dir = server
+    line = 'shockpath_http_requests_total{endpoint="/healthz",method="GET",status="200"}'
+
+    def count() -> float:
+        status, text = _get(port, "/metrics")
+        assert status == 200
+        found = [x for x in text.decode().splitlines() if x.startswith(line)]
+        return float(found[0].split()[-1]) if found else 0.0
+
+    before = count()
+    for _ in range(60):  # a new connection each time, so both workers take some
+        assert _get(port, "/healthz")[0] == 200
+    pids = {p.name.rsplit("_", 1)[-1] for p in metrics_dir.glob("counter_*.db")}
+    assert len(pids) >= 2, "both workers should have served requests"
+    # Whichever worker answers the scrape, it reports the sum over all workers.
+    assert [count() for _ in range(6)] == [before + 60] * 6

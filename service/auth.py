@@ -1,0 +1,28 @@
+"""Optional bearer keys: when configured, every /v1 endpoint needs `Authorization: Bearer <key>`.
+
+Several keys may be valid at once (rotation). The presented key is compared with every
+configured key in constant time (hmac.compare_digest) without stopping at a match, so the
+time taken says nothing about which key, or how much of one, matched.
+"""
+
+from __future__ import annotations
+
+import hmac
+
+__all__ = ["key_accepted", "needs_key"]
+
+
+def needs_key(path: str, metrics_require_key: bool) -> bool:
+    """/v1/... always; /metrics when so configured; health and the document stay open."""
+    return path.startswith("/v1/") or (metrics_require_key and path == "/metrics")
+
+
+def key_accepted(header: str | None, keys: tuple[str, ...]) -> bool:
+    scheme, _, token = (header or "").partition(" ")
+    if scheme.lower() != "bearer" or not token.strip():
+        return False
+    presented = token.strip().encode()
+    accepted = False
+    for key in keys:
+        accepted |= hmac.compare_digest(presented, key.encode())
+    return accepted
