@@ -18,7 +18,7 @@ from flask import Flask, Response, g, request
 from werkzeug.exceptions import HTTPException
 
 from . import metrics
-from .api.jsonio import json_response, problem_response
+from .api.jsonio import json_response, problem_response, read_json
 from .api.openapi import build_document
 from .api.views import blueprint
 from .auth import key_accepted, needs_key
@@ -44,6 +44,13 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     @app.get("/openapi.json")
     def openapi_document():
         return json_response(app.extensions["shockpath.openapi"])
+
+    if settings.benchmark_echo:
+        # The framework floor for tests/benchmarks: same app, same parser, same serialiser,
+        # no model. Off unless SHOCKPATH_BENCHMARK_ECHO is set.
+        @app.post("/benchmark/echo")
+        def benchmark_echo():
+            return json_response(read_json())
 
     @app.get("/metrics")
     def prometheus_metrics():

@@ -16,7 +16,12 @@ def _escape(token: Any) -> str:
 def field_errors(messages: Any, prefix: str = "") -> list[dict[str, str]]:
     """Flatten marshmallow's nested error messages into [{"pointer", "message"}], sorted."""
     out: list[dict[str, str]] = []
-    if isinstance(messages, dict):
+    if isinstance(messages, dict) and messages and set(messages) <= {"key", "value"}:
+        # marshmallow's Dict nests a member's errors under "key" (its name) and "value":
+        # both belong to the member itself. (No schema here has fields named key or value.)
+        for value in messages.values():
+            out.extend(field_errors(value, prefix))
+    elif isinstance(messages, dict):
         for key, value in messages.items():
             pointer = prefix if key == "_schema" else f"{prefix}/{_escape(key)}"
             out.extend(field_errors(value, pointer))

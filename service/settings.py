@@ -38,6 +38,8 @@ class Settings:
     api_keys_file: str = ""
     #: Whether /metrics also needs a key when keys are configured.
     metrics_require_key: bool = False
+    #: Serve POST /benchmark/echo (parse and echo a JSON body): the benchmarks' floor.
+    benchmark_echo: bool = False
 
     def as_log_dict(self) -> dict[str, Any]:
         """The effective settings, keys redacted."""

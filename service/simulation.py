@@ -8,12 +8,13 @@ body or one problem document per request, in order.
 
 from __future__ import annotations
 
-import dataclasses
+import contextlib
+import gc
 import hashlib
-import json
 from collections.abc import Sequence
 from typing import Any
 
+import orjson
 from marshmallow import ValidationError
 
 from . import engine
@@ -23,6 +24,23 @@ from .problems import ProblemError, engine_problem, validation_problem
 __all__ = ["compute", "load_scenario", "render", "scenario_id", "simulate", "simulate_many"]
 
 _REQUEST = PathsRequestSchema()
+
+
+@contextlib.contextmanager
+def _no_cyclic_gc():
+    """Pause the cyclic garbage collector while a batch builds millions of small objects.
+
+    Nothing here creates reference cycles, and the collector's repeated passes over the
+    growing heap otherwise cost more than the model (measured: 1.2 s of 1.6 s for 2,000
+    scenarios x 4 policies x 41 periods). Reference counting still frees everything.
+    """
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if enabled:
+            gc.enable()
 
 
 def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
@@ -36,13 +54,15 @@ def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
 
 
 def scenario_id(scenario: engine.Scenario) -> str:
-    """Hex sha-256 of the normalised scenario (defaults filled in) and the model version."""
-    canonical = json.dumps(
-        {"model_version": engine.MODEL_VERSION, "scenario": dataclasses.asdict(scenario)},
-        sort_keys=True,
-        separators=(",", ":"),
+    """Hex sha-256 of the normalised scenario (defaults filled in) and the model version.
+
+    orjson writes the frozen dataclasses field by field in a fixed order (dict keys sorted),
+    so equal scenarios give equal bytes.
+    """
+    canonical = orjson.dumps(
+        {"model_version": engine.MODEL_VERSION, "scenario": scenario}, option=orjson.OPT_SORT_KEYS
     )
-    return hashlib.sha256(canonical.encode()).hexdigest()
+    return hashlib.sha256(canonical).hexdigest()
 
 
 def render(
@@ -55,7 +75,7 @@ def render(
     """
 
     def out(a):
-        return a.tolist() if lists else a
+        return a.tolist() if lists and not isinstance(a, list) else a
 
     return {
         "scenario_id": sid,
@@ -66,7 +86,7 @@ def render(
         "paths": [
             {"name": p.name, "kind": p.kind, **{k: out(v) for k, v in p.series.items()}} for p in result.paths
         ],
-        "summary": [dataclasses.asdict(s) for s in result.summary],
+        "summary": [dict(s.__dict__) for s in result.summary],
         "cautions": list(result.cautions),
     }
 
@@ -75,7 +95,7 @@ def compute(
     scenarios: Sequence[engine.Scenario], prefixes: Sequence[str] | None = None, lists: bool = True
 ) -> list[dict[str, Any]]:
     """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order."""
-    outcomes = engine.simulate(scenarios)
+    outcomes = engine.simulate(scenarios, as_lists=lists)
     out: list[dict[str, Any]] = []
     for i, (scenario, outcome) in enumerate(zip(scenarios, outcomes, strict=True)):
         if isinstance(outcome, engine.EngineError):
@@ -103,14 +123,15 @@ def simulate_many(requests: Sequence[Any], prefix: str = "", lists: bool = True)
     loaded: list[engine.Scenario] = []
     where: list[int] = []
     out: list[dict[str, Any] | None] = [None] * len(requests)
-    for i, request in enumerate(requests):
-        try:
-            loaded.append(load_scenario(request, prefix.format(i=i)))
-            where.append(i)
-        except ProblemError as error:
-            out[i] = error.problem
-    if loaded:
-        bodies = compute(loaded, [prefix.format(i=i) for i in where], lists)
-        for i, body in zip(where, bodies, strict=True):
-            out[i] = body
+    with _no_cyclic_gc():
+        for i, request in enumerate(requests):
+            try:
+                loaded.append(load_scenario(request, prefix.format(i=i)))
+                where.append(i)
+            except ProblemError as error:
+                out[i] = error.problem
+        if loaded:
+            bodies = compute(loaded, [prefix.format(i=i) for i in where], lists)
+            for i, body in zip(where, bodies, strict=True):
+                out[i] = body
     return [b for b in out if b is not None]

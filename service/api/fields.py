@@ -183,7 +183,13 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
     if isinstance(field, Either):
         return {"oneOf": [self.resolve_nested_schema(schema) for schema in field.schemas]}
     if isinstance(field, AnyObject):
-        return self.resolve_nested_schema(field.schema)
+        # Any object is accepted here; it is validated later on its own (e.g. one batch
+        # scenario, whose problems are answered in its place), so the document says so.
+        name = self.resolve_nested_schema(field.schema)["$ref"].rsplit("/", 1)[-1]
+        return {
+            "type": "object",
+            "description": f"Validated on its own as {name}; if invalid, its result is a problem.",
+        }
     if isinstance(field, NumberOrConstant):
         return {"oneOf": [self.field2property(field.number), {"type": "string", "const": field.constant}]}
     if isinstance(field, NumberOrList):

@@ -219,8 +219,8 @@ class GeometricScheduleSchema(_Strict):
         metadata={"description": "Nerlove adjustment coefficient lambda in (0, 1]."},
     )
     half_life = Real(
-        validate=_range(0.0, float(MAX_PERIOD), low_ok=False),
-        metadata={"description": "Periods to close half the gap (lambda = 1 - 0.5^(1/h))."},
+        validate=_range(0.001, float(MAX_PERIOD)),
+        metadata={"description": "Periods to close half the gap (lambda = 1 - 0.5^(1/h)), at least 0.001."},
     )
 
     @validates_schema

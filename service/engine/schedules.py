@@ -30,7 +30,8 @@ SCHEDULE_CODES = {"constant": 0, "linear": 1, "geometric": 2, "explicit": 3}
 
 def rate_from_half_life(half_life: np.ndarray | float) -> np.ndarray:
     """Adjustment coefficient lambda with (1 - lambda)^h = 1/2; h in periods, > 0."""
-    return -np.expm1(np.log(0.5) / np.asarray(half_life, dtype=float))
+    with np.errstate(over="ignore"):  # a tiny half-life means lambda = 1 (-expm1(-inf) = 1)
+        return -np.expm1(np.log(0.5) / np.asarray(half_life, dtype=float))
 
 
 def half_life_from_rate(rate: np.ndarray | float) -> np.ndarray:

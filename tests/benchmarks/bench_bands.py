@@ -14,7 +14,6 @@ import argparse
 import copy
 import json
 import platform
-import resource
 import subprocess
 import sys
 import time
@@ -40,7 +39,12 @@ def _child(draws: int, threads: int) -> None:
     start = time.perf_counter()
     bands(request, threads=threads)
     seconds = time.perf_counter() - start
-    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    # VmHWM, not ru_maxrss: on Linux a child's ru_maxrss starts at its parent's size at fork.
+    peak = next(
+        int(line.split()[1]) / 1024
+        for line in open("/proc/self/status", encoding="ascii")
+        if line.startswith("VmHWM:")
+    )
     print(json.dumps({"seconds": seconds, "peak_mib": peak}))
 
 

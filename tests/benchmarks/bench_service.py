@@ -1,0 +1,277 @@
+"""Benchmarks of the service, printed side by side as ratios taken in one run.
+
+    .venv/bin/python -m tests.benchmarks.bench_service [--scenarios 10000] [--seconds 10]
+
+1. Engine throughput: scenarios x 40 periods x 4 policies (a growth-capped ceiling and a
+   constant-elasticity unit tax among them) through service.simulate_many, against the scalar
+   reference of tests/reference.py (brentq roots, quad welfare, a Python loop) on a sample.
+2. HTTP: requests per second and p50/p99 latency of POST /v1/paths (a demo scenario, 20
+   periods, 4 policies) under the production gunicorn configuration, against a bare endpoint
+   of the same app that only parses and echoes the body, both driven by wrk.
+3. Batch: scenarios per second through POST /v1/paths/batch at the largest batch, over HTTP.
+4. Bands: 100,000 draws x 40 periods x 3 policies (tests/benchmarks/bench_bands.py).
+5. Memory: peak resident memory of each gunicorn worker after the runs above.
+
+Needs wrk (Debian package `wrk`). Loopback only, bounded in time. Prints figures; asserts nothing.
+"""
+
+from __future__ import annotations
+
+import argparse
+import copy
+import http.client
+import json
+import os
+import platform
+import re
+import shutil
+import signal
+import socket
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def engine_scenarios(n: int, seed: int = 0) -> list[dict]:
+    from service.examples import example_request
+
+    rng = np.random.default_rng(seed)
+    base = example_request("vellmar-bay-transfer-tax")  # constant elasticity
+    base["horizon"] = 40
+    base["policies"] = [
+        {"name": "free market", "kind": "none"},
+        {"name": "3% cap", "kind": "price_ceiling", "growth": 0.03},
+        {"name": "levy", "kind": "unit_tax", "amount": 60},
+        {"name": "permits", "kind": "quantity_cap", "level": 19000},
+    ]
+    out = []
+    for _ in range(n):
+        r = copy.deepcopy(base)
+        r["market"]["price"] = float(rng.uniform(1500, 2500))
+        r["market"]["demand"]["price_elasticity"] = float(rng.uniform(-1.2, -0.3))
+        r["market"]["supply"]["long_run_elasticity"] = float(rng.uniform(0.8, 3.0))
+        out.append(r)
+    return out
+
+
+def bench_engine(n: int, sample: int) -> dict:
+    from service import engine, simulate_many
+    from service.simulation import load_scenario
+
+    from .. import reference
+
+    requests = engine_scenarios(n)
+    simulate_many(requests[:100])  # warm up
+    start = time.perf_counter()
+    bodies = simulate_many(requests)
+    seconds = time.perf_counter() - start
+    assert all("scenario_id" in b for b in bodies)
+    scenarios = [load_scenario(r) for r in requests]
+    start = time.perf_counter()
+    engine.simulate(scenarios)
+    engine_only = time.perf_counter() - start
+    start = time.perf_counter()
+    for r in requests[:sample]:
+        reference.paths(r)
+    scalar = (time.perf_counter() - start) / sample
+    return {
+        "per_second": n / seconds,
+        "engine_per_second": n / engine_only,
+        "scalar_per_second": 1.0 / scalar,
+    }
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+class Server:
+    """gunicorn with the production configuration on a free loopback port."""
+
+    def __init__(self):
+        self.port = _free_port()
+        self.metrics = tempfile.mkdtemp(prefix="shockpath-bench-")
+        env = {
+            **os.environ,
+            "SHOCKPATH_BIND": f"127.0.0.1:{self.port}",
+            "SHOCKPATH_BENCHMARK_ECHO": "true",
+            "SHOCKPATH_LOG_LEVEL": "WARNING",
+            "PROMETHEUS_MULTIPROC_DIR": self.metrics,
+        }
+        gunicorn = Path(sys.executable).with_name("gunicorn")
+        self.process = subprocess.Popen(
+            [str(gunicorn), "--config", "deploy/gunicorn.conf.py", "service:create_app()"],
+            cwd=ROOT,
+            env=env,
+            stdout=subprocess.DEVNULL,
+            stderr=subprocess.DEVNULL,
+        )
+        deadline = time.monotonic() + 30
+        while time.monotonic() < deadline:
+            try:
+                if self.request("GET", "/readyz")[0] == 200:
+                    return
+            except OSError:
+                time.sleep(0.2)
+        raise RuntimeError("gunicorn did not start")
+
+    def request(self, method: str, path: str, body: bytes | None = None):
+        conn = http.client.HTTPConnection("127.0.0.1", self.port, timeout=120)
+        conn.request(method, path, body=body, headers={"Content-Type": "application/json"})
+        response = conn.getresponse()
+        out = response.status, response.read()
+        conn.close()
+        return out
+
+    def workers(self) -> list[int]:
+        children = Path(f"/proc/{self.process.pid}/task/{self.process.pid}/children").read_text().split()
+        return [int(c) for c in children]
+
+    def stop(self) -> None:
+        self.process.send_signal(signal.SIGTERM)
+        self.process.wait(timeout=60)
+        shutil.rmtree(self.metrics, ignore_errors=True)
+
+
+def _peak_rss_mib(pid: int) -> float:
+    for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def wrk(port: int, path: str, body: bytes, seconds: int) -> dict:
+    with tempfile.TemporaryDirectory() as folder:
+        payload = Path(folder) / "body.json"
+        payload.write_bytes(body)
+        script = Path(folder) / "post.lua"
+        script.write_text(
+            'wrk.method = "POST"\n'
+            'wrk.headers["Content-Type"] = "application/json"\n'
+            f'local f = io.open("{payload}", "rb")\nwrk.body = f:read("*a")\nf:close()\n'
+        )
+        out = subprocess.run(
+            [
+                "wrk",
+                "-t2",
+                "-c4",
+                f"-d{seconds}s",
+                "--latency",
+                "-s",
+                str(script),
+                f"http://127.0.0.1:{port}{path}",
+            ],
+            capture_output=True,
+            text=True,
+            check=True,
+        ).stdout
+
+    def latency(label: str) -> float:
+        match = re.search(rf"^\s*{label}%\s+([\d.]+)(us|ms|s)", out, re.M)
+        value, unit = float(match.group(1)), match.group(2)
+        return value * {"us": 1e-3, "ms": 1.0, "s": 1e3}[unit]
+
+    rps = float(re.search(r"Requests/sec:\s+([\d.]+)", out).group(1))
+    non_2xx = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", out)
+    return {
+        "rps": rps,
+        "p50_ms": latency("50"),
+        "p99_ms": latency("99"),
+        "non_2xx": int(non_2xx.group(1)) if non_2xx else 0,
+    }
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--scenarios", type=int, default=10_000)
+    parser.add_argument("--sample", type=int, default=100)
+    parser.add_argument("--seconds", type=int, default=10)
+    parser.add_argument("--draws", type=int, default=100_000)
+    args = parser.parse_args()
+    if shutil.which("wrk") is None:
+        sys.exit("wrk is needed: apt-get install wrk")
+
+    from service import limits
+    from service.examples import example_request
+
+    from .bench_bands import _run as run_bands
+
+    engine_figures = bench_engine(args.scenarios, args.sample)
+
+    typical = example_request("contract-example")
+    typical["horizon"] = 20
+    typical["policies"] = [typical["policies"][i] for i in (0, 1, 4, 7)]
+    body = json.dumps(typical).encode()
+    batch_size = limits.MAX_BATCH_SCENARIOS
+    batch_body = json.dumps({"scenarios": [typical] * batch_size}).encode()
+
+    server = Server()
+    try:
+        paths = wrk(server.port, "/v1/paths", body, args.seconds)
+        echo = wrk(server.port, "/benchmark/echo", body, args.seconds)
+        times = []
+        for _ in range(5):
+            start = time.perf_counter()
+            status, _ = server.request("POST", "/v1/paths/batch", batch_body)
+            times.append(time.perf_counter() - start)
+            assert status == 200
+        batch_rate = batch_size / float(np.median(times))
+        bands = run_bands(args.draws, 2)
+        # One bands request through the server too, so the workers' peaks include it.
+        uncertain = example_request("quillbrook-uncertain-elasticities")
+        uncertain.update(horizon=40, draws=args.draws)
+        server.request("POST", "/v1/bands", json.dumps(uncertain).encode())
+        peaks = [_peak_rss_mib(pid) for pid in server.workers()]
+    finally:
+        server.stop()
+
+    rows = [
+        (
+            "1. simulate_many, scenarios/s (validate + solve + render)",
+            engine_figures["per_second"],
+            engine_figures["scalar_per_second"],
+            ">= 30",
+        ),
+        (
+            "   engine alone on validated scenarios, scenarios/s",
+            engine_figures["engine_per_second"],
+            engine_figures["scalar_per_second"],
+            "",
+        ),
+        ("2. POST /v1/paths vs bare echo, requests/s", paths["rps"], echo["rps"], ">= 0.4"),
+        ("   p50 latency, ms", paths["p50_ms"], echo["p50_ms"], ""),
+        ("   p99 latency, ms", paths["p99_ms"], echo["p99_ms"], ""),
+        ("3. POST /v1/paths/batch (1,000 scenarios), scenarios/s", batch_rate, None, ""),
+        ("4. bands 100,000 x 41 x 3, seconds (2 threads)", bands["seconds"], None, "< 2"),
+        ("   bands peak resident memory, MiB", bands["peak_mib"], None, "< 1024"),
+        ("5. peak resident memory per worker after the runs, MiB", max(peaks), None, ""),
+    ]
+    print(
+        f"machine: {platform.machine()}, {os.cpu_count()} cores, "
+        f"Python {platform.python_version()}, numpy {np.__version__}"
+    )
+    print(
+        f"engine: {args.scenarios:,} scenarios x 41 periods x 4 policies; scalar reference on {args.sample}"
+    )
+    print(f"HTTP: wrk -t2 -c4 -d{args.seconds}s, gunicorn deploy/gunicorn.conf.py ({len(peaks)} workers)")
+    print(f"{'figure':58} {'shockpath':>11} {'comparison':>11} {'ratio':>8} {'target':>7}")
+    for name, value, other, target in rows:
+        ratio = f"{value / other:8.2f}" if other else f"{'':8}"
+        other_text = f"{other:11.2f}" if other else f"{'':11}"
+        print(f"{name:58} {value:11.2f} {other_text} {ratio} {target:>7}")
+    print(
+        f"non-2xx: paths {paths['non_2xx']}, echo {echo['non_2xx']}; "
+        f"worker peaks MiB: {[round(p) for p in peaks]}"
+    )
+
+
+if __name__ == "__main__":
+    main()
