@@ -1,0 +1,258 @@
+"""Load and fault test: gunicorn under wrk with a mix of demo scenarios, one worker killed.
+
+    .venv/bin/python deploy/loadtest.py --seconds 60            # the long run (README figures)
+    .venv/bin/python deploy/loadtest.py --seconds 8 --check     # the short run CI asserts on
+
+Starts gunicorn with deploy/gunicorn.conf.py on a free loopback port, warms it up, drives it
+with wrk (2 threads, 4 connections) for a fixed time, SIGKILLs one worker half-way, and
+reports requests, throughput, p50/p99 latency, non-2xx responses, socket errors (requests lost
+with the killed worker), whether the master replaced it, and the workers' resident memory at
+start and end. Afterwards every demo scenario is posted once and compared with
+service.simulate. Loopback only; bounded by --seconds; stops gunicorn itself.
+"""
+
+from __future__ import annotations
+
+import argparse
+import http.client
+import json
+import os
+import re
+import shutil
+import signal
+import socket
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+CONNECTIONS = 4
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def request(port: int, method: str, path: str, body: bytes | None = None, timeout: float = 60):
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=timeout)
+    conn.request(method, path, body=body, headers={"Content-Type": "application/json"})
+    response = conn.getresponse()
+    out = response.status, response.read()
+    conn.close()
+    return out
+
+
+def workers(master: int) -> list[int]:
+    return sorted(int(p) for p in Path(f"/proc/{master}/task/{master}/children").read_text().split())
+
+
+def rss_mib(pid: int) -> float:
+    for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+        if line.startswith("VmRSS:"):
+            return int(line.split()[1]) / 1024
+    return 0.0
+
+
+def start_gunicorn(port: int, metrics_dir: str) -> subprocess.Popen:
+    env = {
+        **os.environ,
+        "SHOCKPATH_BIND": f"127.0.0.1:{port}",
+        "SHOCKPATH_WORKERS": "2",
+        "SHOCKPATH_LOG_LEVEL": "WARNING",
+        "PROMETHEUS_MULTIPROC_DIR": metrics_dir,
+    }
+    process = subprocess.Popen(
+        [
+            str(Path(sys.executable).with_name("gunicorn")),
+            "--config",
+            "deploy/gunicorn.conf.py",
+            "service:create_app()",
+        ],
+        cwd=ROOT,
+        env=env,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+    )
+    deadline = time.monotonic() + 30
+    while time.monotonic() < deadline:
+        try:
+            if request(port, "GET", "/readyz", timeout=2)[0] == 200 and len(workers(process.pid)) == 2:
+                return process
+        except OSError:
+            pass
+        time.sleep(0.2)
+    process.kill()
+    raise RuntimeError("gunicorn did not start")
+
+
+def demo_bodies() -> list[bytes]:
+    from service.examples import examples
+
+    return [
+        json.dumps(e["request"]).encode()
+        for e in examples().values()
+        if e.get("endpoint", "/v1/paths") == "/v1/paths"
+    ]
+
+
+def wrk_script(folder: Path, bodies: list[bytes]) -> Path:
+    files = []
+    for i, body in enumerate(bodies):
+        path = folder / f"body{i}.json"
+        path.write_bytes(body)
+        files.append(str(path))
+    lua = folder / "mix.lua"
+    lua.write_text(
+        "local bodies = {}\n"
+        + "".join(
+            f'do local f = io.open("{p}", "rb"); bodies[#bodies + 1] = f:read("*a"); f:close() end\n'
+            for p in files
+        )
+        + "local i = 0\n"
+        "request = function()\n"
+        "  i = i % #bodies + 1\n"
+        '  return wrk.format("POST", "/v1/paths", {["Content-Type"] = "application/json"}, bodies[i])\n'
+        "end\n"
+    )
+    return lua
+
+
+def parse_wrk(text: str) -> dict:
+    def latency(label: str) -> float:
+        m = re.search(rf"^\s*{label}%\s+([\d.]+)(us|ms|s)\b", text, re.M)
+        return float(m.group(1)) * {"us": 1e-3, "ms": 1.0, "s": 1e3}[m.group(2)]
+
+    sockets = re.search(r"Socket errors: connect (\d+), read (\d+), write (\d+), timeout (\d+)", text)
+    non_2xx = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", text)
+    return {
+        "requests": int(re.search(r"(\d+) requests in", text).group(1)),
+        "rps": float(re.search(r"Requests/sec:\s+([\d.]+)", text).group(1)),
+        "p50_ms": latency("50"),
+        "p99_ms": latency("99"),
+        "non_2xx": int(non_2xx.group(1)) if non_2xx else 0,
+        "socket_errors": sum(int(x) for x in sockets.groups()) if sockets else 0,
+    }
+
+
+def run(seconds: int) -> dict:
+    if shutil.which("wrk") is None:
+        raise SystemExit("wrk is needed (Debian package wrk)")
+    port = free_port()
+    metrics_dir = tempfile.mkdtemp(prefix="shockpath-load-")
+    process = start_gunicorn(port, metrics_dir)
+    try:
+        bodies = demo_bodies()
+        for _ in range(20):  # warm both workers before measuring memory
+            for body in bodies:
+                request(port, "POST", "/v1/paths", body)
+        before = {pid: rss_mib(pid) for pid in workers(process.pid)}
+        with tempfile.TemporaryDirectory() as folder:
+            script = wrk_script(Path(folder), bodies)
+            wrk = subprocess.Popen(
+                [
+                    "wrk",
+                    "-t2",
+                    f"-c{CONNECTIONS}",
+                    f"-d{seconds}s",
+                    "--latency",
+                    "-s",
+                    str(script),
+                    f"http://127.0.0.1:{port}",
+                ],
+                stdout=subprocess.PIPE,
+                text=True,
+            )
+            time.sleep(seconds / 2)
+            victim = workers(process.pid)[0]
+            os.kill(victim, signal.SIGKILL)
+            output, _ = wrk.communicate(timeout=seconds + 60)
+        deadline = time.monotonic() + 20
+        while time.monotonic() < deadline and (
+            len(workers(process.pid)) < 2 or victim in workers(process.pid)
+        ):
+            time.sleep(0.2)
+        after_workers = workers(process.pid)
+        survivor = next(pid for pid in before if pid != victim)
+        after = {pid: rss_mib(pid) for pid in after_workers}
+        mismatches = 0
+        from service import simulate
+
+        for body in bodies:
+            status, data = request(port, "POST", "/v1/paths", body)
+            if status != 200 or json.loads(data) != simulate(json.loads(body)):
+                mismatches += 1
+        result = parse_wrk(output)
+        result.update(
+            killed=victim,
+            replaced=len(after_workers) == 2 and victim not in after_workers,
+            rss_start_mib=before,
+            rss_end_mib=after,
+            survivor_growth=(after.get(survivor, 0.0) / before[survivor]) - 1.0
+            if survivor in after
+            else None,
+            sampled=len(bodies),
+            mismatches=mismatches,
+        )
+        return result
+    finally:
+        process.send_signal(signal.SIGTERM)
+        try:
+            process.wait(timeout=40)
+        except subprocess.TimeoutExpired:
+            process.kill()
+        shutil.rmtree(metrics_dir, ignore_errors=True)
+
+
+def graceful_shutdown() -> dict:
+    """A long request in flight when the master gets SIGTERM still gets its whole answer."""
+    from service.examples import example_request
+
+    port = free_port()
+    metrics_dir = tempfile.mkdtemp(prefix="shockpath-term-")
+    process = start_gunicorn(port, metrics_dir)
+    body = example_request("quillbrook-uncertain-elasticities")
+    body.update(draws=100_000, horizon=40)
+    result: dict = {}
+
+    def call():
+        status, data = request(port, "POST", "/v1/bands", json.dumps(body).encode())
+        result["status"] = status
+        result["complete"] = "bands" in json.loads(data)
+
+    thread = threading.Thread(target=call)
+    thread.start()
+    time.sleep(0.7)
+    process.send_signal(signal.SIGTERM)
+    thread.join(timeout=60)
+    result["exit_code"] = process.wait(timeout=60)
+    shutil.rmtree(metrics_dir, ignore_errors=True)
+    return result
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--seconds", type=int, default=60)
+    parser.add_argument("--check", action="store_true", help="assert the short run's expectations")
+    args = parser.parse_args()
+    result = run(args.seconds)
+    term = graceful_shutdown()
+    print(json.dumps({"load": result, "sigterm": term}, indent=2, default=str))
+    if args.check:
+        assert result["non_2xx"] == 0, result
+        assert result["socket_errors"] <= CONNECTIONS, result  # at most the killed worker's connections
+        assert result["replaced"], result
+        assert result["survivor_growth"] is not None and result["survivor_growth"] < 0.20, result
+        assert result["mismatches"] == 0, result
+        assert term == {"status": 200, "complete": True, "exit_code": 0}, term
+        print("load and fault checks passed")
+
+
+if __name__ == "__main__":
+    main()
