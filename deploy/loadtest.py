@@ -193,9 +193,8 @@ def run(seconds: int) -> dict:
             replaced=len(after_workers) == 2 and victim not in after_workers,
             rss_start_mib=before,
             rss_end_mib=after,
-            survivor_growth=(after.get(survivor, 0.0) / before[survivor]) - 1.0
-            if survivor in after
-            else None,
+            # Workers may be recycled (max_requests) or replaced: compare the largest at each end.
+            memory_growth=max(after.values()) / max(before.values()) - 1.0,
             sampled=len(bodies),
             mismatches=mismatches,
         )

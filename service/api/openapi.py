@@ -17,6 +17,7 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 
 from .. import limits
 from ..engine import MODEL_VERSION
+from .chart_schemas import ChartRequestSchema
 from .fields import openapi_attributes
 from .responses import (
     BandsResponseSchema,
@@ -60,6 +61,7 @@ _SCHEMAS = {
     "BandsResponse": BandsResponseSchema,
     "SensitivityRequest": SensitivityRequestSchema,
     "SensitivityResponse": SensitivityResponseSchema,
+    "ChartRequest": ChartRequestSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
 }
@@ -100,6 +102,10 @@ def _schema_name(schema) -> str:
 def _content(kind: str) -> dict[str, Any]:
     if kind == "csv":
         return {"schema": {"type": "string"}}
+    if kind == "text":
+        return {"schema": {"type": "string"}}
+    if kind == "image":
+        return {"schema": {"type": "string", "format": "binary"}}
     if kind == "ExampleRequest":
         refs = ["PathsRequest", "BandsRequest"]
         return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{r}"} for r in refs]}}

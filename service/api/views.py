@@ -6,6 +6,7 @@ and response bodies it names are the marshmallow schemas themselves.
 
 from __future__ import annotations
 
+from importlib import resources
 from typing import Any
 
 from flask import Blueprint, Response, current_app, g, request, url_for
@@ -18,6 +19,7 @@ from ..metrics import DRAWS, SCENARIOS
 from ..problems import ProblemError, problem, validation_problem
 from ..simulation import compute, load_scenario, scenario_id, simulate_many
 from ..uncertain import bands, sensitivity
+from .chart_schemas import ChartRequestSchema
 from .csv_output import paths_csv
 from .jsonio import json_response, read_json
 from .schemas import BatchRequestSchema
@@ -125,6 +127,70 @@ def post_sensitivity() -> Response:
     return json_response(body)
 
 
+_CHART = ChartRequestSchema()
+_IMAGE = {"svg": "image/svg+xml", "png": "image/png"}
+
+
+def _under(prefix: str, error: ProblemError) -> ProblemError:
+    """The same problem with its pointers moved under `prefix` (the chart's scenario)."""
+    document = dict(error.problem)
+    if "errors" in document:
+        document["errors"] = [dict(e, pointer=prefix + e["pointer"]) for e in document["errors"]]
+    return ProblemError(document)
+
+
+@blueprint.post("/v1/charts")
+def post_chart() -> Response:
+    from .. import charts
+
+    body = read_json()
+    if not isinstance(body, dict):
+        raise ProblemError(validation_problem(["Must be a JSON object."]))
+    try:
+        spec = _CHART.load(body)
+    except ValidationError as error:
+        raise ProblemError(validation_problem(error.messages)) from None
+    fmt = spec.get("format")
+    if fmt is None:
+        best = (
+            request.accept_mimetypes.best_match(["image/svg+xml", "image/png"])
+            if request.accept_mimetypes
+            else None
+        )
+        if request.accept_mimetypes and best is None:
+            raise ProblemError(problem(406, "Not Acceptable", "Charts are image/svg+xml or image/png."))
+        fmt = "png" if best == "image/png" else "svg"
+    if not charts.available():
+        raise ProblemError(problem(503, "Service Unavailable", "Charts need the charts extra (matplotlib)."))
+    scenario = spec["scenario"]
+    form = (
+        scenario.get("market", {}).get("form", "linear")
+        if isinstance(scenario.get("market"), dict)
+        else "linear"
+    )
+    try:
+        if spec["chart"] == "paths":
+            result = simulate_many([scenario])[0]
+            if "status" in result:
+                raise ProblemError(result)
+            image = charts.render_paths(result, spec["units"], fmt, form, spec.get("title"))
+        elif spec["chart"] == "bands":
+            threads = current_app.extensions["shockpath.settings"].band_threads
+            result = bands(scenario, threads=threads)
+            image = charts.render_bands(result, spec["units"], fmt, form, spec.get("title"))
+        else:
+            result = sensitivity(scenario)
+            image = charts.render_sensitivity(
+                result, spec["units"], fmt, form, spec.get("policy"), spec.get("title")
+            )
+    except ProblemError as error:
+        raise _under("/scenario", error) from None
+    g.scenario_id = result["scenario_id"]
+    response = Response(image, mimetype=_IMAGE[fmt])
+    response.vary.add("Accept")
+    return response
+
+
 @blueprint.get("/v1/examples")
 def list_examples() -> Response:
     items = [
@@ -146,6 +212,26 @@ def get_example(name: str) -> Response:
     if body is None:
         raise ProblemError(problem(404, "Not Found", f"No example named '{name}'."))
     return json_response(body)
+
+
+_PAGE_FILES = {"style.css": "text/css", "app.js": "text/javascript"}
+
+
+def _page_file(name: str) -> bytes:
+    return (resources.files("service") / "web" / name).read_bytes()
+
+
+@blueprint.get("/")
+def page() -> Response:
+    """The built-in page to try scenarios (no build step, no outside network)."""
+    return Response(_page_file("index.html"), mimetype="text/html")
+
+
+@blueprint.get("/ui/<name>")
+def page_file(name: str) -> Response:
+    if name not in _PAGE_FILES:
+        raise ProblemError(problem(404, "Not Found", "No such page file."))
+    return Response(_page_file(name), mimetype=_PAGE_FILES[name])
 
 
 @blueprint.get("/healthz")
@@ -256,6 +342,21 @@ OPERATIONS: list[dict[str, Any]] = [
         },
     },
     {
+        "path": "/v1/charts",
+        "method": "post",
+        "operationId": "postChart",
+        "summary": "A chart of paths, bands or sensitivity as SVG or PNG",
+        "request": "ChartRequest",
+        "responses": {
+            "200": {
+                "description": "The chart (1200 x 900 px).",
+                "content": {"image/svg+xml": "image", "image/png": "image"},
+            },
+            **_problems("400", "406", "413", "415", "422"),
+            "503": {"description": "The charts extra (matplotlib) is not installed.", "problem": True},
+        },
+    },
+    {
         "path": "/v1/examples",
         "method": "get",
         "operationId": "listExamples",
@@ -276,6 +377,27 @@ OPERATIONS: list[dict[str, Any]] = [
                 "content": {"application/json": "ExampleRequest"},
             },
             "404": {"description": "No such example.", "problem": True},
+        },
+    },
+    {
+        "path": "/",
+        "method": "get",
+        "operationId": "page",
+        "summary": "A page to try scenarios in a browser",
+        "responses": {"200": {"description": "HTML.", "content": {"text/html": "text"}}},
+    },
+    {
+        "path": "/ui/{name}",
+        "method": "get",
+        "operationId": "pageFile",
+        "summary": "The page's style sheet and script",
+        "path_parameters": ["name"],
+        "responses": {
+            "200": {
+                "description": "CSS or JavaScript.",
+                "content": {"text/css": "text", "text/javascript": "text"},
+            },
+            "404": {"description": "No such file.", "problem": True},
         },
     },
     {

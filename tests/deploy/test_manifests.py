@@ -83,4 +83,4 @@ def test_the_dockerfile_runs_gunicorn_as_a_non_root_user_with_a_health_check():
     assert (
         lines[-1] == 'ENTRYPOINT ["gunicorn", "--config", "deploy/gunicorn.conf.py", "service:create_app()"]'
     )
-    assert "pip install --no-cache-dir ." in text  # dependencies from pyproject.toml
+    assert "pip install --no-cache-dir '.[charts]'" in text  # dependencies from pyproject.toml
