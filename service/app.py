@@ -22,6 +22,7 @@ from .api.jsonio import json_response, problem_response, read_json
 from .api.openapi import build_document
 from .api.views import blueprint
 from .auth import key_accepted, needs_key
+from .cache import AnswerCache
 from .logs import configure_logging
 from .problems import ProblemError, problem
 from .settings import load_settings
@@ -36,6 +37,7 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.config["MAX_CONTENT_LENGTH"] = settings.max_body_bytes
     app.config["TESTING"] = bool(config and config.get("TESTING"))
     app.extensions["shockpath.settings"] = settings
+    app.extensions["shockpath.cache"] = AnswerCache(settings.cache_bytes)
     app.extensions["shockpath.openapi"] = build_document()
     app.url_map.strict_slashes = False
     log = configure_logging(settings.log_level)

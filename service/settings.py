@@ -38,6 +38,8 @@ class Settings:
     api_keys_file: str = ""
     #: Whether /metrics also needs a key when keys are configured.
     metrics_require_key: bool = False
+    #: Bytes of rendered /v1/paths answers each worker keeps for repeated requests (0: none).
+    cache_bytes: int = 64 * 1024 * 1024
     #: Serve POST /benchmark/echo (parse and echo a JSON body): the benchmarks' floor.
     benchmark_echo: bool = False
 
@@ -70,7 +72,7 @@ def _parse(name: str, raw: Any, default: Any) -> Any:
             value = int(raw)
         except (TypeError, ValueError):
             raise SettingsError(f"{_variable(name)} must be a whole number, not {raw!r}") from None
-        if value <= 0:
+        if value < 0 or (value == 0 and name != "cache_bytes"):
             raise SettingsError(f"{_variable(name)} must be positive, not {value}")
         return value
     if isinstance(default, tuple):

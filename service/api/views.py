@@ -50,8 +50,11 @@ def post_paths() -> Response:
     sid = scenario_id(scenario)
     g.scenario_id = sid
     etag = f"{sid}.csv" if as_csv else sid
+    cache = current_app.extensions["shockpath.cache"]
     if request.if_none_match.contains(etag):
         response = Response(status=304)
+    elif (cached := cache.get(etag)) is not None:
+        response = Response(cached, mimetype="text/csv" if as_csv else "application/json")
     else:
         (body,) = compute([scenario], lists=as_csv)
         SCENARIOS.labels("/v1/paths").inc()
@@ -61,6 +64,7 @@ def post_paths() -> Response:
             response = Response(paths_csv(body), mimetype="text/csv")
         else:
             response = json_response(body)
+        cache.put(etag, response.get_data())
     response.set_etag(etag)
     response.vary.add("Accept")
     return response

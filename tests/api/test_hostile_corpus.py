@@ -283,3 +283,25 @@ def test_a_batch_asking_for_more_work_than_allowed_is_422_before_any_work(client
 
 def test_the_corpus_is_large_enough():
     assert len(CASES) + len(BANDS_CASES) + 2 >= 50
+
+
+def test_the_largest_bands_request_allowed_is_answered(client):
+    from service.api.uncertainty_schemas import MAX_DRAW_CELLS
+
+    request = copy.deepcopy(UNCERTAIN)
+    request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 30})
+    request["draws"] = MAX_DRAWS
+    request["horizon"] = MAX_DRAW_CELLS // (MAX_DRAWS * 4) - 1
+    assert request["draws"] * (request["horizon"] + 1) * 4 == MAX_DRAW_CELLS
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 200
+    assert response.get_json()["draws"] == MAX_DRAWS
+
+
+def test_the_largest_batch_allowed_is_answered(client):
+    scenario = copy.deepcopy(BASE)
+    scenario["policies"] = scenario["policies"][:4]
+    scenario["horizon"] = limits.MAX_POLICY_PERIODS // (limits.MAX_BATCH_SCENARIOS * 4) - 1
+    response = client.post("/v1/paths/batch", json={"scenarios": [scenario] * limits.MAX_BATCH_SCENARIOS})
+    assert response.status_code == 200
+    assert len(response.get_json()["results"]) == limits.MAX_BATCH_SCENARIOS

@@ -73,3 +73,35 @@ def test_cautions_carry_the_lower_bound_and_the_general_warning(client, contract
     assert any("lower bound" in c for c in cautions)
     assert any("do not replace" in c for c in cautions)
     assert any("'3% cap'" in c and "Never binds" in c for c in cautions)
+
+
+def test_a_repeated_request_is_answered_from_the_cache_with_the_same_bytes(app, contract_request):
+    from service import create_app
+
+    cached = create_app({"cache_bytes": 10_000_000}).test_client()
+    first = cached.post("/v1/paths", json=contract_request)
+    calls = []
+    import service.api.views as views
+
+    original = views.compute
+    views.compute = lambda *a, **k: calls.append(1) or original(*a, **k)
+    try:
+        again = cached.post("/v1/paths", json=contract_request)
+    finally:
+        views.compute = original
+    assert calls == [] and again.data == first.data and again.headers["ETag"] == first.headers["ETag"]
+    uncached = create_app({"cache_bytes": 0}).test_client()
+    assert uncached.post("/v1/paths", json=contract_request).data == first.data
+
+
+def test_the_cache_evicts_the_least_recently_used_beyond_its_bytes():
+    from service.cache import AnswerCache
+
+    cache = AnswerCache(10)
+    cache.put("a", b"12345")
+    cache.put("b", b"12345")
+    assert cache.get("a") == b"12345"  # a is now the most recent
+    cache.put("c", b"123")
+    assert cache.get("b") is None and cache.get("a") is not None and len(cache) == 2
+    cache.put("big", b"x" * 11)
+    assert cache.get("big") is None
