@@ -20,6 +20,13 @@ settings.register_profile("thorough", max_examples=500, deadline=None)
 settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci"))
 
 
+@pytest.fixture(autouse=True)
+def floating_point_warnings_fail(monkeypatch):
+    """The engine silences floating-point warnings in service; in tests they are errors, so
+    that an overflow or invalid value on ordinary inputs fails the test that caused it."""
+    monkeypatch.setattr("service.engine.paths.FLOATING_POINT", {})
+
+
 @pytest.fixture(scope="session")
 def app():
     return create_app({"TESTING": True})
