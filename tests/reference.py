@@ -148,10 +148,15 @@ def integral(f, a: float, b: float, kinks: tuple[float, ...] = ()) -> float:
     if a == b:
         return 0.0
     lo, hi = min(a, b), max(a, b)
-    if hi - lo <= 1e-12 * hi:  # a sliver: the trapezoid is exact to rounding, quad is not
+    if hi - lo <= 1e-9 * hi:  # a sliver: the trapezoid is exact to rounding there, quad is not
         return (b - a) * 0.5 * (f(a) + f(b))
     inside = [k for k in kinks if lo < k < hi]
-    value = quad(f, lo, hi, points=inside or None, **QUAD)[0]
+    # An absolute tolerance on the scale of the integrand, so that an integral near zero
+    # (where the relative one cannot be met in floating point) still converges cleanly.
+    width = hi - lo
+    scale = max(abs(f(lo + x * width)) for x in (0.25, 0.5, 0.75)) * width  # inside: f(0) may be infinite
+    options = dict(QUAD, epsabs=1e-12 * scale)
+    value = quad(f, lo, hi, points=inside or None, **options)[0]
     return value if a < b else -value
 
 

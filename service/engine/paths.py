@@ -198,7 +198,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     cumulative = np.cumsum(dwl, axis=1)
     discounted = np.cumsum(dwl * factor[s_of], axis=1)
 
-    is_ceiling = np.isin(rows.kind, CEILING_KINDS)
+    is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
     unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
 

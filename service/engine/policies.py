@@ -123,7 +123,9 @@ def _price_floor(curves, price, quantity, level, active):
         shortage=np.zeros_like(price),
         excess_supply=supplied - demanded,
         marginal_value=floor,
-        marginal_cost=curves.inverse_supply(demanded),
+        # min(.., Q*): equal where the floor binds (Q < Q*); elsewhere it keeps a steep
+        # inverse from overflowing on a value that is not reported.
+        marginal_cost=curves.inverse_supply(np.minimum(demanded, quantity)),
         binding=binding,
         rationed=np.zeros_like(binding),
     )
@@ -179,7 +181,7 @@ def _quantity_cap(curves, price, quantity, level, active):
         shortage=np.zeros_like(price),
         excess_supply=supplied - cap,
         marginal_value=consumer,
-        marginal_cost=curves.inverse_supply(cap),
+        marginal_cost=curves.inverse_supply(np.minimum(cap, quantity)),  # as in the floor
         binding=binding,
         rationed=np.zeros_like(binding),
     )

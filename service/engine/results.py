@@ -252,7 +252,7 @@ def assemble(
     )
     largest, largest_at = _largest_shock(batch, arrays)
     price_gap, price_gap_at, quantity_gap = _gaps(arrays)
-    is_ceiling = np.isin(rows.kind, CEILING_KINDS)
+    is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
     results: list[ScenarioResult | EngineError] = []

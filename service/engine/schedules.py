@@ -54,13 +54,18 @@ def adjustment_weights(
     Constant and explicit schedules get w = 0 (their elasticities come from elsewhere).
     """
     lag = np.maximum(np.arange(horizon + 1) - 1, 0)[None, :]
-    k = periods[:, None].astype(float)
-    linear = np.where(k > 0, np.minimum(lag / np.where(k > 0, k, 1.0), 1.0), 1.0)
-    full = rate >= 1.0
-    geometric = -np.expm1(lag * np.log1p(-np.where(full, 0.0, rate))[:, None])
-    geometric = np.where(full[:, None], (lag > 0).astype(float), geometric)
-    code = schedule[:, None]
-    weights = np.select([code == 1, code == 2], [linear, geometric], 0.0)
+    weights = np.zeros((schedule.shape[0], horizon + 1))
+    is_linear = schedule == SCHEDULE_CODES["linear"]
+    is_geometric = schedule == SCHEDULE_CODES["geometric"]
+    if is_linear.any():  # computed only for the schedules a batch has
+        k = periods[:, None].astype(float)
+        linear = np.where(k > 0, np.minimum(lag / np.where(k > 0, k, 1.0), 1.0), 1.0)
+        weights = np.where(is_linear[:, None], linear, weights)
+    if is_geometric.any():
+        full = rate >= 1.0
+        geometric = -np.expm1(lag * np.log1p(-np.where(full, 0.0, rate))[:, None])
+        geometric = np.where(full[:, None], (lag > 0).astype(float), geometric)
+        weights = np.where(is_geometric[:, None], geometric, weights)
     weights[:, 0] = 0.0
     return weights
 

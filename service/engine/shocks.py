@@ -50,24 +50,26 @@ def shock_paths(
     start = start[:, None]
     after_start = t >= start
     code = profile[:, None]
+    paths = np.zeros((profile.shape[0], horizon + 1))
+    too_large = np.zeros(profile.shape[0], dtype=bool)
+    present = set(np.unique(profile).tolist())  # compute only the profiles the shocks use
 
-    step = np.where(after_start, change[:, None], 0.0)
-    ramp_share = np.clip((t - start + 1) / np.maximum(ramp_periods, 1)[:, None], 0.0, 1.0)
-    ramp = change[:, None] * ramp_share
-
-    log_growth = (t - start + 1) * np.log1p(rate)[:, None]
-    too_large = ((log_growth > _MAX_LOG_GROWTH) & after_start & (code == 2)).any(axis=1)
-    growth = np.where(after_start, np.expm1(np.minimum(log_growth, _MAX_LOG_GROWTH)), 0.0)
-
-    if values.shape[1] == 0:
-        explicit = np.zeros((profile.shape[0], horizon + 1))
-    else:
+    if PROFILE_CODES["step"] in present:
+        paths = np.where(code == PROFILE_CODES["step"], np.where(after_start, change[:, None], 0.0), paths)
+    if PROFILE_CODES["ramp"] in present:
+        share = np.clip((t - start + 1) / np.maximum(ramp_periods, 1)[:, None], 0.0, 1.0)
+        paths = np.where(code == PROFILE_CODES["ramp"], change[:, None] * share, paths)
+    if PROFILE_CODES["growth"] in present:
+        log_growth = (t - start + 1) * np.log1p(rate)[:, None]
+        growing = code == PROFILE_CODES["growth"]
+        too_large = ((log_growth > _MAX_LOG_GROWTH) & after_start & growing).any(axis=1)
+        growth = np.where(after_start, np.expm1(np.minimum(log_growth, _MAX_LOG_GROWTH)), 0.0)
+        paths = np.where(growing, growth, paths)
+    if PROFILE_CODES["path"] in present and values.shape[1] > 0:
         last = np.maximum(value_count, 1)[:, None] - 1
         column = np.minimum(np.maximum(t - 1, 0), last)
-        explicit = np.take_along_axis(values, column, axis=1)
-        explicit = np.where(t >= 1, explicit, 0.0)
-
-    paths = np.select([code == 0, code == 1, code == 2], [step, ramp, growth], explicit)
+        explicit = np.where(t >= 1, np.take_along_axis(values, column, axis=1), 0.0)
+        paths = np.where(code == PROFILE_CODES["path"], explicit, paths)
     return paths, too_large
 
 
