@@ -2,7 +2,7 @@
 "use strict";
 
 const $ = (id) => document.getElementById(id);
-const state = { request: null, objectUrls: [] };
+const state = { request: null, objectUrls: [], endpoint: "/v1/paths", endpoints: {} };
 const MAIN_VALUE = { price_ceiling: ["level", "growth"], price_floor: ["level"], quantity_cap: ["level"],
   unit_tax: ["amount"], unit_subsidy: ["amount"], ad_valorem_tax: ["rate"], none: [] };
 const SHOCK_VALUE = { step: "change", ramp: "change", growth: "rate", path: null };
@@ -127,15 +127,36 @@ const fmt = new Intl.NumberFormat(undefined, { maximumFractionDigits: 0 });
 const fmt2 = new Intl.NumberFormat(undefined, { maximumFractionDigits: 2 });
 
 function showResults(body, text) {
+  // A bands answer carries the central path's summary, and percentiles of each figure.
+  const bands = state.endpoint === "/v1/bands";
+  const summary = bands ? body.central.summary : body.summary;
+  const head = document.querySelector("#summary thead tr");
+  head.querySelector(".range")?.remove();
+  if (bands) {
+    const th = document.createElement("th");
+    th.scope = "col";
+    th.className = "range";
+    const keys = body.percentiles.map(String);
+    th.textContent = `Discounted deadweight loss, ${keys[0]}th to ${keys[keys.length - 1]}th percentile`;
+    head.append(th);
+  }
   const tbody = document.querySelector("#summary tbody");
   tbody.replaceChildren();
-  for (const s of body.summary) {
+  summary.forEach((s, i) => {
     const tr = document.createElement("tr");
     const cells = [s.name, fmt.format(s.discounted_deadweight_loss), fmt.format(s.peak_shortage),
       fmt2.format(s.final_consumer_price), String(s.binding_periods)];
-    cells.forEach((c, i) => { const td = document.createElement(i ? "td" : "th"); if (!i) td.scope = "row"; td.textContent = c; tr.append(td); });
+    if (bands) {
+      const q = body.bands[i].summary.discounted_deadweight_loss;
+      const keys = Object.keys(q).sort((a, b) => Number(a) - Number(b));
+      cells.push(`${fmt.format(q[keys[0]])} to ${fmt.format(q[keys[keys.length - 1]])}`);
+    }
+    cells.forEach((c, j) => { const td = document.createElement(j ? "td" : "th"); if (!j) td.scope = "row"; td.textContent = c; tr.append(td); });
     tbody.append(tr);
-  }
+  });
+  $("summary").querySelector("caption").textContent = bands
+    ? `At the central elasticities, with the spread over ${fmt.format(body.draws)} draws (money per model period, summed)`
+    : "Per policy over the horizon (money per model period, summed)";
   $("summary").hidden = false;
   const list = $("cautions");
   list.replaceChildren(...body.cautions.map((c) => { const li = document.createElement("li"); li.textContent = c; return li; }));
@@ -143,14 +164,16 @@ function showResults(body, text) {
   for (const url of state.objectUrls) URL.revokeObjectURL(url);
   state.objectUrls = [URL.createObjectURL(new Blob([text], { type: "application/json" }))];
   $("download-json").href = state.objectUrls[0];
+  $("download-csv").hidden = bands;
   $("downloads").hidden = false;
-  $("status").textContent = `Computed ${body.paths.length} policies over ${body.periods.length - 1} periods.`;
+  const periods = (bands ? body.central.periods : body.periods).length - 1;
+  $("status").textContent = `Computed ${summary.length} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
 }
 
 async function drawChart(request, scenarioId) {
   const response = await fetch("/v1/charts", {
     method: "POST", headers: { "Content-Type": "application/json" },
-    body: JSON.stringify({ chart: "paths", format: "svg", units: units(), scenario: request }),
+    body: JSON.stringify({ chart: state.endpoint === "/v1/bands" ? "bands" : "paths", format: "svg", units: units(), scenario: request }),
   });
   if (!response.ok) { $("status").textContent += " (The chart could not be drawn.)"; return; }
   const url = URL.createObjectURL(await response.blob());
@@ -189,7 +212,7 @@ async function run(event) {
   delete $("chart").dataset.scenario;
   $("summary").hidden = true;
   $("downloads").hidden = true;
-  const response = await fetch("/v1/paths", {
+  const response = await fetch(state.endpoint, {
     method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request),
   });
   const text = await response.text();
@@ -199,11 +222,14 @@ async function run(event) {
   $("request-json").value = JSON.stringify(request, null, 2);
   showResults(body, text);
   $("results").dataset.scenario = body.scenario_id;
-  await Promise.all([drawChart(request, body.scenario_id), csvLink(request)]);
+  const work = [drawChart(request, body.scenario_id)];
+  if (state.endpoint === "/v1/paths") work.push(csvLink(request));
+  await Promise.all(work);
 }
 
 async function loadDemo() {
   const name = $("demo").value;
+  state.endpoint = state.endpoints[name] || "/v1/paths";
   const response = await fetch(`/v1/examples/${encodeURIComponent(name)}`);
   state.request = await response.json();
   clearErrors();
@@ -215,10 +241,11 @@ async function start() {
   const response = await fetch("/v1/examples");
   const { examples } = await response.json();
   const select = $("demo");
-  for (const e of examples.filter((x) => x.endpoint === "/v1/paths")) {
+  for (const e of examples) {
     const option = document.createElement("option");
     option.value = e.name;
-    option.textContent = e.title;
+    option.textContent = e.endpoint === "/v1/bands" ? `${e.title} (bands)` : e.title;
+    state.endpoints[e.name] = e.endpoint;
     select.append(option);
   }
   $("load-demo").addEventListener("click", loadDemo);
