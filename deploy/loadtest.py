@@ -60,13 +60,17 @@ def rss_mib(pid: int) -> float:
     return 0.0
 
 
-def start_gunicorn(port: int, metrics_dir: str) -> subprocess.Popen:
+def start_gunicorn(port: int, metrics_dir: str, **settings: str) -> subprocess.Popen:
+    """gunicorn with deploy/gunicorn.conf.py and two workers on 127.0.0.1:port, once ready.
+
+    Extra SHOCKPATH_* settings may be given as keyword arguments (benchmark_echo="true")."""
     env = {
         **os.environ,
         "SHOCKPATH_BIND": f"127.0.0.1:{port}",
         "SHOCKPATH_WORKERS": "2",
         "SHOCKPATH_LOG_LEVEL": "WARNING",
         "PROMETHEUS_MULTIPROC_DIR": metrics_dir,
+        **{f"SHOCKPATH_{k.upper()}": v for k, v in settings.items()},
     }
     process = subprocess.Popen(
         [

@@ -26,7 +26,6 @@ import platform
 import re
 import shutil
 import signal
-import socket
 import subprocess
 import sys
 import tempfile
@@ -87,41 +86,17 @@ def bench_engine(n: int, sample: int) -> dict:
     }
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 class Server:
-    """gunicorn with the production configuration on a free loopback port."""
+    """gunicorn with the production configuration on a free loopback port (deploy/loadtest.py
+    starts it), with the bare echo endpoint switched on."""
 
     def __init__(self):
-        self.port = _free_port()
+        sys.path.insert(0, str(ROOT / "deploy"))
+        from loadtest import free_port, start_gunicorn
+
+        self.port = free_port()
         self.metrics = tempfile.mkdtemp(prefix="shockpath-bench-")
-        env = {
-            **os.environ,
-            "SHOCKPATH_BIND": f"127.0.0.1:{self.port}",
-            "SHOCKPATH_BENCHMARK_ECHO": "true",
-            "SHOCKPATH_LOG_LEVEL": "WARNING",
-            "PROMETHEUS_MULTIPROC_DIR": self.metrics,
-        }
-        gunicorn = Path(sys.executable).with_name("gunicorn")
-        self.process = subprocess.Popen(
-            [str(gunicorn), "--config", "deploy/gunicorn.conf.py", "service:create_app()"],
-            cwd=ROOT,
-            env=env,
-            stdout=subprocess.DEVNULL,
-            stderr=subprocess.DEVNULL,
-        )
-        deadline = time.monotonic() + 30
-        while time.monotonic() < deadline:
-            try:
-                if self.request("GET", "/readyz")[0] == 200:
-                    return
-            except OSError:
-                time.sleep(0.2)
-        raise RuntimeError("gunicorn did not start")
+        self.process = start_gunicorn(self.port, self.metrics, benchmark_echo="true")
 
     def request(self, method: str, path: str, body: bytes | None = None):
         conn = http.client.HTTPConnection("127.0.0.1", self.port, timeout=120)
@@ -280,7 +255,7 @@ def main() -> None:
         ("   POST /v1/paths, every request distinct (no cache), req/s", distinct["rps"], echo["rps"], ""),
         ("   p50 latency, ms", distinct["p50_ms"], echo["p50_ms"], ""),
         ("3. POST /v1/paths/batch (1,000 scenarios), scenarios/s", batch_rate, None, ""),
-        ("4. bands 100,000 x 41 x 3, seconds (2 threads)", bands["seconds"], None, "< 2"),
+        (f"4. bands {args.draws:,} x 41 x 3, seconds (2 threads)", bands["seconds"], None, "< 2"),
         ("   bands peak resident memory, MiB", bands["peak_mib"], None, "< 1024"),
         ("5. peak resident memory per worker after the runs, MiB", max(peaks), None, ""),
     ]
