@@ -100,18 +100,23 @@ def test_constant_elasticity_tax_loss_approaches_harberger_for_small_taxes():
     assert errors[2] < 2e-3
 
 
-@pytest.mark.parametrize("rate", [0.1, 0.25, 0.5, 0.9])
-def test_geometric_schedule_closes_nerloves_share_of_the_gap(rate):
-    sr, lr = 0.2, 1.4
+def supply_path(sr: float, lr: float, adjustment: dict, horizon: int) -> list[float]:
+    """eps_t for t = 0..horizon of a free market with the given schedule."""
     body = simulate(
         {
             "market": {**market(), "supply": {"short_run_elasticity": sr, "long_run_elasticity": lr}},
-            "adjustment": {"schedule": "geometric", "rate": rate},
-            "horizon": 12,
+            "adjustment": adjustment,
+            "horizon": horizon,
             "policies": [{"name": "free", "kind": "none"}],
         }
     )
-    eps = np.array(body["supply_elasticity"])
+    return body["supply_elasticity"]
+
+
+@pytest.mark.parametrize("rate", [0.1, 0.25, 0.5, 0.9])
+def test_geometric_schedule_closes_nerloves_share_of_the_gap(rate):
+    sr, lr = 0.2, 1.4
+    eps = supply_path(sr, lr, {"schedule": "geometric", "rate": rate}, 12)
     for t in range(0, 12):
         # Period 1 is the impact period: after t more periods the share closed is Nerlove's.
         assert (eps[t + 1] - sr) / (lr - sr) == pytest.approx(
@@ -122,15 +127,7 @@ def test_geometric_schedule_closes_nerloves_share_of_the_gap(rate):
 @pytest.mark.parametrize("half_life", [1.0, 2.0, 3.0, 5.0])
 def test_half_life_schedule_is_half_way_at_period_one_plus_h(half_life):
     sr, lr = 0.1, 2.1
-    body = simulate(
-        {
-            "market": {**market(), "supply": {"short_run_elasticity": sr, "long_run_elasticity": lr}},
-            "adjustment": {"schedule": "geometric", "half_life": half_life},
-            "horizon": 10,
-            "policies": [{"name": "free", "kind": "none"}],
-        }
-    )
-    eps = body["supply_elasticity"][1 + int(half_life)]
+    eps = supply_path(sr, lr, {"schedule": "geometric", "half_life": half_life}, 10)[1 + int(half_life)]
     assert (eps - sr) / (lr - sr) == pytest.approx(0.5, rel=1e-12)
     rate = 1.0 - 0.5 ** (1.0 / half_life)
     assert nerlove_half_life(rate) == pytest.approx(half_life, rel=1e-12)
@@ -139,16 +136,9 @@ def test_half_life_schedule_is_half_way_at_period_one_plus_h(half_life):
 def test_nerlove_default_rate_is_short_over_long_run():
     """Nerlove (1958): short-run elasticity = lambda x long-run elasticity."""
     sr, lr = 0.3, 1.5
-    body = simulate(
-        {
-            "market": {**market(), "supply": {"short_run_elasticity": sr, "long_run_elasticity": lr}},
-            "adjustment": {"schedule": "geometric"},
-            "horizon": 4,
-            "policies": [{"name": "free", "kind": "none"}],
-        }
-    )
+    eps = supply_path(sr, lr, {"schedule": "geometric"}, 4)
     lam = sr / lr
-    assert body["supply_elasticity"][2] == pytest.approx(sr + (lr - sr) * lam, rel=1e-12)
+    assert eps[2] == pytest.approx(sr + (lr - sr) * lam, rel=1e-12)
 
 
 @pytest.mark.parametrize("rate", [0.0, 0.02, 0.035, 0.07])
