@@ -18,14 +18,12 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-from ._arrays import as_slice
+from . import kernel
 from .batch import PolicyRows, ScenarioBatch
-from .curves import ConstantElasticityCurves, LinearCurves
-from .equilibrium import free_market
-from .policies import CEILING_KINDS, Outcome, free_outcome, market_outcome
+from .policies import CEILING_KINDS, Outcome
 from .schedules import SCHEDULE_CODES, nerlove_rate, supply_elasticity_path
 from .shocks import MAX_CHANGE
-from .welfare import WelfareChange, discount_factors, welfare_change
+from .welfare import WelfareChange, discount_factors
 
 __all__ = ["PathArrays", "solve"]
 
@@ -114,89 +112,102 @@ def solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         return _solve(batch, rows)
 
 
+def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, demand_shift, supply_shift, factor):
+    n, periods = batch.size, batch.periods
+    stock = getattr(batch, "stock", None)
+    arrays = {
+        "price": batch.price,
+        "quantity": batch.quantity,
+        "demand_elasticity": batch.demand_elasticity,
+        "payments_per_period": batch.payments_per_period,
+        "eps": np.ascontiguousarray(eps),
+        "shifts": np.ascontiguousarray(np.stack([demand_shift, supply_shift], axis=1)),
+        "horizon": batch.horizon,
+        "stock": np.zeros(n, dtype=bool) if stock is None else stock,
+        "stock_rate": getattr(batch, "stock_rate", None) if stock is not None else np.ones(n),
+        "floor_share": getattr(batch, "floor_share", None) if stock is not None else np.zeros(n),
+        "long_run_elasticity": batch.long_run_elasticity,
+        "random_rationing": batch.random_rationing,
+        "discount_factor": np.ascontiguousarray(factor),
+        "price_index": np.ones((n, periods)),
+        "inflation": np.zeros((n, periods)),
+    }
+    policy = {
+        "scenario": rows.scenario,
+        "kind": rows.kind,
+        "value": rows.value,
+        "start": rows.start,
+        "end": rows.end,
+        "indexed": getattr(rows, "indexed", None)
+        if getattr(rows, "indexed", None) is not None
+        else np.zeros(rows.size, dtype=bool),
+        "coverage": getattr(rows, "coverage", None)
+        if getattr(rows, "coverage", None) is not None
+        else np.ones(rows.size),
+    }
+    return arrays, policy
+
+
 def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     n, periods = batch.size, batch.periods
     t = np.arange(periods)
     valid = t[None, :] <= batch.horizon[:, None]
     eps, schedule_undefined = _supply_path(batch)
     (lin_d, lin_s), (ce_d, ce_s), shift_bad = _shifts(batch, valid)
-    ce = batch.constant_elasticity[:, None]
-    demand_shift = np.where(ce, ce_d, lin_d)
-    supply_shift = np.where(ce, ce_s, lin_s)
-
-    p0, q0, eta = batch.price[:, None], batch.quantity[:, None], batch.demand_elasticity[:, None]
-
-    # Free market, both forms computed for all scenarios (closed forms, cheap).
-    lin_curves = LinearCurves(p0, q0, eta, eps, lin_d, lin_s)
-    lin_price, lin_quantity = free_market(lin_curves)
-    lin_ok = valid & ((lin_price <= 0.0) | (lin_quantity <= 0.0))
-    lin_feasible = ~lin_ok.any(axis=1)
-    ce_curves = ConstantElasticityCurves(p0, q0, eta, eps, ce_d, ce_s)
-    ce_price, ce_quantity = free_market(ce_curves)
-
-    linear_out_of_range = lin_ok & ~ce
-    scenario_bad = shift_bad.any(axis=1) | schedule_undefined | linear_out_of_range.any(axis=1)
-    # Sanitise failed scenarios to their base point so that nothing downstream overflows.
+    scenario_bad = shift_bad.any(axis=1) | schedule_undefined
     keep = ~scenario_bad[:, None]
-    demand_shift = np.where(keep, demand_shift, 0.0)
-    supply_shift = np.where(keep, supply_shift, 0.0)
     eps_safe = np.where(keep, eps, batch.short_run_elasticity[:, None])
-    free_price = np.where(ce, ce_price, lin_price)
-    free_quantity = np.where(ce, ce_quantity, lin_quantity)
-    free_price = np.where(keep, free_price, p0)
-    free_quantity = np.where(keep, free_quantity, q0)
-    alternate_price = np.where(ce, lin_price, ce_price)
-    alternate_quantity = np.where(ce, lin_quantity, ce_quantity)
-    alternate_feasible = np.where(batch.constant_elasticity, lin_feasible, True) & ~scenario_bad
-    alternate_price = np.where(keep & alternate_feasible[:, None], alternate_price, p0)
-    alternate_quantity = np.where(keep & alternate_feasible[:, None], alternate_quantity, q0)
-
-    # Policy rows, grouped by form.
-    R = rows.size
-    s_of = rows.scenario
-    active = (t[None, :] >= np.maximum(rows.start, 1)[:, None]) & (t[None, :] <= rows.end[:, None])
-    row_valid = valid[s_of]
-    flags = ("binding", "rationed")
-    outcome_parts = {
-        f.name: np.zeros((R, periods), dtype=bool if f.name in flags else float) for f in fields(Outcome)
-    }
-    welfare_parts = {f.name: np.zeros((R, periods)) for f in fields(WelfareChange)}
-    infeasible = np.zeros((R, periods), dtype=bool)
-    for form_is_ce, cls in ((False, LinearCurves), (True, ConstantElasticityCurves)):
-        r = np.flatnonzero(batch.constant_elasticity[s_of] == form_is_ce)
-        if r.size == 0:
-            continue
-        sc = s_of[r]
-        r = as_slice(r)
-        curves = cls(p0[sc], q0[sc], eta[sc], eps_safe[sc], demand_shift[sc], supply_shift[sc])
-        price, quantity = free_price[sc], free_quantity[sc]
-        outcome = market_outcome(curves, price, quantity, rows.kind[r], rows.value[r], active[r])
-        bad = outcome.binding & (
-            ~(outcome.quantity > 0.0) | ~(outcome.consumer_price > 0.0) | ~(outcome.producer_price > 0.0)
-        )
-        bad &= row_valid[r]
-        infeasible[r] = bad
-        if bad.any():
-            outcome = outcome.where(~bad, free_outcome(price, quantity))
-        welfare = welfare_change(
-            curves,
-            price,
-            quantity,
-            outcome,
-            batch.payments_per_period[sc, None],
-            batch.random_rationing[sc, None],
-        )
-        for f in fields(Outcome):
-            outcome_parts[f.name][r] = getattr(outcome, f.name)
-        for f in fields(WelfareChange):
-            welfare_parts[f.name][r] = getattr(welfare, f.name)
-
-    outcome = Outcome(**outcome_parts)
-    welfare = WelfareChange(**welfare_parts)
+    ce = batch.constant_elasticity
     factor = discount_factors(np.broadcast_to(batch.discount_rate, (n, periods)))
-    dwl = welfare.deadweight_loss
-    cumulative = np.cumsum(dwl, axis=1)
-    discounted = np.cumsum(dwl * factor[s_of], axis=1)
+
+    # Free paths in both forms (the other form feeds the cautions).
+    inputs = {}
+    free = {}
+    for is_ce, (d, s) in ((False, (lin_d, lin_s)), (True, (ce_d, ce_s))):
+        arrays, policy = _kernel_inputs(
+            batch, rows, eps_safe, np.where(keep, d, 0.0), np.where(keep, s, 0.0), factor
+        )
+        arrays["constant_elasticity"] = np.full(n, is_ce)
+        inputs[is_ce] = (arrays, policy)
+        free[is_ce] = kernel.free_paths(arrays)
+    lin_price, lin_quantity = free[False][:, 0], free[False][:, 1]
+    ce_price, ce_quantity = free[True][:, 0], free[True][:, 1]
+    linear_fails = valid & ~((lin_price > 0.0) & (lin_quantity > 0.0))
+    lin_feasible = ~linear_fails.any(axis=1)
+    linear_out_of_range = linear_fails & ~ce[:, None]
+    scenario_bad = scenario_bad | linear_out_of_range.any(axis=1)
+    keep = ~scenario_bad[:, None]
+    primary = np.where(ce[:, None, None], free[True], free[False])
+    free_price = np.where(keep, primary[:, 0], batch.price[:, None])
+    free_quantity = np.where(keep, primary[:, 1], batch.quantity[:, None])
+    alternate_feasible = np.where(ce, lin_feasible, True) & ~scenario_bad
+    alternate_ok = keep & alternate_feasible[:, None]
+    alternate_price = np.where(alternate_ok, np.where(ce[:, None], lin_price, ce_price), batch.price[:, None])
+    alternate_quantity = np.where(
+        alternate_ok, np.where(ce[:, None], lin_quantity, ce_quantity), batch.quantity[:, None]
+    )
+
+    # Policy rows: one kernel call, each scenario in its own form.
+    arrays, policy = inputs[False]
+    arrays = dict(arrays)
+    arrays["constant_elasticity"] = ce
+    arrays["shifts"] = np.where(ce[:, None, None], inputs[True][0]["shifts"], arrays["shifts"])
+    own_free = np.ascontiguousarray(primary[:, :2])
+    series, flags = kernel.policy_paths(arrays, policy, own_free)
+    index = kernel.SERIES_INDEX
+    s_of = rows.scenario
+    row_valid = valid[s_of]
+    outcome = Outcome(
+        **{
+            f.name: series[:, index[f.name]] for f in fields(Outcome) if f.name not in ("binding", "rationed")
+        },
+        binding=flags[:, 0],
+        rationed=flags[:, 1],
+    )
+    welfare = WelfareChange(**{f.name: series[:, index[f.name]] for f in fields(WelfareChange)})
+    infeasible = flags[:, 2] & row_valid
+    cumulative = series[:, index["cumulative_deadweight_loss"]]
+    discounted = series[:, index["discounted_deadweight_loss"]]
 
     is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
     unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
@@ -204,16 +215,12 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
 
     # One pass: a sum of finite numbers (all far below 1e300) is finite, and NaN or inf in any
     # reported series makes it non-finite.
-    reported = [getattr(outcome, f.name) for f in fields(Outcome) if f.name not in flags]
-    reported += [getattr(welfare, f.name) for f in fields(WelfareChange)] + [cumulative, discounted]
-    total = np.zeros((R, periods))
-    for a in reported:
-        total += a
-    non_finite = ~np.isfinite(np.where(row_valid, total, 0.0)).all(axis=1)
+    total = np.where(row_valid, series[:, :16].sum(axis=1), 0.0)
+    non_finite = ~np.isfinite(total).all(axis=1)
 
     return PathArrays(
         valid=valid,
-        supply_elasticity=eps,
+        supply_elasticity=np.where(keep, primary[:, 2], eps) if False else eps,
         free_price=free_price,
         free_quantity=free_quantity,
         alternate_price=alternate_price,

@@ -5,7 +5,7 @@ import sys
 from pathlib import Path
 
 ENGINE = Path(__file__).resolve().parents[2] / "service" / "engine"
-ALLOWED = {"numpy", "scipy", "__future__"} | set(sys.stdlib_module_names)
+ALLOWED = {"numba", "numpy", "scipy", "__future__"} | set(sys.stdlib_module_names)
 
 
 def _imports(path: Path):

@@ -1,0 +1,774 @@
+"""The compiled period pass: every period of every path, one cell at a time.
+
+One loop over scenarios computes the free-market path of both curve forms; one loop over
+policy rows walks each row's periods in order and computes, in the same pass, the period's
+curves, the row's own free-market point, the policy outcome, the welfare change, its split
+between groups, and the running (cumulative and discounted) sums. Compiled with numba
+(`nogil`, cached on disk); the numpy layer around it (paths.py) packs inputs and reads the
+output arrays. No scipy and no Python objects inside: problems come back as flags.
+
+Curves of period t (shifts D, S in the linear form; ln A, ln B in constant elasticity):
+
+    demand      Qd(P) = Q0 max(1 + eta p + D, 0)          or  Q0 (P/P0)^eta A,    p = (P-P0)/P0
+    base supply K(P)  = Q0 max(1 + e p + S, 0)            or  Q0 (P/P0)^e B
+    supply      Qs(P) = max(a + b K(P), f)
+
+Without a durable stock a = 0, b = 1, f = 0 and e = eps_t (so Qs = K). With the stock
+schedule (Nerlove 1958, *The Dynamics of Supply*: a share lambda of the gap between the
+stock and its desired level closes each period) e = eps_LR, a = (1 - lambda) K_(t-1),
+b = lambda and f = (1 - delta) K_(t-1): the stock shrinks by at most the share delta per
+period, supply being elastic upward and inelastic downward (Glaeser & Gyourko 2005, *JPE*
+113(2)). Each path carries its own stock K_t = Q_t.
+
+Clearing with a wedge or a second segment: Qd(Pc) = alpha Qs(scale Pc - gap) + beta, with
+(alpha, beta, scale, gap) = (1, 0, 1, tau) for a unit tax, (1, 0, 1 - r, 0) ad valorem,
+(1, 0, 1, -s) a subsidy, and (1 - s, Qc, 1, 0) for the uncovered rent under a ceiling that
+covers the share s of homes (Fallis & Smith 1984, *AER* 74(1)). Linear curves solve in closed
+form; constant elasticity in closed form where it exists, else by Newton's method in log
+price, safeguarded by bisection on a bracket whose signs are checked, converged on the price
+scale. A kinked (floored) supply is solved on its upper branch and then checked.
+
+Welfare against the same path's free market of the period (P*, Q*): DWL = int_Q^Q* Qd^-1 -
+int_Q^Q* Qs^-1 (per segment under partial coverage); the integrals are closed forms
+(trapezoids, and power laws through expm1 so that they stay exact as m -> 0).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+try:  # numba is a dependency; the guard only keeps `import service.engine` explaining itself.
+    from numba import njit
+except ImportError as error:  # pragma: no cover
+    raise ImportError("shockpath's engine needs numba (pip install numba)") from error
+
+__all__ = ["FLAG_NAMES", "SERIES_INDEX", "free_paths", "policy_paths", "warm_up"]
+
+_JIT = {"cache": True, "nogil": True, "error_model": "numpy", "fastmath": False}
+
+#: Per-period output series of a policy row, by name: index into the second axis.
+SERIES_INDEX = {
+    name: i
+    for i, name in enumerate(
+        (
+            "consumer_price",
+            "producer_price",
+            "quantity",
+            "quantity_demanded",
+            "quantity_supplied",
+            "shortage",
+            "excess_supply",
+            "marginal_value",
+            "marginal_cost",
+            "consumer_surplus_change",
+            "producer_surplus_change",
+            "government_revenue",
+            "deadweight_loss",
+            "misallocation_loss",
+            "cumulative_deadweight_loss",
+            "discounted_deadweight_loss",
+            "covered_price",
+            "uncovered_price",
+            "covered_quantity",
+            "uncovered_quantity",
+            "tenants_in_controlled_homes",
+            "tenants_in_uncontrolled_homes",
+            "households_priced_out",
+            "owners_of_controlled_homes",
+            "owners_of_uncontrolled_homes",
+            "government",
+            "free_price",
+            "free_quantity",
+        )
+    )
+}
+FLAG_NAMES = ("binding", "rationed", "infeasible")
+
+# Policy kind codes (policies.KIND_CODES holds the same numbers).
+_NONE, _CEILING, _GROWTH_CAP, _FLOOR, _UNIT_TAX, _AD_VALOREM, _SUBSIDY, _QUANTITY_CAP = range(8)
+
+_TINY = 2.2250738585072014e-308
+_ULP = 2.220446049250313e-16
+
+
+# --- curves of one period ------------------------------------------------------------------
+
+
+@njit(**_JIT)
+def _demand(ce, p0, q0, eta, d, price):
+    """Qd(P), truncated at zero."""
+    if ce:
+        if price > 0.0:
+            return q0 * math.exp(eta * math.log(price / p0) + d)
+        return 0.0
+    return q0 * max(1.0 + eta * ((price - p0) / p0) + d, 0.0)
+
+
+@njit(**_JIT)
+def _inverse_demand(ce, p0, q0, eta, d, quantity):
+    """Qd^-1(Q): the marginal buyer's value of the quantity-th unit."""
+    if ce:
+        ratio = quantity / q0
+        log_q = (math.log(ratio) if ratio > 0.0 else 0.0) - d
+        return p0 * math.exp(log_q / eta)
+    return p0 * (1.0 + (quantity / q0 - 1.0 - d) / eta)
+
+
+@njit(**_JIT)
+def _base_supply(ce, p0, q0, e, s, price):
+    """K(P): the period's supply curve (desired stock under the stock schedule)."""
+    if ce:
+        if price > 0.0:
+            return q0 * math.exp(e * math.log(price / p0) + s)
+        return 0.0
+    return q0 * max(1.0 + e * ((price - p0) / p0) + s, 0.0)
+
+
+@njit(**_JIT)
+def _supply(ce, p0, q0, e, s, a, b, f, price):
+    """Qs(P) = max(a + b K(P), f)."""
+    return max(a + b * _base_supply(ce, p0, q0, e, s, price), f)
+
+
+@njit(**_JIT)
+def _supply_line(ce, p0, q0, e, s, a, b, quantity):
+    """Price on the upper branch a + b K(P) = quantity (e > 0; quantity above a)."""
+    x = (quantity - a) / b
+    if ce:
+        ratio = x / q0
+        log_q = (math.log(ratio) if ratio > 0.0 else 0.0) - s
+        return p0 * math.exp(log_q / e)
+    return p0 * (1.0 + (x / q0 - 1.0 - s) / e)
+
+
+@njit(**_JIT)
+def _inverse_supply(ce, p0, q0, e, s, a, b, f, quantity):
+    """Qs^-1(Q): 0 up to the quantity offered at price zero (and on vertical supply)."""
+    if e <= 0.0:
+        return 0.0
+    if quantity <= _supply(ce, p0, q0, e, s, a, b, f, 0.0):
+        return 0.0
+    return max(_supply_line(ce, p0, q0, e, s, a, b, quantity), 0.0)
+
+
+@njit(**_JIT)
+def _expm1_over(y):
+    if y == 0.0:
+        return 1.0
+    return math.expm1(y) / y
+
+
+@njit(**_JIT)
+def _power_law_integral(lower, price_lower, upper, price_upper, m):
+    """int_lower^upper P(q) dq for P(q) proportional to q^(m-1), signed; lower, upper > 0."""
+    log_ratio = math.log(lower / upper)
+    z = m * log_ratio
+    if z <= 0.0:
+        return -upper * price_upper * log_ratio * _expm1_over(z)
+    return -lower * price_lower * log_ratio * _expm1_over(-z)
+
+
+@njit(**_JIT)
+def _demand_integral(ce, p0, q0, eta, d, lower, upper):
+    """int_lower^upper Qd^-1(q) dq, signed; lower, upper > 0."""
+    if ce:
+        m = 1.0 + 1.0 / eta
+        return _power_law_integral(
+            lower,
+            _inverse_demand(ce, p0, q0, eta, d, lower),
+            upper,
+            _inverse_demand(ce, p0, q0, eta, d, upper),
+            m,
+        )
+    return (
+        (upper - lower)
+        * 0.5
+        * (_inverse_demand(ce, p0, q0, eta, d, lower) + _inverse_demand(ce, p0, q0, eta, d, upper))
+    )
+
+
+@njit(**_JIT)
+def _supply_integral(ce, p0, q0, e, s, a, b, f, lower, upper):
+    """int_lower^upper Qs^-1(q) dq, signed: only the part above the zero-price quantity."""
+    if e <= 0.0:
+        return 0.0
+    zero_price_quantity = _supply(ce, p0, q0, e, s, a, b, f, 0.0)
+    lo = max(lower, zero_price_quantity)
+    hi = max(upper, zero_price_quantity)
+    if lo == hi:
+        return 0.0
+    if not ce:
+        return (
+            (hi - lo)
+            * 0.5
+            * (_supply_line(ce, p0, q0, e, s, a, b, lo) + _supply_line(ce, p0, q0, e, s, a, b, hi))
+        )
+    # int a+bK = q of K^-1((q - a)/b) dq = b int K^-1(x) dx, x = (q - a)/b: a power law in x.
+    x_lo, x_hi = (lo - a) / b, (hi - a) / b
+    m = 1.0 + 1.0 / e
+    if x_lo <= 0.0:
+        return b * x_hi * _supply_line(ce, p0, q0, e, s, a, b, hi) / m
+    if x_hi <= 0.0:
+        return -b * x_lo * _supply_line(ce, p0, q0, e, s, a, b, lo) / m
+    return b * _power_law_integral(
+        x_lo, _supply_line(ce, p0, q0, e, s, a, b, lo), x_hi, _supply_line(ce, p0, q0, e, s, a, b, hi), m
+    )
+
+
+# --- clearing -------------------------------------------------------------------------------
+
+
+@njit(**_JIT)
+def _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+    """G(x) = ln Qd(e^x) - ln(alpha (a + b K(scale e^x - gap)) + beta) and dG/dx (CE)."""
+    price = math.exp(x)
+    producer = scale * price - gap
+    k = 0.0
+    if producer > 0.0:
+        k = q0 * math.exp(e * math.log(producer / p0) + s)
+    right = alpha * (a + b * k) + beta
+    left = math.log(q0) + eta * (x - math.log(p0)) + d
+    if not right > 0.0:
+        return math.inf, eta
+    slope = eta
+    if producer > 0.0:
+        slope = eta - alpha * b * e * k * scale * price / (producer * right)
+    return left - math.log(right), slope
+
+
+@njit(**_JIT)
+def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+    """Root of the decreasing G on a bracket [lo, hi] of log prices (widened until signs
+    hold); safeguarded Newton: a step that leaves the bracket is replaced by bisection."""
+    g_lo, _ = _excess_log(lo, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    width = max(hi - lo, 0.125)
+    for _ in range(80):
+        if g_lo > 0.0:
+            break
+        hi = lo
+        lo -= width
+        width *= 2.0
+        g_lo, _ = _excess_log(lo, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    g_hi, _ = _excess_log(hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    width = max(hi - lo, 0.125)
+    for _ in range(80):
+        if g_hi < 0.0:
+            break
+        lo = hi
+        hi += width
+        width *= 2.0
+        g_hi, _ = _excess_log(hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    if not (g_lo > 0.0 and g_hi < 0.0):
+        if g_lo == 0.0:
+            return lo
+        if g_hi == 0.0:
+            return hi
+        return math.nan
+    x = 0.5 * (lo + hi)
+    for _ in range(200):
+        g, slope = _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        if g == 0.0:
+            return x
+        if g > 0.0:
+            lo = x
+        else:
+            hi = x
+        step = -g / slope if slope < 0.0 else math.nan
+        candidate = x + step
+        if not (lo < candidate < hi):
+            candidate = 0.5 * (lo + hi)
+        tolerance = 4.0 * _ULP * max(1.0, abs(candidate))
+        if abs(candidate - x) <= tolerance or hi - lo <= tolerance:
+            return candidate
+        x = candidate
+    return math.nan
+
+
+@njit(**_JIT)
+def _clear(ce, p0, q0, eta, d, e, s, a, b, f, alpha, beta, scale, gap, low, high):
+    """Consumer price Pc solving Qd(Pc) = alpha Qs(scale Pc - gap) + beta.
+
+    [low, high] is a price bracket the caller expects (checked and widened for constant
+    elasticity). NaN where no root is found; the caller reports it.
+    """
+    plain = a == 0.0 and b == 1.0 and f == 0.0
+    one_segment = alpha == 1.0 and beta == 0.0
+    if not ce:
+        if plain:
+            slope_e, shift = e, s
+            floor = 0.0
+        else:
+            slope_e = b * e
+            shift = (a / q0 + b * (1.0 + s)) - 1.0
+            floor = max(a, f)
+        if one_segment:
+            x = (d - shift - slope_e * (scale - 1.0 - gap / p0)) / (slope_e * scale - eta)
+        else:
+            x = (1.0 + d - alpha * (1.0 + shift + slope_e * (scale - 1.0 - gap / p0)) - beta / q0) / (
+                alpha * slope_e * scale - eta
+            )
+        price = p0 * (1.0 + x)
+        producer_rel = (scale * price - gap - p0) / p0
+        if q0 * (1.0 + slope_e * producer_rel + shift) < floor:
+            price = _inverse_demand(ce, p0, q0, eta, d, alpha * floor + beta)
+        return price
+    if plain and one_segment and (gap == 0.0 or e <= 0.0):
+        # Closed form; on vertical supply the quantity is fixed and buyers pay P*.
+        return p0 * math.exp((d - s - e * math.log(scale)) / (e - eta))
+    if e <= 0.0:
+        fixed = max(a + b * q0 * math.exp(s), f)
+        return _inverse_demand(ce, p0, q0, eta, d, alpha * fixed + beta)
+    lo = math.log(max(low, _TINY))
+    hi = math.log(max(high, low * (1.0 + 1e-12), _TINY))
+    x = _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    price = math.exp(x)
+    if f > 0.0 and a + b * _base_supply(ce, p0, q0, e, s, scale * price - gap) < f:
+        price = _inverse_demand(ce, p0, q0, eta, d, alpha * f + beta)
+    return price
+
+
+@njit(**_JIT)
+def _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess):
+    """The period's free-market point (P*, Q*) on these curves."""
+    if a == 0.0 and b == 1.0 and f == 0.0:
+        if ce:
+            log_price = (d - s) / (e - eta)
+            return p0 * math.exp(log_price), q0 * math.exp(e * log_price + s)
+        relative = (d - s) / (e - eta)
+        return p0 * (1.0 + relative), q0 * (1.0 + e * relative + s)
+    price = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, 1.0, 0.0, 0.5 * guess, 2.0 * guess)
+    return price, _supply(ce, p0, q0, e, s, a, b, f, price)
+
+
+@njit(**_JIT)
+def _stock_curve(stock, k_prev, rate, floor_share):
+    """(a, b, f) of the period's supply: the stock's memory, or none."""
+    if stock:
+        return (1.0 - rate) * k_prev, rate, floor_share * k_prev
+    return 0.0, 1.0, 0.0
+
+
+# --- the free path of each scenario ---------------------------------------------------------
+
+
+@njit(**_JIT)
+def _free_path_kernel(
+    ce_form, p0s, q0s, etas, eps, shifts, horizon, stock, stock_rate, floor_share, long_run, out
+):
+    n = p0s.shape[0]
+    for i in range(n):
+        ce = ce_form[i]
+        p0, q0, eta = p0s[i], q0s[i], etas[i]
+        out[i, 0, 0] = p0
+        out[i, 1, 0] = q0
+        out[i, 2, 0] = eps[i, 0]
+        k_prev = q0
+        guess = p0
+        for t in range(1, horizon[i] + 1):
+            d, s = shifts[i, 0, t], shifts[i, 1, t]
+            a, b, f = _stock_curve(stock[i], k_prev, stock_rate[i], floor_share[i])
+            e = long_run[i] if stock[i] else eps[i, t]
+            price, quantity = _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess)
+            out[i, 0, t] = price
+            out[i, 1, t] = quantity
+            if stock[i]:
+                # Elasticity of this period's supply at its equilibrium point.
+                k = _base_supply(ce, p0, q0, e, s, price)
+                on_floor = a + b * k < f
+                if ce:
+                    out[i, 2, t] = 0.0 if on_floor or quantity <= 0.0 else b * e * k / quantity
+                else:
+                    out[i, 2, t] = (
+                        0.0 if on_floor or quantity <= 0.0 else b * e * q0 * price / (p0 * quantity)
+                    )
+            else:
+                out[i, 2, t] = eps[i, t]
+            k_prev = quantity
+            if price > 0.0 and math.isfinite(price):
+                guess = price
+        for t in range(horizon[i] + 1, eps.shape[1]):  # padding of a shorter horizon
+            out[i, 0, t] = p0
+            out[i, 1, t] = q0
+            out[i, 2, t] = eps[i, t]
+
+
+def free_paths(batch_arrays: dict) -> np.ndarray:
+    """(n, 3, T+1): free-market price, quantity and supply elasticity of each scenario in
+    the form given by `constant_elasticity` (n,) with the matching `shifts` (n, 2, T+1)."""
+    a = batch_arrays
+    n, periods = a["eps"].shape
+    out = np.zeros((n, 3, periods))
+    _free_path_kernel(
+        a["constant_elasticity"],
+        a["price"],
+        a["quantity"],
+        a["demand_elasticity"],
+        a["eps"],
+        a["shifts"],
+        a["horizon"],
+        a["stock"],
+        a["stock_rate"],
+        a["floor_share"],
+        a["long_run_elasticity"],
+        out,
+    )
+    return out
+
+
+# --- every policy row -----------------------------------------------------------------------
+
+
+@njit(**_JIT)
+def _row_kernel(
+    scenario,
+    kind,
+    value,
+    start,
+    end,
+    indexed,
+    coverage,
+    ce_form,
+    p0s,
+    q0s,
+    etas,
+    ks,
+    eps,
+    shifts,
+    horizon,
+    stock,
+    stock_rate,
+    floor_share,
+    long_run,
+    random_rationing,
+    factor,
+    price_index,
+    inflation,
+    free,
+    out,
+    flags,
+):
+    rows = scenario.shape[0]
+    for r in range(rows):
+        i = scenario[r]
+        ce = ce_form[i]
+        p0, q0, eta, k_pay = p0s[i], q0s[i], etas[i], ks[i]
+        code = kind[r]
+        v = value[r]
+        share = coverage[r]
+        ceiling = code == _CEILING or code == _GROWTH_CAP
+        partial = ceiling and share < 1.0
+        random = random_rationing[i]
+        if random and ce:
+            m_divisor = 1.0 + 1.0 / eta
+        else:
+            m_divisor = 2.0
+        # Period 0: the base point.
+        for j in range(out.shape[1]):
+            out[r, j, 0] = 0.0
+        out[r, 0, 0] = p0
+        out[r, 1, 0] = p0
+        out[r, 2, 0] = q0
+        out[r, 3, 0] = q0
+        out[r, 4, 0] = q0
+        out[r, 7, 0] = p0
+        out[r, 8, 0] = p0
+        out[r, 16, 0] = p0
+        out[r, 17, 0] = p0
+        out[r, 18, 0] = share * q0
+        out[r, 19, 0] = (1.0 - share) * q0
+        out[r, 26, 0] = p0
+        out[r, 27, 0] = q0
+        for j in range(3):
+            flags[r, j, 0] = False
+        k_prev = q0
+        previous_rent = p0  # the covered (controlled) rent of the period before
+        guess = p0
+        cumulative = 0.0
+        discounted = 0.0
+        for t in range(1, out.shape[2]):
+            if t > horizon[i]:
+                for j in range(out.shape[1]):
+                    out[r, j, t] = 0.0
+                for j in range(3):
+                    flags[r, j, t] = False
+                continue
+            d, s = shifts[i, 0, t], shifts[i, 1, t]
+            a, b, f = _stock_curve(stock[i], k_prev, stock_rate[i], floor_share[i])
+            e = long_run[i] if stock[i] else eps[i, t]
+            if stock[i]:
+                p_star, q_star = _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess)
+            else:
+                p_star, q_star = free[i, 0, t], free[i, 1, t]
+            active = start[r] <= t and t <= end[r]
+            # Money rules are nominal: their real value falls with the price index.
+            real = v if indexed[r] else v / price_index[i, t]
+            pc = pp = p_star
+            q = qd = qs = q_star
+            shortage = excess = 0.0
+            mv = mc = p_star
+            covered_price = uncovered_price = p_star
+            covered_q = share * q_star
+            uncovered_q = (1.0 - share) * q_star
+            binding = False
+            rationed = False
+            level = 0.0
+            unit_covered = unit_uncovered = 0.0
+            if code == _CEILING or code == _GROWTH_CAP:
+                if code == _CEILING:
+                    level = real
+                elif indexed[r]:
+                    level = (1.0 + inflation[i, t] + v) * previous_rent / (1.0 + inflation[i, t])
+                else:
+                    level = (1.0 + v) * previous_rent / (1.0 + inflation[i, t])
+                binding = active and level < p_star
+                if binding:
+                    rationed = True
+                    supplied = _supply(ce, p0, q0, e, s, a, b, f, level)
+                    demanded = _demand(ce, p0, q0, eta, d, level)
+                    if not partial:
+                        pc = pp = level
+                        q = qs = supplied
+                        qd = demanded
+                        shortage = demanded - supplied
+                        mv = _inverse_demand(ce, p0, q0, eta, d, supplied)
+                        mc = level
+                        covered_price = uncovered_price = level
+                        covered_q = supplied
+                        uncovered_q = 0.0
+                    else:
+                        unit_covered = supplied
+                        covered_q = share * supplied
+                        high = (
+                            _inverse_demand(ce, p0, q0, eta, d, covered_q)
+                            if covered_q > 0.0
+                            else 4.0 * p_star
+                        )
+                        uncovered_price = _clear(
+                            ce, p0, q0, eta, d, e, s, a, b, f, 1.0 - share, covered_q, 1.0, 0.0, p_star, high
+                        )
+                        unit_uncovered = _supply(ce, p0, q0, e, s, a, b, f, uncovered_price)
+                        uncovered_q = (1.0 - share) * unit_uncovered
+                        covered_price = level
+                        q = qs = covered_q + uncovered_q
+                        qd = demanded
+                        shortage = max(demanded - q, 0.0)
+                        pc = pp = (level * covered_q + uncovered_price * uncovered_q) / q
+                        mv = _inverse_demand(ce, p0, q0, eta, d, q)
+                        mc = uncovered_price
+            elif code == _FLOOR:
+                level = real
+                binding = active and level > p_star
+                if binding:
+                    pc = pp = mv = level
+                    qd = q = _demand(ce, p0, q0, eta, d, level)
+                    qs = _supply(ce, p0, q0, e, s, a, b, f, level)
+                    excess = qs - qd
+                    mc = _inverse_supply(ce, p0, q0, e, s, a, b, f, min(qd, q_star))
+            elif code == _UNIT_TAX or code == _AD_VALOREM or code == _SUBSIDY:
+                if code == _AD_VALOREM:
+                    scale, gap = 1.0 - v, 0.0
+                    binding = active and v > 0.0
+                    low, high = p_star, p_star / scale
+                elif code == _UNIT_TAX:
+                    scale, gap = 1.0, real
+                    binding = active and v > 0.0
+                    low, high = p_star, p_star + real
+                else:
+                    scale, gap = 1.0, -real
+                    binding = active and v > 0.0
+                    top = _supply(ce, p0, q0, e, s, a, b, f, p_star + real)
+                    low, high = _inverse_demand(ce, p0, q0, eta, d, top), p_star
+                if binding:
+                    pc = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, scale, gap, low, high)
+                    pp = scale * pc - gap
+                    qd = q = _demand(ce, p0, q0, eta, d, pc)
+                    qs = _supply(ce, p0, q0, e, s, a, b, f, pp)
+                    mv = pc
+                    mc = pp
+            elif code == _QUANTITY_CAP:
+                binding = active and v < q_star
+                if binding:
+                    q = qd = v
+                    pc = pp = mv = _inverse_demand(ce, p0, q0, eta, d, v)
+                    qs = _supply(ce, p0, q0, e, s, a, b, f, pc)
+                    excess = qs - v
+                    mc = _inverse_supply(ce, p0, q0, e, s, a, b, f, min(v, q_star))
+            infeasible = False
+            if binding and not (q > 0.0 and pc > 0.0 and pp > 0.0):
+                infeasible = True
+            if stock[i] and not (p_star > 0.0 and q_star > 0.0):
+                infeasible = True
+            if infeasible:
+                binding = rationed = False
+                pc = pp = mv = mc = covered_price = uncovered_price = p_star
+                q = qd = qs = q_star
+                shortage = excess = 0.0
+                covered_q = share * q_star
+                uncovered_q = (1.0 - share) * q_star
+            dcs = dps = rev = dwl = mis = 0.0
+            g_tc = g_tu = g_out = g_oc = g_ou = g_gov = 0.0
+            if binding:
+                demand_area = _demand_integral(ce, p0, q0, eta, d, q, q_star)
+                if partial:
+                    supply_area = share * _supply_integral(
+                        ce, p0, q0, e, s, a, b, f, unit_covered, q_star
+                    ) + (1.0 - share) * _supply_integral(ce, p0, q0, e, s, a, b, f, unit_uncovered, q_star)
+                else:
+                    supply_area = _supply_integral(ce, p0, q0, e, s, a, b, f, q, q_star)
+                free_spending = p_star * q_star
+                consumer = free_spending - pc * q - demand_area
+                producer = pp * q - free_spending + supply_area
+                revenue = (pc - pp) * q
+                deadweight = max(demand_area - supply_area, 0.0)
+                if rationed and random and m_divisor > 0.0:
+                    mis = max(q * (_inverse_demand(ce, p0, q0, eta, d, q) - pc) / m_divisor, 0.0)
+                dcs = k_pay * (consumer - mis)
+                dps = k_pay * producer
+                rev = k_pay * revenue
+                dwl = k_pay * (deadweight + mis)
+                mis = k_pay * mis
+                # Who gains and who loses (efficient allocation).
+                g_out = -k_pay * (demand_area - p_star * (q_star - q))
+                if ceiling:
+                    g_tc = k_pay * (p_star - level) * covered_q
+                    if partial:
+                        g_tu = -k_pay * (uncovered_price - p_star) * uncovered_q
+                        g_oc = (
+                            k_pay
+                            * share
+                            * (
+                                level * unit_covered
+                                - free_spending
+                                + _supply_integral(ce, p0, q0, e, s, a, b, f, unit_covered, q_star)
+                            )
+                        )
+                        g_ou = (
+                            k_pay
+                            * (1.0 - share)
+                            * (
+                                uncovered_price * unit_uncovered
+                                - free_spending
+                                + _supply_integral(ce, p0, q0, e, s, a, b, f, unit_uncovered, q_star)
+                            )
+                        )
+                    else:
+                        g_oc = dps
+                else:
+                    g_tu = -k_pay * (pc - p_star) * q
+                    g_ou = dps
+                    g_gov = rev
+            cumulative += dwl
+            discounted += dwl * factor[i, t]
+            o = out[r]
+            o[0, t] = pc
+            o[1, t] = pp
+            o[2, t] = q
+            o[3, t] = qd
+            o[4, t] = qs
+            o[5, t] = shortage
+            o[6, t] = excess
+            o[7, t] = mv
+            o[8, t] = mc
+            o[9, t] = dcs
+            o[10, t] = dps
+            o[11, t] = rev
+            o[12, t] = dwl
+            o[13, t] = mis
+            o[14, t] = cumulative
+            o[15, t] = discounted
+            o[16, t] = covered_price
+            o[17, t] = uncovered_price
+            o[18, t] = covered_q
+            o[19, t] = uncovered_q
+            o[20, t] = g_tc
+            o[21, t] = g_tu
+            o[22, t] = g_out
+            o[23, t] = g_oc
+            o[24, t] = g_ou
+            o[25, t] = g_gov
+            o[26, t] = p_star
+            o[27, t] = q_star
+            flags[r, 0, t] = binding
+            flags[r, 1, t] = rationed
+            flags[r, 2, t] = infeasible
+            k_prev = q
+            previous_rent = covered_price
+            if p_star > 0.0 and math.isfinite(p_star):
+                guess = p_star
+
+
+def policy_paths(batch_arrays: dict, rows: dict, free: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Every row's series (R, len(SERIES_INDEX), T+1) and flags (R, 3, T+1).
+
+    `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
+    """
+    a = batch_arrays
+    count = rows["scenario"].shape[0]
+    periods = a["eps"].shape[1]
+    out = np.empty((count, len(SERIES_INDEX), periods))
+    flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
+    _row_kernel(
+        rows["scenario"],
+        rows["kind"],
+        rows["value"],
+        rows["start"],
+        rows["end"],
+        rows["indexed"],
+        rows["coverage"],
+        a["constant_elasticity"],
+        a["price"],
+        a["quantity"],
+        a["demand_elasticity"],
+        a["payments_per_period"],
+        a["eps"],
+        a["shifts"],
+        a["horizon"],
+        a["stock"],
+        a["stock_rate"],
+        a["floor_share"],
+        a["long_run_elasticity"],
+        a["random_rationing"],
+        a["discount_factor"],
+        a["price_index"],
+        a["inflation"],
+        free,
+        out,
+        flags,
+    )
+    return out, flags
+
+
+def warm_up() -> None:
+    """Compile (or load from the on-disk cache) every kernel signature the service uses."""
+    n, periods = 2, 3
+    arrays = {
+        "constant_elasticity": np.array([False, True]),
+        "price": np.ones(n),
+        "quantity": np.ones(n),
+        "demand_elasticity": -np.ones(n),
+        "payments_per_period": np.ones(n),
+        "eps": np.ones((n, periods)),
+        "shifts": np.zeros((n, 2, periods)),
+        "horizon": np.full(n, periods - 1, dtype=np.int64),
+        "stock": np.array([False, True]),
+        "stock_rate": np.full(n, 0.5),
+        "floor_share": np.zeros(n),
+        "long_run_elasticity": np.ones(n),
+        "random_rationing": np.zeros(n, dtype=bool),
+        "discount_factor": np.ones((n, periods)),
+        "price_index": np.ones((n, periods)),
+        "inflation": np.zeros((n, periods)),
+    }
+    rows = {
+        "scenario": np.array([0, 1], dtype=np.int64),
+        "kind": np.array([_UNIT_TAX, _CEILING], dtype=np.int64),
+        "value": np.array([0.1, 0.9]),
+        "start": np.ones(2, dtype=np.int64),
+        "end": np.full(2, 10, dtype=np.int64),
+        "indexed": np.zeros(2, dtype=bool),
+        "coverage": np.array([1.0, 0.5]),
+    }
+    free = free_paths(arrays)
+    policy_paths(arrays, rows, free)
