@@ -18,12 +18,14 @@ import orjson
 from marshmallow import ValidationError
 
 from . import engine
+from .api.compiled import compile_loader, load_fast
 from .api.schemas import PathsRequestSchema
 from .problems import ProblemError, engine_problem, validation_problem
 
 __all__ = ["compute", "load_scenario", "render", "scenario_id", "simulate", "simulate_many"]
 
 _REQUEST = PathsRequestSchema()
+_FAST_REQUEST = compile_loader(_REQUEST)
 
 
 @contextlib.contextmanager
@@ -48,7 +50,7 @@ def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
     if not isinstance(request, dict):
         raise ProblemError(validation_problem(["Must be a JSON object."], prefix))
     try:
-        return _REQUEST.load(request)
+        return load_fast(_REQUEST, _FAST_REQUEST, request)
     except ValidationError as error:
         raise ProblemError(validation_problem(error.messages, prefix)) from None
 
