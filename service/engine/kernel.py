@@ -44,7 +44,15 @@ try:  # numba is a dependency; the guard only keeps `import service.engine` expl
 except ImportError as error:  # pragma: no cover
     raise ImportError("shockpath's engine needs numba (pip install numba)") from error
 
-__all__ = ["FLAG_NAMES", "SERIES_INDEX", "free_paths", "policy_paths", "warm_up"]
+__all__ = [
+    "FLAG_NAMES",
+    "SERIES_INDEX",
+    "SUMMARY_INDEX",
+    "free_paths",
+    "percentiles",
+    "policy_paths",
+    "warm_up",
+]
 
 _JIT = {"cache": True, "nogil": True, "error_model": "numpy", "fastmath": False}
 
@@ -85,6 +93,31 @@ SERIES_INDEX = {
     )
 }
 FLAG_NAMES = ("binding", "rationed", "infeasible")
+#: Summary figures of a policy row over its horizon (money summed in period order).
+SUMMARY_INDEX = {
+    name: i
+    for i, name in enumerate(
+        (
+            "total_deadweight_loss",
+            "discounted_deadweight_loss",
+            "peak_shortage",
+            "peak_shortage_period",
+            "binding_periods",
+            "final_consumer_price",
+            "final_quantity",
+            "total_consumer_surplus_change",
+            "total_producer_surplus_change",
+            "total_government_revenue",
+            "total_tenants_in_controlled_homes",
+            "total_tenants_in_uncontrolled_homes",
+            "total_households_priced_out",
+            "total_owners_of_controlled_homes",
+            "total_owners_of_uncontrolled_homes",
+            "total_government",
+            "non_finite",
+        )
+    )
+}
 
 # Policy kind codes (policies.KIND_CODES holds the same numbers).
 _NONE, _CEILING, _GROWTH_CAP, _FLOOR, _UNIT_TAX, _AD_VALOREM, _SUBSIDY, _QUANTITY_CAP = range(8)
@@ -448,6 +481,7 @@ def _row_kernel(
     free,
     out,
     flags,
+    summary,
 ):
     rows = scenario.shape[0]
     for r in range(rows):
@@ -487,6 +521,11 @@ def _row_kernel(
         guess = p0
         cumulative = 0.0
         discounted = 0.0
+        for j in range(summary.shape[1]):
+            summary[r, j] = 0.0
+        summary[r, 3] = -1.0
+        summary[r, 5] = p0
+        summary[r, 6] = q0
         for t in range(1, out.shape[2]):
             if t > horizon[i]:
                 for j in range(out.shape[1]):
@@ -693,14 +732,42 @@ def _row_kernel(
             flags[r, 0, t] = binding
             flags[r, 1, t] = rationed
             flags[r, 2, t] = infeasible
+            total = summary[r]
+            checksum = 0.0
+            for j in range(16):
+                checksum += o[j, t]
+            if not math.isfinite(checksum):
+                total[16] = 1.0
+            if shortage > total[2]:
+                total[2] = shortage
+                total[3] = t
+            if binding:
+                total[4] += 1.0
+            total[7] += dcs
+            total[8] += dps
+            total[9] += rev
+            total[10] += g_tc
+            total[11] += g_tu
+            total[12] += g_out
+            total[13] += g_oc
+            total[14] += g_ou
+            total[15] += g_gov
+            if t == horizon[i]:
+                total[0] = cumulative
+                total[1] = discounted
+                total[5] = pc
+                total[6] = q
             k_prev = q
             previous_rent = covered_price
             if p_star > 0.0 and math.isfinite(p_star):
                 guess = p_star
 
 
-def policy_paths(batch_arrays: dict, rows: dict, free: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Every row's series (R, len(SERIES_INDEX), T+1) and flags (R, 3, T+1).
+def policy_paths(
+    batch_arrays: dict, rows: dict, free: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every row's series (R, len(SERIES_INDEX), T+1), flags (R, 3, T+1) and summary
+    (R, len(SUMMARY_INDEX)).
 
     `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
     """
@@ -709,6 +776,7 @@ def policy_paths(batch_arrays: dict, rows: dict, free: np.ndarray) -> tuple[np.n
     periods = a["eps"].shape[1]
     out = np.empty((count, len(SERIES_INDEX), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
+    summary = np.empty((count, len(SUMMARY_INDEX)))
     _row_kernel(
         rows["scenario"],
         rows["kind"],
@@ -736,8 +804,166 @@ def policy_paths(batch_arrays: dict, rows: dict, free: np.ndarray) -> tuple[np.n
         free,
         out,
         flags,
+        summary,
     )
-    return out, flags
+    return out, flags, summary
+
+
+# --- percentiles over draws -----------------------------------------------------------------
+
+
+@njit(**_JIT)
+def _select_many(a, ks):
+    """Reorder `a` so that a[k] is the k-th smallest for every k in the sorted `ks`: Hoare
+    partitions with a median-of-three pivot, each part kept only while it holds a wanted k
+    (O(n log len(ks)); runs of equal values cannot degrade it)."""
+    stack = np.empty((64 + 2 * ks.shape[0], 2), dtype=np.int64)
+    stack[0, 0], stack[0, 1] = 0, a.shape[0] - 1
+    top = 1
+    while top > 0:
+        top -= 1
+        lo, hi = stack[top, 0], stack[top, 1]
+        wanted = False
+        for k in ks:
+            if lo <= k <= hi:
+                wanted = True
+                break
+        if not wanted or hi <= lo:
+            continue
+        mid = (lo + hi) // 2
+        x, y, z = a[lo], a[mid], a[hi]
+        if x > y:
+            x, y = y, x
+        if y > z:
+            y = z
+            if x > y:
+                y = x
+        pivot = y
+        i, j = lo, hi
+        while i <= j:
+            while a[i] < pivot:
+                i += 1
+            while a[j] > pivot:
+                j -= 1
+            if i <= j:
+                a[i], a[j] = a[j], a[i]
+                i += 1
+                j -= 1
+        # a[lo..j] <= pivot <= a[i..hi]; anything between equals the pivot.
+        stack[top, 0], stack[top, 1] = lo, j
+        stack[top + 1, 0], stack[top + 1, 1] = i, hi
+        top += 2
+
+
+@njit(**_JIT)
+def _order_statistics(values, ks, out):
+    """out[n] = the ks[n]-th smallest of `values` (ks sorted, unique). One pass counts the
+    values into equal-width bins between their minimum and maximum, a second gathers only the
+    bins that hold a wanted rank, and those few values are selected exactly."""
+    low = high = values[0]
+    for x in values:
+        if x < low:
+            low = x
+        if x > high:
+            high = x
+    if low == high:
+        for n in range(ks.shape[0]):
+            out[n] = low
+        return
+    bins = 2048
+    scale = bins / (high - low)
+    if not (math.isfinite(scale) and math.isfinite(low) and math.isfinite(high)):
+        ordered = np.sort(values)
+        for n in range(ks.shape[0]):
+            out[n] = ordered[ks[n]]
+        return
+    counts = np.zeros(bins, dtype=np.int64)
+    for x in values:
+        position = (x - low) * scale
+        counts[min(int(position), bins - 1) if position < bins else bins - 1] += 1
+    slot = np.full(bins, -1, dtype=np.int64)
+    first = np.empty(ks.shape[0], dtype=np.int64)  # first rank held by each wanted bin
+    size = np.empty(ks.shape[0], dtype=np.int64)
+    bin_of = np.empty(ks.shape[0], dtype=np.int64)
+    wanted = 0
+    below = 0
+    n = 0
+    for b in range(bins):
+        while n < ks.shape[0] and ks[n] < below + counts[b]:
+            if slot[b] < 0:
+                slot[b] = wanted
+                first[wanted] = below
+                size[wanted] = counts[b]
+                wanted += 1
+            bin_of[n] = slot[b]
+            n += 1
+        below += counts[b]
+    offset = np.zeros(wanted + 1, dtype=np.int64)
+    for w in range(wanted):
+        offset[w + 1] = offset[w] + size[w]
+    gathered = np.empty(offset[wanted], dtype=values.dtype)
+    fill = offset[:wanted].copy()
+    for x in values:
+        position = (x - low) * scale
+        w = slot[min(int(position), bins - 1) if position < bins else bins - 1]
+        if w >= 0:
+            gathered[fill[w]] = x
+            fill[w] += 1
+    for w in range(wanted):
+        part = gathered[offset[w] : offset[w + 1]]
+        picks = 0
+        for n in range(ks.shape[0]):
+            if bin_of[n] == w:
+                picks += 1
+        ranks = np.empty(picks, dtype=np.int64)
+        picks = 0
+        for n in range(ks.shape[0]):
+            if bin_of[n] == w:
+                ranks[picks] = ks[n] - first[w]
+                picks += 1
+        _select_many(part, ranks)
+        for n in range(ks.shape[0]):
+            if bin_of[n] == w:
+                out[n] = part[ks[n] - first[w]]
+
+
+@njit(**_JIT)
+def _percentile_rows(values, keep, q, out):
+    """out[row, i]: numpy's default ('linear') q[i]-th percentile of values[row, keep]."""
+    count = keep.shape[0]
+    everything = count == values.shape[1]
+    scratch = np.empty(count, dtype=np.float64)
+    needed = np.empty(2 * q.shape[0], dtype=np.int64)
+    fraction = np.empty(q.shape[0])
+    for i in range(q.shape[0]):
+        position = (count - 1) * q[i] / 100.0
+        low = math.floor(position)
+        needed[2 * i] = low
+        needed[2 * i + 1] = min(low + 1, count - 1)
+        fraction[i] = position - low
+    order = np.unique(needed)
+    rank_of = np.searchsorted(order, needed)
+    stats = np.empty(order.shape[0])
+    for row in range(values.shape[0]):
+        if everything:
+            for d in range(count):
+                scratch[d] = values[row, d]
+        else:
+            for d in range(count):
+                scratch[d] = values[row, keep[d]]
+        _order_statistics(scratch, order, stats)
+        for i in range(q.shape[0]):
+            below, above = stats[rank_of[2 * i]], stats[rank_of[2 * i + 1]]
+            out[row, i] = below + (above - below) * fraction[i]
+
+
+def percentiles(values: np.ndarray, keep: np.ndarray, q: np.ndarray) -> np.ndarray:
+    """(rows, len(q)) percentiles of each row of `values` (rows, draws) over the draws `keep`
+    (indices, at least one), exactly numpy's 'linear' method; order statistics are selected,
+    not sorted (O(draws) per percentile)."""
+    out = np.empty((values.shape[0], q.shape[0]))
+    _percentile_rows(values, np.ascontiguousarray(keep, dtype=np.int64), np.asarray(q, dtype=float), out)
+    return out
 
 
 def warm_up() -> None:
@@ -772,3 +998,4 @@ def warm_up() -> None:
     }
     free = free_paths(arrays)
     policy_paths(arrays, rows, free)
+    percentiles(np.ones((2, 3), dtype=np.float32), np.arange(3), np.array([5.0, 50.0]))

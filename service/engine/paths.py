@@ -51,6 +51,8 @@ class PathArrays:
     policy_infeasible: np.ndarray  # (R, T+1): Q, Pc or Pp <= 0 where the policy binds
     unbounded_willingness: np.ndarray  # (R,): random rationing, ceiling, CE with |eta| <= 1
     non_finite: np.ndarray  # (R,): a reported value is not finite
+    summary: np.ndarray  # (R, len(kernel.SUMMARY_INDEX)): headline figures over the horizon
+    series: np.ndarray  # (R, len(kernel.SERIES_INDEX), T+1): every series of every row
 
     def scenario_failed(self, rows: PolicyRows) -> np.ndarray:
         """(n,) True where any problem makes the scenario's answer unusable."""
@@ -193,7 +195,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     arrays["constant_elasticity"] = ce
     arrays["shifts"] = np.where(ce[:, None, None], inputs[True][0]["shifts"], arrays["shifts"])
     own_free = np.ascontiguousarray(primary[:, :2])
-    series, flags = kernel.policy_paths(arrays, policy, own_free)
+    series, flags, summary = kernel.policy_paths(arrays, policy, own_free)
     index = kernel.SERIES_INDEX
     s_of = rows.scenario
     row_valid = valid[s_of]
@@ -213,10 +215,8 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
 
-    # One pass: a sum of finite numbers (all far below 1e300) is finite, and NaN or inf in any
-    # reported series makes it non-finite.
-    total = np.where(row_valid, series[:, :16].sum(axis=1), 0.0)
-    non_finite = ~np.isfinite(total).all(axis=1)
+    # The compiled pass flags a row where any reported value of a valid period is not finite.
+    non_finite = summary[:, kernel.SUMMARY_INDEX["non_finite"]] > 0.0
 
     return PathArrays(
         valid=valid,
@@ -237,4 +237,6 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         policy_infeasible=infeasible,
         unbounded_willingness=unbounded,
         non_finite=non_finite,
+        summary=summary,
+        series=series,
     )

@@ -22,6 +22,7 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
+from .kernel import SERIES_INDEX, SUMMARY_INDEX
 from .paths import PathArrays, solve
 from .policies import CEILING_KINDS
 from .reduced_form import reduced_form
@@ -109,30 +110,11 @@ def series_of(arrays: PathArrays) -> dict[str, np.ndarray]:
 
 
 def summarise(arrays: PathArrays, batch: ScenarioBatch, rows: PolicyRows) -> dict[str, np.ndarray]:
-    """Summary figures of every policy row, each (R,)."""
-    horizon = batch.horizon[rows.scenario][:, None]
-    valid = arrays.valid[rows.scenario]
-    o, w = arrays.outcome, arrays.welfare
-
-    def final(a):
-        return np.take_along_axis(a, horizon, axis=1)[:, 0]
-
-    shortage = np.where(valid, o.shortage, 0.0)
-    peak = shortage.max(axis=1)
-    return {
-        "total_deadweight_loss": final(arrays.cumulative_deadweight_loss),
-        "discounted_deadweight_loss": final(arrays.discounted_deadweight_loss),
-        "peak_shortage": peak,
-        "peak_shortage_period": np.where(peak > 0.0, shortage.argmax(axis=1), -1),
-        "binding_periods": (o.binding & valid).sum(axis=1),
-        "final_consumer_price": final(o.consumer_price),
-        "final_quantity": final(o.quantity),
-        # Running sums (not np.sum's pairwise order) so that padding a batch to a longer
-        # horizon never changes a total in its last bit.
-        "total_consumer_surplus_change": final(np.cumsum(w.consumer_surplus_change, axis=1)),
-        "total_producer_surplus_change": final(np.cumsum(w.producer_surplus_change, axis=1)),
-        "total_government_revenue": final(np.cumsum(w.government_revenue, axis=1)),
-    }
+    """Summary figures of every policy row, each (R,), as the compiled pass summed them."""
+    figures = {name: arrays.summary[:, i] for name, i in SUMMARY_INDEX.items()}
+    figures["peak_shortage_period"] = figures["peak_shortage_period"].astype(np.int64)
+    figures["binding_periods"] = figures["binding_periods"].astype(np.int64)
+    return figures
 
 
 def _first_period(mask: np.ndarray) -> int:
@@ -234,10 +216,6 @@ def assemble(
 ) -> list[ScenarioResult | EngineError]:
     """Slice the batch's arrays into one result (or error) per scenario."""
     failed = arrays.scenario_failed(rows)
-    series = series_of(arrays)
-    if as_lists:
-        series = {k: v.tolist() for k, v in series.items()}
-    summary = summarise(arrays, batch, rows)
     sr_price, sr_quantity = reduced_form(
         batch.demand_elasticity,
         batch.short_run_elasticity,
@@ -255,33 +233,50 @@ def assemble(
     is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
+    float_series = [name for name in SERIES if name != "binding"]
+    block = arrays.series[:, [SERIES_INDEX[name] for name in float_series], :]
+    binding = arrays.outcome.binding
+    if as_lists:  # one conversion for the whole batch, far faster than array by array
+        block, binding = block.tolist(), binding.tolist()
+    position = {name: j for j, name in enumerate(float_series)}
+    figures = arrays.summary.tolist()
+    code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
-        row_index = np.arange(starts[i], starts[i + 1])
+        row_index = range(int(starts[i]), int(starts[i + 1]))
         if failed[i]:
-            results.append(_scenario_error(i, scenario, arrays, row_index))
+            results.append(_scenario_error(i, scenario, arrays, np.asarray(row_index)))
             continue
         end = int(batch.horizon[i]) + 1
         paths = []
         summaries = []
+        ceiling_binds = False
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
-            paths.append(PolicyPath(policy.name, policy.kind, {k: v[r][:end] for k, v in series.items()}))
-            peak_period = int(summary["peak_shortage_period"][r])
+            values = block[r]
+            path = {
+                name: binding[r][:end] if name == "binding" else values[position[name]][:end]
+                for name in SERIES
+            }
+            paths.append(PolicyPath(policy.name, policy.kind, path))
+            f = figures[r]
+            peak_period = int(f[code["peak_shortage_period"]])
+            binding_periods = int(f[code["binding_periods"]])
+            ceiling_binds = ceiling_binds or (bool(is_ceiling[r]) and binding_periods > 0)
             summaries.append(
                 PolicySummary(
                     name=policy.name,
                     kind=policy.kind,
-                    total_deadweight_loss=float(summary["total_deadweight_loss"][r]),
-                    discounted_deadweight_loss=float(summary["discounted_deadweight_loss"][r]),
-                    peak_shortage=float(summary["peak_shortage"][r]),
+                    total_deadweight_loss=f[code["total_deadweight_loss"]],
+                    discounted_deadweight_loss=f[code["discounted_deadweight_loss"]],
+                    peak_shortage=f[code["peak_shortage"]],
                     peak_shortage_period=peak_period if peak_period >= 0 else None,
-                    binding_periods=int(summary["binding_periods"][r]),
-                    final_consumer_price=float(summary["final_consumer_price"][r]),
-                    final_quantity=float(summary["final_quantity"][r]),
-                    total_consumer_surplus_change=float(summary["total_consumer_surplus_change"][r]),
-                    total_producer_surplus_change=float(summary["total_producer_surplus_change"][r]),
-                    total_government_revenue=float(summary["total_government_revenue"][r]),
+                    binding_periods=binding_periods,
+                    final_consumer_price=f[code["final_consumer_price"]],
+                    final_quantity=f[code["final_quantity"]],
+                    total_consumer_surplus_change=f[code["total_consumer_surplus_change"]],
+                    total_producer_surplus_change=f[code["total_producer_surplus_change"]],
+                    total_government_revenue=f[code["total_government_revenue"]],
                 )
             )
         rf = {
@@ -291,7 +286,6 @@ def assemble(
             }
             for j, name in enumerate(scenario.market.shifter_names)
         }
-        ceiling_rows = row_index[is_ceiling[row_index]]
         cautions = scenario_cautions(
             form=scenario.market.form,
             largest_shock=float(largest[i]),
@@ -300,7 +294,7 @@ def assemble(
             price_gap=float(price_gap[i]),
             price_gap_period=int(price_gap_at[i]),
             quantity_gap=float(quantity_gap[i]),
-            ceiling_binds=bool(summary["binding_periods"][ceiling_rows].sum() > 0),
+            ceiling_binds=ceiling_binds,
             random_rationing=scenario.welfare.rationing == "random",
             never_binding=[s.name for s in summaries if s.kind != "none" and s.binding_periods == 0],
         )
