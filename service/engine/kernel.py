@@ -479,11 +479,13 @@ def _row_kernel(
     price_index,
     inflation,
     free,
+    column,
     out,
     flags,
     summary,
 ):
     rows = scenario.shape[0]
+    cell = np.empty(column.shape[0])
     for r in range(rows):
         i = scenario[r]
         ce = ce_form[i]
@@ -499,21 +501,24 @@ def _row_kernel(
         else:
             m_divisor = 2.0
         # Period 0: the base point.
-        for j in range(out.shape[1]):
-            out[r, j, 0] = 0.0
-        out[r, 0, 0] = p0
-        out[r, 1, 0] = p0
-        out[r, 2, 0] = q0
-        out[r, 3, 0] = q0
-        out[r, 4, 0] = q0
-        out[r, 7, 0] = p0
-        out[r, 8, 0] = p0
-        out[r, 16, 0] = p0
-        out[r, 17, 0] = p0
-        out[r, 18, 0] = share * q0
-        out[r, 19, 0] = (1.0 - share) * q0
-        out[r, 26, 0] = p0
-        out[r, 27, 0] = q0
+        for j in range(cell.shape[0]):
+            cell[j] = 0.0
+        cell[0] = p0
+        cell[1] = p0
+        cell[2] = q0
+        cell[3] = q0
+        cell[4] = q0
+        cell[7] = p0
+        cell[8] = p0
+        cell[16] = p0
+        cell[17] = p0
+        cell[18] = share * q0
+        cell[19] = (1.0 - share) * q0
+        cell[26] = p0
+        cell[27] = q0
+        for j in range(cell.shape[0]):
+            if column[j] >= 0:
+                out[r, column[j], 0] = cell[j]
         for j in range(3):
             flags[r, j, 0] = False
         k_prev = q0
@@ -700,42 +705,44 @@ def _row_kernel(
                     g_gov = rev
             cumulative += dwl
             discounted += dwl * factor[i, t]
-            o = out[r]
-            o[0, t] = pc
-            o[1, t] = pp
-            o[2, t] = q
-            o[3, t] = qd
-            o[4, t] = qs
-            o[5, t] = shortage
-            o[6, t] = excess
-            o[7, t] = mv
-            o[8, t] = mc
-            o[9, t] = dcs
-            o[10, t] = dps
-            o[11, t] = rev
-            o[12, t] = dwl
-            o[13, t] = mis
-            o[14, t] = cumulative
-            o[15, t] = discounted
-            o[16, t] = covered_price
-            o[17, t] = uncovered_price
-            o[18, t] = covered_q
-            o[19, t] = uncovered_q
-            o[20, t] = g_tc
-            o[21, t] = g_tu
-            o[22, t] = g_out
-            o[23, t] = g_oc
-            o[24, t] = g_ou
-            o[25, t] = g_gov
-            o[26, t] = p_star
-            o[27, t] = q_star
+            cell[0] = pc
+            cell[1] = pp
+            cell[2] = q
+            cell[3] = qd
+            cell[4] = qs
+            cell[5] = shortage
+            cell[6] = excess
+            cell[7] = mv
+            cell[8] = mc
+            cell[9] = dcs
+            cell[10] = dps
+            cell[11] = rev
+            cell[12] = dwl
+            cell[13] = mis
+            cell[14] = cumulative
+            cell[15] = discounted
+            cell[16] = covered_price
+            cell[17] = uncovered_price
+            cell[18] = covered_q
+            cell[19] = uncovered_q
+            cell[20] = g_tc
+            cell[21] = g_tu
+            cell[22] = g_out
+            cell[23] = g_oc
+            cell[24] = g_ou
+            cell[25] = g_gov
+            cell[26] = p_star
+            cell[27] = q_star
+            for j in range(cell.shape[0]):
+                if column[j] >= 0:
+                    out[r, column[j], t] = cell[j]
             flags[r, 0, t] = binding
             flags[r, 1, t] = rationed
             flags[r, 2, t] = infeasible
             total = summary[r]
             checksum = 0.0
             for j in range(16):
-                checksum += o[j, t]
+                checksum += cell[j]
             if not math.isfinite(checksum):
                 total[16] = 1.0
             if shortage > total[2]:
@@ -764,17 +771,22 @@ def _row_kernel(
 
 
 def policy_paths(
-    batch_arrays: dict, rows: dict, free: np.ndarray
+    batch_arrays: dict, rows: dict, free: np.ndarray, series: tuple[str, ...] | None = None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Every row's series (R, len(SERIES_INDEX), T+1), flags (R, 3, T+1) and summary
-    (R, len(SUMMARY_INDEX)).
+    """The rows' series (R, len(series), T+1) in the order of `series` (default: all of
+    SERIES_INDEX), flags (R, 3, T+1) and summary (R, len(SUMMARY_INDEX)). Asking only for
+    the series needed saves memory traffic (bands keep six).
 
     `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
     """
     a = batch_arrays
     count = rows["scenario"].shape[0]
     periods = a["eps"].shape[1]
-    out = np.empty((count, len(SERIES_INDEX), periods))
+    wanted = tuple(SERIES_INDEX) if series is None else series
+    column = np.full(len(SERIES_INDEX), -1, dtype=np.int64)
+    for j, name in enumerate(wanted):
+        column[SERIES_INDEX[name]] = j
+    out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
     summary = np.empty((count, len(SUMMARY_INDEX)))
     _row_kernel(
@@ -802,6 +814,7 @@ def policy_paths(
         a["price_index"],
         a["inflation"],
         free,
+        column,
         out,
         flags,
         summary,

@@ -39,10 +39,8 @@ class PathArrays:
     alternate_price: np.ndarray  # (n, T+1): free-market price in the other curve form
     alternate_quantity: np.ndarray  # (n, T+1)
     alternate_feasible: np.ndarray  # (n,) bool: the other form has P*, Q* > 0 throughout
-    outcome: Outcome  # (R, T+1)
-    welfare: WelfareChange  # (R, T+1)
-    cumulative_deadweight_loss: np.ndarray  # (R, T+1)
-    discounted_deadweight_loss: np.ndarray  # (R, T+1)
+    outcome: Outcome | None  # (R, T+1) each; None when solve kept only some series
+    welfare: WelfareChange | None  # (R, T+1) each; likewise
     discount_factor: np.ndarray  # (n, T+1)
     # Problems, as masks
     shift_out_of_range: np.ndarray  # (n, m): summed change <= -1 or above MAX_CHANGE
@@ -52,7 +50,13 @@ class PathArrays:
     unbounded_willingness: np.ndarray  # (R,): random rationing, ceiling, CE with |eta| <= 1
     non_finite: np.ndarray  # (R,): a reported value is not finite
     summary: np.ndarray  # (R, len(kernel.SUMMARY_INDEX)): headline figures over the horizon
-    series: np.ndarray  # (R, len(kernel.SERIES_INDEX), T+1): every series of every row
+    series: np.ndarray  # (R, len(series_names), T+1): the kept series of every row
+    series_names: tuple[str, ...]
+    binding: np.ndarray  # (R, T+1) bool
+
+    def named(self, name: str) -> np.ndarray:
+        """One kept series of every row, (R, T+1)."""
+        return self.series[:, self.series_names.index(name)]
 
     def scenario_failed(self, rows: PolicyRows) -> np.ndarray:
         """(n,) True where any problem makes the scenario's answer unusable."""
@@ -108,10 +112,17 @@ def _supply_path(batch: ScenarioBatch):
 FLOATING_POINT: dict[str, str] = {"all": "ignore"}
 
 
-def solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
-    """Compute every path of every policy row of the batch."""
+def solve(
+    batch: ScenarioBatch, rows: PolicyRows, series: tuple[str, ...] | None = None, alternate: bool = True
+) -> PathArrays:
+    """Compute every path of every policy row of the batch.
+
+    `series` names the only series to keep (then `outcome` and `welfare` are None and the
+    series are read from `series`); `alternate=False` skips the other curve form's free path
+    (used only by the cautions).
+    """
     with np.errstate(**FLOATING_POINT):
-        return _solve(batch, rows)
+        return _solve(batch, rows, series, alternate)
 
 
 def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, demand_shift, supply_shift, factor):
@@ -150,7 +161,7 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, demand_shift, su
     return arrays, policy
 
 
-def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
+def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> PathArrays:
     n, periods = batch.size, batch.periods
     t = np.arange(periods)
     valid = t[None, :] <= batch.horizon[:, None]
@@ -162,54 +173,58 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
     ce = batch.constant_elasticity
     factor = discount_factors(np.broadcast_to(batch.discount_rate, (n, periods)))
 
-    # Free paths in both forms (the other form feeds the cautions).
-    inputs = {}
-    free = {}
-    for is_ce, (d, s) in ((False, (lin_d, lin_s)), (True, (ce_d, ce_s))):
+    def prepared(is_ce, d, s_):
         arrays, policy = _kernel_inputs(
-            batch, rows, eps_safe, np.where(keep, d, 0.0), np.where(keep, s, 0.0), factor
+            batch, rows, eps_safe, np.where(keep, d, 0.0), np.where(keep, s_, 0.0), factor
         )
-        arrays["constant_elasticity"] = np.full(n, is_ce)
-        inputs[is_ce] = (arrays, policy)
-        free[is_ce] = kernel.free_paths(arrays)
-    lin_price, lin_quantity = free[False][:, 0], free[False][:, 1]
-    ce_price, ce_quantity = free[True][:, 0], free[True][:, 1]
+        arrays["constant_elasticity"] = is_ce
+        return arrays, policy
+
+    if alternate:
+        # Free paths in both forms (the other form feeds the cautions).
+        lin_inputs, policy = prepared(np.zeros(n, dtype=bool), lin_d, lin_s)
+        ce_inputs, _ = prepared(np.ones(n, dtype=bool), ce_d, ce_s)
+        lin_free, ce_free = kernel.free_paths(lin_inputs), kernel.free_paths(ce_inputs)
+        arrays = dict(lin_inputs, constant_elasticity=ce)
+        arrays["shifts"] = np.where(ce[:, None, None], ce_inputs["shifts"], lin_inputs["shifts"])
+        primary = np.where(ce[:, None, None], ce_free, lin_free)
+    else:
+        arrays, policy = prepared(ce, np.where(ce[:, None], ce_d, lin_d), np.where(ce[:, None], ce_s, lin_s))
+        primary = lin_free = ce_free = kernel.free_paths(arrays)
+    lin_price, lin_quantity = lin_free[:, 0], lin_free[:, 1]
+    ce_price, ce_quantity = ce_free[:, 0], ce_free[:, 1]
     linear_fails = valid & ~((lin_price > 0.0) & (lin_quantity > 0.0))
-    lin_feasible = ~linear_fails.any(axis=1)
     linear_out_of_range = linear_fails & ~ce[:, None]
     scenario_bad = scenario_bad | linear_out_of_range.any(axis=1)
     keep = ~scenario_bad[:, None]
-    primary = np.where(ce[:, None, None], free[True], free[False])
     free_price = np.where(keep, primary[:, 0], batch.price[:, None])
     free_quantity = np.where(keep, primary[:, 1], batch.quantity[:, None])
-    alternate_feasible = np.where(ce, lin_feasible, True) & ~scenario_bad
-    alternate_ok = keep & alternate_feasible[:, None]
-    alternate_price = np.where(alternate_ok, np.where(ce[:, None], lin_price, ce_price), batch.price[:, None])
-    alternate_quantity = np.where(
-        alternate_ok, np.where(ce[:, None], lin_quantity, ce_quantity), batch.quantity[:, None]
-    )
+    if alternate:
+        lin_feasible = ~linear_fails.any(axis=1)
+        alternate_feasible = np.where(ce, lin_feasible, True) & ~scenario_bad
+        alternate_ok = keep & alternate_feasible[:, None]
+        alternate_price = np.where(
+            alternate_ok, np.where(ce[:, None], lin_price, ce_price), batch.price[:, None]
+        )
+        alternate_quantity = np.where(
+            alternate_ok, np.where(ce[:, None], lin_quantity, ce_quantity), batch.quantity[:, None]
+        )
+    else:
+        alternate_feasible = np.zeros(n, dtype=bool)
+        alternate_price, alternate_quantity = free_price, free_quantity
 
     # Policy rows: one kernel call, each scenario in its own form.
-    arrays, policy = inputs[False]
-    arrays = dict(arrays)
-    arrays["constant_elasticity"] = ce
-    arrays["shifts"] = np.where(ce[:, None, None], inputs[True][0]["shifts"], arrays["shifts"])
     own_free = np.ascontiguousarray(primary[:, :2])
-    series, flags, summary = kernel.policy_paths(arrays, policy, own_free)
-    index = kernel.SERIES_INDEX
+    names = tuple(kernel.SERIES_INDEX) if series is None else series
+    values, flags, summary = kernel.policy_paths(arrays, policy, own_free, names)
+    index = {name: j for j, name in enumerate(names)}
     s_of = rows.scenario
     row_valid = valid[s_of]
-    outcome = Outcome(
-        **{
-            f.name: series[:, index[f.name]] for f in fields(Outcome) if f.name not in ("binding", "rationed")
-        },
-        binding=flags[:, 0],
-        rationed=flags[:, 1],
-    )
-    welfare = WelfareChange(**{f.name: series[:, index[f.name]] for f in fields(WelfareChange)})
+    outcome = welfare = None
+    if series is None:
+        outcome, welfare = _outcome_and_welfare(values, index, flags)
     infeasible = flags[:, 2] & row_valid
-    cumulative = series[:, index["cumulative_deadweight_loss"]]
-    discounted = series[:, index["discounted_deadweight_loss"]]
+    binding = flags[:, 0]
 
     is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
     unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
@@ -220,7 +235,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
 
     return PathArrays(
         valid=valid,
-        supply_elasticity=np.where(keep, primary[:, 2], eps) if False else eps,
+        supply_elasticity=np.where(keep, primary[:, 2], eps),
         free_price=free_price,
         free_quantity=free_quantity,
         alternate_price=alternate_price,
@@ -228,8 +243,6 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         alternate_feasible=alternate_feasible,
         outcome=outcome,
         welfare=welfare,
-        cumulative_deadweight_loss=cumulative,
-        discounted_deadweight_loss=discounted,
         discount_factor=factor,
         shift_out_of_range=shift_bad,
         schedule_undefined=schedule_undefined,
@@ -238,5 +251,21 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows) -> PathArrays:
         unbounded_willingness=unbounded,
         non_finite=non_finite,
         summary=summary,
-        series=series,
+        series=values,
+        series_names=names,
+        binding=binding,
     )
+
+
+_FLAGS = ("binding", "rationed")
+
+
+def _outcome_and_welfare(values, index, flags) -> tuple[Outcome, WelfareChange]:
+    outcome = Outcome(
+        **{
+            f.name: values[:, index[f.name]] for f in fields(Outcome) if f.name not in ("binding", "rationed")
+        },
+        binding=flags[:, 0],
+        rationed=flags[:, 1],
+    )
+    return outcome, WelfareChange(**{f.name: values[:, index[f.name]] for f in fields(WelfareChange)})

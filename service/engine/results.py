@@ -22,7 +22,7 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
-from .kernel import SERIES_INDEX, SUMMARY_INDEX
+from .kernel import SUMMARY_INDEX
 from .paths import PathArrays, solve
 from .policies import CEILING_KINDS
 from .reduced_form import reduced_form
@@ -97,16 +97,6 @@ class ScenarioResult:
     paths: tuple[PolicyPath, ...]
     summary: tuple[PolicySummary, ...]
     cautions: tuple[str, ...]
-
-
-def series_of(arrays: PathArrays) -> dict[str, np.ndarray]:
-    """Every reported series, (R, T+1), by response name."""
-    o, w = arrays.outcome, arrays.welfare
-    out = {name: getattr(o, name) for name in SERIES[:10]}
-    out.update({name: getattr(w, name) for name in SERIES[10:15]})
-    out["cumulative_deadweight_loss"] = arrays.cumulative_deadweight_loss
-    out["discounted_deadweight_loss"] = arrays.discounted_deadweight_loss
-    return out
 
 
 def summarise(arrays: PathArrays, batch: ScenarioBatch, rows: PolicyRows) -> dict[str, np.ndarray]:
@@ -234,8 +224,8 @@ def assemble(
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
     float_series = [name for name in SERIES if name != "binding"]
-    block = arrays.series[:, [SERIES_INDEX[name] for name in float_series], :]
-    binding = arrays.outcome.binding
+    block = arrays.series[:, [arrays.series_names.index(name) for name in float_series], :]
+    binding = arrays.binding
     if as_lists:  # one conversion for the whole batch, far faster than array by array
         block, binding = block.tolist(), binding.tolist()
     position = {name: j for j, name in enumerate(float_series)}

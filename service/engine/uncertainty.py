@@ -208,7 +208,7 @@ class BandArrays:
 
 def solve_rows(batch: ScenarioBatch, rows: PolicyRows):
     """Solve and summarise; per row: feasible (R,), series (R, series, T+1), summary."""
-    arrays = solve(batch, rows)
+    arrays = solve(batch, rows, series=BAND_SERIES, alternate=False)
     scenario_failed = (
         arrays.shift_out_of_range.any(axis=1)
         | arrays.schedule_undefined
@@ -217,16 +217,8 @@ def solve_rows(batch: ScenarioBatch, rows: PolicyRows):
     row_bad = arrays.policy_infeasible.any(axis=1) | arrays.unbounded_willingness | arrays.non_finite
     feasible = ~(row_bad | scenario_failed[rows.scenario])
     summary = summarise(arrays, batch, rows)
-    o = arrays.outcome
-    series = {
-        "consumer_price": o.consumer_price,
-        "quantity": o.quantity,
-        "shortage": o.shortage,
-        "deadweight_loss": arrays.welfare.deadweight_loss,
-        "cumulative_deadweight_loss": arrays.cumulative_deadweight_loss,
-        "discounted_deadweight_loss": arrays.discounted_deadweight_loss,
-    }
-    binds = (o.binding & arrays.valid[rows.scenario]).any(axis=1)
+    series = {name: arrays.named(name) for name in BAND_SERIES}
+    binds = (arrays.binding & arrays.valid[rows.scenario]).any(axis=1)
     return feasible, series, summary, binds
 
 
