@@ -1,6 +1,6 @@
 """From path arrays to one answer per scenario: paths, summary, reduced form, cautions.
 
-`simulate` is the engine's entry point for a list of scenarios: it packs them, solves all
+`solve_scenarios` is the engine's entry point for a list of scenarios: it packs them, solves all
 of them in one vectorised pass, and returns, in order, a ScenarioResult or the EngineError
 that explains why that scenario has no answer. The summary figures are computed for all
 policy rows at once; only the final slicing into per-scenario objects walks the list.
@@ -23,11 +23,19 @@ from .errors import (
     NonFiniteResultError,
 )
 from .paths import PathArrays, solve
-from .policies import CEILING_KINDS
+from .policies import is_ceiling
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
-__all__ = ["SERIES", "PolicyPath", "PolicySummary", "ScenarioResult", "simulate", "summarise"]
+__all__ = [
+    "SERIES",
+    "PolicyPath",
+    "PolicySummary",
+    "ScenarioResult",
+    "assemble",
+    "solve_scenarios",
+    "summarise",
+]
 
 #: The per-period series of every policy path, in response order.
 SERIES = (
@@ -212,7 +220,9 @@ def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
 
 
-def simulate(scenarios: Sequence[Scenario], as_lists: bool = False) -> list[ScenarioResult | EngineError]:
+def solve_scenarios(
+    scenarios: Sequence[Scenario], as_lists: bool = False
+) -> list[ScenarioResult | EngineError]:
     """Every scenario's paths in one vectorised pass; errors are returned, not raised.
 
     as_lists=True gives each series as a Python list (converted for the whole batch at once,
@@ -252,7 +262,7 @@ def assemble(
     )
     largest, largest_at = _largest_shock(batch, arrays)
     price_gap, price_gap_at, quantity_gap = _gaps(arrays)
-    is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
+    ceiling = is_ceiling(rows.kind)
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
     results: list[ScenarioResult | EngineError] = []
@@ -291,7 +301,7 @@ def assemble(
             }
             for j, name in enumerate(scenario.market.shifter_names)
         }
-        ceiling_rows = row_index[is_ceiling[row_index]]
+        ceiling_rows = row_index[ceiling[row_index]]
         cautions = scenario_cautions(
             form=scenario.market.form,
             largest_shock=float(largest[i]),

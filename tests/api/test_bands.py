@@ -5,8 +5,8 @@ from __future__ import annotations
 import copy
 
 from service import bands
-from service.api.uncertainty_schemas import MAX_DRAW_CELLS, MAX_DRAWS
 from service.examples import example_request
+from service.limits import MAX_DRAW_CELLS, MAX_DRAWS
 
 
 def test_the_uncertain_demo_gets_bands_for_every_policy(client):

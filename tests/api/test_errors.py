@@ -141,7 +141,7 @@ def test_an_unexpected_failure_is_a_generic_500_with_a_request_id(monkeypatch, c
     def broken(*args, **kwargs):
         raise RuntimeError("secret internals")
 
-    monkeypatch.setattr("service.api.views.compute", broken)
+    monkeypatch.setattr("service.http.paths.compute", broken)
     response = client.post(
         "/v1/examples" if False else "/v1/paths", json=_tiny(), headers={"X-Request-ID": "abc-123"}
     )

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from service.api.schemas import POLICY_SCHEMAS
+from service.schemas.paths import POLICY_SCHEMAS
 
 
 def test_every_listed_example_can_be_posted_as_it_is(client):

@@ -8,7 +8,8 @@ def test_liveness(client):
 def test_readiness_checks_a_known_answer(client, monkeypatch):
     assert client.get("/readyz").status_code == 200
     monkeypatch.setattr(
-        "service.api.views._CANNED", {**__import__("service.api.views", fromlist=["x"])._CANNED, "horizon": 0}
+        "service.http.health._CANNED",
+        {**__import__("service.http.health", fromlist=["x"])._CANNED, "horizon": 0},
     )
     response = client.get("/readyz")
     assert response.status_code == 503

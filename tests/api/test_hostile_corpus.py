@@ -10,8 +10,8 @@ import json
 import pytest
 
 from service import limits
-from service.api.uncertainty_schemas import MAX_DRAWS
 from service.examples import example_request
+from service.limits import MAX_DRAWS
 
 BASE = example_request("contract-example")
 UNCERTAIN = example_request("quillbrook-uncertain-elasticities")
@@ -286,7 +286,7 @@ def test_the_corpus_is_large_enough():
 
 
 def test_the_largest_bands_request_allowed_is_answered(client):
-    from service.api.uncertainty_schemas import MAX_DRAW_CELLS
+    from service.limits import MAX_DRAW_CELLS
 
     request = copy.deepcopy(UNCERTAIN)
     request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 30})

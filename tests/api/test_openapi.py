@@ -6,12 +6,12 @@ import json
 
 from openapi_spec_validator import validate
 
-from service.api.openapi import DOCUMENT_PATH, build_document, render_document
+from service.http.openapi import DOCUMENT_PATH, build_document, render_document
 
 
 def test_the_committed_document_is_the_generated_one():
     assert DOCUMENT_PATH.read_text(encoding="utf-8") == render_document(), (
-        "openapi/openapi.json is stale: run python -m service.api --write"
+        "openapi/openapi.json is stale: run python -m service.http --write"
     )
 
 

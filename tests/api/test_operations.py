@@ -7,7 +7,7 @@ import json
 import pytest
 
 from service import create_app
-from service.settings import SettingsError, load_settings
+from service.http.settings import SettingsError, load_settings
 
 from ..openapi_check import ResponseChecker
 

@@ -81,7 +81,7 @@ def test_a_repeated_request_is_answered_from_the_cache_with_the_same_bytes(app, 
     cached = create_app({"cache_bytes": 10_000_000}).test_client()
     first = cached.post("/v1/paths", json=contract_request)
     calls = []
-    import service.api.views as views
+    import service.http.paths as views
 
     original = views.compute
     views.compute = lambda *a, **k: calls.append(1) or original(*a, **k)
@@ -95,7 +95,7 @@ def test_a_repeated_request_is_answered_from_the_cache_with_the_same_bytes(app, 
 
 
 def test_the_cache_evicts_the_least_recently_used_beyond_its_bytes():
-    from service.cache import AnswerCache
+    from service.http.cache import AnswerCache
 
     cache = AnswerCache(10)
     cache.put("a", b"12345")

@@ -1,8 +1,9 @@
-"""The OpenAPI 3.1 document, generated from the marshmallow schemas and OPERATIONS.
+"""The OpenAPI 3.1 document, generated from the marshmallow schemas and the operations that
+each blueprint records beside its views (documented.py, routes.py).
 
-python -m service.api            # print the document
-python -m service.api --write    # write openapi/openapi.json
-python -m service.api --check    # exit 1 if the committed file differs
+python -m service.http            # print the document
+python -m service.http --write    # write openapi/openapi.json
+python -m service.http --check    # exit 1 if the committed file differs
 """
 
 from __future__ import annotations
@@ -17,9 +18,11 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 
 from .. import limits
 from ..engine import MODEL_VERSION
-from .chart_schemas import ChartRequestSchema
-from .fields import openapi_attributes
-from .responses import (
+from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
+from ..schemas.charts import ChartRequestSchema
+from ..schemas.fields import openapi_attributes
+from ..schemas.paths import BatchRequestSchema, PathsRequestSchema
+from ..schemas.responses import (
     BandsResponseSchema,
     BatchResponseSchema,
     ExampleListSchema,
@@ -28,9 +31,8 @@ from .responses import (
     ProblemSchema,
     SensitivityResponseSchema,
 )
-from .schemas import BatchRequestSchema, PathsRequestSchema
-from .uncertainty_schemas import MAX_DRAW_CELLS, MAX_DRAWS, BandsRequestSchema, SensitivityRequestSchema
-from .views import OPERATIONS
+from ..schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema
+from .routes import BLUEPRINTS
 
 __all__ = ["DOCUMENT_PATH", "build_document"]
 
@@ -113,6 +115,8 @@ def _content(kind: str) -> dict[str, Any]:
 
 
 def _operation(op: dict[str, Any]) -> dict[str, Any]:
+    if "document" in op:
+        return op["document"]
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
     params = [_PARAMETERS[p] for p in op.get("parameters", []) + op.get("path_parameters", [])]
     if params:
@@ -168,44 +172,11 @@ def build_document() -> dict[str, Any]:
     for name, schema in _SCHEMAS.items():
         spec.components.schema(name, schema=schema)
     by_path: dict[str, dict[str, Any]] = {}
-    for op in OPERATIONS:
-        by_path.setdefault(op["path"], {})[op["method"]] = _operation(op)
+    for blueprint in BLUEPRINTS:
+        for op in blueprint.operations:
+            by_path.setdefault(op["path"], {})[op["method"]] = _operation(op)
     for path, operations in by_path.items():
         spec.path(path=path, operations=operations)
-    spec.path(
-        path="/openapi.json",
-        operations={
-            "get": {
-                "operationId": "openapiDocument",
-                "summary": "This document",
-                "responses": {
-                    "200": {
-                        "description": "OpenAPI 3.1",
-                        "content": {"application/json": {"schema": {"type": "object"}}},
-                    }
-                },
-            }
-        },
-    )
-    spec.path(
-        path="/metrics",
-        operations={
-            "get": {
-                "operationId": "metrics",
-                "summary": "Prometheus metrics (text exposition format), aggregated over workers",
-                "responses": {
-                    "200": {
-                        "description": "Metrics.",
-                        "content": {"text/plain": {"schema": {"type": "string"}}},
-                    },
-                    "401": {
-                        "description": "Keys are configured and SHOCKPATH_METRICS_REQUIRE_KEY is on.",
-                        "content": {"application/problem+json": _content("Problem")},
-                    },
-                },
-            }
-        },
-    )
     return spec.to_dict()
 
 
@@ -221,7 +192,7 @@ def main(argv: list[str]) -> int:
     if "--check" in argv:
         same = DOCUMENT_PATH.exists() and DOCUMENT_PATH.read_text(encoding="utf-8") == text
         if not same:
-            print(f"{DOCUMENT_PATH} is out of date: run python -m service.api --write", file=sys.stderr)
+            print(f"{DOCUMENT_PATH} is out of date: run python -m service.http --write", file=sys.stderr)
         return 0 if same else 1
     sys.stdout.write(text)
     return 0

@@ -11,37 +11,28 @@ from dataclasses import dataclass
 
 from marshmallow import ValidationError, fields, post_load, validate, validates_schema
 
+from .. import limits
 from ..engine.scenario import Market, Scenario
-from ..engine.uncertainty import Distribution, UncertainInput
-from .fields import Real, Tagged, WholeNumber
-from .schemas import (
-    MAX_ELASTICITY,
-    DemandSchema,
-    MarketSchema,
-    PathsRequestSchema,
-    SupplySchema,
-    _range,
-    _Strict,
-)
+from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput
+from .fields import Real, StrictSchema, Tagged, WholeNumber
+from .fields import in_range as _range
+from .paths import DemandSchema, MarketSchema, PathsRequestSchema, SupplySchema, build_market, shifter_map
+from .pointers import escape
 
-__all__ = ["MAX_DRAWS", "BandsRequestSchema", "SensitivityRequestSchema", "UncertainRequest"]
-
-MAX_DRAWS = 100_000
-#: draws x (horizon + 1) x policies of one bands request (100,000 x 41 x 4 fits).
-MAX_DRAW_CELLS = 16_400_000
+__all__ = ["BandsRequestSchema", "SensitivityRequestSchema", "UncertainRequest"]
 
 
-class NormalSchema(_Strict):
+class NormalSchema(StrictSchema):
     distribution = fields.String(required=True, validate=validate.OneOf(["normal"]))
     mean = Real(required=True)
     sd = Real(
         required=True,
-        validate=_range(0.0, MAX_ELASTICITY),
+        validate=_range(0.0, limits.MAX_ELASTICITY),
         metadata={"description": "Standard deviation >= 0."},
     )
 
 
-class UniformSchema(_Strict):
+class UniformSchema(StrictSchema):
     distribution = fields.String(required=True, validate=validate.OneOf(["uniform"]))
     low = Real(required=True)
     high = Real(required=True)
@@ -52,7 +43,7 @@ class UniformSchema(_Strict):
             raise ValidationError("Must not be below low.", "high")
 
 
-class TriangularSchema(_Strict):
+class TriangularSchema(StrictSchema):
     distribution = fields.String(required=True, validate=validate.OneOf(["triangular"]))
     low = Real(required=True)
     mode = Real(required=True)
@@ -87,43 +78,32 @@ class UncertainElasticity(fields.Field):
         if not isinstance(value, dict):
             return self.number.deserialize(value)
         d = self.tagged.deserialize(value)
+        kind = d["distribution"]
         rule = f"[{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
-        names = {"normal": ("mean",), "uniform": ("low", "high"), "triangular": ("low", "mode", "high")}
-        bad = {k: [f"Must lie in {rule}."] for k in names[d["distribution"]] if not self._inside(d[k])}
+        # The sign rule bounds every location parameter; a normal's sd is a spread.
+        located = [k for k in PARAMETERS[kind] if k != "sd"]
+        bad = {k: [f"Must lie in {rule}."] for k in located if not self._inside(d[k])}
         if bad:
             raise ValidationError(bad)
-        kind = d["distribution"]
-        first, second, third = {
-            "normal": (d.get("mean"), d.get("sd"), 0.0),
-            "uniform": (d.get("low"), d.get("high"), 0.0),
-            "triangular": (d.get("low"), d.get("mode"), d.get("high")),
-        }[kind]
-        return Distribution(kind, first, second, third, self.lower, self.upper, self.upper_open)
+        parameters = {k: d[k] for k in PARAMETERS[kind]}
+        return Distribution(
+            kind, **parameters, lower=self.lower, upper=self.upper, upper_open=self.upper_open
+        )
 
 
 def _shifters(description: str) -> fields.Dict:
-    return fields.Dict(
-        keys=fields.String(validate=validate.Length(1, 64)),
-        values=UncertainElasticity(-MAX_ELASTICITY, MAX_ELASTICITY),
-        validate=validate.Length(max=32),
-        load_default=dict,
-        metadata={"description": description},
-    )
+    return shifter_map(description, UncertainElasticity(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
 
 
 class UncertainDemandSchema(DemandSchema):
-    price_elasticity = UncertainElasticity(-MAX_ELASTICITY, 0.0, upper_open=True, required=True)
+    price_elasticity = UncertainElasticity(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
 
 
 class UncertainSupplySchema(SupplySchema):
-    short_run_elasticity = UncertainElasticity(0.0, MAX_ELASTICITY, required=True)
-    long_run_elasticity = UncertainElasticity(0.0, MAX_ELASTICITY, required=True)
+    short_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
+    long_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
-
-
-def _central(x):
-    return x.central if isinstance(x, Distribution) else x
 
 
 class UncertainMarketSchema(MarketSchema):
@@ -132,42 +112,43 @@ class UncertainMarketSchema(MarketSchema):
 
     @post_load
     def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
+        """The market at the central values, and the uncertain inputs in a fixed order (demand
+        price elasticity, short run, long run, demand shifters, supply shifters): the order of
+        the draws' columns."""
         inputs: list[UncertainInput] = []
 
-        def note(target, pointer, value):
+        def central(target, pointer, value):
             if isinstance(value, Distribution):
                 inputs.append(UncertainInput(target, pointer, value))
-            return _central(value)
+                return value.central
+            return value
 
         demand, supply = data["demand"], data["supply"]
-        market = Market(
-            price=data["price"],
-            quantity=data["quantity"],
-            demand_elasticity=note(
-                "demand_elasticity", "/market/demand/price_elasticity", demand["price_elasticity"]
-            ),
-            short_run_elasticity=note(
-                "short_run_elasticity", "/market/supply/short_run_elasticity", supply["short_run_elasticity"]
-            ),
-            long_run_elasticity=note(
-                "long_run_elasticity", "/market/supply/long_run_elasticity", supply["long_run_elasticity"]
-            ),
-            demand_shifters={
-                n: note(("demand_shifter", n), f"/market/demand/shifters/{_escape(n)}", v)
-                for n, v in demand["shifters"].items()
-            },
-            supply_shifters={
-                n: note(("supply_shifter", n), f"/market/supply/shifters/{_escape(n)}", v)
-                for n, v in supply["shifters"].items()
-            },
-            payments_per_period=data["payments_per_period"],
-            form=data["form"],
+        eta = central("demand_elasticity", "/market/demand/price_elasticity", demand["price_elasticity"])
+        short_run = central(
+            "short_run_elasticity", "/market/supply/short_run_elasticity", supply["short_run_elasticity"]
         )
-        return market, inputs
-
-
-def _escape(name: str) -> str:
-    return name.replace("~", "~0").replace("/", "~1")
+        long_run = central(
+            "long_run_elasticity", "/market/supply/long_run_elasticity", supply["long_run_elasticity"]
+        )
+        demand_shifters = {
+            n: central(("demand_shifter", n), f"/market/demand/shifters/{escape(n)}", v)
+            for n, v in demand["shifters"].items()
+        }
+        supply_shifters = {
+            n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
+            for n, v in supply["shifters"].items()
+        }
+        numbers = {
+            **data,
+            "demand": {"price_elasticity": eta, "shifters": demand_shifters},
+            "supply": {
+                "short_run_elasticity": short_run,
+                "long_run_elasticity": long_run,
+                "shifters": supply_shifters,
+            },
+        }
+        return build_market(numbers), inputs
 
 
 @dataclass(frozen=True)
@@ -210,25 +191,30 @@ class _UncertainRequestSchema(PathsRequestSchema):
 class BandsRequestSchema(_UncertainRequestSchema):
     draws = WholeNumber(
         load_default=10_000,
-        validate=_range(1, MAX_DRAWS),
-        metadata={"description": f"Number of draws (at most {MAX_DRAWS:,}); every draw runs the full model."},
+        validate=_range(1, limits.MAX_DRAWS),
+        metadata={
+            "description": f"Number of draws (at most {limits.MAX_DRAWS:,}); every draw runs the full model."
+        },
     )
     seed = WholeNumber(
-        load_default=0, validate=_range(0, 2**63 - 1), metadata={"description": "Same seed, same answer."}
+        load_default=0,
+        validate=_range(0, limits.MAX_SEED),
+        metadata={"description": "Same seed, same answer."},
     )
     percentiles = fields.List(
         Real(validate=_range(0.0, 100.0)),
         load_default=lambda: [5.0, 50.0, 95.0],
-        validate=validate.Length(1, 21),
+        validate=validate.Length(1, limits.MAX_PERCENTILES),
         metadata={"description": "Percentiles to report, in [0, 100] (default 5, 50, 95)."},
     )
 
     @validates_schema
     def _work(self, data, **kwargs):
         cells = data["draws"] * (data["horizon"] + 1) * len(data["policies"])
-        if cells > MAX_DRAW_CELLS:
+        if cells > limits.MAX_DRAW_CELLS:
             raise ValidationError(
-                f"draws x (horizon + 1) x policies is {cells:,}; the limit is {MAX_DRAW_CELLS:,}.", "draws"
+                f"draws x (horizon + 1) x policies is {cells:,}; the limit is {limits.MAX_DRAW_CELLS:,}.",
+                "draws",
             )
 
 

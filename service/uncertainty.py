@@ -7,21 +7,23 @@ through the same vectorised engine as /v1/paths.
 
 from __future__ import annotations
 
-import dataclasses
-import hashlib
-import json
 from typing import Any
 
 import numpy as np
-from marshmallow import ValidationError
 
 from . import engine
-from .api.uncertainty_schemas import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
 from .engine.batch import pack
-from .engine.uncertainty import BAND_SERIES, BAND_SUMMARY, rows_for, scenario_batch_with, solve_rows
-from .engine.uncertainty import bands as band_arrays
-from .problems import ProblemError, problem, validation_problem
-from .simulation import compute
+from .engine.uncertainty import (
+    BAND_SERIES,
+    BAND_SUMMARY,
+    percentile_bands,
+    rows_for,
+    scenario_batch_with,
+    solve_rows,
+)
+from .problems import ProblemError, load_request, problem
+from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
+from .simulation import compute, scenario_id
 
 __all__ = ["bands", "sensitivity"]
 
@@ -32,36 +34,26 @@ _SENSITIVITY = SensitivityRequestSchema()
 HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
 
 
-def _load(schema, request: Any) -> UncertainRequest:
-    if not isinstance(request, dict):
-        raise ProblemError(validation_problem(["Must be a JSON object."]))
-    try:
-        return schema.load(request)
-    except ValidationError as error:
-        raise ProblemError(validation_problem(error.messages)) from None
-
-
-def _request_id(kind: str, req: UncertainRequest) -> str:
-    canonical = json.dumps(
-        {"model_version": engine.MODEL_VERSION, "kind": kind, "request": dataclasses.asdict(req)},
-        sort_keys=True,
-        separators=(",", ":"),
-        default=str,
+def _answer_id(endpoint: str, req: UncertainRequest) -> str:
+    """scenario_id of the central scenario with everything else the answer depends on."""
+    return scenario_id(
+        req.scenario,
+        endpoint=endpoint,
+        inputs=req.inputs,
+        draws=req.draws,
+        seed=req.seed,
+        percentiles=req.percentiles,
+        supply_correlation=req.supply_correlation,
     )
-    return hashlib.sha256(canonical.encode()).hexdigest()
 
 
 def _describe(item) -> dict[str, Any]:
     d = item.distribution
-    params = {
-        "normal": {"mean": d.first, "sd": d.second},
-        "uniform": {"low": d.first, "high": d.second},
-        "triangular": {"low": d.first, "mode": d.second, "high": d.third},
-    }[d.kind]
-    return {"pointer": item.pointer, "distribution": d.kind, **params, "central": d.central}
+    return {"pointer": item.pointer, "distribution": d.kind, **d.parameters, "central": d.central}
 
 
-def _central(req: UncertainRequest) -> dict[str, Any]:
+def _central_answer(req: UncertainRequest) -> dict[str, Any]:
+    """The /v1/paths answer at the central values (ProblemError if there is none)."""
     (body,) = compute([req.scenario])
     if "status" in body:
         body = dict(body, detail="At the central values: " + body["detail"])
@@ -75,9 +67,9 @@ def _key(q: float) -> str:
 
 def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
     """Body of POST /v1/bands; `threads` solves blocks of draws side by side (same answer)."""
-    req = _load(_BANDS, request)
-    central = _central(req)
-    arrays = band_arrays(
+    req = load_request(_BANDS, request)
+    central = _central_answer(req)
+    arrays = percentile_bands(
         req.scenario,
         req.inputs,
         req.draws,
@@ -127,7 +119,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
         )
     cautions += central["cautions"]
     return {
-        "scenario_id": _request_id("bands", req),
+        "scenario_id": _answer_id("bands", req),
         "model_version": engine.MODEL_VERSION,
         "draws": req.draws,
         "seed": req.seed,
@@ -142,8 +134,8 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
 
 def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     """Body of POST /v1/sensitivity: one-at-a-time swings, largest first (a tornado chart)."""
-    req = _load(_SENSITIVITY, request)
-    central = _central(req)
+    req = load_request(_SENSITIVITY, request)
+    central = _central_answer(req)
     inputs = req.inputs
     k = len(inputs)
     centre = np.array([i.distribution.central for i in inputs])
@@ -187,7 +179,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
         )
     entries.sort(key=lambda e: e[0], reverse=True)
     return {
-        "scenario_id": _request_id("sensitivity", req),
+        "scenario_id": _answer_id("sensitivity", req),
         "model_version": engine.MODEL_VERSION,
         "headlines": list(HEADLINES),
         "central": central,

@@ -1,4 +1,5 @@
-"""Strict marshmallow fields, and how each one appears in the OpenAPI document.
+"""Strict marshmallow fields and the base of every request schema, and how each field appears
+in the OpenAPI document.
 
 JSON numbers only (never true/false or "12"), finite only, integers written 12 or 12.0;
 unions (a number or "base"; a number or a step list) and tagged unions (a policy by its
@@ -18,10 +19,25 @@ __all__ = [
     "NumberOrConstant",
     "NumberOrList",
     "Real",
+    "StrictSchema",
     "Tagged",
     "WholeNumber",
+    "in_range",
     "openapi_attributes",
 ]
+
+
+class StrictSchema(Schema):
+    """Base of the request schemas: fields in declaration order; unknown fields are rejected
+    (marshmallow's default, RAISE)."""
+
+    class Meta:
+        ordered = True
+
+
+def in_range(low=None, high=None, low_ok=True, high_ok=True) -> validate.Range:
+    """A Range validator; low_ok / high_ok say whether each end itself is allowed."""
+    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok)
 
 
 class Real(fields.Float):

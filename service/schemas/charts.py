@@ -4,25 +4,28 @@ from __future__ import annotations
 
 from marshmallow import fields, validate
 
-from .fields import AnyObject
-from .schemas import PathsRequestSchema, _Strict
+from .. import limits
+from .fields import AnyObject, StrictSchema
+from .paths import PathsRequestSchema
 
 __all__ = ["ChartRequestSchema"]
 
 
 def _label(default: str, description: str) -> fields.String:
     return fields.String(
-        load_default=default, validate=validate.Length(1, 40), metadata={"description": description}
+        load_default=default,
+        validate=validate.Length(1, limits.MAX_CHART_LABEL_LENGTH),
+        metadata={"description": description},
     )
 
 
-class UnitsSchema(_Strict):
+class UnitsSchema(StrictSchema):
     currency = _label("money", "Currency label for prices and money, e.g. EUR.")
     quantity = _label("units", "Quantity label, e.g. homes.")
     period = _label("period", "Model period label, e.g. year.")
 
 
-class ChartRequestSchema(_Strict):
+class ChartRequestSchema(StrictSchema):
     chart = fields.String(
         required=True,
         validate=validate.OneOf(["paths", "bands", "sensitivity"]),
@@ -36,10 +39,11 @@ class ChartRequestSchema(_Strict):
     )
     units = fields.Nested(UnitsSchema, load_default=lambda: UnitsSchema().load({}))
     title = fields.String(
-        validate=validate.Length(1, 120), metadata={"description": "Replaces the chart's title."}
+        validate=validate.Length(1, limits.MAX_CHART_TITLE_LENGTH),
+        metadata={"description": "Replaces the chart's title."},
     )
     policy = fields.String(
-        validate=validate.Length(1, 80),
+        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
         metadata={
             "description": "sensitivity: the policy whose tornado to draw (default: the largest swing)."
         },

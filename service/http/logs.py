@@ -7,7 +7,7 @@ import logging
 import sys
 import time
 
-__all__ = ["REQUEST_FIELDS", "JsonFormatter", "configure_logging"]
+__all__ = ["REQUEST_FIELDS", "JsonFormatter", "configure_logging", "log_request"]
 
 REQUEST_FIELDS = ("method", "path", "status", "duration_ms", "request_id", "scenario_id", "remote")
 
@@ -57,3 +57,21 @@ def configure_logging(level: str) -> logging.Logger:
         logger.addHandler(handler)
         logger.propagate = False
     return logger
+
+
+def log_request(logger: logging.Logger, status: int, seconds: float) -> None:
+    """The current request's one log line: its fields and ids, never its body."""
+    from flask import g, request
+
+    logger.info(
+        "request",
+        extra={
+            "method": request.method,
+            "path": request.path,
+            "status": status,
+            "duration_ms": round(1000.0 * seconds, 3),
+            "request_id": g.get("request_id", ""),
+            "scenario_id": g.get("scenario_id"),
+            "remote": request.remote_addr,
+        },
+    )

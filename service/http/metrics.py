@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 
+from flask import request
 from prometheus_client import (
     CONTENT_TYPE_LATEST,
     REGISTRY,
@@ -19,7 +20,7 @@ from prometheus_client import (
     multiprocess,
 )
 
-__all__ = ["DRAWS", "LATENCY", "REQUESTS", "SCENARIOS", "scrape"]
+__all__ = ["DRAWS", "LATENCY", "REQUESTS", "SCENARIOS", "observe", "scrape"]
 
 REQUESTS = Counter(
     "shockpath_http_requests_total", "HTTP requests answered.", ["endpoint", "method", "status"]
@@ -41,3 +42,11 @@ def scrape() -> tuple[bytes, str]:
         multiprocess.MultiProcessCollector(registry)
         return generate_latest(registry), CONTENT_TYPE_LATEST
     return generate_latest(REGISTRY), CONTENT_TYPE_LATEST
+
+
+def observe(status: int, seconds: float) -> None:
+    """Count the current request and its latency by endpoint (the route), method and status."""
+    endpoint = request.url_rule.rule if request.url_rule is not None else "unmatched"
+    labels = (endpoint, request.method, str(status))
+    REQUESTS.labels(*labels).inc()
+    LATENCY.labels(*labels).observe(seconds)

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from . import limits
+from .. import limits
 
 __all__ = ["Settings", "SettingsError", "load_settings"]
 

@@ -1,13 +1,18 @@
-"""Request schemas: the single source of validation and of the OpenAPI request bodies.
+"""Requests of /v1/paths and /v1/paths/batch: the single source of their validation and of
+their OpenAPI request bodies.
 
-Each schema checks its own fields (types, signs, ranges, limits); cross-field rules of
-MODEL.md section 11 live in `@validates_schema`; `@post_load` builds the engine's frozen
-dataclasses. Unknown fields are rejected everywhere (marshmallow's RAISE).
+Each schema checks its own fields (types, signs, ranges, limits from service.limits);
+cross-field rules (shocks name declared shifters, an adjustment schedule where the supply
+elasticities differ, unique policy names, a batch's total work) live in `@validates_schema`;
+`@post_load` builds the engine's frozen dataclasses. Unknown fields are rejected everywhere
+(marshmallow's RAISE).
 """
 
 from __future__ import annotations
 
-from marshmallow import Schema, ValidationError, fields, post_load, validate, validates_schema
+from typing import Any
+
+from marshmallow import ValidationError, fields, post_load, validate, validates_schema
 
 from .. import limits
 from ..engine.scenario import (
@@ -19,61 +24,62 @@ from ..engine.scenario import (
     Shock,
     Welfare,
 )
-from .fields import AnyObject, NumberOrConstant, NumberOrList, Real, Tagged, WholeNumber
+from .fields import AnyObject, NumberOrConstant, NumberOrList, Real, StrictSchema, Tagged, WholeNumber
+from .fields import in_range as _range
 
-__all__ = ["BatchRequestSchema", "MarketSchema", "PathsRequestSchema"]
-
-MAX_MONEY = 1e12
-MAX_QUANTITY = 1e15
-MAX_ELASTICITY = 100.0
-MAX_CHANGE = 1000.0
-MAX_PERIOD = 1_000_000
-
-
-def _range(low=None, high=None, low_ok=True, high_ok=True):
-    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok)
+__all__ = [
+    "POLICY_SCHEMAS",
+    "BatchRequestSchema",
+    "DemandSchema",
+    "MarketSchema",
+    "PathsRequestSchema",
+    "SupplySchema",
+    "build_market",
+    "policy_periods",
+    "shifter_map",
+]
 
 
 def _period(**kwargs):
-    return WholeNumber(validate=_range(1, MAX_PERIOD), **kwargs)
+    return WholeNumber(validate=_range(1, limits.MAX_PERIOD), **kwargs)
 
 
-class _Strict(Schema):
-    class Meta:
-        ordered = True
+def _shifter_name(**kwargs) -> fields.String:
+    return fields.String(validate=validate.Length(1, limits.MAX_SHIFTER_NAME_LENGTH), **kwargs)
 
 
 # --- market -------------------------------------------------------------------------------
 
 
-def shifter_map(description: str) -> fields.Dict:
+def shifter_map(description: str, values: fields.Field | None = None) -> fields.Dict:
+    """Elasticity per named shifter; each value a number by default, or `values`."""
     return fields.Dict(
-        keys=fields.String(validate=validate.Length(1, 64)),
-        values=Real(validate=_range(-MAX_ELASTICITY, MAX_ELASTICITY)),
+        keys=_shifter_name(),
+        values=values or Real(validate=_range(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY)),
         validate=validate.Length(max=limits.MAX_SHIFTERS_PER_CURVE),
         load_default=dict,
         metadata={"description": description},
     )
 
 
-class DemandSchema(_Strict):
+class DemandSchema(StrictSchema):
     price_elasticity = Real(
         required=True,
-        validate=_range(-MAX_ELASTICITY, 0.0, high_ok=False),
+        validate=_range(-limits.MAX_ELASTICITY, 0.0, high_ok=False),
         metadata={"description": "Own-price elasticity of demand, eta < 0."},
     )
     shifters = shifter_map("Elasticity of quantity demanded with respect to each named shifter (any sign).")
 
 
-class SupplySchema(_Strict):
+class SupplySchema(StrictSchema):
     short_run_elasticity = Real(
         required=True,
-        validate=_range(0.0, MAX_ELASTICITY),
+        validate=_range(0.0, limits.MAX_ELASTICITY),
         metadata={"description": "Supply elasticity in the impact period, >= 0."},
     )
     long_run_elasticity = Real(
         required=True,
-        validate=_range(0.0, MAX_ELASTICITY),
+        validate=_range(0.0, limits.MAX_ELASTICITY),
         metadata={"description": "Supply elasticity once building has caught up, >= 0."},
     )
     shifters = shifter_map(
@@ -81,20 +87,20 @@ class SupplySchema(_Strict):
     )
 
 
-class MarketSchema(_Strict):
+class MarketSchema(StrictSchema):
     price = Real(
         required=True,
-        validate=_range(0.0, MAX_MONEY, low_ok=False),
+        validate=_range(0.0, limits.MAX_MONEY, low_ok=False),
         metadata={"description": "Base price P0 per unit per price interval (e.g. a month's rent)."},
     )
     quantity = Real(
         required=True,
-        validate=_range(0.0, MAX_QUANTITY, low_ok=False),
+        validate=_range(0.0, limits.MAX_QUANTITY, low_ok=False),
         metadata={"description": "Base quantity Q0 traded per price interval (e.g. occupied homes)."},
     )
     payments_per_period = Real(
         load_default=1.0,
-        validate=_range(0.0, 1000.0, low_ok=False),
+        validate=_range(0.0, limits.MAX_PAYMENTS_PER_PERIOD, low_ok=False),
         metadata={"description": "Price intervals per model period (monthly rents, yearly periods: 12)."},
     )
     form = fields.String(
@@ -115,17 +121,22 @@ class MarketSchema(_Strict):
 
     @post_load
     def _build(self, data, **kwargs) -> Market:
-        return Market(
-            price=data["price"],
-            quantity=data["quantity"],
-            demand_elasticity=data["demand"]["price_elasticity"],
-            short_run_elasticity=data["supply"]["short_run_elasticity"],
-            long_run_elasticity=data["supply"]["long_run_elasticity"],
-            demand_shifters=dict(data["demand"]["shifters"]),
-            supply_shifters=dict(data["supply"]["shifters"]),
-            payments_per_period=data["payments_per_period"],
-            form=data["form"],
-        )
+        return build_market(data)
+
+
+def build_market(data: dict[str, Any]) -> Market:
+    """The engine's Market from a loaded market object whose elasticities are numbers."""
+    return Market(
+        price=data["price"],
+        quantity=data["quantity"],
+        demand_elasticity=data["demand"]["price_elasticity"],
+        short_run_elasticity=data["supply"]["short_run_elasticity"],
+        long_run_elasticity=data["supply"]["long_run_elasticity"],
+        demand_shifters=dict(data["demand"]["shifters"]),
+        supply_shifters=dict(data["supply"]["shifters"]),
+        payments_per_period=data["payments_per_period"],
+        form=data["form"],
+    )
 
 
 # --- shocks -------------------------------------------------------------------------------
@@ -133,14 +144,15 @@ class MarketSchema(_Strict):
 
 def _change(description: str, **kwargs):
     return Real(
-        validate=_range(-1.0, MAX_CHANGE, low_ok=False), metadata={"description": description}, **kwargs
+        validate=_range(-1.0, limits.MAX_SHOCK_CHANGE, low_ok=False),
+        metadata={"description": description},
+        **kwargs,
     )
 
 
-class _ShockBase(_Strict):
-    shifter = fields.String(
+class _ShockBase(StrictSchema):
+    shifter = _shifter_name(
         required=True,
-        validate=validate.Length(1, 64),
         metadata={"description": "A shifter declared in market.demand.shifters or market.supply.shifters."},
     )
 
@@ -162,7 +174,7 @@ class RampShockSchema(_ShockBase):
     change = _change("Full fractional change, reached in period start + periods - 1.", required=True)
     periods = WholeNumber(
         required=True,
-        validate=_range(1, MAX_PERIOD),
+        validate=_range(1, limits.MAX_PERIOD),
         metadata={"description": "Periods over which the change builds up linearly (n >= 1)."},
     )
     start = _period(load_default=1, metadata={"description": "Period that reaches change/periods."})
@@ -172,7 +184,7 @@ class GrowthShockSchema(_ShockBase):
     profile = fields.String(required=True, validate=validate.OneOf(["growth"]))
     rate = Real(
         required=True,
-        validate=_range(-1.0, 10.0, low_ok=False),
+        validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
         metadata={"description": "Compound rate per period: change (1+rate)^(t-start+1) - 1."},
     )
     start = _period(load_default=1, metadata={"description": "First period of growth."})
@@ -199,11 +211,11 @@ SHOCK_SCHEMAS = {
 # --- adjustment ---------------------------------------------------------------------------
 
 
-class LinearScheduleSchema(_Strict):
+class LinearScheduleSchema(StrictSchema):
     schedule = fields.String(required=True, validate=validate.OneOf(["linear"]))
     periods = WholeNumber(
         required=True,
-        validate=_range(0, MAX_PERIOD),
+        validate=_range(0, limits.MAX_PERIOD),
         metadata={"description": "K: supply elasticity reaches long run in period K + 1 (0: at once)."},
     )
 
@@ -212,14 +224,14 @@ class LinearScheduleSchema(_Strict):
         return Adjustment(schedule="linear", periods=data["periods"])
 
 
-class GeometricScheduleSchema(_Strict):
+class GeometricScheduleSchema(StrictSchema):
     schedule = fields.String(required=True, validate=validate.OneOf(["geometric"]))
     rate = Real(
         validate=_range(0.0, 1.0, low_ok=False),
         metadata={"description": "Nerlove adjustment coefficient lambda in (0, 1]."},
     )
     half_life = Real(
-        validate=_range(0.001, float(MAX_PERIOD)),
+        validate=_range(limits.MIN_HALF_LIFE, float(limits.MAX_PERIOD)),
         metadata={"description": "Periods to close half the gap (lambda = 1 - 0.5^(1/h)), at least 0.001."},
     )
 
@@ -233,10 +245,10 @@ class GeometricScheduleSchema(_Strict):
         return Adjustment(schedule="geometric", rate=data.get("rate"), half_life=data.get("half_life"))
 
 
-class ExplicitScheduleSchema(_Strict):
+class ExplicitScheduleSchema(StrictSchema):
     schedule = fields.String(required=True, validate=validate.OneOf(["explicit"]))
     elasticities = fields.List(
-        Real(validate=_range(0.0, MAX_ELASTICITY)),
+        Real(validate=_range(0.0, limits.MAX_ELASTICITY)),
         required=True,
         validate=validate.Length(1, limits.MAX_HORIZON),
         metadata={"description": "Supply elasticity of periods 1, 2, ...; the last holds to the horizon."},
@@ -259,11 +271,11 @@ SCHEDULE_SCHEMAS = {
 
 def _money(description: str, low_ok: bool, **kwargs):
     return Real(
-        validate=_range(0.0, MAX_MONEY, low_ok=low_ok), metadata={"description": description}, **kwargs
+        validate=_range(0.0, limits.MAX_MONEY, low_ok=low_ok), metadata={"description": description}, **kwargs
     )
 
 
-class _PolicyBase(_Strict):
+class _PolicyBase(StrictSchema):
     name = fields.String(
         required=True,
         validate=validate.Length(1, limits.MAX_NAME_LENGTH),
@@ -292,11 +304,11 @@ class PriceCeilingSchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["price_ceiling"]))
     level = NumberOrConstant(
         "base",
-        Real(validate=_range(0.0, MAX_MONEY, low_ok=False)),
+        Real(validate=_range(0.0, limits.MAX_MONEY, low_ok=False)),
         metadata={"description": 'Ceiling price per unit per price interval, or "base" for P0.'},
     )
     growth = Real(
-        validate=_range(-1.0, 10.0, low_ok=False),
+        validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
         metadata={"description": "Cap on growth per period: c_t = (1+growth) Pc_(t-1), Pc_0 = P0."},
     )
 
@@ -334,7 +346,7 @@ class QuantityCapSchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["quantity_cap"]))
     level = Real(
         required=True,
-        validate=_range(0.0, MAX_QUANTITY, low_ok=False),
+        validate=_range(0.0, limits.MAX_QUANTITY, low_ok=False),
         metadata={"description": "Most units that may trade per price interval (e.g. permits)."},
     )
 
@@ -353,28 +365,30 @@ POLICY_SCHEMAS = {
 # --- welfare ------------------------------------------------------------------------------
 
 
-class DiscountStepSchema(_Strict):
+class DiscountStepSchema(StrictSchema):
     through_period = WholeNumber(
         required=True,
-        validate=_range(1, MAX_PERIOD),
+        validate=_range(1, limits.MAX_PERIOD),
         metadata={"description": "Last period (inclusive) at this rate."},
     )
-    rate = Real(required=True, validate=_range(-1.0, 10.0, low_ok=False))
+    rate = Real(required=True, validate=_range(-1.0, limits.MAX_RATE, low_ok=False))
 
     @post_load
     def _build(self, data, **kwargs) -> DiscountStep:
         return DiscountStep(**data)
 
 
-class WelfareSchema(_Strict):
+class WelfareSchema(StrictSchema):
     rationing = fields.String(
         load_default="efficient",
         validate=validate.OneOf(["efficient", "random"]),
         metadata={"description": "Who gets the units under a binding ceiling."},
     )
     discount_rate = NumberOrList(
-        Real(validate=_range(-1.0, 10.0, low_ok=False)),
-        fields.List(fields.Nested(DiscountStepSchema), validate=validate.Length(1, 100)),
+        Real(validate=_range(-1.0, limits.MAX_RATE, low_ok=False)),
+        fields.List(
+            fields.Nested(DiscountStepSchema), validate=validate.Length(1, limits.MAX_DISCOUNT_STEPS)
+        ),
         load_default=0.0,
         metadata={"description": "Rate per model period, or steps [{through_period, rate}, ...]."},
     )
@@ -398,7 +412,7 @@ class WelfareSchema(_Strict):
 # --- the scenario -------------------------------------------------------------------------
 
 
-class PathsRequestSchema(_Strict):
+class PathsRequestSchema(StrictSchema):
     market = fields.Nested(MarketSchema, required=True)
     shocks = fields.List(
         Tagged("profile", SHOCK_SCHEMAS),
@@ -472,8 +486,9 @@ class PathsRequestSchema(_Strict):
         )
 
 
-class BatchRequestSchema(_Strict):
-    """Only the envelope; each scenario is loaded on its own so that errors stay per scenario."""
+class BatchRequestSchema(StrictSchema):
+    """Only the envelope and the batch's total work; each scenario is loaded on its own so that
+    errors stay per scenario."""
 
     scenarios = fields.List(
         AnyObject(PathsRequestSchema),
@@ -481,3 +496,29 @@ class BatchRequestSchema(_Strict):
         validate=validate.Length(1, limits.MAX_BATCH_SCENARIOS),
         metadata={"description": "Scenarios, each a /v1/paths request body."},
     )
+
+    @validates_schema
+    def _work(self, data, **kwargs):
+        work = policy_periods(data["scenarios"])
+        if work > limits.MAX_POLICY_PERIODS:
+            raise ValidationError(
+                f"The batch asks for {work} policy-periods (policies x (longest horizon + 1)); "
+                f"the limit is {limits.MAX_POLICY_PERIODS}.",
+                "scenarios",
+            )
+
+
+def policy_periods(scenarios: list[dict[str, Any]]) -> int:
+    """Work a batch asks for, read from the raw bodies before any validation or model work."""
+
+    def policies(s: dict[str, Any]) -> int:
+        p = s.get("policies")
+        return len(p) if isinstance(p, list) else 0
+
+    def horizon(s: dict[str, Any]) -> int:
+        h = s.get("horizon")
+        if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
+            return 0
+        return int(min(max(h, 0), limits.MAX_HORIZON))
+
+    return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))

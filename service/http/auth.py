@@ -8,8 +8,24 @@ time taken says nothing about which key, or how much of one, matched.
 from __future__ import annotations
 
 import hmac
+from typing import TYPE_CHECKING
 
-__all__ = ["key_accepted", "needs_key"]
+from flask import request
+
+from ..problems import ProblemError, problem
+
+if TYPE_CHECKING:
+    from .settings import Settings
+
+__all__ = ["key_accepted", "needs_key", "require_key"]
+
+
+def require_key(settings: Settings) -> None:
+    """Before each request: 401 (with WWW-Authenticate) when keys are set and none matches."""
+    if settings.api_keys and needs_key(request.path, settings.metrics_require_key):
+        if not key_accepted(request.headers.get("Authorization"), settings.api_keys):
+            document = problem(401, "Unauthorized", "Send a valid key as 'Authorization: Bearer <key>'.")
+            raise ProblemError(document, {"WWW-Authenticate": 'Bearer realm="shockpath"'})
 
 
 def needs_key(path: str, metrics_require_key: bool) -> bool:
