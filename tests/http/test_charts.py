@@ -81,5 +81,5 @@ def test_errors_in_the_scenario_point_into_it(client):
 def test_the_palette_is_the_colour_blind_safe_one_with_distinct_line_styles():
     from service.charts import PALETTE, STYLES
 
-    assert PALETTE[:3] == ("#000000", "#E69F00", "#0072B2")  # Okabe & Ito (2008)
+    assert PALETTE[:3] == ("#000000", "#E69F00", "#0072B2")  # Okabe & Ito (2008), "Color Universal Design"
     assert len(set(map(str, STYLES))) == len(STYLES)

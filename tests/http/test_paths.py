@@ -1,11 +1,15 @@
-"""POST /v1/paths: the answer, its ETag, CSV and the Python API agree."""
+"""POST /v1/paths (the answer, its ETag, CSV, the cache and the Python API agree) and
+POST /v1/paths/batch (one result or one problem per scenario, in order, equal to one-by-one)."""
 
 from __future__ import annotations
 
+import copy
 import csv
 import io
+import json
 
-from service import simulate
+from service import limits, simulate
+from service.examples import examples
 
 
 def test_posting_the_contract_example_returns_a_path_per_policy(client, contract_request):
@@ -64,8 +68,13 @@ def test_an_unanswerable_accept_header_gets_406(client, contract_request):
 
 
 def test_every_number_in_the_body_is_a_json_number(client, contract_request):
-    text = client.post("/v1/paths", json=contract_request).get_data(as_text=True)
-    assert "NaN" not in text and "Infinity" not in text
+    # orjson writes NaN and infinity as null, so a non-finite value would show up as None.
+    body = json.loads(client.post("/v1/paths", json=contract_request).get_data(as_text=True))
+    for path in body["paths"]:
+        for name, values in path.items():
+            if name not in ("name", "kind", "binding"):
+                assert all(isinstance(v, float) for v in values), name
+    assert all(isinstance(v, float) for v in body["supply_elasticity"])
 
 
 def test_cautions_carry_the_lower_bound_and_the_general_warning(client, contract_request):
@@ -94,14 +103,56 @@ def test_a_repeated_request_is_answered_from_the_cache_with_the_same_bytes(app, 
     assert uncached.post("/v1/paths", json=contract_request).data == first.data
 
 
-def test_the_cache_evicts_the_least_recently_used_beyond_its_bytes():
-    from service.http.cache import AnswerCache
+def test_a_batch_answers_each_scenario_in_order_as_paths_would(client):
+    requests = [e["request"] for e in examples().values() if e.get("endpoint", "/v1/paths") == "/v1/paths"]
+    bad = copy.deepcopy(requests[0])
+    bad["market"]["price"] = -1
+    batch = [*requests[:2], bad, *requests[2:]]
+    response = client.post("/v1/paths/batch", json={"scenarios": batch})
+    assert response.status_code == 200
+    results = response.get_json()["results"]
+    assert len(results) == len(batch)
+    assert results[2]["status"] == 422
+    assert results[2]["errors"] == [
+        {"pointer": "/scenarios/2/market/price", "message": results[2]["errors"][0]["message"]}
+    ]
+    for request, result in zip([*requests[:2], *requests[2:]], results[:2] + results[3:], strict=True):
+        assert result == simulate(request)
 
-    cache = AnswerCache(10)
-    cache.put("a", b"12345")
-    cache.put("b", b"12345")
-    assert cache.get("a") == b"12345"  # a is now the most recent
-    cache.put("c", b"123")
-    assert cache.get("b") is None and cache.get("a") is not None and len(cache) == 2
-    cache.put("big", b"x" * 11)
-    assert cache.get("big") is None
+
+def test_an_engine_problem_in_one_scenario_leaves_the_others(client, contract_request):
+    infeasible = copy.deepcopy(contract_request)
+    infeasible["policies"].append({"name": "huge", "kind": "unit_tax", "amount": 5000})
+    results = client.post("/v1/paths/batch", json={"scenarios": [infeasible, contract_request]}).get_json()[
+        "results"
+    ]
+    assert (
+        results[0]["status"] == 422 and results[0]["errors"][0]["pointer"] == "/scenarios/0/policies/8/amount"
+    )
+    assert results[1]["scenario_id"]
+
+
+def test_batch_limits_are_enforced_before_any_work(client, contract_request):
+    too_many = client.post("/v1/paths/batch", json={"scenarios": [{}] * (limits.MAX_BATCH_SCENARIOS + 1)})
+    assert too_many.status_code == 422
+    assert too_many.get_json()["errors"][0]["pointer"] == "/scenarios"
+    big = copy.deepcopy(contract_request)
+    big["horizon"] = limits.MAX_HORIZON
+    big["policies"] = big["policies"] * 2
+    for i, p in enumerate(big["policies"]):
+        p["name"] = f"p{i}"
+    work = client.post("/v1/paths/batch", json={"scenarios": [big] * 120})
+    assert work.status_code == 422
+    assert "policy-periods" in work.get_json()["errors"][0]["message"]
+
+
+def test_an_empty_or_malformed_envelope_is_422(client):
+    for body, pointer in [
+        ({}, "/scenarios"),
+        ({"scenarios": []}, "/scenarios"),
+        ({"scenarios": [1]}, "/scenarios/0"),
+        ([], ""),
+    ]:
+        response = client.post("/v1/paths/batch", json=body)
+        assert response.status_code == 422, body
+        assert response.get_json()["errors"][0]["pointer"] == pointer
