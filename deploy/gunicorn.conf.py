@@ -36,7 +36,7 @@ loglevel = os.environ.get("SHOCKPATH_LOG_LEVEL", "info").lower()
 logconfig_dict = {
     "version": 1,
     "disable_existing_loggers": False,
-    "formatters": {"json": {"()": "service.logs.JsonFormatter"}},
+    "formatters": {"json": {"()": "service.http.logs.JsonFormatter"}},
     "handlers": {
         "stderr": {"class": "logging.StreamHandler", "formatter": "json", "stream": "ext://sys.stderr"}
     },

@@ -1,39 +1,18 @@
-"""RFC 9457 problem documents, and marshmallow errors turned into RFC 6901 JSON Pointers."""
+"""RFC 9457 problem documents: invalid requests (422 with a JSON Pointer per field), engine
+errors, and the one function that checks and loads a request body."""
 
 from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["ProblemError", "engine_problem", "field_errors", "problem", "validation_problem"]
+from marshmallow import Schema, ValidationError
+
+from .schemas.compiled import compile_loader, load_fast
+from .schemas.pointers import field_errors
+
+__all__ = ["ProblemError", "engine_problem", "load_request", "problem", "validation_problem"]
 
 PROBLEM_BASE = "urn:shockpath:problem:"
-
-
-def _escape(token: Any) -> str:
-    return str(token).replace("~", "~0").replace("/", "~1")
-
-
-def field_errors(messages: Any, prefix: str = "") -> list[dict[str, str]]:
-    """Flatten marshmallow's nested error messages into [{"pointer", "message"}], sorted."""
-    out: list[dict[str, str]] = []
-    if isinstance(messages, dict) and messages and set(messages) <= {"key", "value"}:
-        # marshmallow's Dict nests a member's errors under "key" (its name) and "value":
-        # both belong to the member itself. (No schema here has fields named key or value.)
-        for value in messages.values():
-            out.extend(field_errors(value, prefix))
-    elif isinstance(messages, dict):
-        for key, value in messages.items():
-            pointer = prefix if key == "_schema" else f"{prefix}/{_escape(key)}"
-            out.extend(field_errors(value, pointer))
-    elif isinstance(messages, (list, tuple)):
-        for item in messages:
-            if isinstance(item, (dict, list, tuple)):
-                out.extend(field_errors(item, prefix))
-            else:
-                out.append({"pointer": prefix, "message": str(item)})
-    else:
-        out.append({"pointer": prefix, "message": str(messages)})
-    return sorted(out, key=lambda e: (e["pointer"], e["message"]))
 
 
 def problem(status: int, title: str, detail: str, code: str | None = None, **extra: Any) -> dict[str, Any]:
@@ -78,3 +57,23 @@ def engine_problem(error, prefix: str = "") -> dict[str, Any]:
     if error.period is not None:
         extra["period"] = error.period
     return problem(422, error.title, error.message, error.code.replace("_", "-"), **extra)
+
+
+#: Fast loaders generated from each schema instance on first use (schemas.compiled).
+_FAST_LOADERS: dict[int, tuple[Schema, Any]] = {}
+
+
+def load_request(schema: Schema, body: Any, prefix: str = "") -> Any:
+    """`body` loaded by `schema`, or ProblemError (422) with pointers under `prefix`.
+
+    The body must be a JSON object; marshmallow's messages become JSON Pointers.
+    """
+    if not isinstance(body, dict):
+        raise ProblemError(validation_problem(["Must be a JSON object."], prefix))
+    key = id(schema)
+    if key not in _FAST_LOADERS:
+        _FAST_LOADERS[key] = (schema, compile_loader(schema))  # the schema kept alive with its id
+    try:
+        return load_fast(schema, _FAST_LOADERS[key][1], body)
+    except ValidationError as error:
+        raise ProblemError(validation_problem(error.messages, prefix)) from None

@@ -15,17 +15,14 @@ from collections.abc import Sequence
 from typing import Any
 
 import orjson
-from marshmallow import ValidationError
 
 from . import engine
-from .api.compiled import compile_loader, load_fast
-from .api.schemas import PathsRequestSchema
-from .problems import ProblemError, engine_problem, validation_problem
+from .problems import ProblemError, engine_problem, load_request
+from .schemas.paths import PathsRequestSchema
 
 __all__ = ["compute", "load_scenario", "render", "scenario_id", "simulate", "simulate_many"]
 
 _REQUEST = PathsRequestSchema()
-_FAST_REQUEST = compile_loader(_REQUEST)
 
 
 @contextlib.contextmanager
@@ -47,22 +44,19 @@ def _no_cyclic_gc():
 
 def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
     """Validate one request body; raise ProblemError (422) with pointers under `prefix`."""
-    if not isinstance(request, dict):
-        raise ProblemError(validation_problem(["Must be a JSON object."], prefix))
-    try:
-        return load_fast(_REQUEST, _FAST_REQUEST, request)
-    except ValidationError as error:
-        raise ProblemError(validation_problem(error.messages, prefix)) from None
+    return load_request(_REQUEST, request, prefix)
 
 
-def scenario_id(scenario: engine.Scenario) -> str:
-    """Hex sha-256 of the normalised scenario (defaults filled in) and the model version.
+def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
+    """Hex sha-256 of the normalised scenario (defaults filled in), the model version and
+    whatever else the answer depends on (`extra`: for bands, the endpoint, the uncertain
+    inputs, draws, seed, ...). The id of every endpoint's answer.
 
     orjson writes the frozen dataclasses field by field in a fixed order (dict keys sorted),
     so equal scenarios give equal bytes.
     """
     canonical = orjson.dumps(
-        {"model_version": engine.MODEL_VERSION, "scenario": scenario}, option=orjson.OPT_SORT_KEYS
+        {"model_version": engine.MODEL_VERSION, "scenario": scenario, **extra}, option=orjson.OPT_SORT_KEYS
     )
     return hashlib.sha256(canonical).hexdigest()
 
@@ -97,7 +91,7 @@ def compute(
     scenarios: Sequence[engine.Scenario], prefixes: Sequence[str] | None = None, lists: bool = True
 ) -> list[dict[str, Any]]:
     """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order."""
-    outcomes = engine.simulate(scenarios, as_lists=lists)
+    outcomes = engine.solve_scenarios(scenarios, as_lists=lists)
     out: list[dict[str, Any]] = []
     for i, (scenario, outcome) in enumerate(zip(scenarios, outcomes, strict=True)):
         if isinstance(outcome, engine.EngineError):

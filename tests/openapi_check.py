@@ -13,11 +13,9 @@ from jsonschema import Draft202012Validator
 from referencing import Registry, Resource
 from referencing.jsonschema import DRAFT202012
 
+from service.schemas.pointers import escape as _escape
+
 BASE = "urn:shockpath:openapi"
-
-
-def _escape(token: str) -> str:
-    return token.replace("~", "~0").replace("/", "~1")
 
 
 class ResponseChecker:

@@ -1,7 +1,8 @@
 """The shockpath engine: transition paths of a market under shocks and policies.
 
-Pure numpy and scipy: this package imports nothing of HTTP, marshmallow or the environment
-(tests/engine/test_fence.py enforces it). The model is ../shared/MODEL.md, module by module.
+Pure numpy and scipy (and the project's leaf module of constants, service.limits): this package
+imports nothing of HTTP, marshmallow or the environment (tests/test_layers.py enforces it).
+Each module's docstring states the equations it solves and their published source.
 """
 
 from .batch import PolicyRows, ScenarioBatch, pack
@@ -13,7 +14,7 @@ from .errors import (
     NonFiniteResultError,
 )
 from .paths import PathArrays, solve
-from .results import SERIES, PolicyPath, PolicySummary, ScenarioResult, assemble, simulate
+from .results import SERIES, PolicyPath, PolicySummary, ScenarioResult, assemble, solve_scenarios
 from .scenario import (
     Adjustment,
     DiscountStep,
@@ -49,6 +50,6 @@ __all__ = [
     "Welfare",
     "assemble",
     "pack",
-    "simulate",
     "solve",
+    "solve_scenarios",
 ]

@@ -35,7 +35,7 @@ class ScenarioBatch:
     demand_shifter_elasticity: np.ndarray  # (n, m); 0 where the shifter is not on demand
     supply_shifter_elasticity: np.ndarray  # (n, m); 0 where not on supply
     shifter_change: np.ndarray  # (n or 1, m, T+1) fractional change, period 0 = 0
-    shock_out_of_range: np.ndarray  # (n or 1, m) bool: a growth path passed MAX_CHANGE
+    shock_out_of_range: np.ndarray  # (n or 1, m) bool: a growth path passed MAX_SHIFTER_CHANGE
     schedule: np.ndarray  # (n,) SCHEDULE_CODES
     schedule_periods: np.ndarray  # (n,) K of a linear schedule
     schedule_rate: np.ndarray  # (n,) lambda; 0 = Nerlove default eps_SR / eps_LR

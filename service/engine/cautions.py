@@ -1,8 +1,9 @@
-"""Cautions computed from each case (MODEL.md section 9).
+"""Cautions computed from each case.
 
 First-order (linear) results drift from exact ones as shocks grow; where the largest shock
 passes 10 % the caution states how far the two curve forms' free-market paths differ. Under
-efficient rationing the deadweight loss of a binding ceiling is a lower bound. Policies that
+efficient rationing the deadweight loss of a binding ceiling is a lower bound (real rationing
+also misallocates: Glaeser & Luttmer 2003, *American Economic Review* 93(4)). Policies that
 never bind are named. Every answer carries the general caution.
 """
 

@@ -1,4 +1,4 @@
-"""Demand and supply curves of each period, in the two forms of MODEL.md section 3.
+"""Demand and supply curves of each period, in two forms.
 
 With base point (P0, Q0), demand elasticity eta < 0, period-t supply elasticity eps_t >= 0,
 and the period's shifts (D, S for the linear form; ln A, ln B for constant elasticity):
@@ -11,6 +11,11 @@ zero. Vertical supply (eps_t = 0) has inverse 0 below its capacity. The welfare 
 int_a^b P(q) dq are in closed form: trapezoids for straight lines; for a power law
 P(q) ∝ q^(m-1) with m = 1 + 1/elasticity, (b P(b) - a P(a)) / m, evaluated through
 expm1 so that it stays exact as m -> 0 (unit-elastic demand) and never overflows.
+
+The linear form is the first-order equilibrium displacement model (Muth 1964; Gardner 1987;
+Alston, Norton & Pardey 1995, *Science Under Scarcity*, ch. 4-5); the constant-elasticity form
+is its exact log-linear counterpart, whose surplus areas are those of Harberger (1964) to second
+order.
 
 Every array is (rows, periods): base values and eta (rows, 1), the rest (rows, periods);
 a curve of one row per scenario or per policy row alike.

@@ -1,4 +1,4 @@
-"""Market clearing: the free market, and clearing with a price wedge (MODEL.md sections 4-5).
+"""Market clearing: the free market, and clearing with a price wedge.
 
 Free market, linear:   EP = (D - S) / (eps_t - eta),  P* = P0 (1 + EP),  Q* = Q0 (1 + eps_t EP + S)
 Free market, constant elasticity: ln(P*/P0) = (ln A - ln B) / (eps_t - eta),  Q* = Qs(P*)
@@ -14,6 +14,11 @@ with b != 0 the root is found elementwise by Chandrupatla's bracketing method
 (scipy.optimize.elementwise.find_root) on brackets that the curves imply:
 tax  Pc in [Qs^-1(Qd(P* + tau)) + tau, P* + tau];  subsidy  Pc in [Qd^-1(Qs(P* + s)), P*].
 eps_t - eta > 0 under the sign rules, so each equilibrium is unique.
+
+Sources: the displacement equilibrium of Muth (1964) and Gardner (1987), as in Alston, Norton &
+Pardey (1995), *Science Under Scarcity*, ch. 4-5; the wedge's incidence, Fullerton & Metcalf
+(2002), "Tax Incidence", *Handbook of Public Economics* vol. 4; the root finder, Chandrupatla
+(1997), *Advances in Engineering Software* 28(3).
 """
 
 from __future__ import annotations

@@ -10,6 +10,10 @@ are computed in two groups, and policy rows in groups of one kind: no loop runs 
 scenarios, draws or periods here (the growth cap's period loop lives in policies.py).
 Problems are returned as masks, not raised, so that one bad scenario in a batch, or one bad
 draw in a band, does not stop the others.
+
+Sources: each period's equilibrium is the displacement model of Muth (1964), Gardner (1987) and
+Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5; the discount factor is the
+ordinary present value (as numpy_financial.npv for a constant rate).
 """
 
 from __future__ import annotations
@@ -18,11 +22,11 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
+from ..limits import MAX_SHIFTER_CHANGE
 from . import kernel
 from .batch import PolicyRows, ScenarioBatch
-from .policies import CEILING_KINDS, Outcome
+from .policies import Outcome, is_ceiling
 from .schedules import SCHEDULE_CODES, nerlove_rate, supply_elasticity_path
-from .shocks import MAX_CHANGE
 from .welfare import WelfareChange, discount_factors
 
 __all__ = ["PathArrays", "solve"]
@@ -43,7 +47,7 @@ class PathArrays:
     welfare: WelfareChange | None  # (R, T+1) each; likewise
     discount_factor: np.ndarray  # (n, T+1)
     # Problems, as masks
-    shift_out_of_range: np.ndarray  # (n, m): summed change <= -1 or above MAX_CHANGE
+    shift_out_of_range: np.ndarray  # (n, m): summed change <= -1 or above MAX_SHIFTER_CHANGE
     schedule_undefined: np.ndarray  # (n,): Nerlove default needed but not applicable
     linear_out_of_range: np.ndarray  # (n, T+1): linear-form P* <= 0 or Q* <= 0
     policy_infeasible: np.ndarray  # (R, T+1): Q, Pc or Pp <= 0 where the policy binds
@@ -58,22 +62,34 @@ class PathArrays:
         """One kept series of every row, (R, T+1)."""
         return self.series[:, self.series_names.index(name)]
 
+    def scenario_inputs_failed(self) -> np.ndarray:
+        """(n,) True where a scenario-level problem (shocks, schedule, linear range) stops it."""
+        return _inputs_failed(self.shift_out_of_range, self.schedule_undefined, self.linear_out_of_range)
+
+    def row_failed(self, rows: PolicyRows) -> np.ndarray:
+        """(R,) True where a policy row has no answer: its own problem or its scenario's."""
+        own = self.policy_infeasible.any(axis=1) | self.unbounded_willingness | self.non_finite
+        return own | self.scenario_inputs_failed()[rows.scenario]
+
     def scenario_failed(self, rows: PolicyRows) -> np.ndarray:
-        """(n,) True where any problem makes the scenario's answer unusable."""
-        failed = self.shift_out_of_range.any(axis=1) | self.schedule_undefined
-        failed = failed | self.linear_out_of_range.any(axis=1)
-        per_row = self.policy_infeasible.any(axis=1) | self.unbounded_willingness | self.non_finite
+        """(n,) True where any problem makes the scenario's answer unusable (any of its rows)."""
+        failed = self.scenario_inputs_failed()
         row_failed = np.zeros_like(failed)
-        np.logical_or.at(row_failed, rows.scenario, per_row)
+        np.logical_or.at(row_failed, rows.scenario, self.row_failed(rows))
         return failed | row_failed
+
+
+def _inputs_failed(shift_out_of_range, schedule_undefined, linear_out_of_range) -> np.ndarray:
+    """(n,) the scenario-level failure mask, from the masks (n, m), (n,) and (n, T+1)."""
+    return shift_out_of_range.any(axis=1) | schedule_undefined | linear_out_of_range.any(axis=1)
 
 
 def _shifts(batch: ScenarioBatch, valid: np.ndarray):
     """Demand and supply shifts (n, T+1) for both forms, and the out-of-range mask (n, m)."""
     g = batch.shifter_change
-    bad = ((g <= -1.0) | (g > MAX_CHANGE)) & valid[:, None, :]
+    bad = ((g <= -1.0) | (g > MAX_SHIFTER_CHANGE)) & valid[:, None, :]
     out_of_range = bad.any(axis=2) | batch.shock_out_of_range
-    safe = np.where(g > -1.0, np.minimum(g, MAX_CHANGE), 0.0)
+    safe = np.where(g > -1.0, np.minimum(g, MAX_SHIFTER_CHANGE), 0.0)
     log_safe = np.log1p(safe)
     n, periods = valid.shape
     linear = [np.zeros((n, periods)), np.zeros((n, periods))]
@@ -193,14 +209,14 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> P
         primary = lin_free = ce_free = kernel.free_paths(arrays)
     lin_price, lin_quantity = lin_free[:, 0], lin_free[:, 1]
     ce_price, ce_quantity = ce_free[:, 0], ce_free[:, 1]
-    linear_fails = valid & ~((lin_price > 0.0) & (lin_quantity > 0.0))
-    linear_out_of_range = linear_fails & ~ce[:, None]
-    scenario_bad = scenario_bad | linear_out_of_range.any(axis=1)
+    linear_failed = valid & ~((lin_price > 0.0) & (lin_quantity > 0.0))
+    linear_out_of_range = linear_failed & ~ce[:, None]
+    scenario_bad = _inputs_failed(shift_bad, schedule_undefined, linear_out_of_range)
     keep = ~scenario_bad[:, None]
     free_price = np.where(keep, primary[:, 0], batch.price[:, None])
     free_quantity = np.where(keep, primary[:, 1], batch.quantity[:, None])
     if alternate:
-        lin_feasible = ~linear_fails.any(axis=1)
+        lin_feasible = ~linear_failed.any(axis=1)
         alternate_feasible = np.where(ce, lin_feasible, True) & ~scenario_bad
         alternate_ok = keep & alternate_feasible[:, None]
         alternate_price = np.where(
@@ -226,8 +242,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> P
     infeasible = flags[:, 2] & row_valid
     binding = flags[:, 0]
 
-    is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
-    unbounded = is_ceiling & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
+    unbounded = is_ceiling(rows.kind) & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
 
     # The compiled pass flags a row where any reported value of a valid period is not finite.

@@ -1,4 +1,4 @@
-"""Policies and the market outcome each one leaves in every period (MODEL.md section 5).
+"""Policies and the market outcome each one leaves in every period.
 
 Each policy is active in periods start..end; outside them, and where it does not bind, the
 period clears as the free market (P*, Q*) exactly. Where it binds:
@@ -15,6 +15,11 @@ Marginal value MV = Qd^-1(Q) and marginal cost MC = Qs^-1(Q); on vertical supply
 producer price at capacity and 0 below it. Every kind is a function with one signature,
 registered in KINDS under a code; the growth cap is the one kind whose period t depends on
 period t-1, so it alone loops over periods (vectorised over rows).
+
+Sources: the wedge equilibria of taxes and subsidies and their incidence, Fullerton & Metcalf
+(2002), "Tax Incidence", *Handbook of Public Economics* vol. 4 (consumers bear eps / (eps - eta)
+of a small unit tax); ceilings, floors and quantity restrictions in the displacement framework
+of Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5.
 """
 
 from __future__ import annotations
@@ -28,7 +33,7 @@ from ._arrays import as_slice
 from .curves import Curves
 from .equilibrium import clear_with_wedge
 
-__all__ = ["CEILING_KINDS", "KINDS", "KIND_CODES", "Outcome", "free_outcome", "market_outcome"]
+__all__ = ["CEILING_KINDS", "KINDS", "KIND_CODES", "Outcome", "free_outcome", "is_ceiling", "market_outcome"]
 
 
 @dataclass(frozen=True)
@@ -215,6 +220,11 @@ KINDS: dict[int, PolicyFunction] = {
 }
 
 CEILING_KINDS = (KIND_CODES["price_ceiling"], KIND_CODES["price_ceiling_growth"])
+
+
+def is_ceiling(kind: np.ndarray) -> np.ndarray:
+    """True where a policy row's kind code is a price ceiling (a level or a growth cap)."""
+    return (kind == CEILING_KINDS[0]) | (kind == CEILING_KINDS[1])
 
 
 def market_outcome(

@@ -1,4 +1,4 @@
-"""Reduced-form elasticities of the equilibrium (MODEL.md section 7).
+"""Reduced-form elasticities of the equilibrium.
 
 For a shifter with demand elasticity eta_i and supply elasticity eps_j (either may be 0),
 at supply elasticity eps (short or long run):

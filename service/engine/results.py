@@ -1,6 +1,6 @@
 """From path arrays to one answer per scenario: paths, summary, reduced form, cautions.
 
-`simulate` is the engine's entry point for a list of scenarios: it packs them, solves all
+`solve_scenarios` is the engine's entry point for a list of scenarios: it packs them, solves all
 of them in one vectorised pass, and returns, in order, a ScenarioResult or the EngineError
 that explains why that scenario has no answer. The summary figures are computed for all
 policy rows at once; only the final slicing into per-scenario objects walks the list.
@@ -24,11 +24,19 @@ from .errors import (
 )
 from .kernel import SUMMARY_INDEX
 from .paths import PathArrays, solve
-from .policies import CEILING_KINDS
+from .policies import is_ceiling
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
-__all__ = ["SERIES", "PolicyPath", "PolicySummary", "ScenarioResult", "simulate", "summarise"]
+__all__ = [
+    "SERIES",
+    "PolicyPath",
+    "PolicySummary",
+    "ScenarioResult",
+    "assemble",
+    "solve_scenarios",
+    "summarise",
+]
 
 #: The per-period series of every policy path, in response order.
 SERIES = (
@@ -184,7 +192,9 @@ def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
 
 
-def simulate(scenarios: Sequence[Scenario], as_lists: bool = False) -> list[ScenarioResult | EngineError]:
+def solve_scenarios(
+    scenarios: Sequence[Scenario], as_lists: bool = False
+) -> list[ScenarioResult | EngineError]:
     """Every scenario's paths in one vectorised pass; errors are returned, not raised.
 
     as_lists=True gives each series as a Python list (converted for the whole batch at once,
@@ -220,7 +230,7 @@ def assemble(
     )
     largest, largest_at = _largest_shock(batch, arrays)
     price_gap, price_gap_at, quantity_gap = _gaps(arrays)
-    is_ceiling = (rows.kind == CEILING_KINDS[0]) | (rows.kind == CEILING_KINDS[1])
+    ceiling = is_ceiling(rows.kind)
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
     float_series = [name for name in SERIES if name != "binding"]
@@ -252,7 +262,7 @@ def assemble(
             f = figures[r]
             peak_period = int(f[code["peak_shortage_period"]])
             binding_periods = int(f[code["binding_periods"]])
-            ceiling_binds = ceiling_binds or (bool(is_ceiling[r]) and binding_periods > 0)
+            ceiling_binds = ceiling_binds or (bool(ceiling[r]) and binding_periods > 0)
             summaries.append(
                 PolicySummary(
                     name=policy.name,

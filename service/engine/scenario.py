@@ -1,9 +1,9 @@
-"""Inputs of the model: one scenario as frozen dataclasses (MODEL.md section 1).
+"""Inputs of the model: one scenario as frozen dataclasses.
 
 Prices are per unit and per price interval (e.g. a month's rent); quantities are units traded
 per price interval; `payments_per_period` (k) price intervals make one model period. Shock
 changes are fractions of the base (0.10 = +10 %). Validation of single fields happens before
-these objects are built (the HTTP schemas); the engine checks what needs the model.
+these objects are built (service.schemas); the engine checks what needs the model.
 """
 
 from __future__ import annotations
@@ -76,7 +76,7 @@ class Shock:
 
 @dataclass(frozen=True)
 class Adjustment:
-    """How supply elasticity moves from short to long run (MODEL.md section 2).
+    """How supply elasticity moves from short to long run (Nerlove 1958; see schedules.py).
 
     schedule `linear` uses periods (K >= 0); `geometric` rate (lambda in (0, 1]) or
     half_life (> 0) or neither (Nerlove default); `explicit` elasticities (eps_t, t >= 1).

@@ -1,4 +1,4 @@
-"""Supply elasticity over time by partial adjustment (MODEL.md section 2).
+"""Supply elasticity over time by partial adjustment (Nerlove 1958).
 
     eps_t = eps_SR + (eps_LR - eps_SR) * w_t,   w_1 = 0 (the impact period is short-run)
 

@@ -1,4 +1,4 @@
-"""Shock profiles expanded to paths of fractional changes (MODEL.md sections 1 and 11).
+"""Shock profiles expanded to paths of fractional changes.
 
 For a shock with change c, rate r, start s, ramp length n and explicit values v_1..v_L, the
 fractional change of its shifter in period t = 1..T is
@@ -8,15 +8,19 @@ fractional change of its shifter in period t = 1..T is
     growth  g(t) = (1+r)^(t-s+1) - 1       for t >= s, else 0
     path    g(t) = v_min(t, L)             (held at the last value, cut at the horizon)
 
-and g(0) = 0 (the base point). Several shocks on one shifter add their changes.
+and g(0) = 0 (the base point). Several shocks on one shifter add their changes. These are
+the service's own definitions of a shock's timing (no published formula); the changes enter the
+curves as the shifts of the equilibrium displacement model (Muth 1964; Gardner 1987; Alston,
+Norton & Pardey 1995, *Science Under Scarcity*, ch. 4).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from ..limits import MAX_SHIFTER_CHANGE
+
 __all__ = [
-    "MAX_CHANGE",
     "PROFILE_CODES",
     "shifter_paths",
     "shock_paths",
@@ -24,10 +28,7 @@ __all__ = [
 
 PROFILE_CODES = {"step": 0, "ramp": 1, "growth": 2, "path": 3}
 
-#: Largest fractional change a shifter may reach (a million-fold rise); beyond it the
-#: model's numbers stop meaning anything and floating point starts to overflow.
-MAX_CHANGE = 1.0e6
-_MAX_LOG_GROWTH = float(np.log1p(MAX_CHANGE))
+_MAX_LOG_GROWTH = float(np.log1p(MAX_SHIFTER_CHANGE))
 
 
 def shock_paths(
@@ -44,7 +45,7 @@ def shock_paths(
 
     All inputs have shape (shocks,) except `values` (shocks, L) with `value_count` (shocks,)
     entries used per row. Returns the paths (shocks, horizon + 1), period 0 first, and a
-    boolean (shocks,) that is True where a growth path would pass MAX_CHANGE.
+    boolean (shocks,) that is True where a growth path would pass MAX_SHIFTER_CHANGE.
     """
     t = np.arange(horizon + 1)[None, :]
     start = start[:, None]

@@ -1,5 +1,4 @@
-"""Uncertain elasticities: draws, the full path model per draw, and percentile bands
-(MODEL.md section 8).
+"""Uncertain elasticities: draws, the full path model per draw, and percentile bands.
 
 An elasticity may be normal(mean, sd) truncated to its sign rule (drawn from the truncated
 distribution, never clipped), uniform(low, high) or triangular(low, mode, high). Draws come
@@ -7,7 +6,9 @@ from one seeded numpy Generator (PCG64): standard normals z, correlated where as
 (short- and long-run supply elasticity through a Gaussian copula), mapped to uniforms
 u = Phi(z) and through each distribution's inverse CDF (scipy.stats ppf). Every draw runs the
 whole path model of every policy; the batch is cut into blocks of draws only to bound memory,
-each block one vectorised engine call. Bands are percentiles over the feasible draws.
+each block one vectorised engine call. Bands are percentiles over the feasible draws, with
+numpy's default ('linear') definition: Hyndman & Fan (1996), "Sample Quantiles in Statistical
+Packages", *The American Statistician* 50(4), definition 7.
 """
 
 from __future__ import annotations
@@ -29,11 +30,12 @@ from .scenario import Scenario
 __all__ = [
     "BAND_SERIES",
     "BAND_SUMMARY",
+    "PARAMETERS",
     "BandArrays",
     "Distribution",
     "UncertainInput",
-    "bands",
     "draw",
+    "percentile_bands",
     "rows_for",
     "scenario_batch_with",
     "solve_rows",
@@ -58,46 +60,63 @@ BAND_SUMMARY = (
 )
 
 
+#: The parameters of each distribution, in the order a caller writes them.
+PARAMETERS = {
+    "normal": ("mean", "sd"),
+    "uniform": ("low", "high"),
+    "triangular": ("low", "mode", "high"),
+}
+
+
 @dataclass(frozen=True)
 class Distribution:
-    """One elasticity's distribution; `lower`, `upper` are its sign rule's bounds."""
+    """One elasticity's distribution; `lower`, `upper` are its sign rule's bounds.
+
+    A normal has mean and sd, a uniform low and high, a triangular low, mode and high
+    (PARAMETERS); the others are None.
+    """
 
     kind: str  # normal | uniform | triangular
-    first: float  # mean | low | low
-    second: float  # sd | high | mode
-    third: float = 0.0  # - | - | high
+    mean: float | None = None
+    sd: float | None = None
+    low: float | None = None
+    mode: float | None = None
+    high: float | None = None
     lower: float = -np.inf
     upper: float = np.inf
     upper_open: bool = False  # the upper bound itself is not allowed (eta < 0)
 
     @property
+    def parameters(self) -> dict[str, float]:
+        """The distribution's own parameters by name (PARAMETERS[kind])."""
+        return {name: getattr(self, name) for name in PARAMETERS[self.kind]}
+
+    @property
     def central(self) -> float:
         """Mean of a normal, midpoint of a uniform, mode of a triangular."""
         if self.kind == "normal":
-            return self.first
+            return self.mean
         if self.kind == "uniform":
-            return 0.5 * (self.first + self.second)
-        return self.second
+            return 0.5 * (self.low + self.high)
+        return self.mode
 
     @property
     def degenerate(self) -> bool:
         if self.kind == "normal":
-            return self.second == 0.0
-        if self.kind == "uniform":
-            return self.first == self.second
-        return self.first == self.third
+            return self.sd == 0.0
+        return self.low == self.high
 
     def frozen(self):
         """The scipy.stats distribution (None when degenerate)."""
         if self.degenerate:
             return None
         if self.kind == "normal":
-            a = (self.lower - self.first) / self.second
-            b = (self.upper - self.first) / self.second
-            return stats.truncnorm(a, b, loc=self.first, scale=self.second)
+            a = (self.lower - self.mean) / self.sd
+            b = (self.upper - self.mean) / self.sd
+            return stats.truncnorm(a, b, loc=self.mean, scale=self.sd)
         if self.kind == "uniform":
-            return stats.uniform(loc=self.first, scale=self.second - self.first)
-        low, mode, high = self.first, self.second, self.third
+            return stats.uniform(loc=self.low, scale=self.high - self.low)
+        low, mode, high = self.low, self.mode, self.high
         return stats.triang((mode - low) / (high - low), loc=low, scale=high - low)
 
     def ppf(self, u: np.ndarray) -> np.ndarray:
@@ -110,10 +129,8 @@ class Distribution:
 
     def range(self) -> tuple[float, float]:
         """Low and high for sensitivity: the range given, or the 5th and 95th percentiles."""
-        if self.kind == "uniform":
-            return self.first, self.second
-        if self.kind == "triangular":
-            return self.first, self.third
+        if self.kind != "normal":
+            return self.low, self.high
         low, high = self.ppf(np.array([0.05, 0.95]))
         return float(low), float(high)
 
@@ -209,20 +226,14 @@ class BandArrays:
 def solve_rows(batch: ScenarioBatch, rows: PolicyRows):
     """Solve and summarise; per row: feasible (R,), series (R, series, T+1), summary."""
     arrays = solve(batch, rows, series=BAND_SERIES, alternate=False)
-    scenario_failed = (
-        arrays.shift_out_of_range.any(axis=1)
-        | arrays.schedule_undefined
-        | arrays.linear_out_of_range.any(axis=1)
-    )
-    row_bad = arrays.policy_infeasible.any(axis=1) | arrays.unbounded_willingness | arrays.non_finite
-    feasible = ~(row_bad | scenario_failed[rows.scenario])
+    feasible = ~arrays.row_failed(rows)
     summary = summarise(arrays, batch, rows)
     series = {name: arrays.named(name) for name in BAND_SERIES}
     binds = (arrays.binding & arrays.valid[rows.scenario]).any(axis=1)
     return feasible, series, summary, binds
 
 
-def bands(
+def percentile_bands(
     scenario: Scenario,
     inputs: Sequence[UncertainInput],
     draws: int,

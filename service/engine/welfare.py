@@ -1,4 +1,4 @@
-"""Welfare of each policy against the free market of the same period (MODEL.md section 6).
+"""Welfare of each policy against the free market of the same period.
 
 With (P*, Q*) the period's free-market point and (Pc, Pp, Q) the policy's:
 
@@ -12,6 +12,11 @@ lose the misallocation M = int_0^Q Qd^-1 - (Q/Qd) int_0^Qd Qd^-1 = Q (Qd^-1(Q) -
 m = 2 for linear demand and m = 1 + 1/eta for constant elasticity (finite only for |eta| > 1);
 M is added to DWL and taken from dCS. Money flows are per price interval times k payments per
 model period. Discounting: the factor of period s is prod_(u<=s) 1/(1 + r_u).
+
+Sources: surplus changes and deadweight loss as in Alston, Norton & Pardey (1995), *Science Under
+Scarcity*, ch. 4-5; for a small unit tax on linear curves DWL is Harberger's (1964) triangle
+1/2 tau^2 (Q0/P0) eps|eta| / (eps + |eta|); misallocation, Glaeser & Luttmer (2003), "The
+Misallocation of Housing Under Rent Control", *American Economic Review* 93(4).
 """
 
 from __future__ import annotations

@@ -61,8 +61,8 @@ def _run(draws: int, threads: int) -> dict:
 def _scalar_loop(draws: int, sample: int) -> float:
     """Seconds per draw of a Python loop that runs the engine once per draw."""
     from service import simulate
-    from service.api.uncertainty_schemas import BandsRequestSchema
     from service.engine.uncertainty import draw
+    from service.schemas.uncertainty import BandsRequestSchema
 
     request = scenario(draws)
     req = BandsRequestSchema().load(request)

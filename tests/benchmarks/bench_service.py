@@ -73,7 +73,7 @@ def bench_engine(n: int, sample: int) -> dict:
     assert all("scenario_id" in b for b in bodies)
     scenarios = [load_scenario(r) for r in requests]
     start = time.perf_counter()
-    engine.simulate(scenarios)
+    engine.solve_scenarios(scenarios)
     engine_only = time.perf_counter() - start
     start = time.perf_counter()
     for r in requests[:sample]:

@@ -1,4 +1,5 @@
-"""Curve integrals in closed form against scipy.integrate.quad, including the hard corners."""
+"""service/engine/curves.py: curve integrals in closed form against scipy.integrate.quad,
+including the hard corners."""
 
 from __future__ import annotations
 
@@ -35,8 +36,7 @@ def test_constant_elasticity_supply_integral_equals_quadrature(eps):
 
 
 def test_linear_supply_integral_floors_marginal_cost_at_zero():
-    """Units that would be offered at a negative price are offered at zero (MODEL.md 3)."""
-    c = curves(LinearCurves, -0.5, 2.0)  # the line reaches price 0 at q = Q0 (1 - eps) < 0: use a shift
+    """Units that would be offered at a negative price are offered at zero (curves.py docstring)."""
     c = curves(LinearCurves, -0.5, 0.5, s=0.2)  # zero-price quantity Q0 (1 + 0.2 - 0.5) = 700
     lower, upper = 300.0, 1000.0
     exact = quad(lambda q: float(c.inverse_supply(np.array([[q]]))[0, 0]), lower, upper, points=[700.0])[0]

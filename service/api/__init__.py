@@ -1,1 +1,0 @@
-"""The HTTP layer: schemas, views, OpenAPI; it converts and serialises, the engine computes."""

@@ -1,7 +1,0 @@
-"""python -m service.api [--write | --check]: the OpenAPI document (see openapi.py)."""
-
-import sys
-
-from .openapi import main
-
-raise SystemExit(main(sys.argv[1:]))

@@ -1,0 +1,65 @@
+"""The WSGI application factory: settings, extensions, blueprints, error handlers, hooks.
+
+gunicorn --config deploy/gunicorn.conf.py 'service:create_app()'
+"""
+
+from __future__ import annotations
+
+import logging
+import time
+import uuid
+from collections.abc import Mapping
+from typing import Any
+
+from flask import Flask, g, request
+
+from . import benchmark, metrics
+from .auth import require_key
+from .cache import AnswerCache
+from .errors import register_error_handlers
+from .logs import configure_logging, log_request
+from .openapi import build_document
+from .routes import BLUEPRINTS
+from .settings import Settings, load_settings
+
+__all__ = ["create_app"]
+
+
+def create_app(config: Mapping[str, Any] | None = None) -> Flask:
+    """Build the app: defaults < SHOCKPATH_* environment < `config`."""
+    settings = load_settings(config)
+    app = Flask("shockpath")
+    app.config["MAX_CONTENT_LENGTH"] = settings.max_body_bytes
+    app.config["TESTING"] = bool(config and config.get("TESTING"))
+    app.extensions["shockpath.settings"] = settings
+    app.extensions["shockpath.cache"] = AnswerCache(settings.cache_bytes)
+    app.extensions["shockpath.openapi"] = build_document()
+    app.url_map.strict_slashes = False
+    log = configure_logging(settings.log_level)
+    for blueprint in BLUEPRINTS:
+        app.register_blueprint(blueprint)
+    if settings.benchmark_echo:  # off unless SHOCKPATH_BENCHMARK_ECHO is set
+        app.register_blueprint(benchmark.blueprint)
+    register_error_handlers(app, log)
+    _register_hooks(app, settings, log)
+    log.info("settings %s", settings.as_log_dict())
+    return app
+
+
+def _register_hooks(app: Flask, settings: Settings, log: logging.Logger) -> None:
+    """Per request: an id and a clock, the key check; then the id header, metrics, one log line."""
+
+    @app.before_request
+    def _start():
+        g.started = time.perf_counter()
+        incoming = request.headers.get("X-Request-ID", "")
+        g.request_id = incoming if 0 < len(incoming) <= 128 and incoming.isprintable() else uuid.uuid4().hex
+        require_key(settings)
+
+    @app.after_request
+    def _finish(response):
+        response.headers["X-Request-ID"] = g.get("request_id", "")
+        seconds = time.perf_counter() - g.get("started", time.perf_counter())
+        metrics.observe(response.status_code, seconds)
+        log_request(log, response.status_code, seconds)
+        return response

@@ -1,0 +1,83 @@
+"""POST /v1/charts: paths, bands or sensitivity drawn as SVG or PNG (service.charts draws)."""
+
+from __future__ import annotations
+
+from flask import Response, current_app, g
+
+from .. import charts
+from ..problems import ProblemError, load_request, problem
+from ..schemas.charts import ChartRequestSchema
+from ..simulation import simulate_many
+from ..uncertainty import bands, sensitivity
+from .documented import DocumentedBlueprint, problem_responses
+from .jsonio import read_json
+from .negotiation import negotiate
+
+__all__ = ["blueprint"]
+
+blueprint = DocumentedBlueprint("charts", __name__)
+
+_CHART = ChartRequestSchema()
+_IMAGE = {"svg": "image/svg+xml", "png": "image/png"}
+
+
+def _under(prefix: str, error: ProblemError) -> ProblemError:
+    """The same problem with its pointers moved under `prefix` (the chart's scenario)."""
+    document = dict(error.problem)
+    if "errors" in document:
+        document["errors"] = [dict(e, pointer=prefix + e["pointer"]) for e in document["errors"]]
+    return ProblemError(document)
+
+
+def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
+    """The image and the scenario id of the answer it draws."""
+    scenario = spec["scenario"]
+    market = scenario.get("market")
+    form = market.get("form", "linear") if isinstance(market, dict) else "linear"
+    if spec["chart"] == "paths":
+        result = simulate_many([scenario])[0]
+        if "status" in result:
+            raise ProblemError(result)
+        image = charts.render_paths(result, spec["units"], fmt, form, spec.get("title"))
+    elif spec["chart"] == "bands":
+        threads = current_app.extensions["shockpath.settings"].band_threads
+        result = bands(scenario, threads=threads)
+        image = charts.render_bands(result, spec["units"], fmt, form, spec.get("title"))
+    else:
+        result = sensitivity(scenario)
+        image = charts.render_sensitivity(
+            result, spec["units"], fmt, form, spec.get("policy"), spec.get("title")
+        )
+    return image, result["scenario_id"]
+
+
+@blueprint.operation(
+    "post",
+    "/v1/charts",
+    operationId="postChart",
+    summary="A chart of paths, bands or sensitivity as SVG or PNG",
+    request="ChartRequest",
+    responses={
+        "200": {
+            "description": "The chart (1200 x 900 px).",
+            "content": {"image/svg+xml": "image", "image/png": "image"},
+        },
+        **problem_responses("400", "406", "413", "415", "422"),
+        "503": {"description": "The charts extra (matplotlib) is not installed.", "problem": True},
+    },
+)
+def post_chart() -> Response:
+    spec = load_request(_CHART, read_json())
+    fmt = spec.get("format")
+    if fmt is None:
+        preferred = negotiate(list(_IMAGE.values()), "Charts are image/svg+xml or image/png.")
+        fmt = "png" if preferred == "image/png" else "svg"
+    if not charts.available():
+        raise ProblemError(problem(503, "Service Unavailable", "Charts need the charts extra (matplotlib)."))
+    try:
+        image, g.scenario_id = _draw(spec, fmt)
+    except ProblemError as error:
+        raise _under("/scenario", error) from None
+    response = Response(image, mimetype=_IMAGE[fmt])
+    response.vary.add("Accept")
+    return response

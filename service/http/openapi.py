@@ -1,0 +1,198 @@
+"""The OpenAPI 3.1 document, generated from the marshmallow schemas and the operations that
+each blueprint records beside its views (documented.py, routes.py).
+
+python -m service.http            # print the document
+python -m service.http --write    # write openapi/openapi.json
+python -m service.http --check    # exit 1 if the committed file differs
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+from apispec import APISpec
+from apispec.ext.marshmallow import MarshmallowPlugin
+
+from .. import limits
+from ..engine import MODEL_VERSION
+from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
+from ..schemas.charts import ChartRequestSchema
+from ..schemas.fields import openapi_attributes
+from ..schemas.paths import BatchRequestSchema, PathsRequestSchema
+from ..schemas.responses import (
+    BandsResponseSchema,
+    BatchResponseSchema,
+    ExampleListSchema,
+    HealthSchema,
+    PathsResponseSchema,
+    ProblemSchema,
+    SensitivityResponseSchema,
+)
+from ..schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema
+from .routes import BLUEPRINTS
+
+__all__ = ["DOCUMENT_PATH", "build_document"]
+
+DOCUMENT_PATH = Path(__file__).resolve().parents[2] / "openapi" / "openapi.json"
+
+_DESCRIPTION = f"""Year-by-year transition paths of a market (price, quantity, shortage, surplus
+changes, deadweight loss) under shocks and policies, with supply that adjusts from its
+short-run to its long-run elasticity. Money is in the caller's currency per unit per price
+interval; welfare flows are per model period.
+
+Limits (422 before any work): horizon <= {limits.MAX_HORIZON} periods, <= {limits.MAX_POLICIES}
+policies, <= {limits.MAX_SHOCKS} shocks, <= {limits.MAX_SHIFTERS_PER_CURVE} shifters per curve,
+<= {limits.MAX_BATCH_SCENARIOS} scenarios per batch and <= {limits.MAX_POLICY_PERIODS:,}
+policy-periods (policies x (longest horizon + 1)) per batch; <= {MAX_DRAWS:,} draws and
+<= {MAX_DRAW_CELLS:,} draws x (horizon + 1) x policies per bands request; bodies <= {limits.MAX_BODY_BYTES}
+bytes (413). Every error is RFC 9457 application/problem+json.
+
+Results are model estimates: they inform, and do not replace, local market studies and
+qualified analysts."""
+
+_SCHEMAS = {
+    "Problem": ProblemSchema,
+    "PathsRequest": PathsRequestSchema,
+    "BatchRequest": BatchRequestSchema,
+    "PathsResponse": PathsResponseSchema,
+    "BatchResponse": BatchResponseSchema,
+    "BandsRequest": BandsRequestSchema,
+    "BandsResponse": BandsResponseSchema,
+    "SensitivityRequest": SensitivityRequestSchema,
+    "SensitivityResponse": SensitivityResponseSchema,
+    "ChartRequest": ChartRequestSchema,
+    "ExampleList": ExampleListSchema,
+    "Health": HealthSchema,
+}
+
+_HEADERS = {
+    "ETag": {
+        "description": 'The scenario_id in quotes ("<id>" for JSON, "<id>.csv" for CSV).',
+        "schema": {"type": "string"},
+    },
+}
+
+_PARAMETERS = {
+    "If-None-Match": {
+        "name": "If-None-Match",
+        "in": "header",
+        "required": False,
+        "description": "An ETag from an earlier answer; a match gets 304 without recomputation.",
+        "schema": {"type": "string"},
+    },
+    "Accept": {
+        "name": "Accept",
+        "in": "header",
+        "required": False,
+        "description": "application/json (default) or text/csv (long form: policy,period,variable,value).",
+        "schema": {"type": "string"},
+    },
+    "name": {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}},
+}
+
+
+def _schema_name(schema) -> str:
+    for name, cls in _SCHEMAS.items():
+        if type(schema) is cls or schema is cls:  # exact: BandsRequest subclasses PathsRequest
+            return name
+    return schema.__class__.__name__.removesuffix("Schema")
+
+
+def _content(kind: str) -> dict[str, Any]:
+    if kind == "csv":
+        return {"schema": {"type": "string"}}
+    if kind == "text":
+        return {"schema": {"type": "string"}}
+    if kind == "image":
+        return {"schema": {"type": "string", "format": "binary"}}
+    if kind == "ExampleRequest":
+        refs = ["PathsRequest", "BandsRequest"]
+        return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{r}"} for r in refs]}}
+    return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
+
+
+def _operation(op: dict[str, Any]) -> dict[str, Any]:
+    if "document" in op:
+        return op["document"]
+    out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
+    params = [_PARAMETERS[p] for p in op.get("parameters", []) + op.get("path_parameters", [])]
+    if params:
+        out["parameters"] = params
+    if "request" in op:
+        out["requestBody"] = {
+            "required": True,
+            "content": {"application/json": _content(op["request"])},
+        }
+    for status, spec in op["responses"].items():
+        response: dict[str, Any] = {"description": spec["description"]}
+        if spec.get("problem"):
+            response["content"] = {"application/problem+json": _content("Problem")}
+        elif "content" in spec:
+            response["content"] = {mime: _content(kind) for mime, kind in spec["content"].items()}
+        if "headers" in spec:
+            response["headers"] = {h: _HEADERS[h] for h in spec["headers"]}
+        out["responses"][status] = response
+    if op["path"].startswith("/v1/"):
+        # Keys are optional: an empty requirement means the service runs without them.
+        out["security"] = [{}, {"bearer": []}]
+        out["responses"]["401"] = {
+            "description": "Keys are configured and the request has no valid 'Authorization: Bearer <key>'.",
+            "content": {"application/problem+json": _content("Problem")},
+            "headers": {"WWW-Authenticate": {"schema": {"type": "string"}}},
+        }
+    out["responses"]["default"] = {
+        "description": "Any other error (404, 405, 500, ...) as a problem document.",
+        "content": {"application/problem+json": _content("Problem")},
+    }
+    return out
+
+
+def build_document() -> dict[str, Any]:
+    """The OpenAPI 3.1 document as a dict (deterministic: same code, same document)."""
+    plugin = MarshmallowPlugin(schema_name_resolver=_schema_name)
+    spec = APISpec(
+        title="shockpath",
+        version=MODEL_VERSION,
+        openapi_version="3.1.0",
+        plugins=[plugin],
+        info={"description": _DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
+    )
+    openapi_attributes(plugin.converter)
+    spec.components.security_scheme(
+        "bearer",
+        {
+            "type": "http",
+            "scheme": "bearer",
+            "description": "Needed on /v1 only when SHOCKPATH_API_KEYS is set.",
+        },
+    )
+    for name, schema in _SCHEMAS.items():
+        spec.components.schema(name, schema=schema)
+    by_path: dict[str, dict[str, Any]] = {}
+    for blueprint in BLUEPRINTS:
+        for op in blueprint.operations:
+            by_path.setdefault(op["path"], {})[op["method"]] = _operation(op)
+    for path, operations in by_path.items():
+        spec.path(path=path, operations=operations)
+    return spec.to_dict()
+
+
+def render_document() -> str:
+    return json.dumps(build_document(), indent=2, sort_keys=True) + "\n"
+
+
+def main(argv: list[str]) -> int:
+    text = render_document()
+    if "--write" in argv:
+        DOCUMENT_PATH.write_text(text, encoding="utf-8")
+        return 0
+    if "--check" in argv:
+        same = DOCUMENT_PATH.exists() and DOCUMENT_PATH.read_text(encoding="utf-8") == text
+        if not same:
+            print(f"{DOCUMENT_PATH} is out of date: run python -m service.http --write", file=sys.stderr)
+        return 0 if same else 1
+    sys.stdout.write(text)
+    return 0

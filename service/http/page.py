@@ -1,0 +1,52 @@
+"""GET / and /ui/{name}: the page to try scenarios in a browser (files in web/; no build step)."""
+
+from __future__ import annotations
+
+from importlib import resources
+
+from flask import Response
+
+from ..problems import ProblemError, problem
+from .documented import DocumentedBlueprint
+
+__all__ = ["blueprint"]
+
+blueprint = DocumentedBlueprint("page", __name__)
+
+_PAGE_FILES = {"style.css": "text/css", "app.js": "text/javascript"}
+
+
+def _page_file(name: str) -> bytes:
+    return (resources.files("service.http") / "web" / name).read_bytes()
+
+
+@blueprint.operation(
+    "get",
+    "/",
+    operationId="page",
+    summary="A page to try scenarios in a browser",
+    responses={"200": {"description": "HTML.", "content": {"text/html": "text"}}},
+)
+def page() -> Response:
+    """The built-in page to try scenarios (no build step, no outside network)."""
+    return Response(_page_file("index.html"), mimetype="text/html")
+
+
+@blueprint.operation(
+    "get",
+    "/ui/{name}",
+    operationId="pageFile",
+    summary="The page's style sheet and script",
+    path_parameters=["name"],
+    responses={
+        "200": {
+            "description": "CSS or JavaScript.",
+            "content": {"text/css": "text", "text/javascript": "text"},
+        },
+        "404": {"description": "No such file.", "problem": True},
+    },
+)
+def page_file(name: str) -> Response:
+    if name not in _PAGE_FILES:
+        raise ProblemError(problem(404, "Not Found", "No such page file."))
+    return Response(_page_file(name), mimetype=_PAGE_FILES[name])

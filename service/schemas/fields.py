@@ -1,0 +1,219 @@
+"""Strict marshmallow fields and the base of every request schema, and how each field appears
+in the OpenAPI document.
+
+JSON numbers only (never true/false or "12"), finite only, integers written 12 or 12.0;
+unions (a number or "base"; a number or a step list) and tagged unions (a policy by its
+`kind`) that load to one value and document themselves as JSON Schema `oneOf`.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from marshmallow import Schema, ValidationError, fields, validate
+
+__all__ = [
+    "AnyObject",
+    "Either",
+    "NumberOrConstant",
+    "NumberOrList",
+    "Real",
+    "StrictSchema",
+    "Tagged",
+    "WholeNumber",
+    "in_range",
+    "openapi_attributes",
+]
+
+
+class StrictSchema(Schema):
+    """Base of the request schemas: fields in declaration order; unknown fields are rejected
+    (marshmallow's default, RAISE)."""
+
+    class Meta:
+        ordered = True
+
+
+def in_range(low=None, high=None, low_ok=True, high_ok=True) -> validate.Range:
+    """A Range validator; low_ok / high_ok say whether each end itself is allowed."""
+    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok)
+
+
+class Real(fields.Float):
+    """A finite JSON number; booleans and strings are rejected."""
+
+    default_error_messages = {
+        "invalid": "Must be a number.",
+        "special": "Must be a finite number.",
+        "too_large": "Number too large.",
+    }
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise self.make_error("invalid")
+        try:
+            number = float(value)
+        except OverflowError as error:
+            raise self.make_error("too_large") from error
+        if not math.isfinite(number):
+            raise self.make_error("special")
+        return number
+
+
+class WholeNumber(fields.Integer):
+    """A JSON integer, also written with a zero fraction (12.0); never a boolean or string."""
+
+    default_error_messages = {"invalid": "Must be a whole number.", "too_large": "Number too large."}
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, bool):
+            raise self.make_error("invalid")
+        if isinstance(value, float):
+            if not math.isfinite(value) or not value.is_integer():
+                raise self.make_error("invalid")
+            value = int(value)
+        if not isinstance(value, int):
+            raise self.make_error("invalid")
+        if abs(value) > 2**53:
+            raise self.make_error("too_large")
+        return value
+
+
+class NumberOrConstant(fields.Field):
+    """A number in a range, or one fixed string (e.g. "base"); loads to float or the string."""
+
+    def __init__(self, constant: str, number: Real, **kwargs):
+        super().__init__(**kwargs)
+        self.constant = constant
+        self.number = number
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if value == self.constant and isinstance(value, str):
+            return value
+        if isinstance(value, str):
+            raise ValidationError(f'Must be a number or "{self.constant}".')
+        return self.number.deserialize(value)
+
+
+class NumberOrList(fields.Field):
+    """A number, or a non-empty list of objects (loads to float or list)."""
+
+    def __init__(self, number: Real, items: fields.List, **kwargs):
+        super().__init__(**kwargs)
+        self.number = number
+        self.items = items
+
+    def _bind_to_schema(self, field_name, parent):
+        super()._bind_to_schema(field_name, parent)
+        self.items._bind_to_schema(field_name, parent)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, list):
+            return self.items.deserialize(value)
+        return self.number.deserialize(value)
+
+
+class AnyObject(fields.Field):
+    """A JSON object loaded as it is, documented as `schema` (validated later, on its own)."""
+
+    def __init__(self, schema: type[Schema], **kwargs):
+        super().__init__(**kwargs)
+        self.schema = schema
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if not isinstance(value, dict):
+            raise ValidationError("Must be an object.")
+        return value
+
+
+class Either(fields.Field):
+    """Documentation only: a value matching exactly one of several schemas (`oneOf`)."""
+
+    def __init__(self, schemas: list[type[Schema]], **kwargs):
+        super().__init__(**kwargs)
+        self.schemas = schemas
+
+
+class Tagged(fields.Field):
+    """An object whose `tag` member chooses the schema that loads it (a tagged union)."""
+
+    def __init__(self, tag: str, schemas: dict[str, type[Schema]], **kwargs):
+        super().__init__(**kwargs)
+        self.tag = tag
+        self.schemas = {name: cls() for name, cls in schemas.items()}
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if not isinstance(value, dict):
+            raise ValidationError("Must be an object.")
+        name = value.get(self.tag)
+        if not isinstance(name, str) or name not in self.schemas:
+            options = ", ".join(self.schemas)
+            raise ValidationError({self.tag: [f"Must be one of: {options}."]})
+        return self.schemas[name].load(value)
+
+
+def _exclusive_range(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[str, Any]:
+    """JSON Schema 2020-12 exclusive bounds for Range validators that exclude an end."""
+    out: dict[str, Any] = {}
+    for v in field.validators:
+        if isinstance(v, validate.Range):
+            if v.min is not None and not v.min_inclusive:
+                ret.pop("minimum", None)
+                out["exclusiveMinimum"] = v.min
+            if v.max is not None and not v.max_inclusive:
+                ret.pop("maximum", None)
+                out["exclusiveMaximum"] = v.max
+    return out
+
+
+def _dict_length(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[str, Any]:
+    if not isinstance(field, fields.Dict):
+        return {}
+    ret.pop("maxLength", None)
+    ret.pop("minLength", None)
+    out: dict[str, Any] = {}
+    for v in field.validators:
+        if isinstance(v, validate.Length):
+            if v.max is not None:
+                out["maxProperties"] = v.max
+            if v.min is not None:
+                out["minProperties"] = v.min
+    return out
+
+
+def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[str, Any]:
+    if isinstance(field, Tagged):
+        refs = {name: self.resolve_nested_schema(schema) for name, schema in field.schemas.items()}
+        ret.pop("type", None)
+        return {
+            "oneOf": list(refs.values()),
+            "discriminator": {
+                "propertyName": field.tag,
+                "mapping": {name: ref["$ref"] for name, ref in refs.items()},
+            },
+        }
+    alternatives = getattr(field, "openapi_alternatives", None)
+    if alternatives is not None:
+        return {"oneOf": [self.field2property(f) for f in alternatives()]}
+    if isinstance(field, Either):
+        return {"oneOf": [self.resolve_nested_schema(schema) for schema in field.schemas]}
+    if isinstance(field, AnyObject):
+        # Any object is accepted here; it is validated later on its own (e.g. one batch
+        # scenario, whose problems are answered in its place), so the document says so.
+        name = self.resolve_nested_schema(field.schema)["$ref"].rsplit("/", 1)[-1]
+        return {
+            "type": "object",
+            "description": f"Validated on its own as {name}; if invalid, its result is a problem.",
+        }
+    if isinstance(field, NumberOrConstant):
+        return {"oneOf": [self.field2property(field.number), {"type": "string", "const": field.constant}]}
+    if isinstance(field, NumberOrList):
+        return {"oneOf": [self.field2property(field.number), self.field2property(field.items)]}
+    return {}
+
+
+def openapi_attributes(converter) -> None:
+    """Teach an apispec OpenAPIConverter the fields of this module."""
+    for func in (_exclusive_range, _dict_length, _unions):
+        converter.add_attribute_function(func)

@@ -1,0 +1,524 @@
+"""Requests of /v1/paths and /v1/paths/batch: the single source of their validation and of
+their OpenAPI request bodies.
+
+Each schema checks its own fields (types, signs, ranges, limits from service.limits);
+cross-field rules (shocks name declared shifters, an adjustment schedule where the supply
+elasticities differ, unique policy names, a batch's total work) live in `@validates_schema`;
+`@post_load` builds the engine's frozen dataclasses. Unknown fields are rejected everywhere
+(marshmallow's RAISE).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from marshmallow import ValidationError, fields, post_load, validate, validates_schema
+
+from .. import limits
+from ..engine.scenario import (
+    Adjustment,
+    DiscountStep,
+    Market,
+    Policy,
+    Scenario,
+    Shock,
+    Welfare,
+)
+from .fields import AnyObject, NumberOrConstant, NumberOrList, Real, StrictSchema, Tagged, WholeNumber
+from .fields import in_range as _range
+
+__all__ = [
+    "POLICY_SCHEMAS",
+    "BatchRequestSchema",
+    "DemandSchema",
+    "MarketSchema",
+    "PathsRequestSchema",
+    "SupplySchema",
+    "build_market",
+    "policy_periods",
+    "shifter_map",
+]
+
+
+def _period(**kwargs):
+    return WholeNumber(validate=_range(1, limits.MAX_PERIOD), **kwargs)
+
+
+def _shifter_name(**kwargs) -> fields.String:
+    return fields.String(validate=validate.Length(1, limits.MAX_SHIFTER_NAME_LENGTH), **kwargs)
+
+
+# --- market -------------------------------------------------------------------------------
+
+
+def shifter_map(description: str, values: fields.Field | None = None) -> fields.Dict:
+    """Elasticity per named shifter; each value a number by default, or `values`."""
+    return fields.Dict(
+        keys=_shifter_name(),
+        values=values or Real(validate=_range(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY)),
+        validate=validate.Length(max=limits.MAX_SHIFTERS_PER_CURVE),
+        load_default=dict,
+        metadata={"description": description},
+    )
+
+
+class DemandSchema(StrictSchema):
+    price_elasticity = Real(
+        required=True,
+        validate=_range(-limits.MAX_ELASTICITY, 0.0, high_ok=False),
+        metadata={"description": "Own-price elasticity of demand, eta < 0."},
+    )
+    shifters = shifter_map("Elasticity of quantity demanded with respect to each named shifter (any sign).")
+
+
+class SupplySchema(StrictSchema):
+    short_run_elasticity = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_ELASTICITY),
+        metadata={"description": "Supply elasticity in the impact period, >= 0."},
+    )
+    long_run_elasticity = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_ELASTICITY),
+        metadata={"description": "Supply elasticity once building has caught up, >= 0."},
+    )
+    shifters = shifter_map(
+        "Elasticity of quantity supplied at a given price with respect to each named shifter."
+    )
+
+
+class MarketSchema(StrictSchema):
+    price = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_MONEY, low_ok=False),
+        metadata={"description": "Base price P0 per unit per price interval (e.g. a month's rent)."},
+    )
+    quantity = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_QUANTITY, low_ok=False),
+        metadata={"description": "Base quantity Q0 traded per price interval (e.g. occupied homes)."},
+    )
+    payments_per_period = Real(
+        load_default=1.0,
+        validate=_range(0.0, limits.MAX_PAYMENTS_PER_PERIOD, low_ok=False),
+        metadata={"description": "Price intervals per model period (monthly rents, yearly periods: 12)."},
+    )
+    form = fields.String(
+        load_default="linear",
+        validate=validate.OneOf(["linear", "constant_elasticity"]),
+        metadata={"description": "Curve form: first-order linear displacement or constant elasticity."},
+    )
+    demand = fields.Nested(DemandSchema, required=True)
+    supply = fields.Nested(SupplySchema, required=True)
+
+    @validates_schema
+    def _shifter_count(self, data, **kwargs):
+        demand = data["demand"]["shifters"]
+        supply = data["supply"]["shifters"]
+        both = set(demand) | set(supply)
+        if len(both) > 2 * limits.MAX_SHIFTERS_PER_CURVE:
+            raise ValidationError("Too many shifters.", "demand")
+
+    @post_load
+    def _build(self, data, **kwargs) -> Market:
+        return build_market(data)
+
+
+def build_market(data: dict[str, Any]) -> Market:
+    """The engine's Market from a loaded market object whose elasticities are numbers."""
+    return Market(
+        price=data["price"],
+        quantity=data["quantity"],
+        demand_elasticity=data["demand"]["price_elasticity"],
+        short_run_elasticity=data["supply"]["short_run_elasticity"],
+        long_run_elasticity=data["supply"]["long_run_elasticity"],
+        demand_shifters=dict(data["demand"]["shifters"]),
+        supply_shifters=dict(data["supply"]["shifters"]),
+        payments_per_period=data["payments_per_period"],
+        form=data["form"],
+    )
+
+
+# --- shocks -------------------------------------------------------------------------------
+
+
+def _change(description: str, **kwargs):
+    return Real(
+        validate=_range(-1.0, limits.MAX_SHOCK_CHANGE, low_ok=False),
+        metadata={"description": description},
+        **kwargs,
+    )
+
+
+class _ShockBase(StrictSchema):
+    shifter = _shifter_name(
+        required=True,
+        metadata={"description": "A shifter declared in market.demand.shifters or market.supply.shifters."},
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Shock:
+        if "values" in data:
+            data["values"] = tuple(data["values"])
+        return Shock(**data)
+
+
+class StepShockSchema(_ShockBase):
+    profile = fields.String(required=True, validate=validate.OneOf(["step"]))
+    change = _change("Fractional change from period `start` on (0.10 = +10 %).", required=True)
+    start = _period(load_default=1, metadata={"description": "First period of the change."})
+
+
+class RampShockSchema(_ShockBase):
+    profile = fields.String(required=True, validate=validate.OneOf(["ramp"]))
+    change = _change("Full fractional change, reached in period start + periods - 1.", required=True)
+    periods = WholeNumber(
+        required=True,
+        validate=_range(1, limits.MAX_PERIOD),
+        metadata={"description": "Periods over which the change builds up linearly (n >= 1)."},
+    )
+    start = _period(load_default=1, metadata={"description": "Period that reaches change/periods."})
+
+
+class GrowthShockSchema(_ShockBase):
+    profile = fields.String(required=True, validate=validate.OneOf(["growth"]))
+    rate = Real(
+        required=True,
+        validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
+        metadata={"description": "Compound rate per period: change (1+rate)^(t-start+1) - 1."},
+    )
+    start = _period(load_default=1, metadata={"description": "First period of growth."})
+
+
+class PathShockSchema(_ShockBase):
+    profile = fields.String(required=True, validate=validate.OneOf(["path"]))
+    values = fields.List(
+        _change("Fractional change in one period."),
+        required=True,
+        validate=validate.Length(1, limits.MAX_HORIZON),
+        metadata={"description": "Change in periods 1, 2, ...; the last value holds to the horizon."},
+    )
+
+
+SHOCK_SCHEMAS = {
+    "step": StepShockSchema,
+    "ramp": RampShockSchema,
+    "growth": GrowthShockSchema,
+    "path": PathShockSchema,
+}
+
+
+# --- adjustment ---------------------------------------------------------------------------
+
+
+class LinearScheduleSchema(StrictSchema):
+    schedule = fields.String(required=True, validate=validate.OneOf(["linear"]))
+    periods = WholeNumber(
+        required=True,
+        validate=_range(0, limits.MAX_PERIOD),
+        metadata={"description": "K: supply elasticity reaches long run in period K + 1 (0: at once)."},
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return Adjustment(schedule="linear", periods=data["periods"])
+
+
+class GeometricScheduleSchema(StrictSchema):
+    schedule = fields.String(required=True, validate=validate.OneOf(["geometric"]))
+    rate = Real(
+        validate=_range(0.0, 1.0, low_ok=False),
+        metadata={"description": "Nerlove adjustment coefficient lambda in (0, 1]."},
+    )
+    half_life = Real(
+        validate=_range(limits.MIN_HALF_LIFE, float(limits.MAX_PERIOD)),
+        metadata={"description": "Periods to close half the gap (lambda = 1 - 0.5^(1/h)), at least 0.001."},
+    )
+
+    @validates_schema
+    def _one_of(self, data, **kwargs):
+        if "rate" in data and "half_life" in data:
+            raise ValidationError("Give rate or half_life, not both.", "half_life")
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return Adjustment(schedule="geometric", rate=data.get("rate"), half_life=data.get("half_life"))
+
+
+class ExplicitScheduleSchema(StrictSchema):
+    schedule = fields.String(required=True, validate=validate.OneOf(["explicit"]))
+    elasticities = fields.List(
+        Real(validate=_range(0.0, limits.MAX_ELASTICITY)),
+        required=True,
+        validate=validate.Length(1, limits.MAX_HORIZON),
+        metadata={"description": "Supply elasticity of periods 1, 2, ...; the last holds to the horizon."},
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return Adjustment(schedule="explicit", elasticities=tuple(data["elasticities"]))
+
+
+SCHEDULE_SCHEMAS = {
+    "linear": LinearScheduleSchema,
+    "geometric": GeometricScheduleSchema,
+    "explicit": ExplicitScheduleSchema,
+}
+
+
+# --- policies -----------------------------------------------------------------------------
+
+
+def _money(description: str, low_ok: bool, **kwargs):
+    return Real(
+        validate=_range(0.0, limits.MAX_MONEY, low_ok=low_ok), metadata={"description": description}, **kwargs
+    )
+
+
+class _PolicyBase(StrictSchema):
+    name = fields.String(
+        required=True,
+        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
+        metadata={"description": "Unique label of the policy in this request."},
+    )
+    start = _period(load_default=1, metadata={"description": "First active period (default 1)."})
+    end = _period(metadata={"description": "Last active period (default: the horizon)."})
+
+    @validates_schema
+    def _period_order(self, data, **kwargs):
+        if "end" in data and "start" in data and data["end"] < data["start"]:
+            raise ValidationError("Must not be before start.", "end")
+
+    @post_load
+    def _build(self, data, **kwargs) -> Policy:
+        level = data.pop("level", None)
+        base = level == "base"
+        return Policy(level=None if base else level, base_level=base, **data)
+
+
+class NonePolicySchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["none"]))
+
+
+class PriceCeilingSchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["price_ceiling"]))
+    level = NumberOrConstant(
+        "base",
+        Real(validate=_range(0.0, limits.MAX_MONEY, low_ok=False)),
+        metadata={"description": 'Ceiling price per unit per price interval, or "base" for P0.'},
+    )
+    growth = Real(
+        validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
+        metadata={"description": "Cap on growth per period: c_t = (1+growth) Pc_(t-1), Pc_0 = P0."},
+    )
+
+    @validates_schema
+    def _level_or_growth(self, data, **kwargs):
+        if ("level" in data) == ("growth" in data):
+            raise ValidationError("Give exactly one of level or growth.", "level")
+
+
+class PriceFloorSchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["price_floor"]))
+    level = _money("Floor price per unit per price interval.", low_ok=False, required=True)
+
+
+class UnitTaxSchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["unit_tax"]))
+    amount = _money("Tax per unit per price interval (Pp = Pc - amount).", low_ok=True, required=True)
+
+
+class AdValoremTaxSchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["ad_valorem_tax"]))
+    rate = Real(
+        required=True,
+        validate=_range(0.0, 1.0, high_ok=False),
+        metadata={"description": "Tax as a share of the consumer price (Pp = (1 - rate) Pc)."},
+    )
+
+
+class UnitSubsidySchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["unit_subsidy"]))
+    amount = _money("Subsidy per unit per price interval (Pp = Pc + amount).", low_ok=True, required=True)
+
+
+class QuantityCapSchema(_PolicyBase):
+    kind = fields.String(required=True, validate=validate.OneOf(["quantity_cap"]))
+    level = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_QUANTITY, low_ok=False),
+        metadata={"description": "Most units that may trade per price interval (e.g. permits)."},
+    )
+
+
+POLICY_SCHEMAS = {
+    "none": NonePolicySchema,
+    "price_ceiling": PriceCeilingSchema,
+    "price_floor": PriceFloorSchema,
+    "unit_tax": UnitTaxSchema,
+    "ad_valorem_tax": AdValoremTaxSchema,
+    "unit_subsidy": UnitSubsidySchema,
+    "quantity_cap": QuantityCapSchema,
+}
+
+
+# --- welfare ------------------------------------------------------------------------------
+
+
+class DiscountStepSchema(StrictSchema):
+    through_period = WholeNumber(
+        required=True,
+        validate=_range(1, limits.MAX_PERIOD),
+        metadata={"description": "Last period (inclusive) at this rate."},
+    )
+    rate = Real(required=True, validate=_range(-1.0, limits.MAX_RATE, low_ok=False))
+
+    @post_load
+    def _build(self, data, **kwargs) -> DiscountStep:
+        return DiscountStep(**data)
+
+
+class WelfareSchema(StrictSchema):
+    rationing = fields.String(
+        load_default="efficient",
+        validate=validate.OneOf(["efficient", "random"]),
+        metadata={"description": "Who gets the units under a binding ceiling."},
+    )
+    discount_rate = NumberOrList(
+        Real(validate=_range(-1.0, limits.MAX_RATE, low_ok=False)),
+        fields.List(
+            fields.Nested(DiscountStepSchema), validate=validate.Length(1, limits.MAX_DISCOUNT_STEPS)
+        ),
+        load_default=0.0,
+        metadata={"description": "Rate per model period, or steps [{through_period, rate}, ...]."},
+    )
+
+    @validates_schema
+    def _steps_increase(self, data, **kwargs):
+        steps = data.get("discount_rate")
+        if isinstance(steps, list):
+            for i in range(1, len(steps)):
+                if steps[i].through_period <= steps[i - 1].through_period:
+                    raise ValidationError(
+                        {"discount_rate": {i: {"through_period": ["Must increase strictly."]}}}
+                    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Welfare:
+        rate = data["discount_rate"]
+        return Welfare(data["rationing"], tuple(rate) if isinstance(rate, list) else rate)
+
+
+# --- the scenario -------------------------------------------------------------------------
+
+
+class PathsRequestSchema(StrictSchema):
+    market = fields.Nested(MarketSchema, required=True)
+    shocks = fields.List(
+        Tagged("profile", SHOCK_SCHEMAS),
+        load_default=list,
+        validate=validate.Length(max=limits.MAX_SHOCKS),
+        metadata={"description": "Shocks to named shifters; several on one shifter add."},
+    )
+    adjustment = Tagged(
+        "schedule",
+        SCHEDULE_SCHEMAS,
+        metadata={"description": "Required unless short- and long-run supply elasticities are equal."},
+    )
+    horizon = WholeNumber(
+        required=True,
+        validate=_range(1, limits.MAX_HORIZON),
+        metadata={"description": "Number of model periods T (period 0 is the base point)."},
+    )
+    policies = fields.List(
+        Tagged("kind", POLICY_SCHEMAS),
+        required=True,
+        validate=validate.Length(1, limits.MAX_POLICIES),
+    )
+    welfare = fields.Nested(WelfareSchema, load_default=lambda: WelfareSchema().load({}))
+
+    def _market_of(self, data) -> Market:
+        return data["market"]
+
+    @validates_schema
+    def _consistent(self, data, **kwargs):
+        errors: dict = {}
+        market: Market = self._market_of(data)
+        declared = set(market.shifter_names)
+        for i, shock in enumerate(data.get("shocks", [])):
+            if shock.shifter not in declared:
+                errors.setdefault("shocks", {})[i] = {
+                    "shifter": [f"'{shock.shifter}' is not a shifter of market.demand or market.supply."]
+                }
+        adjustment: Adjustment | None = data.get("adjustment")
+        if adjustment is None:
+            if market.short_run_elasticity != market.long_run_elasticity:
+                errors["adjustment"] = ["Required when short- and long-run supply elasticities differ."]
+        elif (
+            adjustment.schedule == "geometric"
+            and adjustment.rate is None
+            and adjustment.half_life is None
+            and not (0.0 < market.short_run_elasticity <= market.long_run_elasticity)
+        ):
+            errors["adjustment"] = [
+                "Without rate or half_life the Nerlove rate short_run/long_run is used, which "
+                "needs 0 < short-run <= long-run elasticity; give a rate or half_life."
+            ]
+        seen: dict[str, int] = {}
+        for i, policy in enumerate(data["policies"]):
+            if policy.name in seen:
+                errors.setdefault("policies", {})[i] = {
+                    "name": [f"Duplicate policy name (also policy {seen[policy.name]})."]
+                }
+            seen.setdefault(policy.name, i)
+        if errors:
+            raise ValidationError(errors)
+
+    @post_load
+    def _build(self, data, **kwargs) -> Scenario:
+        return Scenario(
+            market=data["market"],
+            horizon=data["horizon"],
+            policies=tuple(data["policies"]),
+            shocks=tuple(data.get("shocks", ())),
+            adjustment=data.get("adjustment") or Adjustment(),
+            welfare=data["welfare"],
+        )
+
+
+class BatchRequestSchema(StrictSchema):
+    """Only the envelope and the batch's total work; each scenario is loaded on its own so that
+    errors stay per scenario."""
+
+    scenarios = fields.List(
+        AnyObject(PathsRequestSchema),
+        required=True,
+        validate=validate.Length(1, limits.MAX_BATCH_SCENARIOS),
+        metadata={"description": "Scenarios, each a /v1/paths request body."},
+    )
+
+    @validates_schema
+    def _work(self, data, **kwargs):
+        work = policy_periods(data["scenarios"])
+        if work > limits.MAX_POLICY_PERIODS:
+            raise ValidationError(
+                f"The batch asks for {work} policy-periods (policies x (longest horizon + 1)); "
+                f"the limit is {limits.MAX_POLICY_PERIODS}.",
+                "scenarios",
+            )
+
+
+def policy_periods(scenarios: list[dict[str, Any]]) -> int:
+    """Work a batch asks for, read from the raw bodies before any validation or model work."""
+
+    def policies(s: dict[str, Any]) -> int:
+        p = s.get("policies")
+        return len(p) if isinstance(p, list) else 0
+
+    def horizon(s: dict[str, Any]) -> int:
+        h = s.get("horizon")
+        if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
+            return 0
+        return int(min(max(h, 0), limits.MAX_HORIZON))
+
+    return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))

@@ -1,0 +1,222 @@
+"""Requests of /v1/bands and /v1/sensitivity: a /v1/paths request in which any elasticity may
+be a distribution object, plus draws, seed, percentiles and an optional correlation.
+
+A distribution is checked against its elasticity's sign rule: a normal's mean must obey it
+(the draws are truncated to it), a uniform's or triangular's whole range must.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from marshmallow import ValidationError, fields, post_load, validate, validates_schema
+
+from .. import limits
+from ..engine.scenario import Market, Scenario
+from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput
+from .fields import Real, StrictSchema, Tagged, WholeNumber
+from .fields import in_range as _range
+from .paths import DemandSchema, MarketSchema, PathsRequestSchema, SupplySchema, build_market, shifter_map
+from .pointers import escape
+
+__all__ = ["BandsRequestSchema", "SensitivityRequestSchema", "UncertainRequest"]
+
+
+class NormalSchema(StrictSchema):
+    distribution = fields.String(required=True, validate=validate.OneOf(["normal"]))
+    mean = Real(required=True)
+    sd = Real(
+        required=True,
+        validate=_range(0.0, limits.MAX_ELASTICITY),
+        metadata={"description": "Standard deviation >= 0."},
+    )
+
+
+class UniformSchema(StrictSchema):
+    distribution = fields.String(required=True, validate=validate.OneOf(["uniform"]))
+    low = Real(required=True)
+    high = Real(required=True)
+
+    @validates_schema
+    def _order(self, data, **kwargs):
+        if data["high"] < data["low"]:
+            raise ValidationError("Must not be below low.", "high")
+
+
+class TriangularSchema(StrictSchema):
+    distribution = fields.String(required=True, validate=validate.OneOf(["triangular"]))
+    low = Real(required=True)
+    mode = Real(required=True)
+    high = Real(required=True)
+
+    @validates_schema
+    def _order(self, data, **kwargs):
+        if not data["low"] <= data["mode"] <= data["high"]:
+            raise ValidationError("Must satisfy low <= mode <= high.", "mode")
+
+
+DISTRIBUTIONS = {"normal": NormalSchema, "uniform": UniformSchema, "triangular": TriangularSchema}
+
+
+class UncertainElasticity(fields.Field):
+    """A number, or a distribution whose support obeys the elasticity's sign rule."""
+
+    def __init__(self, lower: float, upper: float, upper_open: bool = False, **kwargs):
+        super().__init__(**kwargs)
+        self.lower, self.upper, self.upper_open = lower, upper, upper_open
+        self.number = Real(validate=_range(lower, upper, high_ok=not upper_open))
+        self.tagged = Tagged("distribution", DISTRIBUTIONS)
+
+    def openapi_alternatives(self):
+        """For the OpenAPI document: a number or one of the distributions."""
+        return [self.number, self.tagged]
+
+    def _inside(self, x: float) -> bool:
+        return self.lower <= x < self.upper if self.upper_open else self.lower <= x <= self.upper
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if not isinstance(value, dict):
+            return self.number.deserialize(value)
+        d = self.tagged.deserialize(value)
+        kind = d["distribution"]
+        rule = f"[{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
+        # The sign rule bounds every location parameter; a normal's sd is a spread.
+        located = [k for k in PARAMETERS[kind] if k != "sd"]
+        bad = {k: [f"Must lie in {rule}."] for k in located if not self._inside(d[k])}
+        if bad:
+            raise ValidationError(bad)
+        parameters = {k: d[k] for k in PARAMETERS[kind]}
+        return Distribution(
+            kind, **parameters, lower=self.lower, upper=self.upper, upper_open=self.upper_open
+        )
+
+
+def _shifters(description: str) -> fields.Dict:
+    return shifter_map(description, UncertainElasticity(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
+
+
+class UncertainDemandSchema(DemandSchema):
+    price_elasticity = UncertainElasticity(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
+    shifters = _shifters("Shifter elasticities, each a number or a distribution.")
+
+
+class UncertainSupplySchema(SupplySchema):
+    short_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
+    long_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
+    shifters = _shifters("Shifter elasticities, each a number or a distribution.")
+
+
+class UncertainMarketSchema(MarketSchema):
+    demand = fields.Nested(UncertainDemandSchema, required=True)
+    supply = fields.Nested(UncertainSupplySchema, required=True)
+
+    @post_load
+    def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
+        """The market at the central values, and the uncertain inputs in a fixed order (demand
+        price elasticity, short run, long run, demand shifters, supply shifters): the order of
+        the draws' columns."""
+        inputs: list[UncertainInput] = []
+
+        def central(target, pointer, value):
+            if isinstance(value, Distribution):
+                inputs.append(UncertainInput(target, pointer, value))
+                return value.central
+            return value
+
+        demand, supply = data["demand"], data["supply"]
+        eta = central("demand_elasticity", "/market/demand/price_elasticity", demand["price_elasticity"])
+        short_run = central(
+            "short_run_elasticity", "/market/supply/short_run_elasticity", supply["short_run_elasticity"]
+        )
+        long_run = central(
+            "long_run_elasticity", "/market/supply/long_run_elasticity", supply["long_run_elasticity"]
+        )
+        demand_shifters = {
+            n: central(("demand_shifter", n), f"/market/demand/shifters/{escape(n)}", v)
+            for n, v in demand["shifters"].items()
+        }
+        supply_shifters = {
+            n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
+            for n, v in supply["shifters"].items()
+        }
+        numbers = {
+            **data,
+            "demand": {"price_elasticity": eta, "shifters": demand_shifters},
+            "supply": {
+                "short_run_elasticity": short_run,
+                "long_run_elasticity": long_run,
+                "shifters": supply_shifters,
+            },
+        }
+        return build_market(numbers), inputs
+
+
+@dataclass(frozen=True)
+class UncertainRequest:
+    scenario: Scenario
+    inputs: tuple[UncertainInput, ...]
+    draws: int
+    seed: int
+    percentiles: tuple[float, ...]
+    supply_correlation: float
+
+
+class _UncertainRequestSchema(PathsRequestSchema):
+    market = fields.Nested(UncertainMarketSchema, required=True)
+    supply_correlation = Real(
+        load_default=0.0,
+        validate=_range(-1.0, 1.0),
+        metadata={
+            "description": "Correlation of the short- and long-run supply elasticity draws (Gaussian copula)."
+        },
+    )
+
+    def _market_of(self, data) -> Market:
+        return data["market"][0]
+
+    @post_load
+    def _build(self, data, **kwargs) -> UncertainRequest:
+        market, inputs = data["market"]
+        scenario = PathsRequestSchema._build(self, {**data, "market": market})
+        return UncertainRequest(
+            scenario=scenario,
+            inputs=tuple(inputs),
+            draws=data.get("draws", 0),
+            seed=data.get("seed", 0),
+            percentiles=tuple(data.get("percentiles", ())),
+            supply_correlation=data["supply_correlation"],
+        )
+
+
+class BandsRequestSchema(_UncertainRequestSchema):
+    draws = WholeNumber(
+        load_default=10_000,
+        validate=_range(1, limits.MAX_DRAWS),
+        metadata={
+            "description": f"Number of draws (at most {limits.MAX_DRAWS:,}); every draw runs the full model."
+        },
+    )
+    seed = WholeNumber(
+        load_default=0,
+        validate=_range(0, limits.MAX_SEED),
+        metadata={"description": "Same seed, same answer."},
+    )
+    percentiles = fields.List(
+        Real(validate=_range(0.0, 100.0)),
+        load_default=lambda: [5.0, 50.0, 95.0],
+        validate=validate.Length(1, limits.MAX_PERCENTILES),
+        metadata={"description": "Percentiles to report, in [0, 100] (default 5, 50, 95)."},
+    )
+
+    @validates_schema
+    def _work(self, data, **kwargs):
+        cells = data["draws"] * (data["horizon"] + 1) * len(data["policies"])
+        if cells > limits.MAX_DRAW_CELLS:
+            raise ValidationError(
+                f"draws x (horizon + 1) x policies is {cells:,}; the limit is {limits.MAX_DRAW_CELLS:,}.",
+                "draws",
+            )
+
+
+class SensitivityRequestSchema(_UncertainRequestSchema):
+    pass

@@ -1,0 +1,194 @@
+"""The Python API for uncertain elasticities: bands(request) and sensitivity(request).
+
+Each returns the body of POST /v1/bands or POST /v1/sensitivity, or raises ProblemError with
+the document that endpoint would answer. Both run every draw (or every low/high case)
+through the same vectorised engine as /v1/paths.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from . import engine
+from .engine.batch import pack
+from .engine.uncertainty import (
+    BAND_SERIES,
+    BAND_SUMMARY,
+    percentile_bands,
+    rows_for,
+    scenario_batch_with,
+    solve_rows,
+)
+from .problems import ProblemError, load_request, problem
+from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
+from .simulation import compute, scenario_id
+
+__all__ = ["bands", "sensitivity"]
+
+_BANDS = BandsRequestSchema()
+_SENSITIVITY = SensitivityRequestSchema()
+
+#: The headline figures whose swings sensitivity reports, in ranking order.
+HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
+
+
+def _answer_id(endpoint: str, req: UncertainRequest) -> str:
+    """scenario_id of the central scenario with everything else the answer depends on."""
+    return scenario_id(
+        req.scenario,
+        endpoint=endpoint,
+        inputs=req.inputs,
+        draws=req.draws,
+        seed=req.seed,
+        percentiles=req.percentiles,
+        supply_correlation=req.supply_correlation,
+    )
+
+
+def _describe(item) -> dict[str, Any]:
+    d = item.distribution
+    return {"pointer": item.pointer, "distribution": d.kind, **d.parameters, "central": d.central}
+
+
+def _central_answer(req: UncertainRequest) -> dict[str, Any]:
+    """The /v1/paths answer at the central values (ProblemError if there is none)."""
+    (body,) = compute([req.scenario])
+    if "status" in body:
+        body = dict(body, detail="At the central values: " + body["detail"])
+        raise ProblemError(body)
+    return body
+
+
+def _key(q: float) -> str:
+    return f"{q:g}"
+
+
+def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
+    """Body of POST /v1/bands; `threads` solves blocks of draws side by side (same answer)."""
+    req = load_request(_BANDS, request)
+    central = _central_answer(req)
+    arrays = percentile_bands(
+        req.scenario,
+        req.inputs,
+        req.draws,
+        req.seed,
+        req.percentiles,
+        req.supply_correlation,
+        threads=threads,
+    )
+    for p, policy in enumerate(req.scenario.policies):
+        if arrays.feasible_draws[p] == 0:
+            raise ProblemError(
+                problem(
+                    422,
+                    "A policy is infeasible in every draw",
+                    f"policy '{policy.name}' leaves zero or negative quantity or price in every draw",
+                    "infeasible-in-every-draw",
+                    errors=[{"pointer": f"/policies/{p}", "message": "infeasible in every draw"}],
+                )
+            )
+    keys = [_key(q) for q in req.percentiles]
+    out_bands = []
+    for p, policy in enumerate(req.scenario.policies):
+        out_bands.append(
+            {
+                "name": policy.name,
+                "kind": policy.kind,
+                "series": {
+                    name: {k: arrays.series[p, s, i].tolist() for i, k in enumerate(keys)}
+                    for s, name in enumerate(BAND_SERIES)
+                },
+                "summary": {
+                    name: {k: float(arrays.summary[p, s, i]) for i, k in enumerate(keys)}
+                    for s, name in enumerate(BAND_SUMMARY)
+                },
+                "binding_share": float(arrays.binding_share[p]),
+                "infeasible_draws": int(arrays.infeasible_draws[p]),
+            }
+        )
+    cautions = [
+        f"Bands are percentiles over {req.draws:,} draws of the uncertain elasticities (seed {req.seed}); "
+        "each percentile is taken period by period, so a band is not the path of any one draw.",
+    ]
+    if int(arrays.infeasible_draws.max()) > 0:
+        cautions.append(
+            "Some draws make a policy infeasible (zero or negative quantity or price); they are counted "
+            "in infeasible_draws and left out of that policy's percentiles."
+        )
+    cautions += central["cautions"]
+    return {
+        "scenario_id": _answer_id("bands", req),
+        "model_version": engine.MODEL_VERSION,
+        "draws": req.draws,
+        "seed": req.seed,
+        "percentiles": list(req.percentiles),
+        "periods": central["periods"],
+        "uncertain_inputs": [_describe(i) for i in req.inputs],
+        "central": central,
+        "bands": out_bands,
+        "cautions": cautions,
+    }
+
+
+def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
+    """Body of POST /v1/sensitivity: one-at-a-time swings, largest first (a tornado chart)."""
+    req = load_request(_SENSITIVITY, request)
+    central = _central_answer(req)
+    inputs = req.inputs
+    k = len(inputs)
+    centre = np.array([i.distribution.central for i in inputs])
+    values = np.tile(centre, (2 * k + 1, 1))
+    ranges = [i.distribution.range() for i in inputs]
+    for j, (low, high) in enumerate(ranges):
+        values[1 + 2 * j, j] = low
+        values[2 + 2 * j, j] = high
+    base, base_rows = pack([req.scenario])
+    batch = scenario_batch_with(base, req.scenario, inputs, values)
+    rows = rows_for(base_rows, values.shape[0])
+    feasible, _, summary, _ = solve_rows(batch, rows)
+    p = base_rows.size
+    feasible = feasible.reshape(p, -1).T  # rows are policy-major
+    figures = {name: summary[name].reshape(p, -1).T for name in HEADLINES}
+
+    entries = []
+    for j, item in enumerate(inputs):
+        lo_row, hi_row = 1 + 2 * j, 2 + 2 * j
+        policies = []
+        for q, policy in enumerate(req.scenario.policies):
+            ok = bool(feasible[lo_row, q] and feasible[hi_row, q])
+            low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in HEADLINES}
+            high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in HEADLINES}
+            swing = {f: abs(high[f] - low[f]) if ok else None for f in HEADLINES}
+            policies.append(
+                {"name": policy.name, "kind": policy.kind, "low": low, "high": high, "swing": swing}
+            )
+        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in HEADLINES)
+        entries.append(
+            (
+                rank,
+                {
+                    **_describe(item),
+                    "low": ranges[j][0],
+                    "high": ranges[j][1],
+                    "largest_swing": {f: rank[n] for n, f in enumerate(HEADLINES)},
+                    "policies": policies,
+                },
+            )
+        )
+    entries.sort(key=lambda e: e[0], reverse=True)
+    return {
+        "scenario_id": _answer_id("sensitivity", req),
+        "model_version": engine.MODEL_VERSION,
+        "headlines": list(HEADLINES),
+        "central": central,
+        "inputs": [e for _, e in entries],
+        "cautions": [
+            "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
+            "its distribution) with every other input at its central value; inputs are sorted by their "
+            "largest swing in discounted deadweight loss over all policies, then peak shortage, then "
+            "final price.",
+            *central["cautions"],
+        ],
+    }

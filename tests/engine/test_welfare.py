@@ -1,0 +1,101 @@
+"""service/engine/welfare.py: surplus changes, deadweight loss and discounting, against
+Harberger's triangle, numpy_financial and the facts every market obeys (sources in
+tests/catalogue.py)."""
+
+from __future__ import annotations
+
+import copy
+
+import numpy as np
+import numpy_financial as npf
+import pytest
+from hypothesis import given
+
+from service import simulate
+
+from ..catalogue import harberger_dwl
+from ..strategies import requests
+from .builders import one_policy, solved
+
+
+@pytest.mark.parametrize("k", [1, 12])
+@pytest.mark.parametrize(("eps", "eta", "tau"), [(1.0, -0.5, 2.0), (0.3, -1.2, 5.0), (2.0, -0.4, 0.5)])
+def test_small_tax_deadweight_loss_is_harbergers_triangle(eps, eta, tau, k):
+    body = simulate(one_policy({"name": "tax", "kind": "unit_tax", "amount": tau}, eta=eta, eps=eps, k=k))
+    dwl = body["paths"][1]["deadweight_loss"][1]
+    # Harberger (1964), "Taxation, Resource Allocation, and Welfare": 1/2 tau^2 (Q0/P0) eps|eta|/(eps+|eta|).
+    assert dwl == pytest.approx(k * harberger_dwl(tau, 100.0, 1000.0, eps, eta), rel=1e-9)
+
+
+def test_constant_elasticity_tax_loss_approaches_harberger_for_small_taxes():
+    """Harberger (1964) is the second-order approximation: the relative error falls with tau."""
+    errors = []
+    for tau in (1.0, 0.5, 0.25):
+        body = simulate(
+            one_policy(
+                {"name": "tax", "kind": "unit_tax", "amount": tau},
+                eta=-0.7,
+                eps=0.9,
+                form="constant_elasticity",
+            )
+        )
+        exact = body["paths"][1]["deadweight_loss"][1]
+        errors.append(abs(exact / harberger_dwl(tau, 100.0, 1000.0, 0.9, -0.7) - 1.0))
+    # Harberger (1964) is the second-order approximation: its relative error falls with tau.
+    assert errors[0] > errors[1] > errors[2]
+    assert errors[2] < 2e-3
+
+
+@pytest.mark.parametrize("rate", [0.0, 0.02, 0.035, 0.07])
+def test_discounted_loss_equals_numpy_financial_npv(rate, contract_request):
+    request = copy.deepcopy(contract_request)
+    request["welfare"]["discount_rate"] = rate
+    body = simulate(request)
+    for path in body["paths"]:
+        dwl = path["deadweight_loss"]
+        # numpy_financial.npv, the reference library for present values.
+        assert path["discounted_deadweight_loss"][-1] == pytest.approx(
+            npf.npv(rate, dwl), rel=1e-12, abs=1e-6
+        )
+        assert path["cumulative_deadweight_loss"] == pytest.approx(np.cumsum(dwl).tolist(), rel=1e-12)
+
+
+def test_step_discount_schedule_equals_npv_of_each_segment(contract_request):
+    request = copy.deepcopy(contract_request)
+    request["welfare"]["discount_rate"] = [
+        {"through_period": 4, "rate": 0.035},
+        {"through_period": 9, "rate": 0.03},
+        {"through_period": 10, "rate": 0.025},
+    ]
+    body = simulate(request)
+    path = body["paths"][1]
+    dwl = np.array(path["deadweight_loss"])
+    rates = np.array([0.0] + [0.035] * 4 + [0.03] * 5 + [0.025] * 3)  # the last step holds past 10
+    factors = np.cumprod(1.0 / (1.0 + rates))
+    assert path["discounted_deadweight_loss"][-1] == pytest.approx(float((dwl * factors).sum()), rel=1e-12)
+    # The first segment is an ordinary present value at 3.5 %: numpy_financial.npv.
+    assert path["discounted_deadweight_loss"][4] == pytest.approx(npf.npv(0.035, dwl[:5]), rel=1e-12)
+
+
+@given(requests())
+def test_deadweight_loss_is_never_negative(request):
+    body = solved(request)
+    for path in body["paths"]:
+        assert min(path["deadweight_loss"]) >= 0.0
+        assert min(path["misallocation_loss"]) >= 0.0
+        assert np.all(np.diff(path["cumulative_deadweight_loss"]) >= 0.0)
+
+
+@given(requests())
+def test_surplus_changes_revenue_and_loss_add_to_zero(request):
+    body = solved(request)
+    m = request["market"]
+    scale = m["price"] * m["quantity"] * m.get("payments_per_period", 1)
+    for path in body["paths"]:
+        total = (
+            np.array(path["consumer_surplus_change"])
+            + path["producer_surplus_change"]
+            + np.array(path["government_revenue"])
+            + path["deadweight_loss"]
+        )
+        assert np.abs(total).max() <= 1e-9 * scale

@@ -1,0 +1,304 @@
+"""A hostile-input corpus: each body gets its documented status and, for 422, a pointer at
+the field; none gets a 500 or a stack trace. One row per case: (id, body, content type,
+status, pointer that must appear among the errors)."""
+
+from __future__ import annotations
+
+import copy
+import json
+
+import pytest
+
+from service import limits
+from service.examples import example_request
+from service.limits import MAX_DRAWS
+
+BASE = example_request("contract-example")
+UNCERTAIN = example_request("quillbrook-uncertain-elasticities")
+
+
+def edit(change, base=BASE):
+    body = copy.deepcopy(base)
+    change(body)
+    return json.dumps(body)
+
+
+def _set(path, value):
+    def change(body):
+        target = body
+        for key in path[:-1]:
+            target = target[key]
+        target[path[-1]] = value
+
+    return change
+
+
+def _named_policies(n):
+    return lambda b: b.update(policies=[dict(b["policies"][i % 8], name=f"p{i}") for i in range(n)])
+
+
+JSON = "application/json"
+CASES = [
+    # malformed JSON and numbers JSON cannot carry
+    ("truncated", '{"market": {', JSON, 400, None),
+    ("single-quotes", "{'market': 1}", JSON, 400, None),
+    ("trailing-comma", '{"horizon": 3,}', JSON, 400, None),
+    ("nan", '{"horizon": NaN}', JSON, 400, None),
+    ("infinity", '{"horizon": Infinity}', JSON, 400, None),
+    ("minus-infinity", '{"horizon": -Infinity}', JSON, 400, None),
+    ("huge-exponent", '{"horizon": 1e999}', JSON, 400, None),
+    ("deep-nesting", "[" * 3000 + "]" * 3000, JSON, 400, None),
+    ("empty-body", "", JSON, 400, None),
+    ("not-utf8", b"\xff\xfe{}", JSON, 400, None),
+    ("bare-string", '"paths please"', JSON, 422, ""),
+    ("array-top", "[1, 2, 3]", JSON, 422, ""),
+    ("null-top", "null", JSON, 422, ""),
+    # content types
+    ("text-plain", "{}", "text/plain", 415, None),
+    ("form", "horizon=3", "application/x-www-form-urlencoded", 415, None),
+    ("xml", "<horizon>3</horizon>", "application/xml", 415, None),
+    # strings, booleans and nulls where numbers belong
+    ("price-string", edit(_set(["market", "price"], "1450")), JSON, 422, "/market/price"),
+    ("price-bool", edit(_set(["market", "price"], True)), JSON, 422, "/market/price"),
+    ("price-null", edit(_set(["market", "price"], None)), JSON, 422, "/market/price"),
+    ("horizon-string", edit(_set(["horizon"], "12")), JSON, 422, "/horizon"),
+    ("horizon-bool", edit(_set(["horizon"], True)), JSON, 422, "/horizon"),
+    ("horizon-fraction", edit(_set(["horizon"], 12.5)), JSON, 422, "/horizon"),
+    (
+        "eta-list",
+        edit(_set(["market", "demand", "price_elasticity"], [-0.4])),
+        JSON,
+        422,
+        "/market/demand/price_elasticity",
+    ),
+    (
+        "shifter-string",
+        edit(_set(["market", "demand", "shifters", "income"], "high")),
+        JSON,
+        422,
+        "/market/demand/shifters/income",
+    ),
+    # signs and ranges
+    ("zero-price", edit(_set(["market", "price"], 0)), JSON, 422, "/market/price"),
+    ("negative-price", edit(_set(["market", "price"], -1450)), JSON, 422, "/market/price"),
+    ("zero-quantity", edit(_set(["market", "quantity"], 0)), JSON, 422, "/market/quantity"),
+    ("negative-quantity", edit(_set(["market", "quantity"], -3)), JSON, 422, "/market/quantity"),
+    (
+        "positive-eta",
+        edit(_set(["market", "demand", "price_elasticity"], 0.45)),
+        JSON,
+        422,
+        "/market/demand/price_elasticity",
+    ),
+    (
+        "zero-eta",
+        edit(_set(["market", "demand", "price_elasticity"], 0)),
+        JSON,
+        422,
+        "/market/demand/price_elasticity",
+    ),
+    (
+        "negative-supply",
+        edit(_set(["market", "supply", "long_run_elasticity"], -1.8)),
+        JSON,
+        422,
+        "/market/supply/long_run_elasticity",
+    ),
+    (
+        "zero-payments",
+        edit(_set(["market", "payments_per_period"], 0)),
+        JSON,
+        422,
+        "/market/payments_per_period",
+    ),
+    ("unknown-form", edit(_set(["market", "form"], "quadratic")), JSON, 422, "/market/form"),
+    ("shock-minus-100", edit(lambda b: b["shocks"][0].update(change=-1.0)), JSON, 422, "/shocks/0/change"),
+    ("negative-tax", edit(lambda b: b["policies"][4].update(amount=-40)), JSON, 422, "/policies/4/amount"),
+    ("vat-100", edit(lambda b: b["policies"][5].update(rate=1.0)), JSON, 422, "/policies/5/rate"),
+    ("floor-zero", edit(lambda b: b["policies"][3].update(level=0)), JSON, 422, "/policies/3/level"),
+    ("end-before-start", edit(lambda b: b["policies"][2].update(end=1)), JSON, 422, "/policies/2/end"),
+    (
+        "negative-discount",
+        edit(_set(["welfare", "discount_rate"], -1.5)),
+        JSON,
+        422,
+        "/welfare/discount_rate",
+    ),
+    # structure
+    ("unknown-top-field", edit(_set(["colour"], "blue")), JSON, 422, "/colour"),
+    ("unknown-market-field", edit(_set(["market", "vacancy"], 0.05)), JSON, 422, "/market/vacancy"),
+    (
+        "unknown-policy-field",
+        edit(lambda b: b["policies"][1].update(strength=2)),
+        JSON,
+        422,
+        "/policies/1/strength",
+    ),
+    ("missing-market", edit(lambda b: b.pop("market")), JSON, 422, "/market"),
+    ("missing-policies", edit(lambda b: b.pop("policies")), JSON, 422, "/policies"),
+    ("empty-policies", edit(_set(["policies"], [])), JSON, 422, "/policies"),
+    (
+        "duplicate-names",
+        edit(lambda b: b["policies"][2].update(name="freeze")),
+        JSON,
+        422,
+        "/policies/2/name",
+    ),
+    (
+        "unknown-kind",
+        edit(lambda b: b["policies"].append({"name": "x", "kind": "rent_board"})),
+        JSON,
+        422,
+        "/policies/8/kind",
+    ),
+    ("policy-not-object", edit(lambda b: b["policies"].append(7)), JSON, 422, "/policies/8"),
+    (
+        "undeclared-shifter",
+        edit(lambda b: b["shocks"][0].update(shifter="weather")),
+        JSON,
+        422,
+        "/shocks/0/shifter",
+    ),
+    (
+        "long-path",
+        edit(lambda b: b["shocks"][2].update(values=[0.01] * (limits.MAX_HORIZON + 1))),
+        JSON,
+        422,
+        "/shocks/2/values",
+    ),
+    (
+        "very-long-name",
+        edit(lambda b: b["policies"][0].update(name="n" * 10_000)),
+        JSON,
+        422,
+        "/policies/0/name",
+    ),
+    # limits, at and just over
+    ("horizon-at-limit", edit(_set(["horizon"], limits.MAX_HORIZON)), JSON, 200, None),
+    ("horizon-over-limit", edit(_set(["horizon"], limits.MAX_HORIZON + 1)), JSON, 422, "/horizon"),
+    ("policies-at-limit", edit(_named_policies(limits.MAX_POLICIES)), JSON, 200, None),
+    ("policies-over-limit", edit(_named_policies(limits.MAX_POLICIES + 1)), JSON, 422, "/policies"),
+    (
+        "shocks-at-limit",
+        edit(lambda b: b.update(shocks=[b["shocks"][0]] * limits.MAX_SHOCKS)),
+        JSON,
+        200,
+        None,
+    ),
+    (
+        "shocks-over-limit",
+        edit(lambda b: b.update(shocks=[b["shocks"][0]] * (limits.MAX_SHOCKS + 1))),
+        JSON,
+        422,
+        "/shocks",
+    ),
+    # economics the model refuses
+    ("linear-shock-too-large", edit(lambda b: b["shocks"][0].update(change=-0.99)), JSON, 422, "/shocks"),
+    ("tax-past-choke", edit(lambda b: b["policies"][4].update(amount=1e6)), JSON, 422, "/policies/4/amount"),
+]
+
+BANDS_CASES = [
+    (
+        "draws-at-limit-work-over",
+        edit(lambda b: b.update(draws=MAX_DRAWS, horizon=60), UNCERTAIN),
+        422,
+        "/draws",
+    ),
+    ("draws-over-limit", edit(lambda b: b.update(draws=MAX_DRAWS + 1), UNCERTAIN), 422, "/draws"),
+    ("draws-zero", edit(lambda b: b.update(draws=0), UNCERTAIN), 422, "/draws"),
+    (
+        "percentile-over-100",
+        edit(lambda b: b.update(percentiles=[50, 101]), UNCERTAIN),
+        422,
+        "/percentiles/1",
+    ),
+    (
+        "sd-negative",
+        edit(
+            _set(
+                ["market", "demand", "price_elasticity"], {"distribution": "normal", "mean": -0.4, "sd": -1}
+            ),
+            UNCERTAIN,
+        ),
+        422,
+        "/market/demand/price_elasticity/sd",
+    ),
+    (
+        "mean-wrong-sign",
+        edit(
+            _set(
+                ["market", "demand", "price_elasticity"], {"distribution": "normal", "mean": 0.4, "sd": 0.1}
+            ),
+            UNCERTAIN,
+        ),
+        422,
+        "/market/demand/price_elasticity/mean",
+    ),
+    (
+        "unknown-distribution",
+        edit(_set(["market", "supply", "short_run_elasticity"], {"distribution": "cauchy"}), UNCERTAIN),
+        422,
+        "/market/supply/short_run_elasticity/distribution",
+    ),
+    ("correlation-over-one", edit(_set(["supply_correlation"], 1.5), UNCERTAIN), 422, "/supply_correlation"),
+]
+
+
+def _check(response, status, pointer):
+    assert response.status_code == status, response.get_data(as_text=True)[:500]
+    if status >= 400:
+        assert response.mimetype == "application/problem+json"
+        body = response.get_json()
+        assert body["status"] == status and body["detail"]
+        assert "Traceback" not in response.get_data(as_text=True)
+        if pointer is not None:
+            assert pointer in [e["pointer"] for e in body["errors"]], body
+
+
+@pytest.mark.parametrize(
+    ("body", "content_type", "status", "pointer"), [c[1:] for c in CASES], ids=[c[0] for c in CASES]
+)
+def test_paths_corpus(client, body, content_type, status, pointer):
+    _check(client.post("/v1/paths", data=body, content_type=content_type), status, pointer)
+
+
+@pytest.mark.parametrize(
+    ("body", "status", "pointer"), [c[1:] for c in BANDS_CASES], ids=[c[0] for c in BANDS_CASES]
+)
+def test_bands_corpus(client, body, status, pointer):
+    _check(client.post("/v1/bands", data=body, content_type=JSON), status, pointer)
+
+
+def test_an_oversized_body_is_413(client, app):
+    body = b'{"pad": "' + b"x" * app.config["MAX_CONTENT_LENGTH"] + b'"}'
+    _check(client.post("/v1/paths", data=body, content_type=JSON), 413, None)
+
+
+def test_a_batch_asking_for_more_work_than_allowed_is_422_before_any_work(client):
+    heavy = json.loads(edit(_named_policies(limits.MAX_POLICIES)))
+    heavy["horizon"] = limits.MAX_HORIZON
+    response = client.post("/v1/paths/batch", json={"scenarios": [heavy] * 30})
+    _check(response, 422, "/scenarios")
+
+
+def test_the_largest_bands_request_allowed_is_answered(client):
+    from service.limits import MAX_DRAW_CELLS
+
+    request = copy.deepcopy(UNCERTAIN)
+    request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 30})
+    request["draws"] = MAX_DRAWS
+    request["horizon"] = MAX_DRAW_CELLS // (MAX_DRAWS * 4) - 1
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 200
+    body = response.get_json()
+    # The answer covers exactly the largest work allowed: draws x periods x policies.
+    assert body["draws"] * len(body["periods"]) * len(body["bands"]) == MAX_DRAW_CELLS
+
+
+def test_the_largest_batch_allowed_is_answered(client):
+    scenario = copy.deepcopy(BASE)
+    scenario["policies"] = scenario["policies"][:4]
+    scenario["horizon"] = limits.MAX_POLICY_PERIODS // (limits.MAX_BATCH_SCENARIOS * 4) - 1
+    response = client.post("/v1/paths/batch", json={"scenarios": [scenario] * limits.MAX_BATCH_SCENARIOS})
+    assert response.status_code == 200
+    assert len(response.get_json()["results"]) == limits.MAX_BATCH_SCENARIOS

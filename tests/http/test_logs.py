@@ -1,0 +1,23 @@
+"""One JSON log line per request, with its ids, never its body."""
+
+from __future__ import annotations
+
+import json
+
+from service import create_app
+
+
+def test_each_request_is_one_json_log_line_with_its_ids_and_never_its_body(capfd, contract_request):
+    app = create_app()
+    client = app.test_client()
+    capfd.readouterr()
+    response = client.post("/v1/paths", json=contract_request, headers={"X-Request-ID": "trace-42"})
+    sid = response.get_json()["scenario_id"]
+    lines = [json.loads(line) for line in capfd.readouterr().err.splitlines() if line.strip()]
+    requests = [line for line in lines if line.get("message") == "request"]
+    assert len(requests) == 1
+    entry = requests[0]
+    assert entry["request_id"] == "trace-42" and entry["scenario_id"] == sid
+    assert entry["method"] == "POST" and entry["path"] == "/v1/paths" and entry["status"] == 200
+    assert entry["duration_ms"] >= 0
+    assert "1450" not in json.dumps(lines)  # the body's numbers never reach the log

@@ -1,0 +1,158 @@
+"""POST /v1/paths (the answer, its ETag, CSV, the cache and the Python API agree) and
+POST /v1/paths/batch (one result or one problem per scenario, in order, equal to one-by-one)."""
+
+from __future__ import annotations
+
+import copy
+import csv
+import io
+import json
+
+from service import limits, simulate
+from service.examples import examples
+
+
+def test_posting_the_contract_example_returns_a_path_per_policy(client, contract_request):
+    response = client.post("/v1/paths", json=contract_request)
+    assert response.status_code == 200
+    body = response.get_json()
+    assert [p["name"] for p in body["paths"]] == [p["name"] for p in contract_request["policies"]]
+    assert [s["name"] for s in body["summary"]] == [p["name"] for p in contract_request["policies"]]
+    assert body["periods"] == list(range(13))
+    assert all(len(p["consumer_price"]) == 13 for p in body["paths"])
+    assert body == simulate(contract_request)
+
+
+def test_the_etag_is_the_scenario_id_and_a_match_gets_304(client, contract_request):
+    first = client.post("/v1/paths", json=contract_request)
+    sid = first.get_json()["scenario_id"]
+    assert first.headers["ETag"] == f'"{sid}"'
+    again = client.post("/v1/paths", json=contract_request, headers={"If-None-Match": f'"{sid}"'})
+    assert again.status_code == 304 and again.data == b""
+    assert again.headers["ETag"] == f'"{sid}"'
+    other = client.post("/v1/paths", json=contract_request, headers={"If-None-Match": '"something-else"'})
+    assert other.status_code == 200
+
+
+def test_the_scenario_id_ignores_defaults_written_out_and_changes_with_any_number(client, contract_request):
+    sid = client.post("/v1/paths", json=contract_request).get_json()["scenario_id"]
+    explicit = {
+        **contract_request,
+        "shocks": [dict(s, start=s.get("start", 1)) for s in contract_request["shocks"]],
+    }
+    explicit["shocks"][2].pop("start")  # path shocks have no start
+    assert client.post("/v1/paths", json=explicit).get_json()["scenario_id"] == sid
+    changed = {**contract_request, "horizon": 11}
+    assert client.post("/v1/paths", json=changed).get_json()["scenario_id"] != sid
+
+
+def test_csv_is_the_same_paths_in_long_form(client, contract_request):
+    body = client.post("/v1/paths", json=contract_request).get_json()
+    response = client.post("/v1/paths", json=contract_request, headers={"Accept": "text/csv"})
+    assert response.status_code == 200 and response.mimetype == "text/csv"
+    assert response.headers["ETag"] == f'"{body["scenario_id"]}.csv"'
+    rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
+    assert list(rows[0]) == ["policy", "period", "variable", "value"]
+    assert len(rows) == len(body["paths"]) * 17 * 13
+    by_key = {(r["policy"], int(r["period"]), r["variable"]): float(r["value"]) for r in rows}
+    for path in body["paths"]:
+        for t in body["periods"]:
+            assert by_key[(path["name"], t, "deadweight_loss")] == path["deadweight_loss"][t]
+            assert by_key[(path["name"], t, "binding")] == float(path["binding"][t])
+
+
+def test_an_unanswerable_accept_header_gets_406(client, contract_request):
+    response = client.post("/v1/paths", json=contract_request, headers={"Accept": "application/xml"})
+    assert response.status_code == 406
+    assert response.mimetype == "application/problem+json"
+
+
+def test_every_number_in_the_body_is_a_json_number(client, contract_request):
+    # orjson writes NaN and infinity as null, so a non-finite value would show up as None.
+    body = json.loads(client.post("/v1/paths", json=contract_request).get_data(as_text=True))
+    for path in body["paths"]:
+        for name, values in path.items():
+            if name not in ("name", "kind", "binding"):
+                assert all(isinstance(v, float) for v in values), name
+    assert all(isinstance(v, float) for v in body["supply_elasticity"])
+
+
+def test_cautions_carry_the_lower_bound_and_the_general_warning(client, contract_request):
+    cautions = client.post("/v1/paths", json=contract_request).get_json()["cautions"]
+    assert any("lower bound" in c for c in cautions)
+    assert any("do not replace" in c for c in cautions)
+    assert any("'3% cap'" in c and "Never binds" in c for c in cautions)
+
+
+def test_a_repeated_request_is_answered_from_the_cache_with_the_same_bytes(app, contract_request):
+    from service import create_app
+
+    cached = create_app({"cache_bytes": 10_000_000}).test_client()
+    first = cached.post("/v1/paths", json=contract_request)
+    calls = []
+    import service.http.paths as views
+
+    original = views.compute
+    views.compute = lambda *a, **k: calls.append(1) or original(*a, **k)
+    try:
+        again = cached.post("/v1/paths", json=contract_request)
+    finally:
+        views.compute = original
+    assert calls == [] and again.data == first.data and again.headers["ETag"] == first.headers["ETag"]
+    uncached = create_app({"cache_bytes": 0}).test_client()
+    assert uncached.post("/v1/paths", json=contract_request).data == first.data
+
+
+def test_a_batch_answers_each_scenario_in_order_as_paths_would(client):
+    requests = [e["request"] for e in examples().values() if e.get("endpoint", "/v1/paths") == "/v1/paths"]
+    bad = copy.deepcopy(requests[0])
+    bad["market"]["price"] = -1
+    batch = [*requests[:2], bad, *requests[2:]]
+    response = client.post("/v1/paths/batch", json={"scenarios": batch})
+    assert response.status_code == 200
+    results = response.get_json()["results"]
+    assert len(results) == len(batch)
+    assert results[2]["status"] == 422
+    assert results[2]["errors"] == [
+        {"pointer": "/scenarios/2/market/price", "message": results[2]["errors"][0]["message"]}
+    ]
+    for request, result in zip([*requests[:2], *requests[2:]], results[:2] + results[3:], strict=True):
+        assert result == simulate(request)
+
+
+def test_an_engine_problem_in_one_scenario_leaves_the_others(client, contract_request):
+    infeasible = copy.deepcopy(contract_request)
+    infeasible["policies"].append({"name": "huge", "kind": "unit_tax", "amount": 5000})
+    results = client.post("/v1/paths/batch", json={"scenarios": [infeasible, contract_request]}).get_json()[
+        "results"
+    ]
+    assert (
+        results[0]["status"] == 422 and results[0]["errors"][0]["pointer"] == "/scenarios/0/policies/8/amount"
+    )
+    assert results[1]["scenario_id"]
+
+
+def test_batch_limits_are_enforced_before_any_work(client, contract_request):
+    too_many = client.post("/v1/paths/batch", json={"scenarios": [{}] * (limits.MAX_BATCH_SCENARIOS + 1)})
+    assert too_many.status_code == 422
+    assert too_many.get_json()["errors"][0]["pointer"] == "/scenarios"
+    big = copy.deepcopy(contract_request)
+    big["horizon"] = limits.MAX_HORIZON
+    big["policies"] = big["policies"] * 2
+    for i, p in enumerate(big["policies"]):
+        p["name"] = f"p{i}"
+    work = client.post("/v1/paths/batch", json={"scenarios": [big] * 120})
+    assert work.status_code == 422
+    assert "policy-periods" in work.get_json()["errors"][0]["message"]
+
+
+def test_an_empty_or_malformed_envelope_is_422(client):
+    for body, pointer in [
+        ({}, "/scenarios"),
+        ({"scenarios": []}, "/scenarios"),
+        ({"scenarios": [1]}, "/scenarios/0"),
+        ([], ""),
+    ]:
+        response = client.post("/v1/paths/batch", json=body)
+        assert response.status_code == 422, body
+        assert response.get_json()["errors"][0]["pointer"] == pointer

@@ -1,0 +1,78 @@
+"""POST /v1/bands and /v1/sensitivity over HTTP: answers, limits and errors."""
+
+from __future__ import annotations
+
+import copy
+
+from service import bands
+from service.examples import example_request
+from service.limits import MAX_DRAW_CELLS, MAX_DRAWS
+
+
+def test_the_uncertain_demo_gets_bands_for_every_policy(client):
+    request = example_request("quillbrook-uncertain-elasticities")
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 200
+    body = response.get_json()
+    assert [b["name"] for b in body["bands"]] == [p["name"] for p in request["policies"]]
+    freeze = body["bands"][1]
+    prices = freeze["series"]["quantity"]
+    assert list(prices) == ["5", "25", "50", "75", "95"]
+    dwl = freeze["series"]["discounted_deadweight_loss"]
+    assert all(a <= b for a, b in zip(dwl["5"], dwl["95"], strict=True))
+    assert freeze["binding_share"] == 1.0 and freeze["infeasible_draws"] == 0
+    assert len(body["uncertain_inputs"]) == 3
+    assert body == bands(request)
+
+
+def test_every_demo_scenario_answers_bands_with_an_uncertain_demand_elasticity(client):
+    for name in (
+        "contract-example",
+        "ostrand-vale-vouchers",
+        "tamsin-reach-permits",
+        "vellmar-bay-transfer-tax",
+    ):
+        request = example_request(name)
+        eta = request["market"]["demand"]["price_elasticity"]
+        request["market"]["demand"]["price_elasticity"] = {"distribution": "normal", "mean": eta, "sd": 0.05}
+        request.update(draws=2000, seed=1)
+        response = client.post("/v1/bands", json=request)
+        assert response.status_code == 200, (name, response.get_json())
+
+
+def test_sensitivity_answers_the_uncertain_demo_sorted_by_swing(client):
+    request = example_request("quillbrook-uncertain-elasticities")
+    for key in ("draws", "seed", "percentiles"):
+        request.pop(key)
+    body = client.post("/v1/sensitivity", json=request).get_json()
+    swings = [i["largest_swing"]["discounted_deadweight_loss"] for i in body["inputs"]]
+    assert swings == sorted(swings, reverse=True) and swings[0] > 0
+
+
+def test_draw_limits_are_enforced_before_work(client):
+    request = example_request("quillbrook-uncertain-elasticities")
+    over = copy.deepcopy(request)
+    over["draws"] = MAX_DRAWS + 1
+    response = client.post("/v1/bands", json=over)
+    assert response.status_code == 422 and response.get_json()["errors"][0]["pointer"] == "/draws"
+    work = copy.deepcopy(request)
+    work["draws"] = MAX_DRAWS
+    work["horizon"] = MAX_DRAW_CELLS // (MAX_DRAWS * 3)  # just over with 3 policies
+    response = client.post("/v1/bands", json=work)
+    assert response.status_code == 422 and "draws x (horizon + 1) x policies" in response.get_json()["detail"]
+
+
+def test_bad_distributions_point_at_their_fields(client):
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["market"]["supply"]["long_run_elasticity"] = {
+        "distribution": "triangular",
+        "low": 1.0,
+        "mode": 0.5,
+        "high": 2.0,
+    }
+    request["market"]["demand"]["price_elasticity"] = {"distribution": "gamma", "shape": 2}
+    body = client.post("/v1/bands", json=request).get_json()
+    assert [e["pointer"] for e in body["errors"]] == [
+        "/market/demand/price_elasticity/distribution",
+        "/market/supply/long_run_elasticity/mode",
+    ]
