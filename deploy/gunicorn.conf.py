@@ -58,6 +58,14 @@ os.makedirs(_metrics_dir, exist_ok=True)
 os.environ["PROMETHEUS_MULTIPROC_DIR"] = _metrics_dir
 
 
+# numba's on-disk cache of the compiled engine kernels. With preload_app the master compiles
+# (or loads) them in create_app before forking, so no worker ever compiles during a request.
+# SHOCKPATH_NUMBA_CACHE_DIR points it at a writable or pre-warmed folder (the container image
+# ships one warmed at build time); unset, numba caches next to the engine's source.
+if os.environ.get("SHOCKPATH_NUMBA_CACHE_DIR"):
+    os.environ["NUMBA_CACHE_DIR"] = os.environ["SHOCKPATH_NUMBA_CACHE_DIR"]
+
+
 def child_exit(server, worker):
     """A dead worker's live gauges must not be reported any more."""
     from prometheus_client import multiprocess

@@ -13,6 +13,7 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
+from .kernel import warm_up
 from .paths import PathArrays, solve
 from .results import SERIES, PolicyPath, PolicySummary, ScenarioResult, assemble, solve_scenarios
 from .scenario import (
@@ -52,4 +53,5 @@ __all__ = [
     "pack",
     "solve",
     "solve_scenarios",
+    "warm_up",
 ]

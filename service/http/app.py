@@ -13,6 +13,7 @@ from typing import Any
 
 from flask import Flask, g, request
 
+from ..engine import warm_up
 from . import benchmark, metrics
 from .auth import require_key
 from .cache import AnswerCache
@@ -28,6 +29,9 @@ __all__ = ["create_app"]
 def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     """Build the app: defaults < SHOCKPATH_* environment < `config`."""
     settings = load_settings(config)
+    started = time.perf_counter()
+    warm_up()  # compile the engine's kernels, or load them from numba's on-disk cache
+    compiled_in = time.perf_counter() - started
     app = Flask("shockpath")
     app.config["MAX_CONTENT_LENGTH"] = settings.max_body_bytes
     app.config["TESTING"] = bool(config and config.get("TESTING"))
@@ -43,6 +47,7 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     register_error_handlers(app, log)
     _register_hooks(app, settings, log)
     log.info("settings %s", settings.as_log_dict())
+    log.info("engine kernels ready in %.2f s", compiled_in)
     return app
 
 
