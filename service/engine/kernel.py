@@ -51,6 +51,8 @@ __all__ = [
     "free_paths",
     "percentiles",
     "policy_paths",
+    "prepare",
+    "shock_paths",
     "warm_up",
 ]
 
@@ -258,17 +260,48 @@ def _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
     """G(x) = ln Qd(e^x) - ln(alpha (a + b K(scale e^x - gap)) + beta) and dG/dx (CE)."""
     price = math.exp(x)
     producer = scale * price - gap
+    left = eta * (x - math.log(p0)) + d
+    if a == 0.0 and b == 1.0 and alpha == 1.0 and beta == 0.0:
+        # A single power-law segment: ln Qs(Pp) - ln Q0 = e ln(Pp/P0) + S, no exp needed.
+        if not producer > 0.0:
+            return math.inf, eta
+        return left - e * math.log(producer / p0) - s, eta - e * scale * price / producer
     k = 0.0
     if producer > 0.0:
         k = q0 * math.exp(e * math.log(producer / p0) + s)
     right = alpha * (a + b * k) + beta
-    left = math.log(q0) + eta * (x - math.log(p0)) + d
     if not right > 0.0:
         return math.inf, eta
     slope = eta
     if producer > 0.0:
         slope = eta - alpha * b * e * k * scale * price / (producer * right)
-    return left - math.log(right), slope
+    return left + math.log(q0) - math.log(right), slope
+
+
+@njit(**_JIT)
+def _newton_from(x, lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+    """Newton's method in log price from a good first guess x, kept inside the expected
+    bracket (lo, hi) by bisection. Returns NaN unless a Newton step itself converged (a root,
+    not merely a collapsed bracket)."""
+    for _ in range(60):
+        g, slope = _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        if g == 0.0:
+            return x
+        if g > 0.0:
+            lo = x
+        else:
+            hi = x
+        step = -g / slope if slope < 0.0 and math.isfinite(g) else math.nan
+        candidate = x + step
+        tolerance = 4.0 * _ULP * max(1.0, abs(x))
+        if abs(step) <= tolerance:
+            return candidate
+        if not (lo < candidate < hi):
+            candidate = 0.5 * (lo + hi)
+            if hi - lo <= tolerance:
+                return math.nan
+        x = candidate
+    return math.nan
 
 
 @njit(**_JIT)
@@ -320,7 +353,7 @@ def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
 
 
 @njit(**_JIT)
-def _clear(ce, p0, q0, eta, d, e, s, a, b, f, alpha, beta, scale, gap, low, high):
+def _clear(ce, p0, q0, eta, d, e, s, a, b, f, alpha, beta, scale, gap, low, high, guess=0.0):
     """Consumer price Pc solving Qd(Pc) = alpha Qs(scale Pc - gap) + beta.
 
     [low, high] is a price bracket the caller expects (checked and widened for constant
@@ -355,7 +388,12 @@ def _clear(ce, p0, q0, eta, d, e, s, a, b, f, alpha, beta, scale, gap, low, high
         return _inverse_demand(ce, p0, q0, eta, d, alpha * fixed + beta)
     lo = math.log(max(low, _TINY))
     hi = math.log(max(high, low * (1.0 + 1e-12), _TINY))
-    x = _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    x = math.nan
+    if guess > 0.0:
+        start = min(max(math.log(guess), lo), hi)
+        x = _newton_from(start, lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    if not math.isfinite(x):  # no guess, or the expected bracket was wrong: check and widen it
+        x = _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
     price = math.exp(x)
     if f > 0.0 and a + b * _base_supply(ce, p0, q0, e, s, scale * price - gap) < f:
         price = _inverse_demand(ce, p0, q0, eta, d, alpha * f + beta)
@@ -371,7 +409,7 @@ def _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess):
             return p0 * math.exp(log_price), q0 * math.exp(e * log_price + s)
         relative = (d - s) / (e - eta)
         return p0 * (1.0 + relative), q0 * (1.0 + e * relative + s)
-    price = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, 1.0, 0.0, 0.5 * guess, 2.0 * guess)
+    price = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, 1.0, 0.0, 0.5 * guess, 2.0 * guess, guess)
     return price, _supply(ce, p0, q0, e, s, a, b, f, price)
 
 
@@ -625,7 +663,12 @@ def _row_kernel(
                     top = _supply(ce, p0, q0, e, s, a, b, f, p_star + real)
                     low, high = _inverse_demand(ce, p0, q0, eta, d, top), p_star
                 if binding:
-                    pc = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, scale, gap, low, high)
+                    # First guess: buyers bear the share e/(e - eta) of the wedge (Fullerton &
+                    # Metcalf 2002, exact for small wedges); Newton then converges in a few steps.
+                    share_e = b * e
+                    wedge = gap + (1.0 - scale) * p_star
+                    first = p_star + wedge * share_e / (share_e - eta) if share_e - eta > 0.0 else p_star
+                    pc = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, scale, gap, low, high, first)
                     pp = scale * pc - gap
                     qd = q = _demand(ce, p0, q0, eta, d, pc)
                     qs = _supply(ce, p0, q0, e, s, a, b, f, pp)
@@ -820,6 +863,166 @@ def policy_paths(
         summary,
     )
     return out, flags, summary
+
+
+# --- inputs of the period pass: shock paths, supply elasticity over time, discounting -------
+
+_STEP, _RAMP, _GROWTH, _PATH = range(4)
+_CONSTANT, _LINEAR_SCHEDULE, _GEOMETRIC, _EXPLICIT = range(4)
+
+
+@njit(**_JIT)
+def _shock_kernel(profile, change, rate, start, ramp, values, counts, max_log_growth, paths, too_large):
+    """Each shock's fractional change per period (step, ramp, growth, path), period 0 = 0."""
+    for k in range(profile.shape[0]):
+        too_large[k] = False
+        paths[k, 0] = 0.0
+        log_rate = math.log1p(rate[k]) if profile[k] == _GROWTH else 0.0
+        for t in range(1, paths.shape[1]):
+            since = t - start[k] + 1  # periods since the start, counting the start
+            code = profile[k]
+            if code == _STEP:
+                g = change[k] if since >= 1 else 0.0
+            elif code == _RAMP:
+                share = since / max(ramp[k], 1)
+                g = change[k] * min(max(share, 0.0), 1.0)
+            elif code == _GROWTH:
+                if since >= 1:
+                    log_growth = since * log_rate
+                    if log_growth > max_log_growth:
+                        too_large[k] = True
+                    g = math.expm1(min(log_growth, max_log_growth))
+                else:
+                    g = 0.0
+            else:
+                g = values[k, min(t - 1, max(counts[k], 1) - 1)] if values.shape[1] > 0 else 0.0
+            paths[k, t] = g
+
+
+def shock_paths(profile, change, rate, start, ramp, values, counts, horizon: int, max_log_growth: float):
+    """(shocks, horizon + 1) fractional changes and a (shocks,) flag for growth past the limit."""
+    paths = np.empty((profile.shape[0], horizon + 1))
+    too_large = np.empty(profile.shape[0], dtype=np.bool_)
+    _shock_kernel(profile, change, rate, start, ramp, values, counts, max_log_growth, paths, too_large)
+    return paths, too_large
+
+
+@njit(**_JIT)
+def _prepare_kernel(
+    sr,
+    lr,
+    schedule,
+    schedule_periods,
+    schedule_rate,
+    explicit,
+    horizon,
+    demand_e,
+    supply_e,
+    change,
+    change_too_large,
+    max_change,
+    discount_rate,
+    eps,
+    linear,
+    constant,
+    shift_bad,
+    undefined,
+    factor,
+):
+    n, periods = eps.shape
+    m = demand_e.shape[1]
+    for i in range(n):
+        # Supply elasticity over time: eps_t = eps_SR (1 - w_t) + eps_LR w_t, w_1 = 0.
+        code = schedule[i]
+        rate = schedule_rate[i]
+        undefined[i] = False
+        if code == _GEOMETRIC and rate <= 0.0:
+            if sr[i] > 0.0 and sr[i] <= lr[i]:
+                rate = sr[i] / lr[i]  # Nerlove (1958): eps_SR = lambda eps_LR
+            else:
+                rate = 1.0
+                undefined[i] = True
+        eps[i, 0] = sr[i]
+        for t in range(1, periods):
+            lag = t - 1
+            w = 0.0
+            if code == _LINEAR_SCHEDULE:
+                k = schedule_periods[i]
+                w = min(lag / k, 1.0) if k > 0 else 1.0
+            elif code == _GEOMETRIC:
+                if rate >= 1.0:
+                    w = 1.0 if lag > 0 else 0.0
+                else:
+                    w = -math.expm1(lag * math.log1p(-rate))
+            if code == _EXPLICIT:
+                eps[i, t] = explicit[min(i, explicit.shape[0] - 1), t]
+            else:
+                eps[i, t] = sr[i] * (1.0 - w) + lr[i] * w
+        # Shifts: D = sum_i eta_i g_i and ln A = sum_i eta_i ln(1 + g_i), shifter by shifter.
+        row = min(i, change.shape[0] - 1)
+        for j in range(m):
+            shift_bad[i, j] = change_too_large[row, j]
+        for t in range(periods):
+            linear[i, 0, t] = 0.0
+            linear[i, 1, t] = 0.0
+            constant[i, 0, t] = 0.0
+            constant[i, 1, t] = 0.0
+        for j in range(m):
+            for t in range(periods):
+                g = change[row, j, t]
+                if t <= horizon[i] and (g <= -1.0 or g > max_change):
+                    shift_bad[i, j] = True
+                safe = min(g, max_change) if g > -1.0 else 0.0
+                log_safe = math.log1p(safe)
+                linear[i, 0, t] += demand_e[i, j] * safe
+                constant[i, 0, t] += demand_e[i, j] * log_safe
+                linear[i, 1, t] += supply_e[i, j] * safe
+                constant[i, 1, t] += supply_e[i, j] * log_safe
+        # Discount factor of period s: prod_(u<=s) 1 / (1 + r_u).
+        rates = discount_rate[min(i, discount_rate.shape[0] - 1)]
+        factor[i, 0] = 1.0
+        log_factor = 0.0
+        for t in range(1, periods):
+            log_factor -= math.log1p(rates[t])
+            factor[i, t] = math.exp(log_factor)
+
+
+def prepare(batch, max_change: float):
+    """Supply elasticity (n, T+1), shifts of both forms (n, 2, T+1) each (demand, supply), the
+    out-of-range mask (n, m), the undefined-schedule mask (n,) and discount factors (n, T+1)."""
+    n, periods = batch.size, batch.periods
+    m = batch.demand_shifter_elasticity.shape[1]
+    eps = np.empty((n, periods))
+    linear = np.empty((n, 2, periods))
+    constant = np.empty((n, 2, periods))
+    shift_bad = np.empty((n, m), dtype=np.bool_)
+    undefined = np.empty(n, dtype=np.bool_)
+    factor = np.empty((n, periods))
+    change = batch.shifter_change
+    if change.shape[1] != m:  # no shifters at all
+        change = np.zeros((1, m, periods))
+    _prepare_kernel(
+        batch.short_run_elasticity,
+        batch.long_run_elasticity,
+        batch.schedule,
+        batch.schedule_periods.astype(np.float64),
+        batch.schedule_rate,
+        np.ascontiguousarray(batch.explicit_elasticity),
+        batch.horizon,
+        np.ascontiguousarray(batch.demand_shifter_elasticity),
+        np.ascontiguousarray(batch.supply_shifter_elasticity),
+        np.ascontiguousarray(change),
+        np.ascontiguousarray(batch.shock_out_of_range),
+        max_change,
+        np.ascontiguousarray(batch.discount_rate),
+        eps,
+        linear,
+        constant,
+        shift_bad,
+        undefined,
+        factor,
+    )
+    return eps, linear, constant, shift_bad, undefined, factor
 
 
 # --- percentiles over draws -----------------------------------------------------------------

@@ -26,8 +26,7 @@ from ..limits import MAX_SHIFTER_CHANGE
 from . import kernel
 from .batch import PolicyRows, ScenarioBatch
 from .policies import Outcome, is_ceiling
-from .schedules import SCHEDULE_CODES, nerlove_rate, supply_elasticity_path
-from .welfare import WelfareChange, discount_factors
+from .welfare import WelfareChange
 
 __all__ = ["PathArrays", "solve"]
 
@@ -84,44 +83,6 @@ def _inputs_failed(shift_out_of_range, schedule_undefined, linear_out_of_range) 
     return shift_out_of_range.any(axis=1) | schedule_undefined | linear_out_of_range.any(axis=1)
 
 
-def _shifts(batch: ScenarioBatch, valid: np.ndarray):
-    """Demand and supply shifts (n, T+1) for both forms, and the out-of-range mask (n, m)."""
-    g = batch.shifter_change
-    bad = ((g <= -1.0) | (g > MAX_SHIFTER_CHANGE)) & valid[:, None, :]
-    out_of_range = bad.any(axis=2) | batch.shock_out_of_range
-    safe = np.where(g > -1.0, np.minimum(g, MAX_SHIFTER_CHANGE), 0.0)
-    log_safe = np.log1p(safe)
-    n, periods = valid.shape
-    linear = [np.zeros((n, periods)), np.zeros((n, periods))]
-    constant = [np.zeros((n, periods)), np.zeros((n, periods))]
-    # Summed shifter by shifter in a fixed order (a loop over shifters, not scenarios): a
-    # BLAS product would round differently as a batch pads to more shifters, and one
-    # scenario must get the same bits alone or in any batch.
-    for j in range(g.shape[1]):
-        for side, elasticity in enumerate((batch.demand_shifter_elasticity, batch.supply_shifter_elasticity)):
-            e = elasticity[:, j : j + 1]
-            linear[side] += e * safe[:, j, :]
-            constant[side] += e * log_safe[:, j, :]
-    return tuple(linear), tuple(constant), out_of_range
-
-
-def _supply_path(batch: ScenarioBatch):
-    nerlove, applies = nerlove_rate(batch.short_run_elasticity, batch.long_run_elasticity)
-    geometric = batch.schedule == SCHEDULE_CODES["geometric"]
-    needs_default = geometric & (batch.schedule_rate <= 0.0)
-    rate = np.where(needs_default, nerlove, batch.schedule_rate)
-    eps = supply_elasticity_path(
-        batch.short_run_elasticity,
-        batch.long_run_elasticity,
-        batch.schedule,
-        batch.schedule_periods,
-        rate,
-        np.broadcast_to(batch.explicit_elasticity, (batch.size, batch.periods)),
-        batch.periods - 1,
-    )
-    return eps, needs_default & ~applies
-
-
 #: Floating-point handling inside solve. Valid but extreme inputs can overflow; such rows are
 #: caught by the isfinite checks and reported in the masks, so warnings are silenced. The test
 #: suite sets this to {} (tests/conftest.py) so that any warning there fails a test.
@@ -141,7 +102,7 @@ def solve(
         return _solve(batch, rows, series, alternate)
 
 
-def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, demand_shift, supply_shift, factor):
+def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
     n, periods = batch.size, batch.periods
     stock = getattr(batch, "stock", None)
     arrays = {
@@ -150,7 +111,7 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, demand_shift, su
         "demand_elasticity": batch.demand_elasticity,
         "payments_per_period": batch.payments_per_period,
         "eps": np.ascontiguousarray(eps),
-        "shifts": np.ascontiguousarray(np.stack([demand_shift, supply_shift], axis=1)),
+        "shifts": shifts,
         "horizon": batch.horizon,
         "stock": np.zeros(n, dtype=bool) if stock is None else stock,
         "stock_rate": getattr(batch, "stock_rate", None) if stock is not None else np.ones(n),
@@ -181,31 +142,34 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> P
     n, periods = batch.size, batch.periods
     t = np.arange(periods)
     valid = t[None, :] <= batch.horizon[:, None]
-    eps, schedule_undefined = _supply_path(batch)
-    (lin_d, lin_s), (ce_d, ce_s), shift_bad = _shifts(batch, valid)
+    eps, linear_shifts, constant_shifts, shift_bad, schedule_undefined, factor = kernel.prepare(
+        batch, MAX_SHIFTER_CHANGE
+    )
     scenario_bad = shift_bad.any(axis=1) | schedule_undefined
-    keep = ~scenario_bad[:, None]
-    eps_safe = np.where(keep, eps, batch.short_run_elasticity[:, None])
     ce = batch.constant_elasticity
-    factor = discount_factors(np.broadcast_to(batch.discount_rate, (n, periods)))
-
-    def prepared(is_ce, d, s_):
-        arrays, policy = _kernel_inputs(
-            batch, rows, eps_safe, np.where(keep, d, 0.0), np.where(keep, s_, 0.0), factor
-        )
-        arrays["constant_elasticity"] = is_ce
-        return arrays, policy
+    if scenario_bad.any():  # failed scenarios run at their base point, so nothing overflows
+        bad = scenario_bad[:, None]
+        eps = np.where(bad, batch.short_run_elasticity[:, None], eps)
+        linear_shifts = np.where(bad[:, :, None], 0.0, linear_shifts)
+        constant_shifts = np.where(bad[:, :, None], 0.0, constant_shifts)
 
     if alternate:
         # Free paths in both forms (the other form feeds the cautions).
-        lin_inputs, policy = prepared(np.zeros(n, dtype=bool), lin_d, lin_s)
-        ce_inputs, _ = prepared(np.ones(n, dtype=bool), ce_d, ce_s)
-        lin_free, ce_free = kernel.free_paths(lin_inputs), kernel.free_paths(ce_inputs)
-        arrays = dict(lin_inputs, constant_elasticity=ce)
-        arrays["shifts"] = np.where(ce[:, None, None], ce_inputs["shifts"], lin_inputs["shifts"])
+        arrays, policy = _kernel_inputs(batch, rows, eps, linear_shifts, factor)
+        lin_free = kernel.free_paths(dict(arrays, constant_elasticity=np.zeros(n, dtype=bool)))
+        ce_free = kernel.free_paths(
+            dict(arrays, constant_elasticity=np.ones(n, dtype=bool), shifts=constant_shifts)
+        )
         primary = np.where(ce[:, None, None], ce_free, lin_free)
     else:
-        arrays, policy = prepared(ce, np.where(ce[:, None], ce_d, lin_d), np.where(ce[:, None], ce_s, lin_s))
+        arrays, policy = _kernel_inputs(batch, rows, eps, linear_shifts, factor)
+        primary = lin_free = ce_free = None
+    arrays["constant_elasticity"] = ce
+    if ce.any():
+        arrays["shifts"] = (
+            constant_shifts if ce.all() else np.where(ce[:, None, None], constant_shifts, linear_shifts)
+        )
+    if primary is None:
         primary = lin_free = ce_free = kernel.free_paths(arrays)
     lin_price, lin_quantity = lin_free[:, 0], lin_free[:, 1]
     ce_price, ce_quantity = ce_free[:, 0], ce_free[:, 1]

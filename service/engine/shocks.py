@@ -19,6 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..limits import MAX_SHIFTER_CHANGE
+from . import kernel
 
 __all__ = [
     "PROFILE_CODES",
@@ -41,37 +42,23 @@ def shock_paths(
     value_count: np.ndarray,
     horizon: int,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Fractional change of each shock's shifter per period.
+    """Fractional change of each shock's shifter per period (compiled: kernel.shock_paths).
 
     All inputs have shape (shocks,) except `values` (shocks, L) with `value_count` (shocks,)
     entries used per row. Returns the paths (shocks, horizon + 1), period 0 first, and a
     boolean (shocks,) that is True where a growth path would pass MAX_SHIFTER_CHANGE.
     """
-    t = np.arange(horizon + 1)[None, :]
-    start = start[:, None]
-    after_start = t >= start
-    code = profile[:, None]
-    paths = np.zeros((profile.shape[0], horizon + 1))
-    too_large = np.zeros(profile.shape[0], dtype=bool)
-    present = set(np.unique(profile).tolist())  # compute only the profiles the shocks use
-
-    if PROFILE_CODES["step"] in present:
-        paths = np.where(code == PROFILE_CODES["step"], np.where(after_start, change[:, None], 0.0), paths)
-    if PROFILE_CODES["ramp"] in present:
-        share = np.clip((t - start + 1) / np.maximum(ramp_periods, 1)[:, None], 0.0, 1.0)
-        paths = np.where(code == PROFILE_CODES["ramp"], change[:, None] * share, paths)
-    if PROFILE_CODES["growth"] in present:
-        log_growth = (t - start + 1) * np.log1p(rate)[:, None]
-        growing = code == PROFILE_CODES["growth"]
-        too_large = ((log_growth > _MAX_LOG_GROWTH) & after_start & growing).any(axis=1)
-        growth = np.where(after_start, np.expm1(np.minimum(log_growth, _MAX_LOG_GROWTH)), 0.0)
-        paths = np.where(growing, growth, paths)
-    if PROFILE_CODES["path"] in present and values.shape[1] > 0:
-        last = np.maximum(value_count, 1)[:, None] - 1
-        column = np.minimum(np.maximum(t - 1, 0), last)
-        explicit = np.where(t >= 1, np.take_along_axis(values, column, axis=1), 0.0)
-        paths = np.where(code == PROFILE_CODES["path"], explicit, paths)
-    return paths, too_large
+    return kernel.shock_paths(
+        np.asarray(profile, dtype=np.int64),
+        np.asarray(change, dtype=float),
+        np.asarray(rate, dtype=float),
+        np.asarray(start, dtype=np.int64),
+        np.asarray(ramp_periods, dtype=np.int64),
+        np.ascontiguousarray(values, dtype=float),
+        np.asarray(value_count, dtype=np.int64),
+        horizon,
+        _MAX_LOG_GROWTH,
+    )
 
 
 def shifter_paths(

@@ -24,10 +24,18 @@ import numpy as np
 def scenario(draws: int) -> dict:
     from service.examples import example_request
 
+    # The uncertain demo in the constant-elasticity form, with the three policies of the speed
+    # issue: none, a growth cap and a unit tax (whose clearing needs a root in every cell).
     request = example_request("quillbrook-uncertain-elasticities")
+    request["market"]["form"] = "constant_elasticity"
     request["horizon"] = 40
     request["draws"] = draws
     request["percentiles"] = [5, 50, 95]
+    request["policies"] = [
+        {"name": "free market", "kind": "none"},
+        {"name": "2.5% cap", "kind": "price_ceiling", "growth": 0.025},
+        {"name": "levy", "kind": "unit_tax", "amount": 40},
+    ]
     return request
 
 
@@ -97,10 +105,13 @@ def main() -> None:
     per_draw = _scalar_loop(args.draws, args.sample)
     loop = per_draw * args.draws
     print(f"machine: {platform.machine()}, {platform.python_version()}, numpy {np.__version__}")
-    print(f"bands: {args.draws:,} draws x 41 periods x 3 policies (quillbrook-uncertain-elasticities)")
+    print(
+        f"bands: {args.draws:,} draws x 41 periods x 3 policies"
+        " (none, growth cap, constant-elasticity unit tax)"
+    )
     print(f"{'figure':44} {'value':>12} {'target':>10}")
     print(f"{'vectorised, 1 thread (s)':44} {one['seconds']:12.2f} {'':>10}")
-    print(f"{'vectorised, 2 threads (s)':44} {two['seconds']:12.2f} {'< 2':>10}")
+    print(f"{'vectorised, 2 threads (s)':44} {two['seconds']:12.2f} {'< 1.5':>10}")
     print(f"{'peak resident memory, 2 threads (MiB)':44} {two['peak_mib']:12.0f} {'< 1024':>10}")
     print(f"{'Python loop over draws, one engine call each (s)':44} {loop:12.1f} {'':>10}")
     print(f"{'  (measured on ' + str(args.sample) + ' draws, scaled)':44}")

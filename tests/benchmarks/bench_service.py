@@ -37,18 +37,25 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def engine_scenarios(n: int, seed: int = 0) -> list[dict]:
+def typical_request(horizon: int) -> dict:
+    """The speed issue's typical request: constant elasticity, four policies (none, a 2 % growth
+    cap, a unit tax, a quantity cap)."""
     from service.examples import example_request
 
-    rng = np.random.default_rng(seed)
     base = example_request("vellmar-bay-transfer-tax")  # constant elasticity
-    base["horizon"] = 40
+    base["horizon"] = horizon
     base["policies"] = [
         {"name": "free market", "kind": "none"},
-        {"name": "3% cap", "kind": "price_ceiling", "growth": 0.03},
+        {"name": "2% cap", "kind": "price_ceiling", "growth": 0.02},
         {"name": "levy", "kind": "unit_tax", "amount": 60},
         {"name": "permits", "kind": "quantity_cap", "level": 19000},
     ]
+    return base
+
+
+def engine_scenarios(n: int, seed: int = 0, horizon: int = 40) -> list[dict]:
+    rng = np.random.default_rng(seed)
+    base = typical_request(horizon)
     out = []
     for _ in range(n):
         r = copy.deepcopy(base)
@@ -56,6 +63,50 @@ def engine_scenarios(n: int, seed: int = 0) -> list[dict]:
         r["market"]["demand"]["price_elasticity"] = float(rng.uniform(-1.2, -0.3))
         r["market"]["supply"]["long_run_elasticity"] = float(rng.uniform(0.8, 3.0))
         out.append(r)
+    return out
+
+
+def bench_single(n: int, sample: int) -> dict:
+    """One typical request (20 periods) at a time through service.simulate, every call a new
+    scenario, against the scalar reference on the same requests."""
+    from service import simulate
+
+    from .. import reference
+
+    requests = engine_scenarios(n + 50, seed=1, horizon=20)
+    for r in requests[:50]:
+        simulate(r)
+    start = time.perf_counter()
+    for r in requests[50:]:
+        simulate(r)
+    one = (time.perf_counter() - start) / n
+    start = time.perf_counter()
+    for r in requests[50 : 50 + sample]:
+        reference.paths(r)
+    scalar = (time.perf_counter() - start) / sample
+    return {"ms": 1e3 * one, "scalar_ms": 1e3 * scalar}
+
+
+def bench_cold_start() -> dict:
+    """Seconds for create_app in a fresh interpreter: kernels compiled (empty numba cache) and
+    loaded from the cache; and from gunicorn's start to the first answer of a worker."""
+    code = (
+        "import time; t = time.perf_counter()\n"
+        "from service import create_app; create_app()\n"
+        "print(time.perf_counter() - t)"
+    )
+    out = {}
+    with tempfile.TemporaryDirectory() as cache:
+        env = dict(os.environ, NUMBA_CACHE_DIR=cache)
+        for label in ("compile", "cached"):
+            run = subprocess.run(
+                [sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True
+            )
+            out[label] = float(run.stdout.strip().splitlines()[-1])
+    start = time.perf_counter()
+    server = Server()
+    out["gunicorn_first_answer"] = time.perf_counter() - start
+    server.stop()
     return out
 
 
@@ -185,7 +236,8 @@ def wrk(port: int, path: str, body: bytes, seconds: int, distinct: bool = False)
 
 def main() -> None:
     parser = argparse.ArgumentParser()
-    parser.add_argument("--scenarios", type=int, default=10_000)
+    parser.add_argument("--scenarios", type=int, default=2_000)
+    parser.add_argument("--single", type=int, default=2_000)
     parser.add_argument("--sample", type=int, default=100)
     parser.add_argument("--seconds", type=int, default=10)
     parser.add_argument("--draws", type=int, default=100_000)
@@ -194,15 +246,15 @@ def main() -> None:
         sys.exit("wrk is needed: apt-get install wrk")
 
     from service import limits
-    from service.examples import example_request
 
     from .bench_bands import _run as run_bands
+    from .bench_bands import scenario as bands_scenario
 
+    single = bench_single(args.single, args.sample)
     engine_figures = bench_engine(args.scenarios, args.sample)
+    cold = bench_cold_start()
 
-    typical = example_request("contract-example")
-    typical["horizon"] = 20
-    typical["policies"] = [typical["policies"][i] for i in (0, 1, 4, 7)]
+    typical = typical_request(20)
     body = json.dumps(typical).encode()
     templated = json.dumps({**typical, "market": {**typical["market"], "price": "PRICE"}}).replace(
         '"PRICE"', "PRICE"
@@ -224,16 +276,20 @@ def main() -> None:
         batch_rate = batch_size / float(np.median(times))
         bands = run_bands(args.draws, 2)
         # One bands request through the server too, so the workers' peaks include it.
-        uncertain = example_request("quillbrook-uncertain-elasticities")
-        uncertain.update(horizon=40, draws=args.draws)
-        server.request("POST", "/v1/bands", json.dumps(uncertain).encode())
+        server.request("POST", "/v1/bands", json.dumps(bands_scenario(args.draws)).encode())
         peaks = [_peak_rss_mib(pid) for pid in server.workers()]
     finally:
         server.stop()
 
     rows = [
         (
-            "1. simulate_many, scenarios/s (validate + solve + render)",
+            "1. one request in process (20 periods), ms: scalar / shockpath",
+            single["scalar_ms"],
+            single["ms"],
+            ">= 5",
+        ),
+        (
+            "3. simulate_many, scenarios/s (validate + solve + render)",
             engine_figures["per_second"],
             engine_figures["scalar_per_second"],
             ">= 30",
@@ -245,26 +301,34 @@ def main() -> None:
             "",
         ),
         (
-            "2. POST /v1/paths (one scenario, repeated) vs bare echo, req/s",
-            paths["rps"],
+            "2. POST /v1/paths, every request a new scenario vs bare echo, req/s",
+            distinct["rps"],
             echo["rps"],
             ">= 0.4",
         ),
-        ("   p50 latency, ms", paths["p50_ms"], echo["p50_ms"], ""),
-        ("   p99 latency, ms", paths["p99_ms"], echo["p99_ms"], ""),
-        ("   POST /v1/paths, every request distinct (no cache), req/s", distinct["rps"], echo["rps"], ""),
         ("   p50 latency, ms", distinct["p50_ms"], echo["p50_ms"], ""),
-        ("3. POST /v1/paths/batch (1,000 scenarios), scenarios/s", batch_rate, None, ""),
-        (f"4. bands {args.draws:,} x 41 x 3, seconds (2 threads)", bands["seconds"], None, "< 2"),
+        ("   p99 latency, ms", distinct["p99_ms"], echo["p99_ms"], ""),
+        ("   POST /v1/paths, one scenario repeated (answer cache), req/s", paths["rps"], echo["rps"], ""),
+        ("   POST /v1/paths/batch (1,000 scenarios), scenarios/s", batch_rate, None, ""),
+        (f"4. bands {args.draws:,} x 41 x 3, seconds (2 threads)", bands["seconds"], None, "< 1.5"),
         ("   bands peak resident memory, MiB", bands["peak_mib"], None, "< 1024"),
         ("5. peak resident memory per worker after the runs, MiB", max(peaks), None, ""),
+        ("6. cold start: create_app compiling the kernels, s", cold["compile"], None, ""),
+        ("   create_app with the kernels in numba's cache, s", cold["cached"], None, ""),
+        (
+            "   gunicorn start to first answer (2 workers, cache warm), s",
+            cold["gunicorn_first_answer"],
+            None,
+            "",
+        ),
     ]
     print(
         f"machine: {platform.machine()}, {os.cpu_count()} cores, "
         f"Python {platform.python_version()}, numpy {np.__version__}"
     )
     print(
-        f"engine: {args.scenarios:,} scenarios x 41 periods x 4 policies; scalar reference on {args.sample}"
+        f"engine: {args.scenarios:,} constant-elasticity scenarios x 41 periods x 4 policies; "
+        f"scalar reference (tests/reference.py: brentq, quad) on {args.sample}"
     )
     print(f"HTTP: wrk -t2 -c4 -d{args.seconds}s, gunicorn deploy/gunicorn.conf.py ({len(peaks)} workers)")
     print(f"{'figure':58} {'shockpath':>11} {'comparison':>11} {'ratio':>8} {'target':>7}")

@@ -1,5 +1,5 @@
-"""service/engine/equilibrium.py: the free market and clearing with a tax wedge, against
-published closed forms (sources in tests/catalogue.py)."""
+"""service/engine/kernel.py, clearing through simulate: the free market and a tax wedge,
+against published closed forms (sources in tests/catalogue.py)."""
 
 from __future__ import annotations
 

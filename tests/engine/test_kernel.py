@@ -1,0 +1,152 @@
+"""service/engine/kernel.py: the compiled curves, roots and order statistics against scipy
+(quad, brentq) and numpy, corners included. The period pass as a whole is judged against the
+scalar reference in test_reference.py."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy.integrate import quad
+from scipy.optimize import brentq
+
+from service.engine import kernel
+
+P0, Q0 = 100.0, 1000.0
+PLAIN = (0.0, 1.0, 0.0)  # a, b, f: no stock
+
+
+def inverse_demand(ce, eta, d=0.0):
+    return lambda q: kernel._inverse_demand(ce, P0, Q0, eta, d, q)
+
+
+def inverse_supply(ce, e, s=0.0, stock=PLAIN):
+    return lambda q: kernel._inverse_supply(ce, P0, Q0, e, s, *stock, q)
+
+
+@pytest.mark.parametrize("eta", [-0.3, -0.999999, -1.0, -1.000001, -2.5])
+@pytest.mark.parametrize(("lower", "upper"), [(600.0, 1000.0), (1000.0, 1300.0), (1200.0, 700.0)])
+def test_constant_elasticity_demand_integral_equals_quadrature(eta, lower, upper):
+    exact = quad(inverse_demand(True, eta, 0.05), lower, upper, epsrel=1e-12)[0]  # scipy.integrate.quad
+    assert kernel._demand_integral(True, P0, Q0, eta, 0.05, lower, upper) == pytest.approx(exact, rel=1e-10)
+
+
+@pytest.mark.parametrize("eps", [0.02, 0.3, 1.0, 4.0])
+def test_constant_elasticity_supply_integral_equals_quadrature(eps):
+    exact = quad(inverse_supply(True, eps, -0.03), 900.0, 1000.0, epsrel=1e-12)[0]  # scipy.integrate.quad
+    got = kernel._supply_integral(True, P0, Q0, eps, -0.03, *PLAIN, 900.0, 1000.0)
+    assert got == pytest.approx(exact, rel=1e-10)
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize(("rate", "depreciation"), [(0.3, None), (0.3, 0.02), (1.0, None)])
+def test_a_stock_supply_curve_integrates_like_quadrature(ce, rate, depreciation):
+    """Qs = max((1-lambda) K + lambda K*(P), (1-delta) K) with K = 1.1 Q0: the integral of its
+    inverse, kink and floor included, matches quad (scipy.integrate.quad)."""
+    k_prev = 1.1 * Q0
+    floor = 0.0 if depreciation is None else (1.0 - depreciation) * k_prev
+    stock = ((1.0 - rate) * k_prev, rate, floor)
+    f = inverse_supply(ce, 1.5, 0.02, stock)
+    lower, upper = 900.0, 1250.0
+    kinks = [x for x in (floor, stock[0]) if lower < x < upper]
+    exact = quad(f, lower, upper, points=kinks or None, epsrel=1e-12, limit=200)[0]
+    got = kernel._supply_integral(ce, P0, Q0, 1.5, 0.02, *stock, lower, upper)
+    assert got == pytest.approx(exact, rel=1e-9)
+
+
+def test_linear_supply_integral_floors_marginal_cost_at_zero():
+    """Units that would be offered at a negative price are offered at zero (kernel docstring)."""
+    f = inverse_supply(False, 0.5, 0.2)  # zero-price quantity Q0 (1 + 0.2 - 0.5) = 700
+    exact = quad(f, 300.0, 1000.0, points=[700.0])[0]  # scipy.integrate.quad
+    assert f(500.0) == 0.0
+    assert kernel._supply_integral(False, P0, Q0, 0.5, 0.2, *PLAIN, 300.0, 1000.0) == pytest.approx(
+        exact, rel=1e-12
+    )
+
+
+@pytest.mark.parametrize("ce", [False, True])
+def test_vertical_supply_has_zero_marginal_cost_below_capacity(ce):
+    assert inverse_supply(ce, 0.0)(900.0) == 0.0
+    assert kernel._supply_integral(ce, P0, Q0, 0.0, 0.0, *PLAIN, 800.0, 1000.0) == 0.0
+    assert [kernel._supply(ce, P0, Q0, 0.0, 0.0, *PLAIN, p) for p in (50.0, 500.0)] == [1000.0, 1000.0]
+
+
+@pytest.mark.parametrize("ce", [False, True])
+def test_curves_pass_through_the_base_point_when_nothing_shifts(ce):
+    assert kernel._demand(ce, P0, Q0, -0.7, 0.0, P0) == pytest.approx(Q0, rel=1e-15)
+    assert kernel._supply(ce, P0, Q0, 1.3, 0.0, *PLAIN, P0) == pytest.approx(Q0, rel=1e-15)
+    assert kernel._inverse_demand(ce, P0, Q0, -0.7, 0.0, Q0) == pytest.approx(P0, rel=1e-15)
+
+
+def test_linear_demand_is_truncated_at_zero_quantity():
+    assert [kernel._demand(False, P0, Q0, -0.5, 0.0, p) for p in (300.0, 500.0)] == [0.0, 0.0]
+
+
+@pytest.mark.parametrize("gap", [0.01, 5.0, 60.0, 99.0, -0.01, -30.0])
+@pytest.mark.parametrize("eta", [-0.4, -1.0, -2.5])
+def test_a_constant_elasticity_wedge_clears_where_brentq_says(gap, eta):
+    """Qd(Pc) = Qs(Pc - gap): the safeguarded Newton root against scipy.optimize.brentq."""
+    e, d, s = 0.8, 0.05, -0.02
+    p_star = P0 * math.exp((d - s) / (e - eta))
+
+    def excess(pc):
+        pp = pc - gap
+        supplied = Q0 * (pp / P0) ** e * math.exp(s) if pp > 0 else 0.0
+        return Q0 * (pc / P0) ** eta * math.exp(d) - supplied
+
+    low, high = (p_star, p_star + gap) if gap > 0 else (1e-9, p_star)
+    expected = brentq(excess, max(low, gap + 1e-12), high, xtol=1e-14, rtol=4 * np.finfo(float).eps)
+    top = kernel._supply(True, P0, Q0, e, s, *PLAIN, p_star - gap)
+    bracket = (
+        (p_star, p_star + gap) if gap > 0 else (kernel._inverse_demand(True, P0, Q0, eta, d, top), p_star)
+    )
+    got = kernel._clear(True, P0, Q0, eta, d, e, s, *PLAIN, 1.0, 0.0, 1.0, gap, *bracket)
+    assert got == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize("share", [0.2, 0.6, 0.95])
+def test_the_uncovered_rent_clears_the_uncovered_homes(ce, share):
+    """(1-s) Qs(Pu) = Qd(Pu) - s Qs(c) (Fallis & Smith 1984, AER 74(1)): against brentq."""
+    eta, e, d = -0.6, 1.2, 0.08
+    p_star = kernel._free_point(ce, P0, Q0, eta, d, e, 0.0, *PLAIN, P0)[0]
+    ceiling = 0.9 * p_star
+    covered = share * kernel._supply(ce, P0, Q0, e, 0.0, *PLAIN, ceiling)
+
+    def excess(p):
+        return (
+            kernel._demand(ce, P0, Q0, eta, d, p)
+            - covered
+            - (1 - share) * kernel._supply(ce, P0, Q0, e, 0.0, *PLAIN, p)
+        )
+
+    expected = brentq(excess, p_star, 10 * p_star, xtol=1e-13)
+    high = kernel._inverse_demand(ce, P0, Q0, eta, d, covered)
+    got = kernel._clear(ce, P0, Q0, eta, d, e, 0.0, *PLAIN, 1 - share, covered, 1.0, 0.0, p_star, high)
+    assert got == pytest.approx(expected, rel=1e-11)
+    assert got >= p_star
+
+
+@pytest.mark.parametrize("rows", [1, 2, 3, 10, 1001])
+def test_order_statistics_give_numpy_percentiles(rows):
+    """Binned selection equals numpy's 'linear' percentiles, ties and heavy tails included."""
+    rng = np.random.default_rng(7)
+    values = np.stack(
+        [
+            rng.standard_normal(rows),
+            np.where(rng.random(rows) < 0.6, 0.0, rng.lognormal(0.0, 4.0, rows)),
+            np.full(rows, 3.5),
+            rng.integers(0, 3, rows).astype(float),
+        ]
+    ).astype(np.float32)
+    q = np.array([0.0, 5.0, 25.0, 50.0, 75.0, 95.0, 100.0])
+    expected = np.percentile(values.astype(float), q, axis=1).T
+    got = kernel.percentiles(values, np.arange(rows), q)
+    np.testing.assert_allclose(got, expected, rtol=1e-12, atol=0.0)
+    keep = np.arange(0, rows, 3)
+    np.testing.assert_allclose(
+        kernel.percentiles(values, keep, q),
+        np.percentile(values[:, keep].astype(float), q, axis=1).T,
+        rtol=1e-12,
+    )
