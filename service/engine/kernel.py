@@ -521,8 +521,13 @@ def _row_kernel(
     out,
     flags,
     summary,
+    band_column,
+    band_out,
+    band_rows,
+    band_start,
 ):
     rows = scenario.shape[0]
+    banding = band_rows > 0
     cell = np.empty(column.shape[0])
     for r in range(rows):
         i = scenario[r]
@@ -557,6 +562,8 @@ def _row_kernel(
         for j in range(cell.shape[0]):
             if column[j] >= 0:
                 out[r, column[j], 0] = cell[j]
+            if banding and band_column[j] >= 0:
+                band_out[r // band_rows, band_column[j], 0, band_start + r % band_rows] = cell[j]
         for j in range(3):
             flags[r, j, 0] = False
         k_prev = q0
@@ -779,6 +786,8 @@ def _row_kernel(
             for j in range(cell.shape[0]):
                 if column[j] >= 0:
                     out[r, column[j], t] = cell[j]
+                if banding and band_column[j] >= 0:
+                    band_out[r // band_rows, band_column[j], t, band_start + r % band_rows] = cell[j]
             flags[r, 0, t] = binding
             flags[r, 1, t] = rationed
             flags[r, 2, t] = infeasible
@@ -814,13 +823,19 @@ def _row_kernel(
 
 
 def policy_paths(
-    batch_arrays: dict, rows: dict, free: np.ndarray, series: tuple[str, ...] | None = None
+    batch_arrays: dict,
+    rows: dict,
+    free: np.ndarray,
+    series: tuple[str, ...] | None = None,
+    band: tuple | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The rows' series (R, len(series), T+1) in the order of `series` (default: all of
     SERIES_INDEX), flags (R, 3, T+1) and summary (R, len(SUMMARY_INDEX)). Asking only for
     the series needed saves memory traffic (bands keep six).
 
     `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
+    `band` = (names, target, rows_per_policy, first_draw) also writes those series, as float32,
+    straight into target[policy, series, period, draw] for rows in policy-major order.
     """
     a = batch_arrays
     count = rows["scenario"].shape[0]
@@ -832,6 +847,13 @@ def policy_paths(
     out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
     summary = np.empty((count, len(SUMMARY_INDEX)))
+    band_column = np.full(len(SERIES_INDEX), -1, dtype=np.int64)
+    if band is None:
+        band_out, band_rows, band_start = np.empty((1, 1, 1, 1), dtype=np.float32), 0, 0
+    else:
+        names, band_out, band_rows, band_start = band
+        for j, name in enumerate(names):
+            band_column[SERIES_INDEX[name]] = j
     _row_kernel(
         rows["scenario"],
         rows["kind"],
@@ -861,6 +883,10 @@ def policy_paths(
         out,
         flags,
         summary,
+        band_column,
+        band_out,
+        band_rows,
+        band_start,
     )
     return out, flags, summary
 
@@ -1215,3 +1241,5 @@ def warm_up() -> None:
     free = free_paths(arrays)
     policy_paths(arrays, rows, free)
     percentiles(np.ones((2, 3), dtype=np.float32), np.arange(3), np.array([5.0, 50.0]))
+    target = np.empty((2, 1, periods, 1), dtype=np.float32)
+    policy_paths(arrays, rows, free, ("quantity",), (("quantity",), target, 1, 0))

@@ -90,16 +90,21 @@ FLOATING_POINT: dict[str, str] = {"all": "ignore"}
 
 
 def solve(
-    batch: ScenarioBatch, rows: PolicyRows, series: tuple[str, ...] | None = None, alternate: bool = True
+    batch: ScenarioBatch,
+    rows: PolicyRows,
+    series: tuple[str, ...] | None = None,
+    alternate: bool = True,
+    band: tuple | None = None,
 ) -> PathArrays:
     """Compute every path of every policy row of the batch.
 
     `series` names the only series to keep (then `outcome` and `welfare` are None and the
     series are read from `series`); `alternate=False` skips the other curve form's free path
-    (used only by the cautions).
+    (used only by the cautions); `band` is passed to kernel.policy_paths (bands write their
+    series straight into the percentile buffer).
     """
     with np.errstate(**FLOATING_POINT):
-        return _solve(batch, rows, series, alternate)
+        return _solve(batch, rows, series, alternate, band)
 
 
 def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
@@ -138,7 +143,7 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
     return arrays, policy
 
 
-def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> PathArrays:
+def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PathArrays:
     n, periods = batch.size, batch.periods
     t = np.arange(periods)
     valid = t[None, :] <= batch.horizon[:, None]
@@ -196,7 +201,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool) -> P
     # Policy rows: one kernel call, each scenario in its own form.
     own_free = np.ascontiguousarray(primary[:, :2])
     names = tuple(kernel.SERIES_INDEX) if series is None else series
-    values, flags, summary = kernel.policy_paths(arrays, policy, own_free, names)
+    values, flags, summary = kernel.policy_paths(arrays, policy, own_free, names, band)
     index = {name: j for j, name in enumerate(names)}
     s_of = rows.scenario
     row_valid = valid[s_of]

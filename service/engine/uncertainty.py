@@ -223,12 +223,14 @@ class BandArrays:
     feasible_draws: np.ndarray
 
 
-def solve_rows(batch: ScenarioBatch, rows: PolicyRows):
-    """Solve and summarise; per row: feasible (R,), series (R, series, T+1), summary."""
-    arrays = solve(batch, rows, series=BAND_SERIES, alternate=False)
+def solve_rows(batch: ScenarioBatch, rows: PolicyRows, band: tuple | None = None):
+    """Solve and summarise; per row: feasible (R,), series (R, series, T+1) (none when the
+    kernel writes them into `band`'s buffer instead, see kernel.policy_paths), summary."""
+    kept = () if band is not None else BAND_SERIES
+    arrays = solve(batch, rows, series=kept, alternate=False, band=band)
     feasible = ~arrays.row_failed(rows)
     summary = summarise(arrays, batch, rows)
-    series = {name: arrays.named(name) for name in BAND_SERIES}
+    series = {name: arrays.named(name) for name in kept}
     binds = (arrays.binding & arrays.valid[rows.scenario]).any(axis=1)
     return feasible, series, summary, binds
 
@@ -264,12 +266,11 @@ def percentile_bands(
         stop = min(start + block, draws)
         batch = scenario_batch_with(base, scenario, inputs, values[start:stop])
         rows = rows_for(base_rows, stop - start)
-        ok, series, summary, bound = solve_rows(batch, rows)
-        shape = (p, stop - start)  # rows are policy-major
+        # The kernel writes the banded series straight into `kept` (rows are policy-major).
+        ok, _, summary, bound = solve_rows(batch, rows, band=(BAND_SERIES, kept, stop - start, start))
+        shape = (p, stop - start)
         feasible[start:stop] = ok.reshape(shape).T
         binds[start:stop] = bound.reshape(shape).T
-        for s, name in enumerate(BAND_SERIES):
-            kept[:, s, :, start:stop] = series[name][:, :periods].reshape(*shape, periods).transpose(0, 2, 1)
         for s, name in enumerate(BAND_SUMMARY):
             kept_summary[start:stop, :, s] = summary[name].reshape(shape).T
 
