@@ -8,6 +8,7 @@ for all shocks of all scenarios at once and summed per (scenario, shifter).
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -15,7 +16,7 @@ import numpy as np
 
 from .policies import KIND_CODES
 from .scenario import Scenario
-from .schedules import SCHEDULE_CODES, rate_from_half_life
+from .schedules import SCHEDULE_CODES
 from .shocks import PROFILE_CODES, shifter_paths, shock_paths
 
 __all__ = ["PolicyRows", "ScenarioBatch", "pack", "policy_kind_code"]
@@ -89,23 +90,21 @@ def _policy_value(policy, base_price: float) -> float:
 
 
 def _discount_rates(scenarios: Sequence[Scenario], periods: int) -> np.ndarray:
-    """Per-period rates (n, T+1) from a number or a step schedule per scenario."""
-    n = len(scenarios)
+    """Per-period rates (n, T+1) from a number or a step schedule per scenario.
+
+    A step applies through its `through_period` (inclusive, strictly increasing); past the
+    last step the last rate holds. Column 0 is never used.
+    """
     steps = [s.welfare.discount_rate for s in scenarios]
-    flat = np.array([0.0 if isinstance(d, tuple) else float(d) for d in steps])
-    most = max((len(d) for d in steps if isinstance(d, tuple)), default=0)
-    through = np.full((n, most), -1, dtype=np.int64)
-    rate = np.zeros((n, most))
-    for i, d in enumerate(steps):
-        if isinstance(d, tuple):
-            through[i, : len(d)] = [x.through_period for x in d]
-            rate[i, : len(d)] = [x.rate for x in d]
-            flat[i] = d[-1].rate  # past the last step the last rate holds
+    flat = np.array([d[-1].rate if isinstance(d, tuple) else float(d) for d in steps])
     rates = np.repeat(flat[:, None], periods, axis=1)
-    t = np.arange(periods)[None, :]
-    for j in reversed(range(most)):
-        applies = (through[:, j : j + 1] >= 0) & (t <= through[:, j : j + 1])
-        rates = np.where(applies, rate[:, j : j + 1], rates)
+    for i, d in enumerate(steps):  # copies numbers only: a slice per step
+        if isinstance(d, tuple):
+            first = 0
+            for step in d:
+                last = min(step.through_period, periods - 1)
+                rates[i, first : last + 1] = step.rate
+                first = last + 1
     return rates
 
 
@@ -139,7 +138,7 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         if adj.rate is not None:
             schedule_rate[i] = adj.rate
         elif adj.half_life is not None:
-            schedule_rate[i] = rate_from_half_life(adj.half_life)
+            schedule_rate[i] = -math.expm1(math.log(0.5) / adj.half_life)  # rate_from_half_life
         if code == SCHEDULE_CODES["explicit"]:
             values = np.asarray(adj.elasticities[: periods - 1], dtype=float)
             explicit[i, 1 : 1 + values.size] = values
