@@ -132,33 +132,42 @@ _ULP = 2.220446049250313e-16
 
 
 @njit(**_JIT)
-def _demand(ce, p0, q0, eta, d, price):
-    """Qd(P), truncated at zero."""
+def _curve(ce, p0, q0, elasticity, shift, price):
+    """Quantity on a curve through the shifted base point, truncated at zero: demand with
+    (eta, D) or (eta, ln A), supply K with (e, S) or (e, ln B)."""
     if ce:
         if price > 0.0:
-            return q0 * math.exp(eta * math.log(price / p0) + d)
+            return q0 * math.exp(elasticity * math.log(price / p0) + shift)
         return 0.0
-    return q0 * max(1.0 + eta * ((price - p0) / p0) + d, 0.0)
+    return q0 * max(1.0 + elasticity * ((price - p0) / p0) + shift, 0.0)
+
+
+@njit(**_JIT)
+def _curve_price(ce, p0, q0, elasticity, shift, quantity):
+    """The inverse of _curve: the price at which the curve reaches `quantity` (> 0)."""
+    if ce:
+        ratio = quantity / q0
+        log_q = (math.log(ratio) if ratio > 0.0 else 0.0) - shift
+        return p0 * math.exp(log_q / elasticity)
+    return p0 * (1.0 + (quantity / q0 - 1.0 - shift) / elasticity)
+
+
+@njit(**_JIT)
+def _demand(ce, p0, q0, eta, d, price):
+    """Qd(P), truncated at zero."""
+    return _curve(ce, p0, q0, eta, d, price)
 
 
 @njit(**_JIT)
 def _inverse_demand(ce, p0, q0, eta, d, quantity):
     """Qd^-1(Q): the marginal buyer's value of the quantity-th unit."""
-    if ce:
-        ratio = quantity / q0
-        log_q = (math.log(ratio) if ratio > 0.0 else 0.0) - d
-        return p0 * math.exp(log_q / eta)
-    return p0 * (1.0 + (quantity / q0 - 1.0 - d) / eta)
+    return _curve_price(ce, p0, q0, eta, d, quantity)
 
 
 @njit(**_JIT)
 def _base_supply(ce, p0, q0, e, s, price):
     """K(P): the period's supply curve (desired stock under the stock schedule)."""
-    if ce:
-        if price > 0.0:
-            return q0 * math.exp(e * math.log(price / p0) + s)
-        return 0.0
-    return q0 * max(1.0 + e * ((price - p0) / p0) + s, 0.0)
+    return _curve(ce, p0, q0, e, s, price)
 
 
 @njit(**_JIT)
@@ -170,12 +179,7 @@ def _supply(ce, p0, q0, e, s, a, b, f, price):
 @njit(**_JIT)
 def _supply_line(ce, p0, q0, e, s, a, b, quantity):
     """Price on the upper branch a + b K(P) = quantity (e > 0; quantity above a)."""
-    x = (quantity - a) / b
-    if ce:
-        ratio = x / q0
-        log_q = (math.log(ratio) if ratio > 0.0 else 0.0) - s
-        return p0 * math.exp(log_q / e)
-    return p0 * (1.0 + (x / q0 - 1.0 - s) / e)
+    return _curve_price(ce, p0, q0, e, s, (quantity - a) / b)
 
 
 @njit(**_JIT)

@@ -22,7 +22,7 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
-from .kernel import SUMMARY_INDEX
+from .kernel import SERIES_INDEX, SUMMARY_INDEX
 from .paths import PathArrays, solve
 from .policies import is_ceiling
 from .reduced_form import reduced_form
@@ -38,26 +38,9 @@ __all__ = [
     "summarise",
 ]
 
-#: The per-period series of every policy path, in response order.
-SERIES = (
-    "consumer_price",
-    "producer_price",
-    "quantity",
-    "quantity_demanded",
-    "quantity_supplied",
-    "shortage",
-    "excess_supply",
-    "marginal_value",
-    "marginal_cost",
-    "binding",
-    "consumer_surplus_change",
-    "producer_surplus_change",
-    "government_revenue",
-    "deadweight_loss",
-    "misallocation_loss",
-    "cumulative_deadweight_loss",
-    "discounted_deadweight_loss",
-)
+#: The per-period series of every policy path, in response order: the kernel's first sixteen
+#: series with `binding` after the marginal cost.
+SERIES = (*tuple(SERIES_INDEX)[:9], "binding", *tuple(SERIES_INDEX)[9:16])
 
 _POLICY_FIELD = {
     "price_ceiling": "level",
