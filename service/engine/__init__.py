@@ -1,6 +1,7 @@
 """The shockpath engine: transition paths of a market under shocks and policies.
 
-Pure numpy and scipy (and the project's leaf module of constants, service.limits): this package
+numpy, scipy and numba (the compiled period pass, kernel.py), and the project's leaf module of
+constants, service.limits: this package
 imports nothing of HTTP, marshmallow or the environment (tests/test_layers.py enforces it).
 Each module's docstring states the equations it solves and their published source.
 """

@@ -5,11 +5,11 @@ period's curves (shifted by the shocks), the free-market equilibrium, each polic
 against it, and its welfare change. Period 0 is the base point. Cumulative deadweight loss
 is sum_(s<=t) DWL_s; discounted, sum_(s<=t) DWL_s prod_(u<=s) 1/(1+r_u).
 
-Arrays are (scenarios, periods) and (policy rows, periods); scenarios of the two curve forms
-are computed in two groups, and policy rows in groups of one kind: no loop runs over
-scenarios, draws or periods here (the growth cap's period loop lives in policies.py).
-Problems are returned as masks, not raised, so that one bad scenario in a batch, or one bad
-draw in a band, does not stop the others.
+Arrays are (scenarios, periods) and (policy rows, periods). The work runs in the compiled
+pass of kernel.py (its inputs prepared there too: shock paths, schedules, discounting); this
+module packs its inputs, reads its outputs and turns its flags into problem masks. Problems are
+returned as masks, not raised, so that one bad scenario in a batch, or one bad draw in a band,
+does not stop the others.
 
 Sources: each period's equilibrium is the displacement model of Muth (1964), Gardner (1987) and
 Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5; the discount factor is the
@@ -108,22 +108,25 @@ def solve(
 
 
 def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
+    """The kernel's input arrays. The kernel also takes inflation (a price index), a durable
+    stock and partial coverage (MODEL.md sections 12-14; tests/engine/test_kernel_additions.py
+    checks them against the scalar reference); requests cannot ask for them yet, so they are
+    neutral here: no inflation, no stock, full coverage, nothing indexed."""
     n, periods = batch.size, batch.periods
-    stock = getattr(batch, "stock", None)
     arrays = {
         "price": batch.price,
         "quantity": batch.quantity,
         "demand_elasticity": batch.demand_elasticity,
         "payments_per_period": batch.payments_per_period,
-        "eps": np.ascontiguousarray(eps),
+        "eps": eps,
         "shifts": shifts,
         "horizon": batch.horizon,
-        "stock": np.zeros(n, dtype=bool) if stock is None else stock,
-        "stock_rate": getattr(batch, "stock_rate", None) if stock is not None else np.ones(n),
-        "floor_share": getattr(batch, "floor_share", None) if stock is not None else np.zeros(n),
+        "stock": np.zeros(n, dtype=bool),
+        "stock_rate": np.ones(n),
+        "floor_share": np.zeros(n),
         "long_run_elasticity": batch.long_run_elasticity,
         "random_rationing": batch.random_rationing,
-        "discount_factor": np.ascontiguousarray(factor),
+        "discount_factor": factor,
         "price_index": np.ones((n, periods)),
         "inflation": np.zeros((n, periods)),
     }
@@ -133,12 +136,8 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
         "value": rows.value,
         "start": rows.start,
         "end": rows.end,
-        "indexed": getattr(rows, "indexed", None)
-        if getattr(rows, "indexed", None) is not None
-        else np.zeros(rows.size, dtype=bool),
-        "coverage": getattr(rows, "coverage", None)
-        if getattr(rows, "coverage", None) is not None
-        else np.ones(rows.size),
+        "indexed": np.zeros(rows.size, dtype=bool),
+        "coverage": np.ones(rows.size),
     }
     return arrays, policy
 
