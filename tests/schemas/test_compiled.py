@@ -46,14 +46,21 @@ def test_every_paths_demo_loads_to_the_same_scenario_either_way(name):
     assert _fast(copy.deepcopy(body)) == SCHEMA.load(body)
 
 
-@pytest.mark.parametrize("index", range(len(CASES)))
-def test_a_hostile_body_is_never_accepted_where_marshmallow_refuses_it(index):
-    body = CASES[index][1]
+def _decoded(body):
+    """The JSON document of a corpus body (malformed JSON never reaches a schema: None)."""
     if isinstance(body, (str, bytes)):
         try:
-            body = orjson.loads(body)
+            return orjson.loads(body)
         except orjson.JSONDecodeError:
-            pytest.skip("malformed JSON never reaches a schema")
+            return None
+    return body
+
+
+DOCUMENTS = [(case[0], doc) for case in CASES if (doc := _decoded(case[1])) is not None]
+
+
+@pytest.mark.parametrize(("name", "body"), DOCUMENTS, ids=[d[0] for d in DOCUMENTS])
+def test_a_hostile_body_is_never_accepted_where_marshmallow_refuses_it(name, body):
     try:
         expected = SCHEMA.load(copy.deepcopy(body))
     except ValidationError:
