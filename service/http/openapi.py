@@ -70,7 +70,16 @@ _SCHEMAS = {
 
 _HEADERS = {
     "ETag": {
-        "description": 'The scenario_id in quotes ("<id>" for JSON, "<id>.csv" for CSV).',
+        "description": (
+            'A strong tag of this answer: on /v1/paths the scenario_id in quotes ("<id>" for JSON, '
+            '"<id>.csv" for CSV), elsewhere a hash of the canonical request, the format and the model '
+            "version. A gzip-encoded answer's tag ends in :gzip. If-None-Match is compared weakly, so "
+            'W/"<tag>" matches too.'
+        ),
+        "schema": {"type": "string"},
+    },
+    "Content-Disposition": {
+        "description": 'CSV answers: attachment; filename="<endpoint>-<tag prefix>.csv".',
         "schema": {"type": "string"},
     },
 }
@@ -87,11 +96,34 @@ _PARAMETERS = {
         "name": "Accept",
         "in": "header",
         "required": False,
-        "description": "application/json (default) or text/csv (long form: policy,period,variable,value).",
+        "description": (
+            "application/json (default) or text/csv (long form, one value per row with its unit); "
+            "anything else is 406."
+        ),
+        "schema": {"type": "string"},
+    },
+    "Accept-Json": {
+        "name": "Accept",
+        "in": "header",
+        "required": False,
+        "description": "application/json; anything else is 406.",
+        "schema": {"type": "string"},
+    },
+    "Accept-Image": {
+        "name": "Accept",
+        "in": "header",
+        "required": False,
+        "description": "image/svg+xml (default) or image/png, when the body has no format; else 406.",
         "schema": {"type": "string"},
     },
     "name": {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}},
 }
+
+
+_SERVERS = [
+    {"url": "/", "description": "The service that serves this document"},
+    {"url": "http://127.0.0.1:8000", "description": "A local instance (the README's serve command)"},
+]
 
 
 def _schema_name(schema) -> str:
@@ -114,11 +146,15 @@ def _content(kind: str) -> dict[str, Any]:
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 
+def _ref(kind: str, name: str) -> dict[str, str]:
+    return {"$ref": f"#/components/{kind}/{name}"}
+
+
 def _operation(op: dict[str, Any]) -> dict[str, Any]:
     if "document" in op:
         return op["document"]
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
-    params = [_PARAMETERS[p] for p in op.get("parameters", []) + op.get("path_parameters", [])]
+    params = [p for p in op.get("parameters", []) + op.get("path_parameters", [])]
     if params:
         out["parameters"] = params
     if "request" in op:
@@ -133,7 +169,7 @@ def _operation(op: dict[str, Any]) -> dict[str, Any]:
         elif "content" in spec:
             response["content"] = {mime: _content(kind) for mime, kind in spec["content"].items()}
         if "headers" in spec:
-            response["headers"] = {h: _HEADERS[h] for h in spec["headers"]}
+            response["headers"] = {h: h for h in spec["headers"]}
         out["responses"][status] = response
     if op["path"].startswith("/v1/"):
         # Keys are optional: an empty requirement means the service runs without them.
@@ -159,6 +195,7 @@ def build_document() -> dict[str, Any]:
         openapi_version="3.1.0",
         plugins=[plugin],
         info={"description": _DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
+        servers=_SERVERS,
     )
     openapi_attributes(plugin.converter)
     spec.components.security_scheme(
@@ -171,6 +208,10 @@ def build_document() -> dict[str, Any]:
     )
     for name, schema in _SCHEMAS.items():
         spec.components.schema(name, schema=schema)
+    for name, header in _HEADERS.items():
+        spec.components.header(name, header)
+    for name, parameter in _PARAMETERS.items():
+        spec.components.parameter(name, parameter["in"], parameter)
     by_path: dict[str, dict[str, Any]] = {}
     for blueprint in BLUEPRINTS:
         for op in blueprint.operations:

@@ -18,6 +18,8 @@ from service import create_app
 APP = create_app({"TESTING": True, "band_threads": 1})
 SCHEMA = schemathesis.openapi.from_wsgi("/openapi.json", APP)
 HEAVY = ("/v1/bands", "/v1/sensitivity")
+# schemathesis's WSGI transport asks for gzip but does not decode it; gzip has its own tests.
+IDENTITY = {"Accept-Encoding": "identity"}
 
 pytestmark = pytest.mark.slow
 
@@ -45,14 +47,14 @@ def _settings(examples: int):
 @_settings(150)
 def test_generated_requests_are_answered_as_documented(case):
     CALLS[case.operation.label] = CALLS.get(case.operation.label, 0) + 1
-    case.call_and_validate(excluded_checks=[positive_data_acceptance])
+    case.call_and_validate(headers=IDENTITY, excluded_checks=[positive_data_acceptance])
 
 
 @SCHEMA.include(path=list(HEAVY)).parametrize()
 @_settings(40)
 def test_generated_uncertainty_requests_are_answered_as_documented(case):
     CALLS[case.operation.label] = CALLS.get(case.operation.label, 0) + 1
-    case.call_and_validate(excluded_checks=[positive_data_acceptance])
+    case.call_and_validate(headers=IDENTITY, excluded_checks=[positive_data_acceptance])
 
 
 def test_over_a_thousand_cases_ran_over_every_operation():
