@@ -5,8 +5,6 @@ so that a missing browser fails there instead of skipping."""
 
 from __future__ import annotations
 
-import os
-import shutil
 import threading
 from pathlib import Path
 
@@ -16,7 +14,6 @@ from werkzeug.serving import make_server
 from service import create_app
 
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
-CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 pytestmark = pytest.mark.slow
 
 
@@ -27,32 +24,6 @@ def base_url():
     thread.start()
     yield f"http://127.0.0.1:{server.server_port}"
     server.shutdown()
-
-
-@pytest.fixture(scope="module")
-def page():
-    if CHROMIUM is None:
-        if os.environ.get("SHOCKPATH_REQUIRE_BROWSER"):
-            pytest.fail("chromium is required here (apt-get install chromium)")
-        pytest.skip("chromium is not installed (Debian package chromium)")
-    from playwright.sync_api import sync_playwright
-
-    with sync_playwright() as p:
-        browser = p.chromium.launch(
-            executable_path=CHROMIUM,
-            args=[
-                "--no-sandbox",
-                "--disable-gpu",
-                "--disable-quic",
-                "--no-first-run",
-                "--disable-background-networking",
-                "--disable-component-update",
-                "--disable-sync",
-            ],
-        )
-        page = browser.new_page(viewport={"width": 1280, "height": 1800})
-        yield page
-        browser.close()
 
 
 def test_a_demo_runs_and_shows_the_charts_and_the_table(page, base_url):
