@@ -76,10 +76,13 @@ def _legend_and_footnote(figure, note: str, rows: int, **legend) -> None:
 def _save(figure, fmt: str) -> bytes:
     buffer = io.BytesIO()
     if fmt == "svg":
+        from matplotlib import rc_context
         from matplotlib.backends.backend_svg import FigureCanvasSVG
 
         FigureCanvasSVG(figure)
-        figure.savefig(buffer, format="svg", metadata={"Date": None})
+        # A fixed salt for the SVG's element ids: the same chart, the same bytes (its ETag is strong).
+        with rc_context({"svg.hashsalt": "shockpath"}):
+            figure.savefig(buffer, format="svg", metadata={"Date": None})
     else:
         from matplotlib.backends.backend_agg import FigureCanvasAgg
 

@@ -20,6 +20,7 @@ blueprint = DocumentedBlueprint("charts", __name__)
 
 _CHART = ChartRequestSchema()
 _IMAGE = {"svg": "image/svg+xml", "png": "image/png"}
+_OCTETS = "application/octet-stream"
 
 
 def _under(prefix: str, error: ProblemError) -> ProblemError:
@@ -60,8 +61,16 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     request="ChartRequest",
     responses={
         "200": {
-            "description": "The chart (1200 x 900 px).",
-            "content": {"image/svg+xml": "image", "image/png": "image"},
+            "description": (
+                "The chart (1200 x 900 px) as raw bytes: SVG or PNG by `format` or Accept; "
+                "Accept: application/octet-stream gets the same bytes typed generically (for generated "
+                "clients that keep only octet streams)."
+            ),
+            "content": {
+                "image/svg+xml": "image/svg+xml",
+                "image/png": "image/png",
+                "application/octet-stream": "octets",
+            },
             "headers": ["ETag"],
         },
         "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
@@ -75,8 +84,9 @@ def post_chart() -> Response:
     spec = load_request(_CHART, raw)
     fmt = spec.get("format")
     # One rule: Accept chooses among what is offered; a format in the body is the one offer.
-    offered = [_IMAGE[fmt]] if fmt else list(_IMAGE.values())
-    fmt = "png" if negotiate(offered) == "image/png" else "svg"
+    offered = ([_IMAGE[fmt]] if fmt else list(_IMAGE.values())) + [_OCTETS]
+    chosen = negotiate(offered)
+    fmt = fmt or ("png" if chosen == "image/png" else "svg")
     if not charts.available():
         raise ProblemError(problem(503, "Service Unavailable", "Charts need the charts extra (matplotlib)."))
 
@@ -85,8 +95,8 @@ def post_chart() -> Response:
             image, g.scenario_id = _draw(spec, fmt)
         except ProblemError as error:
             raise _under("/scenario", error) from None
-        return Response(image, mimetype=_IMAGE[fmt])
+        return Response(image, mimetype=chosen)
 
-    response = conditional(request_tag("/v1/charts", raw, fmt), produce)
+    response = conditional(request_tag("/v1/charts", raw, chosen), produce)
     response.vary.add("Accept")
     return response

@@ -137,3 +137,11 @@ def test_the_tornado_says_which_end_of_a_negative_elasticity_is_the_more_elastic
     text = _svg(client, "sensitivity", HOUSING, policy="rent freeze")
     assert "(more elastic)" in text
     assert "for a negative elasticity, the more elastic end" in text
+
+
+def test_octet_stream_gets_the_same_chart_bytes_for_generated_clients(client):
+    body = {"chart": "paths", "format": "svg", "scenario": scenario("paths")}
+    svg = client.post("/v1/charts", json=body)
+    raw = client.post("/v1/charts", json=body, headers={"Accept": "application/octet-stream"})
+    assert raw.status_code == 200 and raw.mimetype == "application/octet-stream"
+    assert raw.data == svg.data
