@@ -18,14 +18,23 @@ PALETTE = ("#000000", "#E69F00", "#0072B2", "#009E73", "#D55E00", "#56B4E9", "#C
 STYLES = ("-", "--", "-.", ":", (0, (5, 1)), (0, (3, 1, 1, 1)), (0, (1, 2)), (0, (8, 2, 2, 2)))
 MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
 SIZE_PX = (1200, 900)
+#: Fractions of the figure's height: the footnote's two lines and each row of the legend.
+FOOTNOTE_HEIGHT = 0.04
+LEGEND_ROW_HEIGHT = 0.035
 DPI = 100
+#: Band ribbons of different policies overlap: each policy's ribbon has its own hatching too.
+HATCHES = ("", "//", "\\\\", "..", "xx", "||", "--", "++")
 PANELS = (
-    ("consumer_price", "Consumer price", "{currency} per unit"),
+    ("consumer_price", "Consumer price", "{currency} per {unit} per {price_interval}"),
     ("quantity", "Quantity traded", "{quantity}"),
     ("shortage", "Shortage", "{quantity}"),
     ("cumulative_deadweight_loss", "Cumulative deadweight loss", "{currency}"),
 )
-CAUTION = "Estimates from published elasticities: they inform, and do not replace, local market studies."
+CAUTION = (
+    "Estimates from the elasticities given: they inform, and do not replace, local market studies "
+    "and the judgement of qualified analysts."
+)
+LOWER_BOUND = "Binding ceilings assume efficient rationing: their deadweight loss is a lower bound."
 
 
 def _compact(value: float, _position=None) -> str:
@@ -56,13 +65,24 @@ def _figure():
     return Figure(figsize=(SIZE_PX[0] / DPI, SIZE_PX[1] / DPI), dpi=DPI, layout="constrained")
 
 
+def _legend_and_footnote(figure, note: str, rows: int, **legend) -> None:
+    """A strip at the bottom: the legend (`rows` rows) above the footnote; the axes above both."""
+    bottom = FOOTNOTE_HEIGHT + LEGEND_ROW_HEIGHT * rows
+    figure.get_layout_engine().set(rect=(0, bottom, 1, 1 - bottom))
+    figure.legend(loc="lower center", bbox_to_anchor=(0.5, FOOTNOTE_HEIGHT), frameon=False, **legend)
+    figure.text(0.01, 0.004, note, fontsize=8, color="#444444", va="bottom")
+
+
 def _save(figure, fmt: str) -> bytes:
     buffer = io.BytesIO()
     if fmt == "svg":
+        from matplotlib import rc_context
         from matplotlib.backends.backend_svg import FigureCanvasSVG
 
         FigureCanvasSVG(figure)
-        figure.savefig(buffer, format="svg", metadata={"Date": None})
+        # A fixed salt for the SVG's element ids: the same chart, the same bytes (its ETag is strong).
+        with rc_context({"svg.hashsalt": "shockpath"}):
+            figure.savefig(buffer, format="svg", metadata={"Date": None})
     else:
         from matplotlib.backends.backend_agg import FigureCanvasAgg
 
@@ -82,11 +102,23 @@ def _style(i: int) -> dict[str, Any]:
     }
 
 
+def _period_label(units) -> str:
+    period = units.get("period", "period")
+    return "Period" if period == "period" else f"Period ({period})"
+
+
+def _unit_labels(units: dict) -> dict:
+    return {"unit": "unit", "price_interval": "price interval", **units}
+
+
 def _axes_grid(figure, periods, units):
+    from matplotlib.ticker import MaxNLocator
+
     axes = figure.subplots(2, 2, sharex=True)
     for ax, (_, title, unit) in zip(axes.flat, PANELS, strict=True):
         ax.set_title(title, fontsize=12, loc="left")
-        ax.set_ylabel(unit.format(**units))
+        ax.set_ylabel(unit.format(**_unit_labels(units)))
+        ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # periods are whole numbers
         ax.axvline(0, color="#777777", linewidth=0.8, linestyle=":")
         ax.annotate(
             "base",
@@ -101,16 +133,23 @@ def _axes_grid(figure, periods, units):
         ax.set_xlim(periods[0], periods[-1])
         _compact_axis(ax.yaxis)
     for ax in axes[1]:
-        ax.set_xlabel(f"Period ({units['period']})")
+        ax.set_xlabel(_period_label(units))
     return axes
 
 
-def _finish(figure, title: str, form: str, handles, labels) -> None:
+def footnote(form: str, cautions, prefix: str = "") -> str:
+    """The model form, the lower-bound warning where the answer carries it, and the caution."""
+    lines = [f"Model: {form.replace('_', '-')} form. {prefix}{CAUTION}"]
+    if any("lower bound" in c for c in cautions):
+        lines.append(LOWER_BOUND)
+    return "\n".join(lines)
+
+
+def _finish(figure, title: str, note: str, handles, labels) -> None:
     figure.suptitle(title, fontsize=15, x=0.01, ha="left")
-    figure.legend(
-        handles, labels, loc="outside lower center", ncols=min(4, max(1, len(labels))), frameon=False
-    )
-    figure.text(0.01, 0.002, f"Model: {form.replace('_', '-')} form. {CAUTION}", fontsize=8, color="#444444")
+    ncols = min(4, max(1, len(labels)))
+    rows = -(-len(labels) // ncols)
+    _legend_and_footnote(figure, note, rows, handles=handles, labels=labels, ncols=ncols)
 
 
 def render_paths(body: dict, units: dict, fmt: str, form: str, title: str | None = None) -> bytes:
@@ -123,7 +162,8 @@ def render_paths(body: dict, units: dict, fmt: str, form: str, title: str | None
         for ax, (series, _, _) in zip(axes.flat, PANELS, strict=True):
             (line,) = ax.plot(periods, path[series], label=path["name"], **_style(i))
         handles.append(line)
-    _finish(figure, title or "Transition paths by policy", form, handles, [p["name"] for p in body["paths"]])
+    labels = [p["name"] for p in body["paths"]]
+    _finish(figure, title or "Transition paths by policy", footnote(form, body["cautions"]), handles, labels)
     return _save(figure, fmt)
 
 
@@ -141,15 +181,25 @@ def render_bands(body: dict, units: dict, fmt: str, form: str, title: str | None
             for depth in range(len(keys) // 2):
                 low, high = by_q[keys[depth]], by_q[keys[-1 - depth]]
                 ax.fill_between(
-                    periods, low, high, color=style["color"], alpha=0.12 + 0.08 * depth, linewidth=0
+                    periods,
+                    low,
+                    high,
+                    facecolor=(style["color"], 0.10 + 0.06 * depth),
+                    edgecolor=(style["color"], 0.45),
+                    hatch=HATCHES[i % len(HATCHES)] if depth == 0 else None,
+                    linewidth=0,
                 )
+                if depth == 0:  # the outer edges in the policy's own line style
+                    for edge in (low, high):
+                        ax.plot(
+                            periods, edge, color=style["color"], linestyle=style["linestyle"], linewidth=0.7
+                        )
             (line,) = ax.plot(periods, central[series], **style)
         handles.append(line)
     labels = [b["name"] for b in body["bands"]]
     outer = f"{keys[0]}-{keys[-1]}th percentiles" if len(keys) > 1 else "percentile"
-    _finish(
-        figure, title or f"Central paths with {outer} over {body['draws']:,} draws", form, handles, labels
-    )
+    heading = title or f"Central paths with {outer} over {body['draws']:,} draws"
+    _finish(figure, heading, footnote(form, body["cautions"]), handles, labels)
     return _save(figure, fmt)
 
 
@@ -181,7 +231,8 @@ def render_sensitivity(
     for row, item in enumerate(inputs):
         p = item["policies"][index]
         low, high = p["low"]["discounted_deadweight_loss"], p["high"]["discounted_deadweight_loss"]
-        labels.append(f"{_input_label(item['pointer'])}\n{item['low']:.3g} to {item['high']:.3g}")
+        low_note = " (more elastic)" if item["high"] < 0 else ""
+        labels.append(f"{_input_label(item['pointer'])}\n{item['low']:.3g}{low_note} to {item['high']:.3g}")
         if low is not None:
             ax.barh(
                 row, low - central, left=central, color=PALETTE[2], hatch="//", edgecolor="white", height=0.6
@@ -196,18 +247,16 @@ def render_sensitivity(
     _compact_axis(ax.xaxis)
     ax.grid(True, axis="x", color="#dddddd", linewidth=0.6)
     handles = [
-        Patch(facecolor=PALETTE[2], hatch="//", label="input at its low"),
+        Patch(
+            facecolor=PALETTE[2],
+            hatch="//",
+            label="input at its low (for a negative elasticity, the more elastic end)",
+        ),
         Patch(facecolor=PALETTE[1], hatch="..", label="input at its high"),
     ]
     figure.suptitle(
         title or f"What moves the discounted deadweight loss of '{chosen}'", fontsize=15, x=0.01, ha="left"
     )
-    figure.legend(handles=handles, loc="outside lower center", ncols=2, frameon=False)
-    figure.text(
-        0.01,
-        0.002,
-        f"Model: {form.replace('_', '-')} form. One input at a time. {CAUTION}",
-        fontsize=8,
-        color="#444444",
-    )
+    note = footnote(form, body["cautions"], "One input at a time. ")
+    _legend_and_footnote(figure, note, 1, handles=handles, ncols=2)
     return _save(figure, fmt)

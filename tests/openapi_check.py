@@ -6,6 +6,7 @@ Every response a test receives must have a status the operation declares (or fal
 
 from __future__ import annotations
 
+import gzip
 import re
 
 import orjson
@@ -60,7 +61,10 @@ class ResponseChecker:
         mimetype = response.mimetype
         assert mimetype in content, f"{method} {path}: {status} content type {mimetype} is not documented"
         if mimetype.endswith("json"):
-            body = orjson.loads(response.data)
+            data = response.data
+            if response.headers.get("Content-Encoding") == "gzip":
+                data = gzip.decompress(data)
+            body = orjson.loads(data)
             template = self.template(path) if op else "/v1/paths"
             where = "/v1/paths" if template is None else template
             method_key = method.lower() if op else "post"

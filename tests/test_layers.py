@@ -58,7 +58,7 @@ ALLOWED = {
     "schemas": {"engine", "limits", "marshmallow"},
     "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib"},
     "http": {"python_api", "engine", "schemas", "limits", "flask", "werkzeug", "orjson", "apispec"}
-    | {"prometheus_client", "marshmallow"},
+    | {"prometheus_client", "marshmallow", "flask_cors", "flask_compress"},
 }
 
 

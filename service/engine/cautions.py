@@ -12,7 +12,7 @@ from __future__ import annotations
 __all__ = ["GENERAL_CAUTION", "LARGE_SHOCK", "scenario_cautions"]
 
 GENERAL_CAUTION = (
-    "These are model estimates from published elasticities: they inform, and do not replace, "
+    "These are model estimates from the elasticities given: they inform, and do not replace, "
     "local market studies and the judgement of qualified analysts. Housing policy affects "
     "people's homes."
 )

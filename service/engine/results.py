@@ -102,6 +102,37 @@ def _first_period(mask: np.ndarray) -> int:
     return int(np.argmax(mask))
 
 
+#: A free market this far (a fraction) from the base point strains the linear form's range.
+LINEAR_STRAIN = 0.5
+
+#: What usually makes each kind of policy infeasible within the linear form's range.
+_INFEASIBLE_HINT = {
+    "unit_tax": "the tax is at or above the choke price",
+    "ad_valorem_tax": "the tax is at or above the choke price",
+    "price_ceiling": "the ceiling is below the lowest supply price",
+    "price_floor": "the floor is above the highest price buyers pay",
+    "unit_subsidy": "the subsidy is at or above the supply price",
+}
+
+
+def _infeasible_message(scenario: Scenario, arrays: PathArrays, i: int, t: int, policy) -> str:
+    """Why a policy has no answer in period t: the real cause, and what to change."""
+    head = f"policy '{policy.name}' leaves zero or negative quantity or price in period {t}"
+    market = scenario.market
+    price = float(arrays.free_price[i, t]) / market.price - 1.0
+    quantity = float(arrays.free_quantity[i, t]) / market.quantity - 1.0
+    if market.form == "linear" and max(abs(price), abs(quantity)) > LINEAR_STRAIN:
+        name, change = ("price", price) if abs(price) >= abs(quantity) else ("quantity", quantity)
+        moved = f"{name} {100 * change:+.0f} %"
+        return (
+            f"{head}: by then the shocks have compounded beyond the range of the linear (first-order) "
+            f"form (the free market's {moved} from the base point), where its curves reach zero; use "
+            '"form": "constant_elasticity", or a shorter horizon or smaller shocks'
+        )
+    hint = _INFEASIBLE_HINT.get(policy.kind)
+    return f"{head} (most often because {hint})" if hint else head
+
+
 def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: np.ndarray) -> EngineError:
     """The first problem of a failed scenario, with the pointer of the input to change."""
     names = scenario.market.shifter_names
@@ -143,9 +174,7 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
             t = _first_period(arrays.policy_infeasible[r])
             field = "growth" if policy.growth is not None else _POLICY_FIELD[policy.kind]
             return InfeasiblePolicyError(
-                f"policy '{policy.name}' leaves zero or negative quantity or price in period {t} "
-                "(for example a tax at or above the choke price, or a ceiling below the lowest "
-                "supply price)",
+                _infeasible_message(scenario, arrays, i, t, policy),
                 f"/policies/{local}/{field}",
                 period=t,
             )

@@ -17,6 +17,9 @@ from ..engine import warm_up
 from . import benchmark, metrics
 from .auth import require_key
 from .cache import AnswerCache
+from .compression import enable_gzip
+from .conditional import request_tag
+from .cors import enable_cors
 from .errors import register_error_handlers
 from .logs import configure_logging, log_request
 from .openapi import build_document
@@ -38,6 +41,9 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.extensions["shockpath.settings"] = settings
     app.extensions["shockpath.cache"] = AnswerCache(settings.cache_bytes)
     app.extensions["shockpath.openapi"] = build_document()
+    app.extensions["shockpath.openapi_tag"] = request_tag(
+        "/openapi.json", app.extensions["shockpath.openapi"], "json"
+    )
     app.url_map.strict_slashes = False
     log = configure_logging(settings.log_level)
     for blueprint in BLUEPRINTS:
@@ -45,6 +51,8 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     if settings.benchmark_echo:  # off unless SHOCKPATH_BENCHMARK_ECHO is set
         app.register_blueprint(benchmark.blueprint)
     register_error_handlers(app, log)
+    enable_cors(app, settings)
+    enable_gzip(app)
     _register_hooks(app, settings, log)
     log.info("settings %s", settings.as_log_dict())
     log.info("engine kernels ready in %.2f s", compiled_in)

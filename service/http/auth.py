@@ -22,6 +22,8 @@ __all__ = ["key_accepted", "needs_key", "require_key"]
 
 def require_key(settings: Settings) -> None:
     """Before each request: 401 (with WWW-Authenticate) when keys are set and none matches."""
+    if request.method == "OPTIONS":  # a CORS preflight carries no credentials by design
+        return
     if settings.api_keys and needs_key(request.path, settings.metrics_require_key):
         if not key_accepted(request.headers.get("Authorization"), settings.api_keys):
             document = problem(401, "Unauthorized", "Send a valid key as 'Authorization: Bearer <key>'.")

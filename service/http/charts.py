@@ -9,6 +9,7 @@ from ..problems import ProblemError, load_request, problem
 from ..schemas.charts import ChartRequestSchema
 from ..simulation import simulate_many
 from ..uncertainty import bands, sensitivity
+from .conditional import conditional, request_tag
 from .documented import DocumentedBlueprint, problem_responses
 from .jsonio import read_json
 from .negotiation import negotiate
@@ -19,6 +20,7 @@ blueprint = DocumentedBlueprint("charts", __name__)
 
 _CHART = ChartRequestSchema()
 _IMAGE = {"svg": "image/svg+xml", "png": "image/png"}
+_OCTETS = "application/octet-stream"
 
 
 def _under(prefix: str, error: ProblemError) -> ProblemError:
@@ -59,25 +61,42 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     request="ChartRequest",
     responses={
         "200": {
-            "description": "The chart (1200 x 900 px).",
-            "content": {"image/svg+xml": "image", "image/png": "image"},
+            "description": (
+                "The chart (1200 x 900 px) as raw bytes: SVG or PNG by `format` or Accept; "
+                "Accept: application/octet-stream gets the same bytes typed generically (for generated "
+                "clients that keep only octet streams)."
+            ),
+            "content": {
+                "image/svg+xml": "image/svg+xml",
+                "image/png": "image/png",
+                "application/octet-stream": "octets",
+            },
+            "headers": ["ETag"],
         },
+        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
         **problem_responses("400", "406", "413", "415", "422"),
         "503": {"description": "The charts extra (matplotlib) is not installed.", "problem": True},
     },
+    parameters=["If-None-Match", "Accept-Image"],
 )
 def post_chart() -> Response:
-    spec = load_request(_CHART, read_json())
+    raw = read_json()
+    spec = load_request(_CHART, raw)
     fmt = spec.get("format")
-    if fmt is None:
-        preferred = negotiate(list(_IMAGE.values()), "Charts are image/svg+xml or image/png.")
-        fmt = "png" if preferred == "image/png" else "svg"
+    # One rule: Accept chooses among what is offered; a format in the body is the one offer.
+    offered = ([_IMAGE[fmt]] if fmt else list(_IMAGE.values())) + [_OCTETS]
+    chosen = negotiate(offered)
+    fmt = fmt or ("png" if chosen == "image/png" else "svg")
     if not charts.available():
         raise ProblemError(problem(503, "Service Unavailable", "Charts need the charts extra (matplotlib)."))
-    try:
-        image, g.scenario_id = _draw(spec, fmt)
-    except ProblemError as error:
-        raise _under("/scenario", error) from None
-    response = Response(image, mimetype=_IMAGE[fmt])
+
+    def produce() -> Response:
+        try:
+            image, g.scenario_id = _draw(spec, fmt)
+        except ProblemError as error:
+            raise _under("/scenario", error) from None
+        return Response(image, mimetype=chosen)
+
+    response = conditional(request_tag("/v1/charts", raw, chosen), produce)
     response.vary.add("Accept")
     return response

@@ -19,7 +19,7 @@ __all__ = ["DocumentedBlueprint", "problem_responses"]
 
 _PROBLEMS = {
     "400": "Malformed JSON.",
-    "406": "Only application/json or text/csv can be answered.",
+    "406": "The Accept header accepts none of the types this endpoint answers.",
     "413": "The body is over the size limit.",
     "415": "The body is not application/json.",
     "422": "The request is invalid; `errors` points at each field.",

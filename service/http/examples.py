@@ -6,8 +6,10 @@ from flask import Response, url_for
 
 from ..examples import example_request, examples
 from ..problems import ProblemError, problem
+from .conditional import conditional, request_tag
 from .documented import DocumentedBlueprint
 from .jsonio import json_response
+from .negotiation import negotiate
 
 __all__ = ["blueprint"]
 
@@ -19,9 +21,19 @@ blueprint = DocumentedBlueprint("examples", __name__)
     "/v1/examples",
     operationId="listExamples",
     summary="Ready-made demo scenarios (invented markets)",
-    responses={"200": {"description": "The examples.", "content": {"application/json": "ExampleList"}}},
+    parameters=["If-None-Match", "Accept-Json"],
+    responses={
+        "200": {
+            "description": "The examples.",
+            "content": {"application/json": "ExampleList"},
+            "headers": ["ETag"],
+        },
+        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        "406": {"description": "Only application/json can be answered.", "problem": True},
+    },
 )
 def list_examples() -> Response:
+    negotiate()
     items = [
         {
             "name": name,
@@ -32,7 +44,8 @@ def list_examples() -> Response:
         }
         for name, entry in examples().items()
     ]
-    return json_response({"examples": items})
+    body = {"examples": items}
+    return conditional(request_tag("/v1/examples", body, "json"), lambda: json_response(body))
 
 
 @blueprint.operation(
@@ -41,16 +54,21 @@ def list_examples() -> Response:
     operationId="getExample",
     summary="One demo scenario, postable as it is to its endpoint",
     path_parameters=["name"],
+    parameters=["If-None-Match", "Accept-Json"],
     responses={
         "200": {
             "description": "A request body for the example's endpoint.",
             "content": {"application/json": "ExampleRequest"},
+            "headers": ["ETag"],
         },
+        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
         "404": {"description": "No such example.", "problem": True},
+        "406": {"description": "Only application/json can be answered.", "problem": True},
     },
 )
 def get_example(name: str) -> Response:
+    negotiate()
     body = example_request(name)
     if body is None:
         raise ProblemError(problem(404, "Not Found", f"No example named '{name}'."))
-    return json_response(body)
+    return conditional(request_tag(f"/v1/examples/{name}", body, "json"), lambda: json_response(body))

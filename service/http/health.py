@@ -8,8 +8,10 @@ from ..engine import MODEL_VERSION
 from ..problems import ProblemError, problem
 from ..simulation import simulate_many
 from . import metrics
+from .conditional import conditional
 from .documented import DocumentedBlueprint
 from .jsonio import json_response
+from .negotiation import negotiate
 
 __all__ = ["blueprint"]
 
@@ -92,13 +94,23 @@ def prometheus_metrics() -> Response:
     document={
         "operationId": "openapiDocument",
         "summary": "This document",
+        "parameters": ["If-None-Match", "Accept-Json"],
         "responses": {
             "200": {
                 "description": "OpenAPI 3.1",
                 "content": {"application/json": {"schema": {"type": "object"}}},
-            }
+                "headers": {"ETag": "ETag"},
+            },
+            "304": {
+                "description": "Not modified: If-None-Match matched the ETag.",
+                "headers": {"ETag": "ETag"},
+            },
+            "406": {"description": "Only application/json can be answered.", "content": _PROBLEM},
         },
     },
 )
 def openapi_document() -> Response:
-    return json_response(current_app.extensions["shockpath.openapi"])
+    negotiate()
+    document = current_app.extensions["shockpath.openapi"]
+    tag = current_app.extensions["shockpath.openapi_tag"]
+    return conditional(tag, lambda: json_response(document))

@@ -1,4 +1,10 @@
-"""Content negotiation: one rule for every endpoint that can answer in more than one type."""
+"""Content negotiation: one rule for every endpoint.
+
+Every endpoint answers JSON; the tabular ones (paths, batch, bands) also answer CSV, charts
+answer SVG or PNG. The Accept header picks among what the endpoint offers (no header, or */*,
+gets the first); a header that accepts none of them is a 406 that lists what is offered.
+Errors are always application/problem+json, whatever the Accept header.
+"""
 
 from __future__ import annotations
 
@@ -8,17 +14,23 @@ from flask import request
 
 from ..problems import ProblemError, problem
 
-__all__ = ["negotiate"]
+__all__ = ["CSV", "JSON", "JSON_ONLY", "TABULAR", "negotiate"]
+
+JSON = "application/json"
+CSV = "text/csv"
+JSON_ONLY = (JSON,)
+TABULAR = (JSON, CSV)
 
 
-def negotiate(offered: Sequence[str], detail: str) -> str:
+def negotiate(offered: Sequence[str] = JSON_ONLY) -> str:
     """The offered media type the Accept header prefers; the first one without a header.
 
-    Raises ProblemError 406 (with `detail`) when the header accepts none of them.
+    Raises ProblemError 406 when the header accepts none of them.
     """
     if not request.accept_mimetypes:
         return offered[0]
     best = request.accept_mimetypes.best_match(offered)
     if best is None:
-        raise ProblemError(problem(406, "Not Acceptable", detail))
+        names = " or ".join(offered)
+        raise ProblemError(problem(406, "Not Acceptable", f"This endpoint answers {names}."))
     return best

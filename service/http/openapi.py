@@ -32,6 +32,13 @@ from ..schemas.responses import (
     SensitivityResponseSchema,
 )
 from ..schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema
+from .openapi_examples import (
+    EXAMPLES_PATH,
+    compute_examples,
+    render_examples,
+    request_examples,
+    stored_examples,
+)
 from .routes import BLUEPRINTS
 
 __all__ = ["DOCUMENT_PATH", "build_document"]
@@ -70,7 +77,16 @@ _SCHEMAS = {
 
 _HEADERS = {
     "ETag": {
-        "description": 'The scenario_id in quotes ("<id>" for JSON, "<id>.csv" for CSV).',
+        "description": (
+            'A strong tag of this answer: on /v1/paths the scenario_id in quotes ("<id>" for JSON, '
+            '"<id>.csv" for CSV), elsewhere a hash of the canonical request, the format and the model '
+            "version. A gzip-encoded answer's tag ends in :gzip. If-None-Match is compared weakly, so "
+            'W/"<tag>" matches too.'
+        ),
+        "schema": {"type": "string"},
+    },
+    "Content-Disposition": {
+        "description": 'CSV answers: attachment; filename="<endpoint>-<tag prefix>.csv".',
         "schema": {"type": "string"},
     },
 }
@@ -87,11 +103,37 @@ _PARAMETERS = {
         "name": "Accept",
         "in": "header",
         "required": False,
-        "description": "application/json (default) or text/csv (long form: policy,period,variable,value).",
+        "description": (
+            "application/json (default) or text/csv (long form, one value per row with its unit); "
+            "anything else is 406."
+        ),
+        "schema": {"type": "string"},
+    },
+    "Accept-Json": {
+        "name": "Accept",
+        "in": "header",
+        "required": False,
+        "description": "application/json; anything else is 406.",
+        "schema": {"type": "string"},
+    },
+    "Accept-Image": {
+        "name": "Accept",
+        "in": "header",
+        "required": False,
+        "description": (
+            "image/svg+xml (default) or image/png when the body has no format, or application/octet-stream "
+            "(the same bytes); else 406."
+        ),
         "schema": {"type": "string"},
     },
     "name": {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}},
 }
+
+
+_SERVERS = [
+    {"url": "/", "description": "The service that serves this document"},
+    {"url": "http://127.0.0.1:8000", "description": "A local instance (the README's serve command)"},
+]
 
 
 def _schema_name(schema) -> str:
@@ -106,48 +148,92 @@ def _content(kind: str) -> dict[str, Any]:
         return {"schema": {"type": "string"}}
     if kind == "text":
         return {"schema": {"type": "string"}}
-    if kind == "image":
-        return {"schema": {"type": "string", "format": "binary"}}
+    if kind.startswith("image/"):
+        return {"schema": {"type": "string", "format": "binary", "contentMediaType": kind}}
+    if kind == "octets":
+        return {
+            "schema": {"type": "string", "format": "binary", "contentMediaType": "application/octet-stream"}
+        }
     if kind == "ExampleRequest":
         refs = ["PathsRequest", "BandsRequest"]
         return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{r}"} for r in refs]}}
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 
-def _operation(op: dict[str, Any]) -> dict[str, Any]:
+def _ref(kind: str, name: str) -> dict[str, str]:
+    return {"$ref": f"#/components/{kind}/{name}"}
+
+
+def _example_name(example: dict[str, Any]) -> str:
+    """The request example an answer belongs to (its summary's head), or "answer"."""
+    return example["summary"].split(":")[0].split(" as ")[0] or "answer"
+
+
+def _with_examples(content: dict[str, Any], examples: dict[str, Any] | None) -> dict[str, Any]:
+    if examples:
+        content = dict(content, examples=examples)
+    return content
+
+
+def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, Any]) -> dict[str, Any]:
     if "document" in op:
         return op["document"]
+    problems = answers.get("problems", {})
+    mine = answers.get(op["operationId"], {})
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
-    params = [_PARAMETERS[p] for p in op.get("parameters", []) + op.get("path_parameters", [])]
+    params = [p for p in op.get("parameters", []) + op.get("path_parameters", [])]
     if params:
         out["parameters"] = params
     if "request" in op:
         out["requestBody"] = {
             "required": True,
-            "content": {"application/json": _content(op["request"])},
+            "content": {
+                "application/json": _with_examples(_content(op["request"]), bodies.get(op["operationId"]))
+            },
         }
     for status, spec in op["responses"].items():
         response: dict[str, Any] = {"description": spec["description"]}
         if spec.get("problem"):
-            response["content"] = {"application/problem+json": _content("Problem")}
+            example = mine.get(status, {}).get("application/problem+json") or problems.get(status)
+            response["content"] = {
+                "application/problem+json": _with_examples(_content("Problem"), example and {status: example})
+            }
         elif "content" in spec:
-            response["content"] = {mime: _content(kind) for mime, kind in spec["content"].items()}
+            response["content"] = {
+                mime: _with_examples(
+                    _content(kind), (e := mine.get(status, {}).get(mime)) and {_example_name(e): e}
+                )
+                for mime, kind in spec["content"].items()
+            }
         if "headers" in spec:
-            response["headers"] = {h: _HEADERS[h] for h in spec["headers"]}
+            response["headers"] = {h: h for h in spec["headers"]}
         out["responses"][status] = response
     if op["path"].startswith("/v1/"):
         # Keys are optional: an empty requirement means the service runs without them.
         out["security"] = [{}, {"bearer": []}]
+        unauthorized = problems.get("401")
         out["responses"]["401"] = {
             "description": "Keys are configured and the request has no valid 'Authorization: Bearer <key>'.",
-            "content": {"application/problem+json": _content("Problem")},
+            "content": {
+                "application/problem+json": _with_examples(
+                    _content("Problem"), unauthorized and {"401": unauthorized}
+                )
+            },
             "headers": {"WWW-Authenticate": {"schema": {"type": "string"}}},
         }
     out["responses"]["default"] = {
         "description": "Any other error (404, 405, 500, ...) as a problem document.",
-        "content": {"application/problem+json": _content("Problem")},
+        "content": {
+            "application/problem+json": _with_examples(
+                _content("Problem"),
+                {"404": {"summary": "No such path", "value": _NOT_FOUND}},
+            )
+        },
     }
     return out
+
+
+_NOT_FOUND = {"type": "about:blank", "title": "Not Found", "status": 404, "detail": "No such resource."}
 
 
 def build_document() -> dict[str, Any]:
@@ -159,6 +245,7 @@ def build_document() -> dict[str, Any]:
         openapi_version="3.1.0",
         plugins=[plugin],
         info={"description": _DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
+        servers=_SERVERS,
     )
     openapi_attributes(plugin.converter)
     spec.components.security_scheme(
@@ -171,10 +258,15 @@ def build_document() -> dict[str, Any]:
     )
     for name, schema in _SCHEMAS.items():
         spec.components.schema(name, schema=schema)
+    for name, header in _HEADERS.items():
+        spec.components.header(name, header)
+    for name, parameter in _PARAMETERS.items():
+        spec.components.parameter(name, parameter["in"], parameter)
+    answers, bodies = stored_examples(), request_examples()
     by_path: dict[str, dict[str, Any]] = {}
     for blueprint in BLUEPRINTS:
         for op in blueprint.operations:
-            by_path.setdefault(op["path"], {})[op["method"]] = _operation(op)
+            by_path.setdefault(op["path"], {})[op["method"]] = _operation(op, answers, bodies)
     for path, operations in by_path.items():
         spec.path(path=path, operations=operations)
     return spec.to_dict()
@@ -185,14 +277,20 @@ def render_document() -> str:
 
 
 def main(argv: list[str]) -> int:
-    text = render_document()
     if "--write" in argv:
-        DOCUMENT_PATH.write_text(text, encoding="utf-8")
+        EXAMPLES_PATH.write_text(render_examples(compute_examples()), encoding="utf-8")
+        DOCUMENT_PATH.write_text(render_document(), encoding="utf-8")
         return 0
+    text = render_document()
     if "--check" in argv:
         same = DOCUMENT_PATH.exists() and DOCUMENT_PATH.read_text(encoding="utf-8") == text
         if not same:
             print(f"{DOCUMENT_PATH} is out of date: run python -m service.http --write", file=sys.stderr)
-        return 0 if same else 1
+        fresh = EXAMPLES_PATH.exists() and EXAMPLES_PATH.read_text(encoding="utf-8") == render_examples(
+            compute_examples()
+        )
+        if not fresh:
+            print(f"{EXAMPLES_PATH} is out of date: run python -m service.http --write", file=sys.stderr)
+        return 0 if same and fresh else 1
     sys.stdout.write(text)
     return 0

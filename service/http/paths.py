@@ -2,23 +2,23 @@
 
 from __future__ import annotations
 
-from flask import Response, current_app, g, request
+from flask import Response, current_app, g
 
 from ..problems import ProblemError, load_request
 from ..schemas.paths import BatchRequestSchema
 from ..simulation import compute, load_scenario, scenario_id, simulate_many
-from .csvio import paths_csv
+from .conditional import attachment, conditional, request_tag
+from .csvio import batch_csv, paths_csv
 from .documented import DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
-from .negotiation import negotiate
+from .negotiation import CSV, TABULAR, negotiate
 
 __all__ = ["blueprint"]
 
 blueprint = DocumentedBlueprint("paths", __name__)
 
 _BATCH = BatchRequestSchema()
-_NOT_ACCEPTABLE = "This endpoint answers application/json or text/csv."
 
 
 @blueprint.operation(
@@ -31,7 +31,7 @@ _NOT_ACCEPTABLE = "This endpoint answers application/json or text/csv."
         "200": {
             "description": "A path per policy, period 0 (the base point) first.",
             "content": {"application/json": "PathsResponse", "text/csv": "csv"},
-            "headers": ["ETag"],
+            "headers": ["ETag", "Content-Disposition"],
         },
         "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
         **problem_responses("400", "406", "413", "415", "422"),
@@ -39,27 +39,28 @@ _NOT_ACCEPTABLE = "This endpoint answers application/json or text/csv."
     parameters=["If-None-Match", "Accept"],
 )
 def post_paths() -> Response:
-    as_csv = negotiate(["application/json", "text/csv"], _NOT_ACCEPTABLE) == "text/csv"
+    as_csv = negotiate(TABULAR) == CSV
     scenario = load_scenario(read_json())
     sid = scenario_id(scenario)
     g.scenario_id = sid
-    etag = f"{sid}.csv" if as_csv else sid
+    tag = f"{sid}.csv" if as_csv else sid
     cache = current_app.extensions["shockpath.cache"]
-    if request.if_none_match.contains(etag):
-        response = Response(status=304)
-    elif (cached := cache.get(etag)) is not None:
-        response = Response(cached, mimetype="text/csv" if as_csv else "application/json")
-    else:
-        (body,) = compute([scenario], lists=as_csv)
-        SCENARIOS.labels("/v1/paths").inc()
-        if "status" in body:
-            raise ProblemError(body)
-        if as_csv:
-            response = Response(paths_csv(body), mimetype="text/csv")
+
+    def produce() -> Response:
+        if (cached := cache.get(tag)) is not None:
+            response = Response(cached, mimetype=CSV if as_csv else "application/json")
         else:
-            response = json_response(body)
-        cache.put(etag, response.get_data())
-    response.set_etag(etag)
+            (body,) = compute([scenario], lists=as_csv)
+            SCENARIOS.labels("/v1/paths").inc()
+            if "status" in body:
+                raise ProblemError(body)
+            response = Response(paths_csv(body), mimetype=CSV) if as_csv else json_response(body)
+            cache.put(tag, response.get_data())
+        if as_csv:
+            attachment(response, f"paths-{sid[:12]}.csv")
+        return response
+
+    response = conditional(tag, produce)
     response.vary.add("Accept")
     return response
 
@@ -71,12 +72,30 @@ def post_paths() -> Response:
     summary="Many scenarios in one vectorised call; one result or one problem each, in order",
     request="BatchRequest",
     responses={
-        "200": {"description": "Results in request order.", "content": {"application/json": "BatchResponse"}},
-        **problem_responses("400", "413", "415", "422"),
+        "200": {
+            "description": "Results in request order (CSV: one row per value; a failed scenario has one "
+            "`problem` row).",
+            "content": {"application/json": "BatchResponse", "text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **problem_responses("400", "406", "413", "415", "422"),
     },
+    parameters=["If-None-Match", "Accept"],
 )
 def post_batch() -> Response:
-    envelope = load_request(_BATCH, read_json())
-    results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=False)
-    SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
-    return json_response({"results": results})
+    as_csv = negotiate(TABULAR) == CSV
+    raw = read_json()
+    tag = request_tag("/v1/paths/batch", raw, "csv" if as_csv else "json")
+
+    def produce() -> Response:
+        envelope = load_request(_BATCH, raw)
+        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_csv)
+        SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
+        if as_csv:
+            return attachment(Response(batch_csv(results), mimetype=CSV), f"batch-{tag[:12]}.csv")
+        return json_response({"results": results})
+
+    response = conditional(tag, produce)
+    response.vary.add("Accept")
+    return response

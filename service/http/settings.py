@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import os
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -42,6 +43,8 @@ class Settings:
     cache_bytes: int = 64 * 1024 * 1024
     #: Serve POST /benchmark/echo (parse and echo a JSON body): the benchmarks' floor.
     benchmark_echo: bool = False
+    #: Origins (scheme://host[:port], comma-separated, or *) whose pages may call the API; none = no CORS.
+    cors_origins: tuple[str, ...] = ()
 
     def as_log_dict(self) -> dict[str, Any]:
         """The effective settings, keys redacted."""
@@ -51,6 +54,9 @@ class Settings:
 
 
 _LEVELS = {"CRITICAL", "ERROR", "WARNING", "INFO", "DEBUG"}
+
+#: An origin as a browser sends it: scheme, host and optional port; no path, no trailing slash.
+_ORIGIN = re.compile(r"^https?://[A-Za-z0-9.-]+(:[0-9]{1,5})?$|^https?://\[[0-9A-Fa-f:.]+\](:[0-9]{1,5})?$")
 
 
 def _variable(name: str) -> str:
@@ -113,6 +119,11 @@ def load_settings(
     values["log_level"] = level
     if values["api_keys_file"]:
         values["api_keys"] = values["api_keys"] + _keys_from_file(values["api_keys_file"])
+    bad = [o for o in values["cors_origins"] if o != "*" and not _ORIGIN.match(o)]
+    if bad:
+        raise SettingsError(
+            f"{_variable('cors_origins')}: {bad[0]!r} is not an origin (scheme://host[:port], no path) or *"
+        )
     short = [k for k in values["api_keys"] if len(k) < 16]
     if short:
         raise SettingsError(f"{_variable('api_keys')}: every key must have at least 16 characters")

@@ -1,17 +1,26 @@
-"""POST /v1/bands and /v1/sensitivity: uncertain elasticities (service.uncertainty computes)."""
+"""POST /v1/bands and /v1/sensitivity: uncertain elasticities (service.uncertainty computes).
+
+Both answers are deterministic (bands draw from `seed`, 0 by default), so both carry an ETag
+and answer a matching If-None-Match with 304 before any draw.
+"""
 
 from __future__ import annotations
 
 from flask import Response, current_app, g
 
 from ..uncertainty import bands, sensitivity
+from .conditional import attachment, conditional, request_tag
+from .csvio import bands_csv
 from .documented import DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
+from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
 
 __all__ = ["blueprint"]
 
 blueprint = DocumentedBlueprint("uncertainty", __name__)
+
+_NOT_MODIFIED = {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]}
 
 
 @blueprint.operation(
@@ -22,19 +31,33 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     request="BandsRequest",
     responses={
         "200": {
-            "description": "Bands per policy and the central path.",
-            "content": {"application/json": "BandsResponse"},
+            "description": "Bands per policy and the central path (CSV: the bands in long form).",
+            "content": {"application/json": "BandsResponse", "text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
         },
-        **problem_responses("400", "413", "415", "422"),
+        "304": _NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
     },
+    parameters=["If-None-Match", "Accept"],
 )
 def post_bands() -> Response:
-    threads = current_app.extensions["shockpath.settings"].band_threads
-    body = bands(read_json(), threads=threads)
-    g.scenario_id = body["scenario_id"]
-    DRAWS.inc(body["draws"])
-    SCENARIOS.labels("/v1/bands").inc()
-    return json_response(body)
+    as_csv = negotiate(TABULAR) == CSV
+    raw = read_json()
+    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
+
+    def produce() -> Response:
+        threads = current_app.extensions["shockpath.settings"].band_threads
+        body = bands(raw, threads=threads)
+        g.scenario_id = body["scenario_id"]
+        DRAWS.inc(body["draws"])
+        SCENARIOS.labels("/v1/bands").inc()
+        if as_csv:
+            return attachment(Response(bands_csv(body), mimetype=CSV), f"bands-{tag[:12]}.csv")
+        return json_response(body)
+
+    response = conditional(tag, produce)
+    response.vary.add("Accept")
+    return response
 
 
 @blueprint.operation(
@@ -47,12 +70,21 @@ def post_bands() -> Response:
         "200": {
             "description": "Swings per input and policy.",
             "content": {"application/json": "SensitivityResponse"},
+            "headers": ["ETag"],
         },
-        **problem_responses("400", "413", "415", "422"),
+        "304": _NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
     },
+    parameters=["If-None-Match", "Accept"],
 )
 def post_sensitivity() -> Response:
-    body = sensitivity(read_json())
-    g.scenario_id = body["scenario_id"]
-    SCENARIOS.labels("/v1/sensitivity").inc(1 + 2 * len(body["inputs"]))
-    return json_response(body)
+    negotiate(JSON_ONLY)
+    raw = read_json()
+
+    def produce() -> Response:
+        body = sensitivity(raw)
+        g.scenario_id = body["scenario_id"]
+        SCENARIOS.labels("/v1/sensitivity").inc(1 + 2 * len(body["inputs"]))
+        return json_response(body)
+
+    return conditional(request_tag("/v1/sensitivity", raw, "json"), produce)

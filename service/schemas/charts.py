@@ -22,6 +22,12 @@ def _label(default: str, description: str) -> fields.String:
 class UnitsSchema(StrictSchema):
     currency = _label("money", "Currency label for prices and money, e.g. EUR.")
     quantity = _label("units", "Quantity label, e.g. homes.")
+    unit = _label("unit", "One unit, as prices are quoted per it, e.g. home.")
+    price_interval = _label(
+        "price interval",
+        "What a price pays for, e.g. month (a month's rent); the price axis reads "
+        "'<currency> per <unit> per <price_interval>'.",
+    )
     period = _label("period", "Model period label, e.g. year.")
 
 

@@ -44,3 +44,30 @@ def test_summed_shocks_at_minus_one_hundred_percent_point_at_the_first_shock():
         {"shifter": "income", "profile": "step", "change": -0.5, "start": 4},
     ]
     assert pointers(problem_of(request)) == ["/shocks/1"]
+
+
+def test_a_tax_that_fails_near_the_base_point_names_the_tax_not_the_linear_form():
+    request = validation_base()
+    request["policies"].append({"name": "huge levy", "kind": "unit_tax", "amount": 400.0, "start": 3})
+    detail = problem_of(request)["detail"]
+    assert "leaves zero or negative quantity or price in period 3" in detail
+    assert "choke price" in detail and "constant_elasticity" not in detail
+
+
+def test_a_ceiling_that_fails_as_cost_shocks_compound_blames_the_linear_form_and_suggests_the_other():
+    """Construction costs growing 4 % a period compound to +177 % by period 26: at the frozen base
+    rent the linear supply curve has passed zero although the free market is still positive."""
+    request = validation_base()
+    request["market"]["supply"]["shifters"] = {"cost": -0.6}
+    request["shocks"] = [{"shifter": "cost", "profile": "growth", "rate": 0.04}]
+    request["horizon"] = 40
+    request["policies"].append({"name": "rent freeze", "kind": "price_ceiling", "level": "base"})
+    problem = problem_of(request)
+    assert problem["type"] == "urn:shockpath:problem:infeasible-policy"
+    assert pointers(problem) == ["/policies/1/level"]
+    detail = problem["detail"]
+    assert f"in period {problem['period']}" in detail and "'rent freeze'" in detail
+    assert "compounded beyond the range of the linear (first-order) form" in detail
+    assert '"form": "constant_elasticity"' in detail and "choke price" not in detail
+    request["market"]["form"] = "constant_elasticity"
+    assert simulate(request)["summary"][1]["final_quantity"] > 0

@@ -2,20 +2,45 @@
 "use strict";
 
 const $ = (id) => document.getElementById(id);
-const state = { request: null, objectUrls: [], endpoint: "/v1/paths", endpoints: {} };
+const state = { request: {}, objectUrls: [], endpoint: "/v1/paths", endpoints: {}, demos: {} };
 const MAIN_VALUE = { price_ceiling: ["level", "growth"], price_floor: ["level"], quantity_cap: ["level"],
   unit_tax: ["amount"], unit_subsidy: ["amount"], ad_valorem_tax: ["rate"], none: [] };
-const SHOCK_VALUE = { step: "change", ramp: "change", growth: "rate", path: null };
+const SHOCK_VALUE = { step: ["change"], ramp: ["change", "periods"], growth: ["rate"], path: ["values"] };
+const SCHEDULE_VALUE = { linear: ["periods"], geometric: ["rate", "half_life"], explicit: ["elasticities"], stock: ["rate", "half_life", "depreciation"] };
+const CHOICES = {
+  form: ["linear", "constant_elasticity"], rationing: ["efficient", "random"], kind: Object.keys(MAIN_VALUE),
+  profile: Object.keys(SHOCK_VALUE), schedule: ["linear", "geometric", "explicit"],
+  distribution: ["normal", "uniform", "triangular"],
+};
+const BAND_KEYS = ["draws", "seed", "percentiles", "supply_correlation"];
+// The fields the README's first table names get the ids the page has always had.
+const IDS = { "/market/price": "f-price", "/market/quantity": "f-quantity", "/market/demand/price_elasticity": "f-eta",
+  "/market/supply/short_run_elasticity": "f-sr", "/market/supply/long_run_elasticity": "f-lr", "/horizon": "f-horizon" };
+const LABELS = { price: "Price per unit", quantity: "Quantity", payments_per_period: "Payments per period (default 12)",
+  form: "Curve form", price_elasticity: "Price elasticity (below 0)", short_run_elasticity: "Short-run elasticity",
+  long_run_elasticity: "Long-run elasticity", horizon: "Horizon (periods)", schedule: "Adjustment schedule",
+  periods: "Periods", rate: "Rate", half_life: "Half-life (periods)", elasticities: "Elasticities per period (comma-separated)",
+  depreciation: "Depreciation", start: "Start period (optional)", end: "End period (optional)", change: "Change (fraction)",
+  values: "Values per period (comma-separated)", shifter: "Shifter", profile: "Profile", name: "Name", kind: "Kind",
+  level: "Level (a price, or base)", growth: "Growth cap per period", amount: "Amount per unit",
+  coverage: "Coverage (share)", indexed: "Indexed (true or false)", rationing: "Rationing of a binding ceiling",
+  discount_rate: "Discount rate (a number, or JSON steps)", draws: "Draws", seed: "Seed",
+  percentiles: "Percentiles (comma-separated)", supply_correlation: "Supply correlation (optional)",
+  mean: "mean", sd: "sd", low: "low", high: "high", mode: "mode", distribution: "distribution" };
+
+const unescape = (k) => k.replace(/~1/g, "/").replace(/~0/g, "~");
+const escape = (k) => String(k).replace(/~/g, "~0").replace(/\//g, "~1");
 
 function getAt(obj, pointer) {
-  return pointer.split("/").slice(1).reduce((o, k) => (o == null ? undefined : o[k.replace(/~1/g, "/").replace(/~0/g, "~")]), obj);
+  return pointer.split("/").slice(1).reduce((o, k) => (o == null ? undefined : o[unescape(k)]), obj);
 }
 
 function setAt(obj, pointer, value) {
-  const keys = pointer.split("/").slice(1).map((k) => k.replace(/~1/g, "/").replace(/~0/g, "~"));
+  const keys = pointer.split("/").slice(1).map(unescape);
   let o = obj;
   for (const k of keys.slice(0, -1)) { if (o[k] == null) o[k] = {}; o = o[k]; }
-  o[keys[keys.length - 1]] = value;
+  const last = keys[keys.length - 1];
+  if (value === undefined) delete o[last]; else o[last] = value;
 }
 
 function asNumber(text) {
@@ -25,67 +50,211 @@ function asNumber(text) {
   return Number.isFinite(n) ? n : trimmed;  // a non-number goes through, for the server to point at
 }
 
-function field(id, label, pointer, value) {
+// How each kind of input turns its text into a request value (undefined: leave the field out).
+const PARSE = {
+  number: asNumber,
+  text: (t) => (t === "" ? undefined : t),
+  list: (t) => (t.trim() === "" ? undefined : t.split(",").map((x) => asNumber(x) ?? x)),
+  json: (t) => { if (t.trim() === "") return undefined; try { return JSON.parse(t); } catch (e) { return asNumber(t); } },
+  boolean: (t) => (t.trim() === "" ? undefined : t.trim() === "true" ? true : t.trim() === "false" ? false : t),
+};
+
+function shown(value, type) {
+  if (value == null) return "";
+  if (type === "list" && Array.isArray(value)) return value.join(", ");
+  if (typeof value === "object") return JSON.stringify(value);
+  return String(value);
+}
+
+function typeOf(key, value) {
+  if (["name", "shifter"].includes(key)) return "text";
+  if (key === "indexed") return "boolean";
+  if (Array.isArray(value) && value.every((v) => typeof v === "number")) return "list";
+  if (["values", "elasticities", "percentiles"].includes(key)) return "list";
+  if (key === "discount_rate" && typeof value === "object") return "json";
+  return "number";
+}
+
+let uid = 0;
+function input(pointer, key, value, label) {
   const wrap = document.createElement("div");
   wrap.className = "field";
   const l = document.createElement("label");
+  const id = IDS[pointer] || `f${(uid += 1)}`;
   l.htmlFor = id;
-  l.textContent = label;
-  const input = document.createElement("input");
-  input.id = id;
-  input.dataset.pointer = pointer;
-  input.inputMode = "decimal";
-  input.value = value == null ? "" : String(value);
-  wrap.append(l, input);
+  l.textContent = label || LABELS[key] || key.replace(/_/g, " ");
+  let control;
+  if (CHOICES[key]) {
+    control = document.createElement("select");
+    const options = CHOICES[key].includes(value) || value == null ? CHOICES[key] : [value, ...CHOICES[key]];
+    for (const c of options) { const o = document.createElement("option"); o.value = c; o.textContent = c.replace(/_/g, " "); control.append(o); }
+    control.value = value == null ? CHOICES[key][0] : value;
+    control.addEventListener("change", () => { setAt(state.request, pointer, control.value); restructure(pointer, key); });
+  } else {
+    control = document.createElement("input");
+    const type = typeOf(key, value);
+    control.dataset.type = type;
+    control.inputMode = type === "number" ? "decimal" : "text";
+    control.value = shown(value, type);
+    control.addEventListener("input", () => { setAt(state.request, pointer, PARSE[type](control.value)); syncJson(); });
+  }
+  control.id = id;
+  control.dataset.pointer = pointer;
+  wrap.append(l, control);
   return wrap;
 }
 
-function renderForm(request) {
-  for (const input of document.querySelectorAll("#scenario-form input[data-pointer]")) {
-    if (input.closest("#shock-fields, #policy-fields")) continue;
-    const v = getAt(request, input.dataset.pointer);
-    input.value = v == null || typeof v === "object" ? "" : String(v);
-    input.disabled = typeof v === "object" && v !== null;
+// A number or, for an uncertain elasticity, its distribution's parameters.
+function valueFields(container, pointer, key, value, label) {
+  if (value && typeof value === "object" && !Array.isArray(value)) {
+    for (const [k, v] of Object.entries(value)) {
+      container.append(input(`${pointer}/${escape(k)}`, k, v, `${label || LABELS[key] || key}: ${LABELS[k] || k}`));
+    }
+  } else {
+    container.append(input(pointer, key, value, label));
   }
+}
+
+function item(title, fields, onRemove) {
+  const box = document.createElement("div");
+  box.className = "item";
+  const h = document.createElement("h3");
+  h.textContent = title;
+  const grid = document.createElement("div");
+  grid.className = "grid";
+  grid.append(...fields);
+  box.append(h, grid);
+  if (onRemove) {
+    const b = document.createElement("button");
+    b.type = "button";
+    b.className = "remove";
+    b.textContent = `Remove ${title}`;
+    b.addEventListener("click", onRemove);
+    box.append(b);
+  }
+  return box;
+}
+
+function keyedFields(pointer, obj, order) {
+  const keys = [...new Set([...order, ...Object.keys(obj)])];
+  const out = document.createElement("div");
+  for (const k of keys) valueFields(out, `${pointer}/${escape(k)}`, k, obj[k]);
+  return [...out.children];
+}
+
+function renderForm(request) {
+  state.request = request;
+  const market = request.market || {};
+  const m = $("market-fields");
+  m.replaceChildren();
+  for (const k of ["price", "quantity", "payments_per_period", "form"]) valueFields(m, `/market/${k}`, k, market[k]);
+  for (const side of ["demand", "supply"]) {
+    const curve = market[side] || {};
+    const main = side === "demand" ? ["price_elasticity"] : ["short_run_elasticity", "long_run_elasticity"];
+    for (const k of main) valueFields(m, `/market/${side}/${k}`, k, curve[k], `${side === "demand" ? "Demand" : "Supply"} ${(LABELS[k] || k).toLowerCase()}`);
+    for (const [name, v] of Object.entries(curve.shifters || {})) {
+      valueFields(m, `/market/${side}/shifters/${escape(name)}`, name, v, `${side} elasticity to ${name.replace(/_/g, " ")}`);
+    }
+  }
+  for (const k of Object.keys(market)) {
+    if (!["price", "quantity", "payments_per_period", "form", "demand", "supply"].includes(k)) valueFields(m, `/market/${escape(k)}`, k, market[k]);
+  }
+  const t = $("time-fields");
+  t.replaceChildren();
+  valueFields(t, "/horizon", "horizon", request.horizon);
+  const adjustment = request.adjustment || { schedule: "linear" };
+  t.append(...keyedFields("/adjustment", adjustment, ["schedule", ...(SCHEDULE_VALUE[adjustment.schedule] || [])]));
+
   const shocks = $("shock-fields");
   shocks.replaceChildren();
   (request.shocks || []).forEach((s, i) => {
-    const key = SHOCK_VALUE[s.profile];
-    if (key) shocks.append(field(`s-${i}`, `${s.shifter} (${s.profile}) ${key}`, `/shocks/${i}/${key}`, s[key]));
+    const order = ["shifter", "profile", ...(SHOCK_VALUE[s.profile] || []), ...(s.profile === "path" ? [] : ["start"])];
+    shocks.append(item(`shock ${i + 1} (${s.shifter})`, keyedFields(`/shocks/${i}`, s, order)));
   });
-  if (!shocks.children.length) shocks.textContent = "No shock the form can edit; see the whole request.";
+  if (!shocks.children.length) shocks.textContent = "No shocks.";
+
   const policies = $("policy-fields");
   policies.replaceChildren();
   (request.policies || []).forEach((p, i) => {
-    const key = (MAIN_VALUE[p.kind] || []).find((k) => k in p);
-    if (key && p[key] !== "base") {
-      policies.append(field(`p-${i}`, `${p.name}: ${p.kind.replace(/_/g, " ")} ${key}`, `/policies/${i}/${key}`, p[key]));
-    } else {
-      const note = document.createElement("p");
-      note.textContent = `${p.name}: ${p.kind.replace(/_/g, " ")}${p.level === "base" ? " at the base price" : ""}`;
-      policies.append(note);
-    }
+    const main = (MAIN_VALUE[p.kind] || []).filter((k) => k in p);
+    const order = ["name", "kind", ...(main.length ? main : (MAIN_VALUE[p.kind] || []).slice(0, 1)), "start", "end"];
+    policies.append(item(`policy ${i + 1}: ${p.name}`, keyedFields(`/policies/${i}`, p, order), () => {
+      state.request.policies.splice(i, 1);
+      renderForm(state.request);
+    }));
   });
-  $("request-json").value = JSON.stringify(request, null, 2);
+
+  const welfare = request.welfare || {};
+  const w = $("welfare-fields");
+  w.replaceChildren(...keyedFields("/welfare", welfare, ["rationing", "discount_rate"]));
+
+  const bands = endpointFor(request) === "/v1/bands";
+  $("uncertainty-fieldset").hidden = !bands;
+  const u = $("uncertainty-fields");
+  u.replaceChildren();
+  if (bands) for (const k of BAND_KEYS) valueFields(u, `/${k}`, k, request[k]);
+  syncJson();
+}
+
+// A choice that changes which fields exist (a policy's kind, a shock's profile, the schedule).
+function restructure(pointer, key) {
+  const parent = pointer.split("/").slice(0, -1).join("/");
+  const obj = getAt(state.request, parent);
+  const price = Number(getAt(state.request, "/market/price")) || 100;
+  const quantity = Number(getAt(state.request, "/market/quantity")) || 1000;
+  const round = (x) => Number(x.toPrecision(3));
+  if (key === "kind") {
+    for (const k of ["level", "growth", "amount", "rate"]) delete obj[k];
+    Object.assign(obj, { price_ceiling: { level: "base" }, price_floor: { level: round(price * 1.1) },
+      quantity_cap: { level: round(quantity * 0.98) }, unit_tax: { amount: round(price * 0.05) },
+      unit_subsidy: { amount: round(price * 0.05) }, ad_valorem_tax: { rate: 0.05 }, none: {} }[obj.kind]);
+  } else if (key === "profile") {
+    for (const k of ["change", "rate", "values", "periods", "start"]) delete obj[k];
+    Object.assign(obj, { step: { change: 0.05 }, ramp: { change: 0.05, periods: 3 }, growth: { rate: 0.02 }, path: { values: [0.05] } }[obj.profile]);
+  } else if (key === "schedule") {
+    for (const k of ["periods", "rate", "half_life", "elasticities", "depreciation"]) delete obj[k];
+    Object.assign(obj, { linear: { periods: 8 }, geometric: {}, explicit: { elasticities: [0.1, 0.5, 1.0] } }[obj.schedule]);
+  }
+  renderForm(state.request);
+}
+
+function addPolicy() {
+  const policies = (state.request.policies = state.request.policies || []);
+  const names = new Set(policies.map((p) => p.name));
+  let n = policies.length + 1;
+  while (names.has(`policy ${n}`)) n += 1;
+  policies.push({ name: `policy ${n}`, kind: "price_ceiling", level: "base" });
+  renderForm(state.request);
+  $("policy-fields").lastElementChild.querySelector("input").focus();
+}
+
+function syncJson() {
+  $("request-json").value = JSON.stringify(state.request, null, 2);
+}
+
+function hasDistribution(value) {
+  if (value == null || typeof value !== "object") return false;
+  if (!Array.isArray(value) && "distribution" in value) return true;
+  return Object.values(value).some(hasDistribution);
+}
+
+// The request decides the endpoint: distributions or band settings make it a bands request.
+function endpointFor(request) {
+  return BAND_KEYS.some((k) => k in request) || hasDistribution(request.market) ? "/v1/bands" : "/v1/paths";
 }
 
 function requestFromForm() {
-  let request;
   try {
-    request = JSON.parse($("request-json").value);
+    return JSON.parse($("request-json").value);
   } catch (e) {
     throw new Error(`The whole request is not valid JSON: ${e.message}`);
   }
-  for (const input of document.querySelectorAll("#scenario-form input[data-pointer]")) {
-    if (input.disabled) continue;
-    const value = asNumber(input.value);
-    if (value !== undefined) setAt(request, input.dataset.pointer, value);
-  }
-  return request;
 }
 
 function units() {
-  return { currency: $("u-currency").value || "money", quantity: $("u-quantity").value || "units", period: $("u-period").value || "period" };
+  return { currency: $("u-currency").value || "money", quantity: $("u-quantity").value || "units",
+    unit: $("u-unit").value || "unit", price_interval: $("u-interval").value || "price interval",
+    period: $("u-period").value || "period" };
 }
 
 function clearErrors() {
@@ -138,6 +307,10 @@ function showResults(body, text) {
     th.className = "range";
     const keys = body.percentiles.map(String);
     th.textContent = `Discounted deadweight loss, ${keys[0]}th to ${keys[keys.length - 1]}th percentile`;
+    const unit = document.createElement("span");
+    unit.className = "unit";
+    unit.textContent = "money, per model period, summed and discounted";
+    th.append(unit);
     head.append(th);
   }
   const tbody = document.querySelector("#summary tbody");
@@ -145,7 +318,8 @@ function showResults(body, text) {
   summary.forEach((s, i) => {
     const tr = document.createElement("tr");
     const cells = [s.name, fmt.format(s.discounted_deadweight_loss), fmt.format(s.peak_shortage),
-      fmt2.format(s.final_consumer_price), String(s.binding_periods)];
+      fmt2.format(s.final_consumer_price), fmt.format(s.final_quantity), fmt.format(s.total_consumer_surplus_change),
+      fmt.format(s.total_producer_surplus_change), fmt.format(s.total_government_revenue), String(s.binding_periods)];
     if (bands) {
       const q = body.bands[i].summary.discounted_deadweight_loss;
       const keys = Object.keys(q).sort((a, b) => Number(a) - Number(b));
@@ -155,8 +329,8 @@ function showResults(body, text) {
     tbody.append(tr);
   });
   $("summary").querySelector("caption").textContent = bands
-    ? `At the central elasticities, with the spread over ${fmt.format(body.draws)} draws (money per model period, summed)`
-    : "Per policy over the horizon (money per model period, summed)";
+    ? `Per policy over the horizon, at the central elasticities, with the spread over ${fmt.format(body.draws)} draws`
+    : "Per policy over the horizon";
   $("summary").hidden = false;
   const list = $("cautions");
   list.replaceChildren(...body.cautions.map((c) => { const li = document.createElement("li"); li.textContent = c; return li; }));
@@ -164,7 +338,7 @@ function showResults(body, text) {
   for (const url of state.objectUrls) URL.revokeObjectURL(url);
   state.objectUrls = [URL.createObjectURL(new Blob([text], { type: "application/json" }))];
   $("download-json").href = state.objectUrls[0];
-  $("download-csv").hidden = bands;
+  $("download-csv").download = bands ? "bands.csv" : "paths.csv";
   $("downloads").hidden = false;
   const periods = (bands ? body.central.periods : body.periods).length - 1;
   $("status").textContent = `Computed ${summary.length} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
@@ -185,7 +359,7 @@ async function drawChart(request, scenarioId) {
 }
 
 async function csvLink(request) {
-  const response = await fetch("/v1/paths", {
+  const response = await fetch(state.endpoint, {
     method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request),
   });
   if (response.ok) {
@@ -212,35 +386,45 @@ async function run(event) {
   delete $("chart").dataset.scenario;
   $("summary").hidden = true;
   $("downloads").hidden = true;
+  state.endpoint = endpointFor(request);
   const response = await fetch(state.endpoint, {
     method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request),
   });
   const text = await response.text();
   const body = JSON.parse(text);
   if (!response.ok) { showProblem(body); return; }
-  state.request = request;
-  $("request-json").value = JSON.stringify(request, null, 2);
   showResults(body, text);
   $("results").dataset.scenario = body.scenario_id;
-  const work = [drawChart(request, body.scenario_id)];
-  if (state.endpoint === "/v1/paths") work.push(csvLink(request));
-  await Promise.all(work);
+  $("results").dataset.endpoint = state.endpoint;
+  await Promise.all([drawChart(request, body.scenario_id), csvLink(request)]);
 }
 
 async function loadDemo() {
   const name = $("demo").value;
-  state.endpoint = state.endpoints[name] || "/v1/paths";
+  if (!name) return;
   const response = await fetch(`/v1/examples/${encodeURIComponent(name)}`);
-  state.request = await response.json();
+  const request = await response.json();
+  state.demos[name] = JSON.stringify(request);
   clearErrors();
-  renderForm(state.request);
+  renderForm(request);
   $("status").textContent = `Loaded ${name}. Change inputs, then run it.`;
+}
+
+// After a paste the picker names the demo the request is, or says it is the caller's own.
+function updatePicker(request) {
+  const text = JSON.stringify(request);
+  const match = Object.keys(state.demos).find((name) => state.demos[name] === text);
+  $("demo").value = match || "";
 }
 
 async function start() {
   const response = await fetch("/v1/examples");
   const { examples } = await response.json();
   const select = $("demo");
+  const own = document.createElement("option");
+  own.value = "";
+  own.textContent = "Your own request (pasted or edited)";
+  select.append(own);
   for (const e of examples) {
     const option = document.createElement("option");
     option.value = e.name;
@@ -248,11 +432,17 @@ async function start() {
     state.endpoints[e.name] = e.endpoint;
     select.append(option);
   }
+  select.value = examples.length ? examples[0].name : "";
   $("load-demo").addEventListener("click", loadDemo);
+  $("add-policy").addEventListener("click", addPolicy);
   $("scenario-form").addEventListener("submit", run);
-  // Editing the JSON by hand refreshes the form fields.
+  // Pasting or editing the JSON by hand redraws the form and the picker.
   $("request-json").addEventListener("change", () => {
-    try { renderForm(JSON.parse($("request-json").value)); } catch (e) { /* shown on run */ }
+    let request;
+    try { request = JSON.parse($("request-json").value); } catch (e) { return; /* shown on run */ }
+    clearErrors();
+    renderForm(request);
+    updatePicker(request);
   });
   await loadDemo();
 }
