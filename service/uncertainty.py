@@ -89,6 +89,21 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                     errors=[{"pointer": f"/policies/{p}", "message": "infeasible in every draw"}],
                 )
             )
+        if not (np.isfinite(arrays.series[p]).all() and np.isfinite(arrays.summary[p]).all()):
+            # Bands are kept in float32 (about 3.4e38 at most): a draw can pass that where the
+            # path itself (float64) does not, e.g. a discount rate near -100 % over many periods.
+            raise ProblemError(
+                problem(
+                    422,
+                    "The model's numbers leave the representable range",
+                    f"policy '{policy.name}' produces band values beyond 3.4e38 in some draw; "
+                    "reduce the horizon, the shocks or the size of a negative discount rate",
+                    "non-finite-result",
+                    errors=[
+                        {"pointer": f"/policies/{p}", "message": "band values beyond the representable range"}
+                    ],
+                )
+            )
     keys = [_key(q) for q in req.percentiles]
     out_bands = []
     for p, policy in enumerate(req.scenario.policies):

@@ -76,3 +76,14 @@ def test_bad_distributions_point_at_their_fields(client):
         "/market/demand/price_elasticity/distribution",
         "/market/supply/long_run_elasticity/mode",
     ]
+
+
+def test_band_values_beyond_float32_are_a_422_not_a_null(client):
+    """A discount rate near -100 % over 40 periods makes discounted losses pass 3.4e38, the
+    most a band (kept in float32) can hold: the answer is a problem, never a non-number."""
+    request = example_request("quillbrook-uncertain-elasticities")
+    request.update(horizon=40, draws=500)
+    request["welfare"]["discount_rate"] = -0.995
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 422
+    assert response.get_json()["type"].endswith("non-finite-result")
