@@ -10,7 +10,7 @@ from ..schemas.charts import ChartRequestSchema
 from ..simulation import simulate_many
 from ..uncertainty import bands, sensitivity
 from .conditional import conditional, request_tag
-from .documented import DocumentedBlueprint, problem_responses
+from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import read_json
 from .negotiation import negotiate
 
@@ -73,7 +73,7 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
             },
             "headers": ["ETag"],
         },
-        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
         "503": {"description": "The charts extra (matplotlib) is not installed.", "problem": True},
     },

@@ -26,6 +26,10 @@ _PROBLEMS = {
 }
 
 
+#: The documented 304 of an operation that answers conditional requests (If-None-Match).
+NOT_MODIFIED = {"304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]}}
+
+
 def problem_responses(*codes: str) -> dict[str, Any]:
     """The documented problem responses of the common statuses."""
     return {code: {"description": _PROBLEMS[code], "problem": True} for code in codes}

@@ -7,7 +7,7 @@ from flask import Response, url_for
 from ..examples import example_request, examples
 from ..problems import ProblemError, problem
 from .conditional import conditional, request_tag
-from .documented import DocumentedBlueprint
+from .documented import NOT_MODIFIED, DocumentedBlueprint
 from .jsonio import json_response
 from .negotiation import negotiate
 
@@ -28,7 +28,7 @@ blueprint = DocumentedBlueprint("examples", __name__)
             "content": {"application/json": "ExampleList"},
             "headers": ["ETag"],
         },
-        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **NOT_MODIFIED,
         "406": {"description": "Only application/json can be answered.", "problem": True},
     },
 )
@@ -61,7 +61,7 @@ def list_examples() -> Response:
             "content": {"application/json": "ExampleRequest"},
             "headers": ["ETag"],
         },
-        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **NOT_MODIFIED,
         "404": {"description": "No such example.", "problem": True},
         "406": {"description": "Only application/json can be answered.", "problem": True},
     },

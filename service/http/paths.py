@@ -9,7 +9,7 @@ from ..schemas.paths import BatchRequestSchema
 from ..simulation import compute, load_scenario, scenario_id, simulate_many
 from .conditional import attachment, conditional, request_tag
 from .csvio import batch_csv, paths_csv
-from .documented import DocumentedBlueprint, problem_responses
+from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
 from .negotiation import CSV, TABULAR, negotiate
@@ -33,7 +33,7 @@ _BATCH = BatchRequestSchema()
             "content": {"application/json": "PathsResponse", "text/csv": "csv"},
             "headers": ["ETag", "Content-Disposition"],
         },
-        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
     parameters=["If-None-Match", "Accept"],
@@ -78,7 +78,7 @@ def post_paths() -> Response:
             "content": {"application/json": "BatchResponse", "text/csv": "csv"},
             "headers": ["ETag", "Content-Disposition"],
         },
-        "304": {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]},
+        **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
     parameters=["If-None-Match", "Accept"],

@@ -11,7 +11,7 @@ from flask import Response, current_app, g
 from ..uncertainty import bands, sensitivity
 from .conditional import attachment, conditional, request_tag
 from .csvio import bands_csv
-from .documented import DocumentedBlueprint, problem_responses
+from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
@@ -19,8 +19,6 @@ from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
 __all__ = ["blueprint"]
 
 blueprint = DocumentedBlueprint("uncertainty", __name__)
-
-_NOT_MODIFIED = {"description": "Not modified: If-None-Match matched the ETag.", "headers": ["ETag"]}
 
 
 @blueprint.operation(
@@ -35,7 +33,7 @@ _NOT_MODIFIED = {"description": "Not modified: If-None-Match matched the ETag.",
             "content": {"application/json": "BandsResponse", "text/csv": "csv"},
             "headers": ["ETag", "Content-Disposition"],
         },
-        "304": _NOT_MODIFIED,
+        **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
     parameters=["If-None-Match", "Accept"],
@@ -72,7 +70,7 @@ def post_bands() -> Response:
             "content": {"application/json": "SensitivityResponse"},
             "headers": ["ETag"],
         },
-        "304": _NOT_MODIFIED,
+        **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
     parameters=["If-None-Match", "Accept"],

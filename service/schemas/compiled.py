@@ -102,12 +102,8 @@ def _with_validators(field: fields.Field, load: Loader) -> Loader:
     if load is _real:
 
         def checked_real(value):
-            kind = type(value)
-            if kind is float:
-                if value - value == 0.0 and check(value):  # finite (inf - inf and NaN are NaN)
-                    return value
-                raise _REJECT
-            out = _real(value)
+            # A finite float (inf - inf and NaN give NaN) skips _real's type dispatch.
+            out = value if type(value) is float and value - value == 0.0 else _real(value)
             if not check(out):
                 raise _REJECT
             return out
