@@ -98,8 +98,8 @@ def solve(
 ) -> PathArrays:
     """Compute every path of every policy row of the batch.
 
-    `series` names the only series to keep (then `outcome` and `welfare` are None and the
-    series are read from `series`); `alternate=False` skips the other curve form's free path
+    `series` names the only series to keep (`outcome` and `welfare` are None unless it holds
+    all of theirs; read the series with `named`); `alternate=False` skips the other curve form's free path
     (used only by the cautions); `band` is passed to kernel.policy_paths (bands write their
     series straight into the percentile buffer).
     """
@@ -205,7 +205,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     s_of = rows.scenario
     row_valid = valid[s_of]
     outcome = welfare = None
-    if series is None:
+    if _OUTCOME_SERIES.issubset(index):
         outcome, welfare = _outcome_and_welfare(values, index, flags)
     infeasible = flags[:, 2] & row_valid
     binding = flags[:, 0]
@@ -241,6 +241,9 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
 
 
 _FLAGS = ("binding", "rationed")
+_OUTCOME_SERIES = frozenset(
+    [f.name for f in fields(Outcome) if f.name not in _FLAGS] + [f.name for f in fields(WelfareChange)]
+)
 
 
 def _outcome_and_welfare(values, index, flags) -> tuple[Outcome, WelfareChange]:

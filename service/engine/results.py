@@ -41,6 +41,8 @@ __all__ = [
 #: The per-period series of every policy path, in response order: the kernel's first sixteen
 #: series with `binding` after the marginal cost.
 SERIES = (*tuple(SERIES_INDEX)[:9], "binding", *tuple(SERIES_INDEX)[9:16])
+#: The series solve keeps for an answer: every reported one but the `binding` flags.
+_REPORTED = tuple(SERIES_INDEX)[:16]
 
 _POLICY_FIELD = {
     "price_ceiling": "level",
@@ -215,7 +217,7 @@ def solve_scenarios(
     if not scenarios:
         return []
     batch, rows = pack(scenarios)
-    arrays = solve(batch, rows)
+    arrays = solve(batch, rows, series=_REPORTED)
     return assemble(scenarios, batch, rows, arrays, as_lists)
 
 
@@ -246,7 +248,7 @@ def assemble(
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
     float_series = [name for name in SERIES if name != "binding"]
-    block = arrays.series[:, [arrays.series_names.index(name) for name in float_series], :]
+    block = arrays.series  # solve kept exactly float_series (_REPORTED), in this order
     binding = arrays.binding
     if as_lists:  # one conversion for the whole batch, far faster than array by array
         block, binding = block.tolist(), binding.tolist()
