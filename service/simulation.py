@@ -9,6 +9,7 @@ body or one problem document per request, in order.
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import gc
 import hashlib
 from collections.abc import Sequence
@@ -55,10 +56,28 @@ def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
     orjson writes the frozen dataclasses field by field in a fixed order (dict keys sorted),
     so equal scenarios give equal bytes.
     """
-    canonical = orjson.dumps(
-        {"model_version": engine.MODEL_VERSION, "scenario": scenario, **extra}, option=orjson.OPT_SORT_KEYS
-    )
+    canonical = orjson.dumps(_canonical({"model_version": engine.MODEL_VERSION, "scenario": scenario, **extra}))
     return hashlib.sha256(canonical).hexdigest()
+
+
+def _canonical(value: Any) -> Any:
+    """The value as orjson writes it with OPT_SORT_KEYS (dataclasses field by field in their
+    order, dict keys sorted), except that the additions of MODEL.md 12-15 at their defaults
+    (engine.ADDITION_DEFAULTS) are left out: ids of requests without them are unchanged."""
+    if isinstance(value, dict):
+        return {k: _canonical(value[k]) for k in sorted(value)}
+    if isinstance(value, (list, tuple)):
+        return [_canonical(v) for v in value]
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        defaults = engine.ADDITION_DEFAULTS.get(type(value), {})
+        out = {}
+        for f in dataclasses.fields(value):
+            v = getattr(value, f.name)
+            if f.name in defaults and v == defaults[f.name]:
+                continue
+            out[f.name] = _canonical(v)
+        return out
+    return value
 
 
 def render(
@@ -73,18 +92,36 @@ def render(
     def out(a):
         return a.tolist() if lists and not isinstance(a, list) else a
 
-    return {
+    body: dict[str, Any] = {
         "scenario_id": sid,
         "model_version": engine.MODEL_VERSION,
         "periods": list(range(result.horizon + 1)),
         "supply_elasticity": out(result.supply_elasticity),
-        "reduced_form": result.reduced_form,
-        "paths": [
-            {"name": p.name, "kind": p.kind, **{k: out(v) for k, v in p.series.items()}} for p in result.paths
-        ],
-        "summary": [dict(s.__dict__) for s in result.summary],
-        "cautions": list(result.cautions),
     }
+    if result.price_index is not None:
+        body["price_index"] = out(result.price_index)
+    body["reduced_form"] = result.reduced_form
+    body["paths"] = [_path_body(p, out) for p in result.paths]
+    body["summary"] = [_summary_body(s) for s in result.summary]
+    body["cautions"] = list(result.cautions)
+    return body
+
+
+def _path_body(path: engine.PolicyPath, out) -> dict[str, Any]:
+    distribution = path.distribution
+    return {
+        "name": path.name,
+        "kind": path.kind,
+        **{k: out(v) for k, v in path.series.items()},
+        "distribution": None if distribution is None else {k: out(v) for k, v in distribution.items()},
+    }
+
+
+def _summary_body(summary: engine.PolicySummary) -> dict[str, Any]:
+    body = dict(summary.__dict__)
+    if body["final_homes_below_free_path"] is None:  # only under the stock schedule
+        del body["final_homes_below_free_path"], body["peak_homes_below_free_path"]
+    return body
 
 
 def compute(

@@ -18,6 +18,7 @@ from .kernel import warm_up
 from .paths import PathArrays, solve
 from .results import SERIES, PolicyPath, PolicySummary, ScenarioResult, assemble, solve_scenarios
 from .scenario import (
+    ADDITION_DEFAULTS,
     Adjustment,
     DiscountStep,
     Market,
@@ -30,6 +31,7 @@ from .scenario import (
 MODEL_VERSION = "1.0.0"
 
 __all__ = [
+    "ADDITION_DEFAULTS",
     "MODEL_VERSION",
     "SERIES",
     "Adjustment",

@@ -39,11 +39,15 @@ class ScenarioBatch:
     shock_out_of_range: np.ndarray  # (n or 1, m) bool: a growth path passed MAX_SHIFTER_CHANGE
     schedule: np.ndarray  # (n,) SCHEDULE_CODES
     schedule_periods: np.ndarray  # (n,) K of a linear schedule
-    schedule_rate: np.ndarray  # (n,) lambda; 0 = Nerlove default eps_SR / eps_LR
+    schedule_rate: np.ndarray  # (n,) lambda (geometric or stock); 0 = Nerlove default eps_SR / eps_LR
+    stock: np.ndarray  # (n,) bool: the durable-stock schedule (MODEL.md 13)
+    floor_share: np.ndarray  # (n,) 1 - depreciation: the stock never falls below this share; 0 = no floor
     explicit_elasticity: np.ndarray  # (n or 1, T+1) eps_t of an explicit schedule
     horizon: np.ndarray  # (n,) T of each scenario
     random_rationing: np.ndarray  # (n,) bool
     discount_rate: np.ndarray  # (n or 1, T+1) rate per model period, column 0 unused
+    inflation: np.ndarray  # (n or 1, T+1) general inflation pi_t per model period, column 0 = 0
+    has_inflation: np.ndarray  # (n,) bool: the request gave market.inflation (not 0)
 
     @property
     def size(self) -> int:
@@ -64,6 +68,8 @@ class PolicyRows:
     value: np.ndarray  # (R,) level, growth, amount or rate by kind
     start: np.ndarray  # (R,) first active period
     end: np.ndarray  # (R,) last active period
+    indexed: np.ndarray  # (R,) bool: a money rule that moves with prices (MODEL.md 12)
+    coverage: np.ndarray  # (R,) share of homes a ceiling covers (MODEL.md 14); 1 elsewhere
 
     @property
     def size(self) -> int:
@@ -108,6 +114,19 @@ def _discount_rates(scenarios: Sequence[Scenario], periods: int) -> np.ndarray:
     return rates
 
 
+def _per_period(values: Sequence[float | tuple[float, ...]], periods: int) -> np.ndarray:
+    """(n, T+1) rates of periods 1..T from a number or a list of per-period rates (the last
+    holds); column 0 is 0."""
+    flat = np.array([v[-1] if isinstance(v, tuple) else float(v) for v in values])
+    rates = np.repeat(flat[:, None], periods, axis=1)
+    rates[:, 0] = 0.0
+    for i, v in enumerate(values):  # copies numbers only
+        if isinstance(v, tuple):
+            width = min(len(v), periods - 1)
+            rates[i, 1 : 1 + width] = v[:width]
+    return rates
+
+
 def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
     """Copy the scenarios' numbers into arrays; no model computation beyond shock paths."""
     n = len(scenarios)
@@ -122,6 +141,7 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
     schedule = np.zeros(n, dtype=np.int64)
     schedule_periods = np.zeros(n)
     schedule_rate = np.zeros(n)
+    floor_share = np.zeros(n)
     for i, s in enumerate(scenarios):
         market = s.market
         index = {name: j for j, name in enumerate(names[i])}
@@ -139,6 +159,8 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
             schedule_rate[i] = adj.rate
         elif adj.half_life is not None:
             schedule_rate[i] = -math.expm1(math.log(0.5) / adj.half_life)  # rate_from_half_life
+        if adj.depreciation is not None:
+            floor_share[i] = 1.0 - adj.depreciation
         if code == SCHEDULE_CODES["explicit"]:
             values = np.asarray(adj.elasticities[: periods - 1], dtype=float)
             explicit[i, 1 : 1 + values.size] = values
@@ -186,6 +208,10 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         horizon=np.array([s.horizon for s in scenarios], dtype=np.int64),
         random_rationing=np.array([s.welfare.rationing == "random" for s in scenarios]),
         discount_rate=_discount_rates(scenarios, periods),
+        stock=schedule == SCHEDULE_CODES["stock"],
+        floor_share=floor_share,
+        inflation=_per_period([s.market.inflation for s in scenarios], periods),
+        has_inflation=np.array([s.market.inflation != 0.0 for s in scenarios]),
     )
     flat = [(i, p) for i, s in enumerate(scenarios) for p in s.policies]
     big = np.iinfo(np.int64).max
@@ -195,5 +221,7 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         value=np.array([_policy_value(p, scenarios[i].market.price) for i, p in flat], dtype=float),
         start=np.array([p.start for _, p in flat], dtype=np.int64),
         end=np.array([big if p.end is None else p.end for _, p in flat], dtype=np.int64),
+        indexed=np.array([p.indexed for _, p in flat], dtype=bool),
+        coverage=np.array([p.coverage for _, p in flat], dtype=float),
     )
     return batch, rows

@@ -37,6 +37,9 @@ def scenario_cautions(
     ceiling_binds: bool,
     random_rationing: bool,
     never_binding: list[str],
+    inflation: bool = False,
+    stock: bool = False,
+    partial_binds: bool = False,
 ) -> list[str]:
     """Sentences for one scenario; gaps are |other form / this form - 1| at their worst period."""
     out: list[str] = []
@@ -63,6 +66,33 @@ def scenario_cautions(
         out.append(
             "Binding price ceilings ration units at random among willing buyers; the misallocation "
             "loss is included in the deadweight loss and in the consumers' loss."
+        )
+    if partial_binds:
+        out.append(
+            "A ceiling that covers only part of the homes raises the rents of uncontrolled homes: "
+            "households without a controlled home bid for them (Fallis & Smith 1984, American "
+            "Economic Review 74(1)). Controlled homes are assumed to go to the households who value "
+            "them most, so the loss shown is a lower bound."
+        )
+    if random_rationing:
+        out.append(
+            "Who gains and who loses (distribution) is not reported under random rationing: the "
+            "split between households who are drawn for a controlled home and those who are not is "
+            "not tracked by the model; only the aggregate surplus changes are given."
+        )
+    if inflation:
+        out.append(
+            "With inflation, price ceilings and floors, growth caps, unit taxes and subsidies are "
+            "nominal rules (fixed in money of the day unless indexed), so their real value falls "
+            "over time. Every price is in real money of period 0 (nominal prices: the real price "
+            "times price_index); welfare is real and the discount rate is a real rate."
+        )
+    if stock:
+        out.append(
+            "Under the stock schedule homes not built stay missing after a policy ends "
+            "(homes_below_free_path). The deadweight loss counts only each period's loss against "
+            "that period's free market on the same stock, so the full cost of homes never built is "
+            "larger than the within-period deadweight loss shown."
         )
     if never_binding:
         names = ", ".join(f"'{n}'" for n in never_binding)

@@ -91,6 +91,8 @@ SERIES_INDEX = {
             "government",
             "free_price",
             "free_quantity",
+            "homes_below_free_path",
+            "rent_above_free_path",
         )
     )
 }
@@ -117,6 +119,8 @@ SUMMARY_INDEX = {
             "total_owners_of_uncontrolled_homes",
             "total_government",
             "non_finite",
+            "final_homes_below_free_path",
+            "peak_homes_below_free_path",
         )
     )
 }
@@ -787,6 +791,9 @@ def _row_kernel(
             cell[25] = g_gov
             cell[26] = p_star
             cell[27] = q_star
+            # Against the free path (its own stock history), not this path's free point.
+            cell[28] = free[i, 1, t] - q
+            cell[29] = pc - free[i, 0, t]
             for j in range(cell.shape[0]):
                 if column[j] >= 0:
                     out[r, column[j], t] = cell[j]
@@ -815,7 +822,10 @@ def _row_kernel(
             total[13] += g_oc
             total[14] += g_ou
             total[15] += g_gov
+            if cell[28] > total[18]:
+                total[18] = cell[28]
             if t == horizon[i]:
+                total[17] = cell[28]
                 total[0] = cumulative
                 total[1] = discounted
                 total[5] = pc
@@ -898,7 +908,7 @@ def policy_paths(
 # --- inputs of the period pass: shock paths, supply elasticity over time, discounting -------
 
 _STEP, _RAMP, _GROWTH, _PATH = range(4)
-_CONSTANT, _LINEAR_SCHEDULE, _GEOMETRIC, _EXPLICIT = range(4)
+_CONSTANT, _LINEAR_SCHEDULE, _GEOMETRIC, _EXPLICIT, _STOCK = range(5)
 
 
 @njit(**_JIT)
@@ -966,7 +976,7 @@ def _prepare_kernel(
         code = schedule[i]
         rate = schedule_rate[i]
         undefined[i] = False
-        if code == _GEOMETRIC and rate <= 0.0:
+        if (code == _GEOMETRIC or code == _STOCK) and rate <= 0.0:
             if sr[i] > 0.0 and sr[i] <= lr[i]:
                 rate = sr[i] / lr[i]  # Nerlove (1958): eps_SR = lambda eps_LR
             else:

@@ -28,7 +28,7 @@ from .batch import PolicyRows, ScenarioBatch
 from .policies import Outcome, is_ceiling
 from .welfare import WelfareChange
 
-__all__ = ["PathArrays", "solve"]
+__all__ = ["PathArrays", "price_index", "solve"]
 
 
 @dataclass(frozen=True)
@@ -108,11 +108,13 @@ def solve(
 
 
 def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
-    """The kernel's input arrays. The kernel also takes inflation (a price index), a durable
-    stock and partial coverage (MODEL.md sections 12-14; tests/engine/test_kernel_additions.py
-    checks them against the scalar reference); requests cannot ask for them yet, so they are
-    neutral here: no inflation, no stock, full coverage, nothing indexed."""
+    """The kernel's input arrays, with inflation (a price index), the durable stock and
+    partial coverage (MODEL.md sections 12-14)."""
     n, periods = batch.size, batch.periods
+    inflation = np.ascontiguousarray(np.broadcast_to(batch.inflation, (n, periods)))
+    sr, lr = batch.short_run_elasticity, batch.long_run_elasticity
+    with np.errstate(divide="ignore", invalid="ignore"):
+        nerlove = np.where((sr > 0.0) & (sr <= lr), sr / lr, 1.0)  # eps_SR = lambda eps_LR
     arrays = {
         "price": batch.price,
         "quantity": batch.quantity,
@@ -121,14 +123,14 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
         "eps": eps,
         "shifts": shifts,
         "horizon": batch.horizon,
-        "stock": np.zeros(n, dtype=bool),
-        "stock_rate": np.ones(n),
-        "floor_share": np.zeros(n),
-        "long_run_elasticity": batch.long_run_elasticity,
+        "stock": batch.stock,
+        "stock_rate": np.where(batch.schedule_rate > 0.0, batch.schedule_rate, nerlove),
+        "floor_share": batch.floor_share,
+        "long_run_elasticity": lr,
         "random_rationing": batch.random_rationing,
         "discount_factor": factor,
-        "price_index": np.ones((n, periods)),
-        "inflation": np.zeros((n, periods)),
+        "price_index": price_index(inflation),
+        "inflation": inflation,
     }
     policy = {
         "scenario": rows.scenario,
@@ -136,10 +138,18 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
         "value": rows.value,
         "start": rows.start,
         "end": rows.end,
-        "indexed": np.zeros(rows.size, dtype=bool),
-        "coverage": np.ones(rows.size),
+        "indexed": rows.indexed,
+        "coverage": rows.coverage,
     }
     return arrays, policy
+
+
+def price_index(inflation: np.ndarray) -> np.ndarray:
+    """I_0 = 1, I_t = prod_(u<=t) (1 + pi_u) (MODEL.md 12), from rates (n, T+1) with column 0
+    unused; the running product in period order, as the scalar reference computes it."""
+    factors = 1.0 + inflation
+    factors[:, 0] = 1.0
+    return np.cumprod(factors, axis=1)
 
 
 def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PathArrays:

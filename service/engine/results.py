@@ -23,13 +23,17 @@ from .errors import (
     NonFiniteResultError,
 )
 from .kernel import SERIES_INDEX, SUMMARY_INDEX
-from .paths import PathArrays, solve
+from .paths import PathArrays, price_index, solve
 from .policies import is_ceiling
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
 __all__ = [
+    "COVERAGE_SERIES",
+    "DISTRIBUTION_GROUPS",
+    "NOMINAL_SERIES",
     "SERIES",
+    "STOCK_SERIES",
     "PolicyPath",
     "PolicySummary",
     "ScenarioResult",
@@ -43,6 +47,21 @@ __all__ = [
 SERIES = (*tuple(SERIES_INDEX)[:9], "binding", *tuple(SERIES_INDEX)[9:16])
 #: The series solve keeps for an answer: every reported one but the `binding` flags.
 _REPORTED = tuple(SERIES_INDEX)[:16]
+#: Who gains and who loses (MODEL.md 15): per path, in this order; money per model period.
+DISTRIBUTION_GROUPS = (
+    "tenants_in_controlled_homes",
+    "tenants_in_uncontrolled_homes",
+    "households_priced_out",
+    "owners_of_controlled_homes",
+    "owners_of_uncontrolled_homes",
+    "government",
+)
+#: Series of a ceiling with coverage below 1 (MODEL.md 14).
+COVERAGE_SERIES = ("covered_price", "uncovered_price", "covered_quantity", "uncovered_quantity")
+#: Series of every path under the stock schedule (MODEL.md 13).
+STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path")
+#: Series of every path under inflation (MODEL.md 12): real price x price index.
+NOMINAL_SERIES = ("nominal_consumer_price", "nominal_producer_price")
 
 _POLICY_FIELD = {
     "price_ceiling": "level",
@@ -57,11 +76,14 @@ _POLICY_FIELD = {
 
 @dataclass(frozen=True)
 class PolicyPath:
-    """One policy's series, each (T+1,), period 0 first."""
+    """One policy's series, each (T+1,), period 0 first: SERIES, then those of the additions
+    that apply (NOMINAL_SERIES, COVERAGE_SERIES, STOCK_SERIES); `distribution` per group of
+    DISTRIBUTION_GROUPS, None under random rationing."""
 
     name: str
     kind: str
     series: dict[str, np.ndarray]
+    distribution: dict[str, np.ndarray] | None = None
 
 
 @dataclass(frozen=True)
@@ -80,6 +102,11 @@ class PolicySummary:
     total_consumer_surplus_change: float
     total_producer_surplus_change: float
     total_government_revenue: float
+    #: Totals of DISTRIBUTION_GROUPS over the horizon; None under random rationing.
+    distribution_totals: dict[str, float] | None = None
+    #: Under the stock schedule: homes below the free path in the last period, and at most.
+    final_homes_below_free_path: float | None = None
+    peak_homes_below_free_path: float | None = None
 
 
 @dataclass(frozen=True)
@@ -90,6 +117,7 @@ class ScenarioResult:
     paths: tuple[PolicyPath, ...]
     summary: tuple[PolicySummary, ...]
     cautions: tuple[str, ...]
+    price_index: np.ndarray | None = None  # (T+1,) under inflation: I_t, I_0 = 1
 
 
 def summarise(arrays: PathArrays, batch: ScenarioBatch, rows: PolicyRows) -> dict[str, np.ndarray]:
@@ -217,8 +245,19 @@ def solve_scenarios(
     if not scenarios:
         return []
     batch, rows = pack(scenarios)
-    arrays = solve(batch, rows, series=_REPORTED)
+    arrays = solve(batch, rows, series=reported_series(batch, rows))
     return assemble(scenarios, batch, rows, arrays, as_lists)
+
+
+def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
+    """The kernel series an answer of this batch needs: the sixteen of every answer, the
+    distribution, and the additions' series only where some scenario uses them."""
+    names = _REPORTED + DISTRIBUTION_GROUPS
+    if (is_ceiling(rows.kind) & (rows.coverage < 1.0)).any():
+        names += COVERAGE_SERIES
+    if batch.stock.any():
+        names += STOCK_SERIES
+    return names
 
 
 def assemble(
@@ -247,12 +286,21 @@ def assemble(
     ceiling = is_ceiling(rows.kind)
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
-    float_series = [name for name in SERIES if name != "binding"]
-    block = arrays.series  # solve kept exactly float_series (_REPORTED), in this order
+    block = arrays.series  # the series solve kept (reported_series), in arrays.series_names order
     binding = arrays.binding
+    position = {name: j for j, name in enumerate(arrays.series_names)}
+    partial = ceiling & (rows.coverage < 1.0)
+    index = nominal = None
+    if batch.has_inflation.any():
+        index = price_index(np.ascontiguousarray(np.broadcast_to(batch.inflation, arrays.valid.shape)))
+        nominal = np.stack(
+            [block[:, position[name]] * index[rows.scenario] for name in ("consumer_price", "producer_price")],
+            axis=1,
+        )
     if as_lists:  # one conversion for the whole batch, far faster than array by array
         block, binding = block.tolist(), binding.tolist()
-    position = {name: j for j, name in enumerate(float_series)}
+        if nominal is not None:
+            index, nominal = index.tolist(), nominal.tolist()
     figures = arrays.summary.tolist()
     code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
@@ -264,7 +312,10 @@ def assemble(
         end = int(batch.horizon[i]) + 1
         paths = []
         summaries = []
-        ceiling_binds = False
+        ceiling_binds = partial_binds = False
+        inflated = bool(batch.has_inflation[i])
+        stock = bool(batch.stock[i])
+        random = bool(batch.random_rationing[i])
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
             values = block[r]
@@ -272,11 +323,22 @@ def assemble(
                 name: binding[r][:end] if name == "binding" else values[position[name]][:end]
                 for name in SERIES
             }
-            paths.append(PolicyPath(policy.name, policy.kind, path))
+            if inflated:
+                path["nominal_consumer_price"] = nominal[r][0][:end]
+                path["nominal_producer_price"] = nominal[r][1][:end]
+            if partial[r]:
+                for name in COVERAGE_SERIES:
+                    path[name] = values[position[name]][:end]
+            if stock:
+                for name in STOCK_SERIES:
+                    path[name] = values[position[name]][:end]
+            groups = None if random else {name: values[position[name]][:end] for name in DISTRIBUTION_GROUPS}
+            paths.append(PolicyPath(policy.name, policy.kind, path, groups))
             f = figures[r]
             peak_period = int(f[code["peak_shortage_period"]])
             binding_periods = int(f[code["binding_periods"]])
             ceiling_binds = ceiling_binds or (bool(ceiling[r]) and binding_periods > 0)
+            partial_binds = partial_binds or (bool(partial[r]) and binding_periods > 0)
             summaries.append(
                 PolicySummary(
                     name=policy.name,
@@ -291,6 +353,11 @@ def assemble(
                     total_consumer_surplus_change=f[code["total_consumer_surplus_change"]],
                     total_producer_surplus_change=f[code["total_producer_surplus_change"]],
                     total_government_revenue=f[code["total_government_revenue"]],
+                    distribution_totals=None
+                    if random
+                    else {name: f[code["total_" + name]] for name in DISTRIBUTION_GROUPS},
+                    final_homes_below_free_path=f[code["final_homes_below_free_path"]] if stock else None,
+                    peak_homes_below_free_path=f[code["peak_homes_below_free_path"]] if stock else None,
                 )
             )
         rf = {
@@ -311,6 +378,9 @@ def assemble(
             ceiling_binds=ceiling_binds,
             random_rationing=scenario.welfare.rationing == "random",
             never_binding=[s.name for s in summaries if s.kind != "none" and s.binding_periods == 0],
+            inflation=inflated,
+            stock=stock,
+            partial_binds=partial_binds,
         )
         results.append(
             ScenarioResult(
@@ -324,6 +394,7 @@ def assemble(
                 paths=tuple(paths),
                 summary=tuple(summaries),
                 cautions=tuple(cautions),
+                price_index=(index[i][:end] if inflated else None),
             )
         )
     return results

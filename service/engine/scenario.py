@@ -12,6 +12,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 __all__ = [
+    "ADDITION_DEFAULTS",
     "FORMS",
     "RATIONING_RULES",
     "SCHEDULES",
@@ -27,7 +28,7 @@ __all__ = [
 
 FORMS = ("linear", "constant_elasticity")
 SHOCK_PROFILES = ("step", "ramp", "growth", "path")
-SCHEDULES = ("linear", "geometric", "explicit")
+SCHEDULES = ("linear", "geometric", "explicit", "stock")
 RATIONING_RULES = ("efficient", "random")
 
 
@@ -48,6 +49,9 @@ class Market:
     supply_shifters: Mapping[str, float] = field(default_factory=dict)
     payments_per_period: float = 1.0
     form: str = "linear"
+    #: General inflation per period (MODEL.md 12): a rate, or rates of periods 1, 2, ... (the
+    #: last holds); each > -1. Curves and welfare stay in real money of period 0.
+    inflation: float | tuple[float, ...] = 0.0
 
     @property
     def shifter_names(self) -> tuple[str, ...]:
@@ -80,6 +84,9 @@ class Adjustment:
 
     schedule `linear` uses periods (K >= 0); `geometric` rate (lambda in (0, 1]) or
     half_life (> 0) or neither (Nerlove default); `explicit` elasticities (eps_t, t >= 1).
+    `stock` (MODEL.md 13) moves the stock itself toward the long-run supply curve: rate or
+    half_life as for `geometric` (default eps_SR / eps_LR), and `depreciation` delta in [0, 1],
+    the largest share of the stock lost in one period (None: no such floor).
     schedule None means constant elasticity (allowed only when short and long run agree).
     """
 
@@ -88,6 +95,7 @@ class Adjustment:
     rate: float | None = None
     half_life: float | None = None
     elasticities: tuple[float, ...] = ()
+    depreciation: float | None = None
 
 
 @dataclass(frozen=True)
@@ -97,6 +105,8 @@ class Policy:
     kind: none, price_ceiling (level, or base_level=True for P0, or growth), price_floor
     (level), unit_tax (amount), ad_valorem_tax (rate), unit_subsidy (amount), quantity_cap
     (level). Money is per unit per price interval; quantity per price interval.
+    Money rules are nominal under inflation unless `indexed` (MODEL.md 12); `coverage` is the
+    share of homes a price ceiling covers (MODEL.md 14).
     """
 
     name: str
@@ -108,6 +118,8 @@ class Policy:
     rate: float = 0.0
     start: int = 1
     end: int | None = None
+    indexed: bool = False
+    coverage: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -136,3 +148,12 @@ class Scenario:
     shocks: tuple[Shock, ...] = ()
     adjustment: Adjustment = Adjustment()
     welfare: Welfare = Welfare()
+
+
+#: Fields added with MODEL.md sections 12-15 and their defaults, per dataclass: left out of
+#: the scenario id at these values, so that ids of requests without them stay as they were.
+ADDITION_DEFAULTS = {
+    Market: {"inflation": 0.0},
+    Adjustment: {"depreciation": None},
+    Policy: {"indexed": False, "coverage": 1.0},
+}

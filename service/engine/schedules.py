@@ -21,7 +21,7 @@ import numpy as np
 
 __all__ = ["SCHEDULE_CODES", "half_life_from_rate", "rate_from_half_life"]
 
-SCHEDULE_CODES = {"constant": 0, "linear": 1, "geometric": 2, "explicit": 3}
+SCHEDULE_CODES = {"constant": 0, "linear": 1, "geometric": 2, "explicit": 3, "stock": 4}
 
 
 def rate_from_half_life(half_life: np.ndarray | float) -> np.ndarray:

@@ -178,6 +178,9 @@ _PER_SCENARIO = (
     "schedule_rate",
     "horizon",
     "random_rationing",
+    "stock",
+    "floor_share",
+    "has_inflation",
 )
 
 
@@ -208,6 +211,8 @@ def rows_for(policy_rows: PolicyRows, n: int) -> PolicyRows:
         value=np.repeat(policy_rows.value, n),
         start=np.repeat(policy_rows.start, n),
         end=np.repeat(policy_rows.end, n),
+        indexed=np.repeat(policy_rows.indexed, n),
+        coverage=np.repeat(policy_rows.coverage, n),
     )
 
 

@@ -23,7 +23,7 @@ from typing import Any
 from marshmallow import Schema, ValidationError, fields, validate
 from marshmallow.utils import missing
 
-from .fields import AnyObject, NumberOrConstant, NumberOrList, Real, Tagged, WholeNumber
+from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, Tagged, WholeNumber
 
 __all__ = ["Rejected", "compile_loader", "load_fast"]
 
@@ -168,7 +168,7 @@ def _field_loader(field: fields.Field, cache: dict[int, Loader | None]) -> Loade
         return _with_validators(field, _whole)
     if type(field) is fields.String:
         return _with_validators(field, _string)
-    if type(field) is fields.Boolean:
+    if type(field) is fields.Boolean or type(field) is Flag:
         return _with_validators(field, _boolean)
     if type(field) is fields.Nested:
         nested = _schema_loader(field.schema, cache)

@@ -16,6 +16,7 @@ from marshmallow import Schema, ValidationError, fields, validate
 __all__ = [
     "AnyObject",
     "Either",
+    "Flag",
     "NumberOrConstant",
     "NumberOrList",
     "Real",
@@ -59,6 +60,17 @@ class Real(fields.Float):
         if not math.isfinite(number):
             raise self.make_error("special")
         return number
+
+
+class Flag(fields.Boolean):
+    """A JSON true or false; never 1, 0 or a string."""
+
+    default_error_messages = {"invalid": "Must be true or false."}
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if value is True or value is False:
+            return value
+        raise self.make_error("invalid")
 
 
 class WholeNumber(fields.Integer):

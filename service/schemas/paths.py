@@ -24,7 +24,7 @@ from ..engine.scenario import (
     Shock,
     Welfare,
 )
-from .fields import AnyObject, NumberOrConstant, NumberOrList, Real, StrictSchema, Tagged, WholeNumber
+from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
 
 __all__ = [
@@ -87,6 +87,10 @@ class SupplySchema(StrictSchema):
     )
 
 
+def _inflation_rate() -> Real:
+    return Real(validate=_range(-1.0, limits.MAX_RATE, low_ok=False))
+
+
 class MarketSchema(StrictSchema):
     price = Real(
         required=True,
@@ -110,6 +114,18 @@ class MarketSchema(StrictSchema):
     )
     demand = fields.Nested(DemandSchema, required=True)
     supply = fields.Nested(SupplySchema, required=True)
+    inflation = NumberOrList(
+        _inflation_rate(),
+        fields.List(_inflation_rate(), validate=validate.Length(1, limits.MAX_HORIZON)),
+        load_default=0.0,
+        metadata={
+            "description": "General inflation per model period (0.03 = 3 %), or a list of rates for "
+            "periods 1, 2, ... (the last holds to the horizon); each above -1. Price ceilings and "
+            "floors, growth caps, unit taxes and subsidies are then nominal rules (see `indexed`); "
+            "every price series stays in real money of period 0, and welfare and discounting are "
+            "real (the discount rate is a real rate)."
+        },
+    )
 
     @validates_schema
     def _shifter_count(self, data, **kwargs):
@@ -136,7 +152,15 @@ def build_market(data: dict[str, Any]) -> Market:
         supply_shifters=dict(data["supply"]["shifters"]),
         payments_per_period=data["payments_per_period"],
         form=data["form"],
+        inflation=_inflation_value(data.get("inflation", 0.0)),
     )
+
+
+def _inflation_value(value: float | list[float]) -> float | tuple[float, ...]:
+    """A constant rate, or per-period rates; a list of one rate is that constant rate."""
+    if isinstance(value, list):
+        return value[0] if len(value) == 1 else tuple(value)
+    return value
 
 
 # --- shocks -------------------------------------------------------------------------------
@@ -259,10 +283,52 @@ class ExplicitScheduleSchema(StrictSchema):
         return Adjustment(schedule="explicit", elasticities=tuple(data["elasticities"]))
 
 
+class StockScheduleSchema(StrictSchema):
+    """A durable stock (MODEL.md 13; Nerlove 1958): each period a share lambda of the gap
+    between the stock and its long-run desired level closes, and the stock shrinks by at most
+    the share `depreciation` (supply elastic upward, inelastic downward: Glaeser & Gyourko
+    2005, *JPE* 113(2))."""
+
+    schedule = fields.String(required=True, validate=validate.OneOf(["stock"]))
+    rate = Real(
+        validate=_range(0.0, 1.0, low_ok=False),
+        metadata={
+            "description": "Share lambda in (0, 1] of the gap to the desired stock closed each period "
+            "(default: short_run / long_run elasticity, so the impact elasticity is short-run)."
+        },
+    )
+    half_life = Real(
+        validate=_range(limits.MIN_HALF_LIFE, float(limits.MAX_PERIOD)),
+        metadata={"description": "Periods to close half the gap (lambda = 1 - 0.5^(1/h)), at least 0.001."},
+    )
+    depreciation = Real(
+        validate=_range(0.0, 1.0),
+        metadata={
+            "description": "Largest share of the stock lost in one period (demolition, conversion, "
+            "decay), in [0, 1]; without it the stock may fall as fast as it rose."
+        },
+    )
+
+    @validates_schema
+    def _one_of(self, data, **kwargs):
+        if "rate" in data and "half_life" in data:
+            raise ValidationError("Give rate or half_life, not both.", "half_life")
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return Adjustment(
+            schedule="stock",
+            rate=data.get("rate"),
+            half_life=data.get("half_life"),
+            depreciation=data.get("depreciation"),
+        )
+
+
 SCHEDULE_SCHEMAS = {
     "linear": LinearScheduleSchema,
     "geometric": GeometricScheduleSchema,
     "explicit": ExplicitScheduleSchema,
+    "stock": StockScheduleSchema,
 }
 
 
@@ -300,6 +366,16 @@ class NonePolicySchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["none"]))
 
 
+def _indexed(what: str) -> Flag:
+    return Flag(
+        load_default=False,
+        metadata={
+            "description": f"With market.inflation: true if the {what} moves with the general price "
+            "level (a real rule); false (default) if it is fixed in money of the day."
+        },
+    )
+
+
 class PriceCeilingSchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["price_ceiling"]))
     level = NumberOrConstant(
@@ -309,7 +385,20 @@ class PriceCeilingSchema(_PolicyBase):
     )
     growth = Real(
         validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
-        metadata={"description": "Cap on growth per period: c_t = (1+growth) Pc_(t-1), Pc_0 = P0."},
+        metadata={
+            "description": "Cap on growth per period: c_t = (1+growth) Pc_(t-1), Pc_0 = P0 (nominal "
+            "under inflation; indexed: inflation plus growth)."
+        },
+    )
+    indexed = _indexed("level (or the growth cap: inflation plus growth)")
+    coverage = Real(
+        load_default=1.0,
+        validate=_range(0.0, 1.0, low_ok=False),
+        metadata={
+            "description": "Share s in (0, 1] of homes the ceiling covers (e.g. older buildings); "
+            "households without a controlled home rent uncontrolled ones, whose rent clears "
+            "(Fallis & Smith 1984)."
+        },
     )
 
     @validates_schema
@@ -321,11 +410,13 @@ class PriceCeilingSchema(_PolicyBase):
 class PriceFloorSchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["price_floor"]))
     level = _money("Floor price per unit per price interval.", low_ok=False, required=True)
+    indexed = _indexed("floor")
 
 
 class UnitTaxSchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["unit_tax"]))
     amount = _money("Tax per unit per price interval (Pp = Pc - amount).", low_ok=True, required=True)
+    indexed = _indexed("tax")
 
 
 class AdValoremTaxSchema(_PolicyBase):
@@ -340,6 +431,7 @@ class AdValoremTaxSchema(_PolicyBase):
 class UnitSubsidySchema(_PolicyBase):
     kind = fields.String(required=True, validate=validate.OneOf(["unit_subsidy"]))
     amount = _money("Subsidy per unit per price interval (Pp = Pc + amount).", low_ok=True, required=True)
+    indexed = _indexed("subsidy")
 
 
 class QuantityCapSchema(_PolicyBase):
@@ -360,6 +452,21 @@ POLICY_SCHEMAS = {
     "unit_subsidy": UnitSubsidySchema,
     "quantity_cap": QuantityCapSchema,
 }
+
+#: Where a field belongs to other kinds, say so: `indexed` is only for rules with money in
+#: them, `coverage` only for price ceilings.
+_ELSEWHERE = {
+    "indexed": "rules with money in them: a price ceiling, price floor, unit tax or unit subsidy",
+    "coverage": "a price ceiling",
+}
+for _kind, _schema in POLICY_SCHEMAS.items():
+    _takes = ", ".join(_schema._declared_fields)
+    _hints = "; ".join(
+        f"'{name}' belongs to {where}" for name, where in _ELSEWHERE.items() if name not in _schema._declared_fields
+    )
+    _schema.error_messages = {
+        "unknown": f"Unknown field for kind '{_kind}' (it takes {_takes})." + (f" Note: {_hints}." if _hints else "")
+    }
 
 
 # --- welfare ------------------------------------------------------------------------------
@@ -455,14 +562,15 @@ class PathsRequestSchema(StrictSchema):
             if market.short_run_elasticity != market.long_run_elasticity:
                 errors["adjustment"] = ["Required when short- and long-run supply elasticities differ."]
         elif (
-            adjustment.schedule == "geometric"
+            adjustment.schedule in ("geometric", "stock")
             and adjustment.rate is None
             and adjustment.half_life is None
             and not (0.0 < market.short_run_elasticity <= market.long_run_elasticity)
         ):
             errors["adjustment"] = [
-                "Without rate or half_life the Nerlove rate short_run/long_run is used, which "
-                "needs 0 < short-run <= long-run elasticity; give a rate or half_life."
+                f"Without rate or half_life the {adjustment.schedule} schedule uses the Nerlove rate "
+                "short_run/long_run, which needs 0 < short-run <= long-run elasticity; give a rate "
+                "or half_life."
             ]
         seen: dict[str, int] = {}
         for i, policy in enumerate(data["policies"]):
@@ -471,6 +579,12 @@ class PathsRequestSchema(StrictSchema):
                     "name": [f"Duplicate policy name (also policy {seen[policy.name]})."]
                 }
             seen.setdefault(policy.name, i)
+            if policy.coverage < 1.0 and data["welfare"].rationing == "random":
+                errors.setdefault("policies", {}).setdefault(i, {})["coverage"] = [
+                    "Random rationing is defined for a ceiling on the whole market only; with "
+                    "coverage below 1 use efficient rationing (households without a controlled "
+                    "home rent uncontrolled ones)."
+                ]
         if errors:
             raise ValidationError(errors)
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from marshmallow import Schema, fields
 
-from ..engine.results import SERIES
+from ..engine.results import COVERAGE_SERIES, DISTRIBUTION_GROUPS, NOMINAL_SERIES, SERIES, STOCK_SERIES
 from .fields import Either
 
 __all__ = [
@@ -58,9 +58,10 @@ _SERIES_HELP = {
     "consumer_price": "Pc, paid per unit per price interval.",
     "producer_price": "Pp, received per unit per price interval.",
     "quantity": "Units traded per price interval.",
-    "quantity_demanded": "Qd(Pc).",
-    "quantity_supplied": "Qs(Pp).",
-    "shortage": "max(Qd - Qs, 0) under a binding ceiling; 0 elsewhere.",
+    "quantity_demanded": "Qd(Pc); under a ceiling that covers part of the homes, Qd at the controlled rent.",
+    "quantity_supplied": "Qs(Pp); under a partial ceiling, homes supplied in both segments (= quantity).",
+    "shortage": "Qd - Q under a binding ceiling (households that would rent at the controlled rent and "
+    "rent nothing); 0 elsewhere.",
     "excess_supply": "Qs - Q under a binding floor or quantity cap; 0 elsewhere.",
     "marginal_value": "Qd^-1(Q): what the last unit is worth to buyers.",
     "marginal_cost": "Qs^-1(Q): what the last unit costs sellers.",
@@ -72,7 +73,43 @@ _SERIES_HELP = {
     "misallocation_loss": "Random-rationing loss, money per model period.",
     "cumulative_deadweight_loss": "Sum of deadweight loss through the period.",
     "discounted_deadweight_loss": "Discounted sum of deadweight loss through the period.",
+    "nominal_consumer_price": "With market.inflation only: consumer_price x price_index, money of the day.",
+    "nominal_producer_price": "With market.inflation only: producer_price x price_index.",
+    "covered_price": "Ceilings with coverage below 1 only: rent of controlled homes (the ceiling where it "
+    "binds, else the free-market rent).",
+    "uncovered_price": "Ceilings with coverage below 1 only: rent of uncontrolled homes, >= the free-market "
+    "rent (Fallis & Smith 1984).",
+    "covered_quantity": "Ceilings with coverage below 1 only: controlled homes let, per price interval.",
+    "uncovered_quantity": "Ceilings with coverage below 1 only: uncontrolled homes let.",
+    "homes_below_free_path": "Stock schedule only: the free path's quantity minus this path's (homes "
+    "missing; negative where the path has more homes).",
+    "rent_above_free_path": "Stock schedule only: consumer_price minus the free path's price.",
 }
+
+_GROUP_HELP = {
+    "tenants_in_controlled_homes": "(P* - c) Qc: tenants who hold a controlled home.",
+    "tenants_in_uncontrolled_homes": "-(Pu - P*) Qu under a partial ceiling; under a tax, subsidy, floor or "
+    "quantity cap every tenant, -(Pc - P*) Q.",
+    "households_priced_out": "-integral_Q^Q* (Qd^-1 - P*): households priced or rationed out (drawn in "
+    "where Q > Q*).",
+    "owners_of_controlled_homes": "Producer surplus change of the controlled homes.",
+    "owners_of_uncontrolled_homes": "Producer surplus change of the uncontrolled homes (all owners where "
+    "nothing is controlled).",
+    "government": "(Pc - Pp) Q: revenue, negative for a subsidy.",
+}
+
+DistributionSchema = Schema.from_dict(
+    {
+        name: fields.List(fields.Float(), required=True, metadata={"description": help_})
+        for name, help_ in _GROUP_HELP.items()
+    },
+    name="Distribution",
+)
+DistributionTotalsSchema = Schema.from_dict(
+    {name: fields.Float(required=True, metadata={"description": help_}) for name, help_ in _GROUP_HELP.items()},
+    name="DistributionTotals",
+)
+assert tuple(_GROUP_HELP) == DISTRIBUTION_GROUPS
 
 
 def _path_fields() -> dict:
@@ -87,6 +124,19 @@ def _path_fields() -> dict:
             )
         else:
             out[name] = _numbers(_SERIES_HELP[name])
+    for name in NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES:  # only where they apply
+        out[name] = fields.List(fields.Float(), metadata={"description": _SERIES_HELP[name]})
+    out["distribution"] = fields.Nested(
+        DistributionSchema,
+        required=True,
+        allow_none=True,
+        metadata={
+            "description": "Who gains and who loses (MODEL.md 15), per period, money per model period "
+            "against the period's free market, efficient allocation: the tenants' groups sum to "
+            "consumer_surplus_change, the owners' to producer_surplus_change, all to minus the "
+            "deadweight loss. null under random rationing."
+        },
+    )
     return out
 
 
@@ -106,6 +156,18 @@ class PolicySummarySchema(Schema):
     total_consumer_surplus_change = fields.Float(required=True)
     total_producer_surplus_change = fields.Float(required=True)
     total_government_revenue = fields.Float(required=True)
+    distribution_totals = fields.Nested(
+        DistributionTotalsSchema,
+        required=True,
+        allow_none=True,
+        metadata={"description": "Each group's change summed over the horizon; null under random rationing."},
+    )
+    final_homes_below_free_path = fields.Float(
+        metadata={"description": "Stock schedule only: homes below the free path in the last period."}
+    )
+    peak_homes_below_free_path = fields.Float(
+        metadata={"description": "Stock schedule only: the most homes below the free path in any period (>= 0)."}
+    )
 
 
 class PathsResponseSchema(Schema):
@@ -114,7 +176,17 @@ class PathsResponseSchema(Schema):
     )
     model_version = fields.String(required=True)
     periods = fields.List(fields.Integer(), required=True)
-    supply_elasticity = _numbers("eps_t per period, period 0 first.")
+    supply_elasticity = _numbers(
+        "eps_t per period, period 0 first; under the stock schedule the elasticity of the free path's "
+        "supply curve at its equilibrium point."
+    )
+    price_index = fields.List(
+        fields.Float(),
+        metadata={
+            "description": "With market.inflation only: I_t = prod_(u<=t) (1 + pi_u), I_0 = 1. Every price "
+            "series is in real money of period 0; multiply by I_t for money of the day."
+        },
+    )
     reduced_form = fields.Dict(keys=fields.String(), values=fields.Nested(ReducedFormSchema), required=True)
     paths = fields.List(fields.Nested(PolicyPathSchema), required=True)
     summary = fields.List(fields.Nested(PolicySummarySchema), required=True)
