@@ -56,28 +56,44 @@ def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
     orjson writes the frozen dataclasses field by field in a fixed order (dict keys sorted),
     so equal scenarios give equal bytes.
     """
-    canonical = orjson.dumps(_canonical({"model_version": engine.MODEL_VERSION, "scenario": scenario, **extra}))
+    canonical = orjson.dumps(
+        _canonical({"model_version": engine.MODEL_VERSION, "scenario": scenario, **extra})
+    )
     return hashlib.sha256(canonical).hexdigest()
+
+
+_SCALARS = frozenset([float, int, str, bool, type(None)])
+_MISSING = object()
+#: Per dataclass type: (field name, the addition default that leaves it out, or _MISSING).
+_FIELDS: dict[type, tuple[tuple[str, Any], ...]] = {}
 
 
 def _canonical(value: Any) -> Any:
     """The value as orjson writes it with OPT_SORT_KEYS (dataclasses field by field in their
     order, dict keys sorted), except that the additions of MODEL.md 12-15 at their defaults
     (engine.ADDITION_DEFAULTS) are left out: ids of requests without them are unchanged."""
-    if isinstance(value, dict):
+    kind = type(value)
+    if kind in _SCALARS:
+        return value
+    if kind is dict:
         return {k: _canonical(value[k]) for k in sorted(value)}
-    if isinstance(value, (list, tuple)):
-        return [_canonical(v) for v in value]
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        defaults = engine.ADDITION_DEFAULTS.get(type(value), {})
-        out = {}
-        for f in dataclasses.fields(value):
-            v = getattr(value, f.name)
-            if f.name in defaults and v == defaults[f.name]:
-                continue
-            out[f.name] = _canonical(v)
-        return out
-    return value
+    if kind is list or kind is tuple:
+        return [v if type(v) in _SCALARS else _canonical(v) for v in value]
+    names = _FIELDS.get(kind)
+    if names is None:
+        if not dataclasses.is_dataclass(kind):
+            return value  # numbers of numpy and the like: orjson writes them
+        defaults = engine.ADDITION_DEFAULTS.get(kind, {})
+        names = _FIELDS[kind] = tuple(
+            (f.name, defaults.get(f.name, _MISSING)) for f in dataclasses.fields(kind)
+        )
+    out = {}
+    for name, default in names:
+        v = getattr(value, name)
+        if default is not _MISSING and v == default:
+            continue
+        out[name] = v if type(v) in _SCALARS else _canonical(v)
+    return out
 
 
 def render(

@@ -111,10 +111,14 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
     """The kernel's input arrays, with inflation (a price index), the durable stock and
     partial coverage (MODEL.md sections 12-14)."""
     n, periods = batch.size, batch.periods
-    inflation = np.ascontiguousarray(np.broadcast_to(batch.inflation, (n, periods)))
+    inflation = batch.inflation
+    if inflation.shape != (n, periods):
+        inflation = np.ascontiguousarray(np.broadcast_to(inflation, (n, periods)))
+    index = price_index(inflation) if batch.has_inflation.any() else np.ones((n, periods))
     sr, lr = batch.short_run_elasticity, batch.long_run_elasticity
-    with np.errstate(divide="ignore", invalid="ignore"):
-        nerlove = np.where((sr > 0.0) & (sr <= lr), sr / lr, 1.0)  # eps_SR = lambda eps_LR
+    # The Nerlove default eps_SR = lambda eps_LR where the schedule gives no rate (else 1: the
+    # request is refused, see prepare's undefined mask).
+    nerlove = np.divide(sr, lr, out=np.ones(n), where=(sr > 0.0) & (sr <= lr))
     arrays = {
         "price": batch.price,
         "quantity": batch.quantity,
@@ -129,7 +133,7 @@ def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
         "long_run_elasticity": lr,
         "random_rationing": batch.random_rationing,
         "discount_factor": factor,
-        "price_index": price_index(inflation),
+        "price_index": index,
         "inflation": inflation,
     }
     policy = {

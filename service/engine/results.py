@@ -294,7 +294,10 @@ def assemble(
     if batch.has_inflation.any():
         index = price_index(np.ascontiguousarray(np.broadcast_to(batch.inflation, arrays.valid.shape)))
         nominal = np.stack(
-            [block[:, position[name]] * index[rows.scenario] for name in ("consumer_price", "producer_price")],
+            [
+                block[:, position[name]] * index[rows.scenario]
+                for name in ("consumer_price", "producer_price")
+            ],
             axis=1,
         )
     if as_lists:  # one conversion for the whole batch, far faster than array by array

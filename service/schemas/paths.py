@@ -462,10 +462,13 @@ _ELSEWHERE = {
 for _kind, _schema in POLICY_SCHEMAS.items():
     _takes = ", ".join(_schema._declared_fields)
     _hints = "; ".join(
-        f"'{name}' belongs to {where}" for name, where in _ELSEWHERE.items() if name not in _schema._declared_fields
+        f"'{name}' belongs to {where}"
+        for name, where in _ELSEWHERE.items()
+        if name not in _schema._declared_fields
     )
     _schema.error_messages = {
-        "unknown": f"Unknown field for kind '{_kind}' (it takes {_takes})." + (f" Note: {_hints}." if _hints else "")
+        "unknown": f"Unknown field for kind '{_kind}' (it takes {_takes})."
+        + (f" Note: {_hints}." if _hints else "")
     }
 
 

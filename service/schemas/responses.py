@@ -106,7 +106,10 @@ DistributionSchema = Schema.from_dict(
     name="Distribution",
 )
 DistributionTotalsSchema = Schema.from_dict(
-    {name: fields.Float(required=True, metadata={"description": help_}) for name, help_ in _GROUP_HELP.items()},
+    {
+        name: fields.Float(required=True, metadata={"description": help_})
+        for name, help_ in _GROUP_HELP.items()
+    },
     name="DistributionTotals",
 )
 assert tuple(_GROUP_HELP) == DISTRIBUTION_GROUPS
@@ -166,7 +169,9 @@ class PolicySummarySchema(Schema):
         metadata={"description": "Stock schedule only: homes below the free path in the last period."}
     )
     peak_homes_below_free_path = fields.Float(
-        metadata={"description": "Stock schedule only: the most homes below the free path in any period (>= 0)."}
+        metadata={
+            "description": "Stock schedule only: the most homes below the free path in any period (>= 0)."
+        }
     )
 
 
