@@ -176,8 +176,8 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
         )
     if arrays.schedule_undefined[i]:
         return InputError(
-            "a geometric schedule without rate or half_life uses the Nerlove rate "
-            "short_run / long_run, which needs 0 < short-run <= long-run elasticity; give a rate",
+            f"a {scenario.adjustment.schedule} schedule without rate or half_life uses the Nerlove "
+            "rate short_run / long_run, which needs 0 < short-run <= long-run elasticity; give a rate",
             "/adjustment",
         )
     if arrays.linear_out_of_range[i].any():

@@ -500,7 +500,10 @@ class WelfareSchema(StrictSchema):
             fields.Nested(DiscountStepSchema), validate=validate.Length(1, limits.MAX_DISCOUNT_STEPS)
         ),
         load_default=0.0,
-        metadata={"description": "Rate per model period, or steps [{through_period, rate}, ...]."},
+        metadata={
+            "description": "Rate per model period, or steps [{through_period, rate}, ...]. A real rate: "
+            "welfare is in real money of period 0, also under market.inflation."
+        },
     )
 
     @validates_schema

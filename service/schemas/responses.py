@@ -103,7 +103,7 @@ DistributionSchema = Schema.from_dict(
         name: fields.List(fields.Float(), required=True, metadata={"description": help_})
         for name, help_ in _GROUP_HELP.items()
     },
-    name="Distribution",
+    name="DistributionSeries",
 )
 DistributionTotalsSchema = Schema.from_dict(
     {
