@@ -10,7 +10,9 @@ import math
 
 import pytest
 
-# Muth (1964), "The Incidence of a Tax"; Gardner (1987); Alston, Norton & Pardey (1995),
+# Muth (1964), "The Derived Demand Curve for a Productive Factor and the Industry Supply Curve",
+# Oxford Economic Papers 16(2) (title from memory; MODEL.md gives another); Gardner (1987);
+# Alston, Norton & Pardey (1995),
 # Science Under Scarcity, ch. 4-5: d ln P* / d ln x = eta_x / (eps - eta) for a demand
 # shifter, -eps_x / (eps - eta) for a supply shifter; quantity: eps eta_x / (eps - eta) and
 # -eta eps_x / (eps - eta).

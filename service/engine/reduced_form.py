@@ -6,7 +6,8 @@ at supply elasticity eps (short or long run):
     price     d ln P* / d ln x = (eta_i - eps_j) / (eps - eta)
     quantity  d ln Q* / d ln x = (eps eta_i - eta eps_j) / (eps - eta)
 
-the equilibrium displacement formulas of Muth (1964), "The Incidence of a Tax", and
+the equilibrium displacement formulas of Muth (1964), "The Derived Demand Curve for a Productive
+Factor and the Industry Supply Curve", *Oxford Economic Papers* 16(2) (title from memory), and
 Gardner (1987); Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5.
 """
 
