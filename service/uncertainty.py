@@ -14,8 +14,8 @@ import numpy as np
 from . import engine
 from .engine.batch import pack
 from .engine.uncertainty import (
-    BAND_SERIES,
     BAND_SUMMARY,
+    band_names,
     percentile_bands,
     rows_for,
     scenario_batch_with,
@@ -30,7 +30,9 @@ __all__ = ["bands", "sensitivity"]
 _BANDS = BandsRequestSchema()
 _SENSITIVITY = SensitivityRequestSchema()
 
-#: The headline figures whose swings sensitivity reports, in ranking order.
+#: The headline figures whose swings sensitivity reports, in ranking order; then the groups'
+#: totals (not under random rationing) and, under the stock schedule, the homes below the free
+#: path (engine.uncertainty.band_names).
 HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
 
 
@@ -113,11 +115,11 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                 "kind": policy.kind,
                 "series": {
                     name: {k: arrays.series[p, s, i].tolist() for i, k in enumerate(keys)}
-                    for s, name in enumerate(BAND_SERIES)
+                    for s, name in enumerate(arrays.series_names)
                 },
                 "summary": {
                     name: {k: float(arrays.summary[p, s, i]) for i, k in enumerate(keys)}
-                    for s, name in enumerate(BAND_SUMMARY)
+                    for s, name in enumerate(arrays.summary_names)
                 },
                 "binding_share": float(arrays.binding_share[p]),
                 "infeasible_draws": int(arrays.infeasible_draws[p]),
@@ -165,7 +167,8 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     feasible, _, summary, _ = solve_rows(batch, rows)
     p = base_rows.size
     feasible = feasible.reshape(p, -1).T  # rows are policy-major
-    figures = {name: summary[name].reshape(p, -1).T for name in HEADLINES}
+    headlines = HEADLINES + band_names(req.scenario)[1][len(BAND_SUMMARY) :]
+    figures = {name: summary[name].reshape(p, -1).T for name in headlines}
 
     entries = []
     for j, item in enumerate(inputs):
@@ -173,13 +176,13 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
         policies = []
         for q, policy in enumerate(req.scenario.policies):
             ok = bool(feasible[lo_row, q] and feasible[hi_row, q])
-            low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in HEADLINES}
-            high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in HEADLINES}
-            swing = {f: abs(high[f] - low[f]) if ok else None for f in HEADLINES}
+            low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in headlines}
+            high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in headlines}
+            swing = {f: abs(high[f] - low[f]) if ok else None for f in headlines}
             policies.append(
                 {"name": policy.name, "kind": policy.kind, "low": low, "high": high, "swing": swing}
             )
-        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in HEADLINES)
+        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in headlines)
         entries.append(
             (
                 rank,
@@ -187,7 +190,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
                     **_describe(item),
                     "low": ranges[j][0],
                     "high": ranges[j][1],
-                    "largest_swing": {f: rank[n] for n, f in enumerate(HEADLINES)},
+                    "largest_swing": {f: rank[n] for n, f in enumerate(headlines)},
                     "policies": policies,
                 },
             )
@@ -196,7 +199,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     return {
         "scenario_id": _answer_id("sensitivity", req),
         "model_version": engine.MODEL_VERSION,
-        "headlines": list(HEADLINES),
+        "headlines": list(headlines),
         "central": central,
         "inputs": [e for _, e in entries],
         "cautions": [

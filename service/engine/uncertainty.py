@@ -24,16 +24,18 @@ from scipy import special, stats
 from . import kernel
 from .batch import PolicyRows, ScenarioBatch, pack
 from .paths import solve
-from .results import summarise
+from .results import DISTRIBUTION_GROUPS, summarise
 from .scenario import Scenario
 
 __all__ = [
     "BAND_SERIES",
     "BAND_SUMMARY",
+    "GROUP_TOTALS",
     "PARAMETERS",
     "BandArrays",
     "Distribution",
     "UncertainInput",
+    "band_names",
     "draw",
     "percentile_bands",
     "rows_for",
@@ -58,6 +60,24 @@ BAND_SUMMARY = (
     "final_consumer_price",
     "final_quantity",
 )
+#: Who gains and who loses (MODEL.md 15): each group's total over the horizon.
+GROUP_TOTALS = tuple("total_" + group for group in DISTRIBUTION_GROUPS)
+#: Under the stock schedule (MODEL.md 13).
+STOCK_BAND_SERIES = ("homes_below_free_path",)
+STOCK_SUMMARY = ("final_homes_below_free_path", "peak_homes_below_free_path")
+
+
+def band_names(scenario: Scenario) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The banded series and summary figures of a scenario: the ones of every answer, the
+    groups' totals (not under random rationing, where the split is not reported), and the homes
+    below the free path under the stock schedule."""
+    series, summary = BAND_SERIES, BAND_SUMMARY
+    if scenario.welfare.rationing != "random":
+        summary += GROUP_TOTALS
+    if scenario.adjustment.schedule == "stock":
+        series += STOCK_BAND_SERIES
+        summary += STOCK_SUMMARY
+    return series, summary
 
 
 #: The parameters of each distribution, in the order a caller writes them.
@@ -226,6 +246,8 @@ class BandArrays:
     binding_share: np.ndarray
     infeasible_draws: np.ndarray
     feasible_draws: np.ndarray
+    series_names: tuple[str, ...] = BAND_SERIES
+    summary_names: tuple[str, ...] = BAND_SUMMARY
 
 
 def solve_rows(batch: ScenarioBatch, rows: PolicyRows, band: tuple | None = None):
@@ -261,9 +283,10 @@ def percentile_bands(
     p = base_rows.size
     periods = int(scenario.horizon) + 1
     values = draw(inputs, draws, seed, supply_correlation)
+    series_names, summary_names = band_names(scenario)
     # Draws last, so that each period's values over the draws are one contiguous row.
-    kept = np.empty((p, len(BAND_SERIES), periods, draws), dtype=np.float32)
-    kept_summary = np.empty((draws, p, len(BAND_SUMMARY)))
+    kept = np.empty((p, len(series_names), periods, draws), dtype=np.float32)
+    kept_summary = np.empty((draws, p, len(summary_names)))
     feasible = np.empty((draws, p), dtype=bool)
     binds = np.empty((draws, p), dtype=bool)
 
@@ -272,11 +295,11 @@ def percentile_bands(
         batch = scenario_batch_with(base, scenario, inputs, values[start:stop])
         rows = rows_for(base_rows, stop - start)
         # The kernel writes the banded series straight into `kept` (rows are policy-major).
-        ok, _, summary, bound = solve_rows(batch, rows, band=(BAND_SERIES, kept, stop - start, start))
+        ok, _, summary, bound = solve_rows(batch, rows, band=(series_names, kept, stop - start, start))
         shape = (p, stop - start)
         feasible[start:stop] = ok.reshape(shape).T
         binds[start:stop] = bound.reshape(shape).T
-        for s, name in enumerate(BAND_SUMMARY):
+        for s, name in enumerate(summary_names):
             kept_summary[start:stop, :, s] = summary[name].reshape(shape).T
 
     starts = range(0, draws, block)  # blocks of draws, each vectorised
@@ -290,12 +313,12 @@ def percentile_bands(
     q = np.asarray(percentiles, dtype=float)
     none_feasible = ~feasible.any(axis=0)  # such a policy has no band; the caller reports it
     feasible = feasible | none_feasible[None, :]
-    series_q = np.empty((len(q), p, len(BAND_SERIES), periods))
+    series_q = np.empty((len(q), p, len(series_names), periods))
 
     def band(policy: int) -> None:
         # Order statistics selected in compiled code (O(draws) each) over the feasible draws.
         keep = np.flatnonzero(feasible[:, policy])
-        for s in range(len(BAND_SERIES)):
+        for s in range(len(series_names)):
             series_q[:, policy, s] = kernel.percentiles(kept[policy, s], keep, q).T
 
     if threads > 1:
@@ -313,4 +336,6 @@ def percentile_bands(
         binding_share=share,
         infeasible_draws=draws - count,
         feasible_draws=count,
+        series_names=series_names,
+        summary_names=summary_names,
     )
