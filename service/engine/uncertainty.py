@@ -25,7 +25,7 @@ from . import kernel
 from .batch import PolicyRows, ScenarioBatch, pack
 from .paths import solve
 from .results import DISTRIBUTION_GROUPS, summarise
-from .scenario import Scenario
+from .scenario import ADDITION_DEFAULTS, Scenario
 
 __all__ = [
     "BAND_SERIES",
@@ -105,6 +105,7 @@ class Distribution:
     lower: float = -np.inf
     upper: float = np.inf
     upper_open: bool = False  # the upper bound itself is not allowed (eta < 0)
+    lower_open: bool = False  # the lower bound itself is not allowed (inflation > -1, rate > 0)
 
     @property
     def parameters(self) -> dict[str, float]:
@@ -145,6 +146,8 @@ class Distribution:
         x = np.full(np.shape(u), self.central) if frozen is None else frozen.ppf(u)
         if self.upper_open:
             x = np.where(x >= self.upper, np.nextafter(self.upper, -np.inf), x)
+        if self.lower_open:
+            x = np.where(x <= self.lower, np.nextafter(self.lower, np.inf), x)
         return x
 
     def range(self) -> tuple[float, float]:
@@ -155,11 +158,18 @@ class Distribution:
         return float(low), float(high)
 
 
+# Added with MODEL.md 12-13 (uncertain inflation and stock rates): left out of answer ids at
+# its default, so that ids of requests without it are unchanged.
+ADDITION_DEFAULTS[Distribution] = {"lower_open": False}
+
+
 @dataclass(frozen=True)
 class UncertainInput:
-    """Which elasticity is uncertain: target is demand_elasticity, short_run_elasticity,
-    long_run_elasticity, or ("demand_shifter" | "supply_shifter", name); pointer is its place
-    in the request."""
+    """Which input is uncertain: target is demand_elasticity, short_run_elasticity,
+    long_run_elasticity, ("demand_shifter" | "supply_shifter", name), or, where the request
+    gives them as numbers, inflation (a constant rate), schedule_rate (lambda of a geometric or
+    stock schedule) or depreciation (of the stock schedule); pointer is its place in the
+    request."""
 
     target: str | tuple[str, str]
     pointer: str
@@ -217,6 +227,13 @@ def scenario_batch_with(
             side, name = item.target
             key = f"{side}_elasticity"
             fields[key][:, names.index(name)] = values[:, k]
+        elif item.target == "inflation":  # a constant rate over periods 1..T
+            inflation = np.zeros((n, base.periods))
+            inflation[:, 1:] = values[:, k, None]
+            fields["inflation"] = inflation
+            fields["has_inflation"] = np.ones(n, dtype=bool)
+        elif item.target == "depreciation":
+            fields["floor_share"] = 1.0 - values[:, k]
         else:
             fields[item.target] = values[:, k].copy()
     return dataclasses.replace(base, **fields)

@@ -12,11 +12,21 @@ from dataclasses import dataclass
 from marshmallow import ValidationError, fields, post_load, validate, validates_schema
 
 from .. import limits
-from ..engine.scenario import Market, Scenario
+from ..engine.scenario import Adjustment, Market, Scenario
 from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput
-from .fields import Real, StrictSchema, Tagged, WholeNumber
+from .fields import NumberOrList, Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
-from .paths import DemandSchema, MarketSchema, PathsRequestSchema, SupplySchema, build_market, shifter_map
+from .paths import (
+    SCHEDULE_SCHEMAS,
+    DemandSchema,
+    GeometricScheduleSchema,
+    MarketSchema,
+    PathsRequestSchema,
+    StockScheduleSchema,
+    SupplySchema,
+    build_market,
+    shifter_map,
+)
 from .pointers import escape
 
 __all__ = ["BandsRequestSchema", "SensitivityRequestSchema", "UncertainRequest"]
@@ -61,10 +71,12 @@ DISTRIBUTIONS = {"normal": NormalSchema, "uniform": UniformSchema, "triangular":
 class UncertainElasticity(fields.Field):
     """A number, or a distribution whose support obeys the elasticity's sign rule."""
 
-    def __init__(self, lower: float, upper: float, upper_open: bool = False, **kwargs):
+    def __init__(
+        self, lower: float, upper: float, upper_open: bool = False, lower_open: bool = False, **kwargs
+    ):
         super().__init__(**kwargs)
-        self.lower, self.upper, self.upper_open = lower, upper, upper_open
-        self.number = Real(validate=_range(lower, upper, high_ok=not upper_open))
+        self.lower, self.upper, self.upper_open, self.lower_open = lower, upper, upper_open, lower_open
+        self.number = Real(validate=_range(lower, upper, low_ok=not lower_open, high_ok=not upper_open))
         self.tagged = Tagged("distribution", DISTRIBUTIONS)
 
     def openapi_alternatives(self):
@@ -72,14 +84,16 @@ class UncertainElasticity(fields.Field):
         return [self.number, self.tagged]
 
     def _inside(self, x: float) -> bool:
-        return self.lower <= x < self.upper if self.upper_open else self.lower <= x <= self.upper
+        above = self.lower < x if self.lower_open else self.lower <= x
+        below = x < self.upper if self.upper_open else x <= self.upper
+        return above and below
 
     def _deserialize(self, value, attr, data, **kwargs):
         if not isinstance(value, dict):
             return self.number.deserialize(value)
         d = self.tagged.deserialize(value)
         kind = d["distribution"]
-        rule = f"[{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
+        rule = f"{'(' if self.lower_open else '['}{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
         # The sign rule bounds every location parameter; a normal's sd is a spread.
         located = [k for k in PARAMETERS[kind] if k != "sd"]
         bad = {k: [f"Must lie in {rule}."] for k in located if not self._inside(d[k])}
@@ -87,7 +101,12 @@ class UncertainElasticity(fields.Field):
             raise ValidationError(bad)
         parameters = {k: d[k] for k in PARAMETERS[kind]}
         return Distribution(
-            kind, **parameters, lower=self.lower, upper=self.upper, upper_open=self.upper_open
+            kind,
+            **parameters,
+            lower=self.lower,
+            upper=self.upper,
+            upper_open=self.upper_open,
+            lower_open=self.lower_open,
         )
 
 
@@ -109,6 +128,15 @@ class UncertainSupplySchema(SupplySchema):
 class UncertainMarketSchema(MarketSchema):
     demand = fields.Nested(UncertainDemandSchema, required=True)
     supply = fields.Nested(UncertainSupplySchema, required=True)
+    inflation = NumberOrList(
+        UncertainElasticity(-1.0, limits.MAX_RATE, lower_open=True),
+        MarketSchema._declared_fields["inflation"].items,
+        load_default=0.0,
+        metadata={
+            "description": MarketSchema._declared_fields["inflation"].metadata["description"]
+            + " A constant rate may be a distribution (each draw a constant rate)."
+        },
+    )
 
     @post_load
     def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
@@ -139,8 +167,12 @@ class UncertainMarketSchema(MarketSchema):
             n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
             for n, v in supply["shifters"].items()
         }
+        inflation = data.get("inflation", 0.0)
+        if not isinstance(inflation, list):
+            inflation = central("inflation", "/market/inflation", inflation)
         numbers = {
             **data,
+            "inflation": inflation,
             "demand": {"price_elasticity": eta, "shifters": demand_shifters},
             "supply": {
                 "short_run_elasticity": short_run,
@@ -149,6 +181,57 @@ class UncertainMarketSchema(MarketSchema):
             },
         }
         return build_market(numbers), inputs
+
+
+@dataclass(frozen=True)
+class _UncertainAdjustment(Adjustment):
+    """An Adjustment at its central values that also carries its uncertain inputs (replaced by
+    the plain Adjustment when the scenario is built)."""
+
+    inputs: tuple[UncertainInput, ...] = ()
+
+
+def _schedule_inputs(data, schedule: str) -> Adjustment:
+    inputs = []
+
+    def central(target, name, value):
+        if isinstance(value, Distribution):
+            inputs.append(UncertainInput(target, f"/adjustment/{name}", value))
+            return value.central
+        return value
+
+    rate = central("schedule_rate", "rate", data.get("rate"))
+    depreciation = central("depreciation", "depreciation", data.get("depreciation"))
+    return _UncertainAdjustment(
+        schedule=schedule,
+        rate=rate,
+        half_life=data.get("half_life"),
+        depreciation=depreciation,
+        inputs=tuple(inputs),
+    )
+
+
+class UncertainGeometricScheduleSchema(GeometricScheduleSchema):
+    rate = UncertainElasticity(
+        0.0, 1.0, lower_open=True, metadata=GeometricScheduleSchema._declared_fields["rate"].metadata
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return _schedule_inputs(data, "geometric")
+
+
+class UncertainStockScheduleSchema(StockScheduleSchema):
+    rate = UncertainElasticity(
+        0.0, 1.0, lower_open=True, metadata=StockScheduleSchema._declared_fields["rate"].metadata
+    )
+    depreciation = UncertainElasticity(
+        0.0, 1.0, metadata=StockScheduleSchema._declared_fields["depreciation"].metadata
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> Adjustment:
+        return _schedule_inputs(data, "stock")
 
 
 @dataclass(frozen=True)
@@ -163,6 +246,15 @@ class UncertainRequest:
 
 class _UncertainRequestSchema(PathsRequestSchema):
     market = fields.Nested(UncertainMarketSchema, required=True)
+    adjustment = Tagged(
+        "schedule",
+        {
+            **SCHEDULE_SCHEMAS,
+            "geometric": UncertainGeometricScheduleSchema,
+            "stock": UncertainStockScheduleSchema,
+        },
+        metadata=PathsRequestSchema._declared_fields["adjustment"].metadata,
+    )
     supply_correlation = Real(
         load_default=0.0,
         validate=_range(-1.0, 1.0),
@@ -177,7 +269,16 @@ class _UncertainRequestSchema(PathsRequestSchema):
     @post_load
     def _build(self, data, **kwargs) -> UncertainRequest:
         market, inputs = data["market"]
-        scenario = PathsRequestSchema._build(self, {**data, "market": market})
+        adjustment = data.get("adjustment")
+        if isinstance(adjustment, _UncertainAdjustment):
+            inputs = [*inputs, *adjustment.inputs]
+            adjustment = Adjustment(
+                schedule=adjustment.schedule,
+                rate=adjustment.rate,
+                half_life=adjustment.half_life,
+                depreciation=adjustment.depreciation,
+            )
+        scenario = PathsRequestSchema._build(self, {**data, "market": market, "adjustment": adjustment})
         return UncertainRequest(
             scenario=scenario,
             inputs=tuple(inputs),
