@@ -29,6 +29,7 @@ __all__ = [
     "available",
     "discount_factors",
     "gains_and_losses",
+    "gains_and_losses_figure",
     "render_bands",
     "render_gains_and_losses",
     "render_paths",
@@ -448,12 +449,9 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     return figure
 
 
-def render_gains_and_losses(
-    body: dict, request: dict, units: dict, fmt: str, form: str, title: str | None = None
-) -> bytes:
-    """Who gains and who loses under each policy of a /v1/paths body (`request` is its
-    request: the discount rate), one panel per policy; ProblemError (422) under random
-    rationing."""
+def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, title: str | None = None):
+    """The who-gains Figure of a /v1/paths body (`request`: its request, for the discount rate):
+    one panel per policy, bar i of a panel drawing `gains_and_losses(...)[policy, i]`."""
     values = gains_and_losses(body, discount_factors(request))
     period = units.get("period", "period")
     horizon = len(body["periods"]) - 1
@@ -463,5 +461,12 @@ def render_gains_and_losses(
         "the groups add up to minus the deadweight loss (the net in each title).",
         footnote(form, body["cautions"]),
     ]
-    figure = _gains_figure(body, values, units, "\n".join(lines), title or "Who gains and who loses")
-    return _save(figure, fmt)
+    return _gains_figure(body, values, units, "\n".join(lines), title or "Who gains and who loses")
+
+
+def render_gains_and_losses(
+    body: dict, request: dict, units: dict, fmt: str, form: str, title: str | None = None
+) -> bytes:
+    """Who gains and who loses under each policy as SVG or PNG; ProblemError (422) under random
+    rationing."""
+    return _save(gains_and_losses_figure(body, request, units, form, title), fmt)
