@@ -203,3 +203,95 @@ def test_the_messages_say_where_the_misplaced_fields_belong(client):
     nerlove = _bad_request(BAD["stock without rate, short run 0"][0])
     message = client.post("/v1/paths", json=nerlove).get_json()["errors"][0]["message"]
     assert "Nerlove" in message and "rate" in message
+
+
+# --- the demos of the additions tell the story the README tells ----------------------------------
+
+
+def _demo(client, name):
+    request = client.get(f"/v1/examples/{name}").get_json()
+    response = client.post("/v1/paths", json=request)
+    assert response.status_code == 200
+    body = response.get_json()
+    return {p["name"]: p for p in body["paths"]}, {s["name"]: s for s in body["summary"]}
+
+
+def test_the_essvane_demo_answers_the_numbers_the_readme_quotes(client):
+    """README, "Inflation" and "A durable stock" (numbers from running the demo). The checks by
+    hand: MODEL.md section 12 (a freeze's real rent P0/I_t) and section 13 (the stock rule, and
+    rho = (1-lambda)|eta|/(|eta| + lambda eps_LR) for the gap after the freeze: derived, and true
+    here although incomes and households grow, since both paths face the same linear curves)."""
+    paths, summary = _demo(client, "essvane-freeze-under-inflation")
+    freeze, free = paths["freeze for 5 years"], paths["free market"]
+    assert freeze["consumer_price"][1] == pytest.approx(1350 / 1.03) == pytest.approx(1310.68, abs=0.005)
+    assert freeze["consumer_price"][5] == pytest.approx(1164.52, abs=0.005)
+    assert free["consumer_price"][1] == pytest.approx(1413.45, abs=0.005)
+    desired = 72000 * (1 + 1.2 * (1350 / 1.03 / 1350 - 1))
+    assert freeze["quantity"][1] == pytest.approx(0.875 * 72000 + 0.125 * desired, rel=1e-12)
+    assert round(freeze["quantity"][1]) == 71685 and round(free["quantity"][1]) == 72508
+    assert freeze["quantity"][5] == pytest.approx(0.99 * freeze["quantity"][4], rel=1e-15)  # the floor
+    assert round(freeze["homes_below_free_path"][5]) == 7764
+    assert freeze["consumer_price"][6] == pytest.approx(1841.84, abs=0.005)
+    assert freeze["nominal_consumer_price"][6] == pytest.approx(2199.26, abs=0.005)
+    assert freeze["rent_above_free_path"][6] == pytest.approx(254.76, abs=0.005)
+    gap = freeze["homes_below_free_path"]
+    assert [round(gap[t]) for t in (6, 7, 15)] == [4755, 2913, 58]
+    rho = 0.875 * 0.35 / (0.35 + 0.125 * 1.2)
+    for t in range(7, 16):
+        assert gap[t] / gap[t - 1] == pytest.approx(rho, rel=1e-9)
+    assert freeze["deadweight_loss"][6:] == [0.0] * 10
+    assert summary["freeze for 5 years"]["total_deadweight_loss"] == pytest.approx(42.4e6, abs=0.05e6)
+    nominal, indexed = paths["2% nominal cap"], paths["inflation + 1% cap"]
+    assert nominal["consumer_price"][15] == pytest.approx(1166.21, abs=0.005)
+    assert nominal["nominal_consumer_price"][15] == pytest.approx(1816.92, abs=0.005)
+    assert round(nominal["shortage"][15]) == 38350
+    assert indexed["consumer_price"][15] == pytest.approx(1560.54, abs=0.005)
+    assert round(indexed["shortage"][15]) == 15963
+    assert round(summary["inflation + 1% cap"]["total_deadweight_loss"] / 1e6) == 146
+    assert round(summary["2% nominal cap"]["total_deadweight_loss"] / 1e6) == 725
+    assert round(summary["inflation + 1% cap"]["discounted_deadweight_loss"] / 1e6) == 105
+    assert round(summary["2% nominal cap"]["discounted_deadweight_loss"] / 1e6) == 513
+
+
+def test_the_corrowdale_demo_answers_the_numbers_the_readme_quotes(client):
+    """README, "Part of the homes under a ceiling" and "Who gains and who loses" (numbers from
+    running the demo): uncontrolled rents above the free rent (Fallis & Smith 1984, AER 74(1)),
+    both segments clearing (MODEL.md section 14), and the groups adding up to minus the
+    deadweight loss (derived, MODEL.md section 15)."""
+    paths, summary = _demo(client, "corrowdale-older-buildings")
+    partial, free, full = (
+        paths["freeze on older buildings (40%)"],
+        paths["free market"],
+        paths["freeze on every home"],
+    )
+    assert free["consumer_price"][12] == pytest.approx(1268.05, abs=0.005)
+    assert partial["covered_quantity"][12] == pytest.approx(15400, rel=1e-12)
+    assert partial["uncovered_price"][12] == pytest.approx(1337.00, abs=0.005)
+    assert partial["uncovered_quantity"][12] == pytest.approx(
+        0.6 * 38500 * partial["uncovered_price"][12] / 1090
+    )
+    assert round(partial["quantity"][12]) == 43735 and round(partial["quantity_demanded"][12]) == 47945
+    assert round(partial["shortage"][12]) == 4210 and round(full["shortage"][12]) == 9445
+    assert partial["consumer_price"][12] == pytest.approx(1250.02, abs=0.005)
+    for t in range(1, 13):  # uncontrolled rents above the free rent in every year
+        assert partial["uncovered_price"][t] > free["consumer_price"][t] > partial["covered_price"][t]
+    totals = summary["freeze on older buildings (40%)"]["distribution_totals"]
+    quoted = {
+        "tenants_in_controlled_homes": 299.4,
+        "tenants_in_uncontrolled_homes": -174.6,
+        "households_priced_out": -2.6,
+        "owners_of_controlled_homes": -315.4,
+        "owners_of_uncontrolled_homes": 171.3,
+        "government": 0.0,
+    }
+    assert {g: round(v / 1e6, 1) for g, v in totals.items()} == quoted
+    assert round(summary["freeze on older buildings (40%)"]["total_deadweight_loss"] / 1e6, 1) == 21.9
+    full_totals = {
+        g: round(v / 1e6, 1) for g, v in summary["freeze on every home"]["distribution_totals"].items()
+    }
+    assert (full_totals["tenants_in_controlled_homes"], full_totals["owners_of_controlled_homes"]) == (
+        748.5,
+        -788.5,
+    )
+    assert full_totals["households_priced_out"] == -92.8
+    assert round(summary["freeze on every home"]["total_deadweight_loss"] / 1e6, 1) == 132.8
