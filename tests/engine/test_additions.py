@@ -18,6 +18,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from service import ProblemError, simulate, simulate_many
+from service.schemas.compiled import compile_loader
+from service.schemas.paths import PathsRequestSchema
 
 from .. import reference
 from ..strategies import extended_requests
@@ -248,3 +250,14 @@ def test_a_mixed_batch_reports_each_scenarios_additions_only():
     ]
     assert has == [(True, False, False), (False, True, False), (False, False, True), (False, False, False)]
     assert all("covered_price" not in path(b, "free") for b in bodies)
+
+
+@given(extended_requests())
+def test_the_fast_loader_reads_the_additions_as_marshmallow_does(request):
+    """schemas/compiled.py: the generated fast path loads every valid request with the new fields
+    (inflation lists, indexed flags, coverage, the stock schedule) to the same scenario as
+    marshmallow, so it can only make a request cheaper, never change its answer or its id."""
+    schema = PathsRequestSchema()
+    fast = compile_loader(schema)
+    assert fast is not None
+    assert fast(copy.deepcopy(request)) == schema.load(request)
