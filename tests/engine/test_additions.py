@@ -14,7 +14,7 @@ from __future__ import annotations
 import copy
 
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from service import ProblemError, simulate, simulate_many
@@ -41,9 +41,6 @@ MONEY = {
     "deadweight_loss": "dwl",
     "misallocation_loss": "mis",
 }
-#: The reference is a loop of brentq and quad calls over every period of every path (and of the
-#: free path under the stock): a third of the profile's examples keeps this file quick.
-FEW = settings(max_examples=max(10, settings().max_examples // 3))
 
 
 def reference_infeasible(request) -> bool:
@@ -165,19 +162,16 @@ def compare(request) -> bool:
     return True
 
 
-@FEW
 @given(extended_requests(form="linear"))
 def test_linear_form_with_the_additions_matches_the_scalar_reference(request):
     compare(request)
 
 
-@FEW
 @given(extended_requests(form="constant_elasticity"))
 def test_constant_elasticity_form_with_the_additions_matches_the_scalar_reference(request):
     compare(request)
 
 
-@FEW
 @given(extended_requests(stock=True))
 def test_the_durable_stock_matches_the_scalar_reference(request):
     compare(request)
@@ -200,7 +194,6 @@ def test_every_demo_with_the_additions_matches_the_scalar_reference():
     assert compared >= 2
 
 
-@settings(max_examples=max(10, settings().max_examples // 3))
 @given(st.lists(extended_requests(), min_size=2, max_size=5), st.data())
 def test_a_scenario_with_the_additions_gives_the_same_bits_alone_and_in_a_batch(batch, data):
     """DEVELOPERS.md, rules of the house: one scenario gives the same bits alone or inside any
