@@ -39,8 +39,9 @@ period, these new attributes under their API names:
   active, and in period 0) they are the free market split by share: covered_price =
   uncovered_price = P*, covered_quantity = s Q*, uncovered_quantity = (1-s) Q*. Where it
   binds: c_t, Pu, s Qs(c_t), (1-s) Qs(Pu); then pc = pp = (c Qc + Pu Qu)/Q, q = Qc + Qu,
-  shortage = Qd(c) - Q, excess 0, qd = Qd(pc) and qs = Qs(pp) at those mean rents (section
-  11's "always" rule read literally).
+  shortage = Qd(c) - Q, excess 0, qd = Qd(c) (what households would rent at the controlled
+  rent, so that shortage = qd - q, as the service reports it) and qs = Q (the homes let in
+  both segments, s Qs(c) + (1-s) Qs(Pu)).
 - ``homes_below_free_path`` (free path's Q_t - this Q_t) and ``rent_above_free_path``
   (pc_t - free path's P*_t): under the ``stock`` schedule, else None; the free path is the
   scenario with no policy on its own stock, computed even if no policy has kind ``none``.
@@ -541,7 +542,7 @@ def _partial_ceiling(c: Period, level: float, s: float, p_star: float, q_star: f
     qu = (1.0 - s) * qs_u
     q = qc + qu
     pc = (level * qc + pu * qu) / q
-    row = Row(pc, pc, q, c.qd(pc), c.qs(pc), True, shortage=c.qd(level) - q)
+    row = Row(pc, pc, q, c.qd(level), q, True, shortage=c.qd(level) - q)
     row.covered_price, row.uncovered_price = level, pu
     row.covered_quantity, row.uncovered_quantity = qc, qu
     kinks = c.supply_kinks()

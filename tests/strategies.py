@@ -133,3 +133,55 @@ def requests(draw, form=None, rationing=None):
     if adjustment is not None:
         request["adjustment"] = adjustment
     return request
+
+
+# --- the additions of MODEL.md sections 12-15 ----------------------------------------------------
+
+#: Policy kinds whose rule has money in it, and so may be `indexed` (MODEL.md 12).
+INDEXABLE = ("price_ceiling", "price_floor", "unit_tax", "unit_subsidy")
+
+
+def inflations():
+    """market.inflation: 0, a constant rate, or per-period rates (the last holds)."""
+    return st.one_of(
+        st.just(0.0),
+        floats(-0.03, 0.1),
+        st.lists(floats(-0.03, 0.1), min_size=1, max_size=5),
+    )
+
+
+@st.composite
+def stock_adjustments(draw, market):
+    """The `stock` schedule (MODEL.md 13): a rate, a half-life, or the Nerlove default where it
+    applies (0 < eps_SR <= eps_LR); with or without a depreciation floor."""
+    sr = market["supply"]["short_run_elasticity"]
+    lr = market["supply"]["long_run_elasticity"]
+    options = [
+        st.builds(lambda r: {"schedule": "stock", "rate": r}, floats(0.05, 1.0)),
+        st.builds(lambda h: {"schedule": "stock", "half_life": h}, floats(0.5, 6.0)),
+    ]
+    if 0 < sr <= lr:
+        options.append(st.just({"schedule": "stock"}))
+    adjustment = draw(st.one_of(options))
+    if draw(st.booleans()):
+        adjustment["depreciation"] = draw(st.one_of(st.just(0.0), floats(0.001, 0.1)))
+    return adjustment
+
+
+@st.composite
+def extended_requests(draw, form=None, stock=None):
+    """Random valid requests of requests() (efficient rationing) with the new fields: inflation,
+    the stock schedule (always, never or either: `stock`), a coverage on each price ceiling and
+    `indexed` on each rule with money in it."""
+    request = draw(requests(form=form, rationing="efficient"))
+    request["market"]["inflation"] = draw(inflations())
+    if stock is None:
+        stock = draw(st.booleans())
+    if stock:
+        request["adjustment"] = draw(stock_adjustments(request["market"]))
+    for policy in request["policies"]:
+        if policy["kind"] == "price_ceiling":
+            policy["coverage"] = draw(st.one_of(st.just(1.0), floats(0.05, 1.0)))
+        if policy["kind"] in INDEXABLE:
+            policy["indexed"] = draw(st.booleans())
+    return request

@@ -157,9 +157,14 @@ def build_market(data: dict[str, Any]) -> Market:
 
 
 def _inflation_value(value: float | list[float]) -> float | tuple[float, ...]:
-    """A constant rate, or per-period rates; a list of one rate is that constant rate."""
+    """A constant rate, or per-period rates. The last rate holds, so repeats of it at the end
+    of a list say nothing and are dropped; what is left of one rate is that constant rate (so
+    a list of zeros is no inflation: no price index, and the scenario id of no inflation)."""
     if isinstance(value, list):
-        return value[0] if len(value) == 1 else tuple(value)
+        end = len(value)
+        while end > 1 and value[end - 2] == value[-1]:
+            end -= 1
+        return value[0] if end == 1 else tuple(value[:end])
     return value
 
 
