@@ -1,22 +1,36 @@
-"""Requests of /v1/bands and /v1/sensitivity: a /v1/paths request in which any elasticity may
-be a distribution object, plus draws, seed, percentiles and an optional correlation.
+"""Requests of /v1/bands and /v1/sensitivity: a /v1/paths request in which any elasticity, a
+constant `market.inflation`, and the `rate` of a geometric or stock schedule and the stock's
+`depreciation` may be a distribution object, plus draws, seed, percentiles and an optional
+correlation.
 
-A distribution is checked against its elasticity's sign rule: a normal's mean must obey it
-(the draws are truncated to it), a uniform's or triangular's whole range must.
+A distribution is checked against its input's rule (an elasticity's sign rule; inflation
+> -1; a rate in (0, 1]; a depreciation in [0, 1]): a normal's mean must obey it (the draws
+are truncated to it), a uniform's or triangular's whole range must.
 """
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 from marshmallow import ValidationError, fields, post_load, validate, validates_schema
 
 from .. import limits
-from ..engine.scenario import Market, Scenario
-from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput
+from ..engine.scenario import Adjustment, Market, Scenario
+from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput, banded_values
 from .fields import Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
-from .paths import DemandSchema, MarketSchema, PathsRequestSchema, SupplySchema, build_market, shifter_map
+from .paths import (
+    SCHEDULE_SCHEMAS,
+    DemandSchema,
+    GeometricScheduleSchema,
+    MarketSchema,
+    PathsRequestSchema,
+    StockScheduleSchema,
+    SupplySchema,
+    build_market,
+    shifter_map,
+)
 from .pointers import escape
 
 __all__ = ["BandsRequestSchema", "SensitivityRequestSchema", "UncertainRequest"]
@@ -58,28 +72,48 @@ class TriangularSchema(StrictSchema):
 DISTRIBUTIONS = {"normal": NormalSchema, "uniform": UniformSchema, "triangular": TriangularSchema}
 
 
-class UncertainElasticity(fields.Field):
-    """A number, or a distribution whose support obeys the elasticity's sign rule."""
+class UncertainNumber(fields.Field):
+    """A number, or a distribution whose support obeys the input's rule [lower, upper] (either
+    end open); with `items`, also a list loaded by it (inflation's per-period rates, which
+    stay certain)."""
 
-    def __init__(self, lower: float, upper: float, upper_open: bool = False, **kwargs):
+    def __init__(
+        self,
+        lower: float,
+        upper: float,
+        upper_open: bool = False,
+        lower_open: bool = False,
+        items: fields.List | None = None,
+        **kwargs,
+    ):
         super().__init__(**kwargs)
-        self.lower, self.upper, self.upper_open = lower, upper, upper_open
-        self.number = Real(validate=_range(lower, upper, high_ok=not upper_open))
+        self.lower, self.upper, self.upper_open, self.lower_open = lower, upper, upper_open, lower_open
+        self.number = Real(validate=_range(lower, upper, low_ok=not lower_open, high_ok=not upper_open))
+        self.items = items
         self.tagged = Tagged("distribution", DISTRIBUTIONS)
 
+    def _bind_to_schema(self, field_name, parent):
+        super()._bind_to_schema(field_name, parent)
+        if self.items is not None:
+            self.items._bind_to_schema(field_name, parent)
+
     def openapi_alternatives(self):
-        """For the OpenAPI document: a number or one of the distributions."""
-        return [self.number, self.tagged]
+        """For the OpenAPI document: a number, the list if any, or one of the distributions."""
+        return [self.number, *([self.items] if self.items is not None else []), self.tagged]
 
     def _inside(self, x: float) -> bool:
-        return self.lower <= x < self.upper if self.upper_open else self.lower <= x <= self.upper
+        above = self.lower < x if self.lower_open else self.lower <= x
+        below = x < self.upper if self.upper_open else x <= self.upper
+        return above and below
 
     def _deserialize(self, value, attr, data, **kwargs):
+        if self.items is not None and isinstance(value, list):
+            return self.items.deserialize(value)
         if not isinstance(value, dict):
             return self.number.deserialize(value)
         d = self.tagged.deserialize(value)
         kind = d["distribution"]
-        rule = f"[{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
+        rule = f"{'(' if self.lower_open else '['}{self.lower}, {self.upper}{')' if self.upper_open else ']'}"
         # The sign rule bounds every location parameter; a normal's sd is a spread.
         located = [k for k in PARAMETERS[kind] if k != "sd"]
         bad = {k: [f"Must lie in {rule}."] for k in located if not self._inside(d[k])}
@@ -87,34 +121,55 @@ class UncertainElasticity(fields.Field):
             raise ValidationError(bad)
         parameters = {k: d[k] for k in PARAMETERS[kind]}
         return Distribution(
-            kind, **parameters, lower=self.lower, upper=self.upper, upper_open=self.upper_open
+            kind,
+            **parameters,
+            lower=self.lower,
+            upper=self.upper,
+            upper_open=self.upper_open,
+            lower_open=self.lower_open,
         )
 
 
 def _shifters(description: str) -> fields.Dict:
-    return shifter_map(description, UncertainElasticity(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
+    return shifter_map(description, UncertainNumber(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
 
 
 class UncertainDemandSchema(DemandSchema):
-    price_elasticity = UncertainElasticity(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
+    price_elasticity = UncertainNumber(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
 
 
 class UncertainSupplySchema(SupplySchema):
-    short_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
-    long_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
+    short_run_elasticity = UncertainNumber(0.0, limits.MAX_ELASTICITY, required=True)
+    long_run_elasticity = UncertainNumber(0.0, limits.MAX_ELASTICITY, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
+
+
+def _inflation_rate() -> Real:
+    return Real(validate=_range(-1.0, limits.MAX_RATE, low_ok=False))
 
 
 class UncertainMarketSchema(MarketSchema):
     demand = fields.Nested(UncertainDemandSchema, required=True)
     supply = fields.Nested(UncertainSupplySchema, required=True)
+    inflation = UncertainNumber(
+        -1.0,
+        limits.MAX_RATE,
+        lower_open=True,
+        items=fields.List(_inflation_rate(), validate=validate.Length(1, limits.MAX_HORIZON)),
+        load_default=0.0,
+        metadata={
+            "description": MarketSchema._declared_fields["inflation"].metadata["description"]
+            + " In bands and sensitivity a constant rate may be a distribution (> -1): each draw "
+            "then has that rate in every period."
+        },
+    )
 
     @post_load
     def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
         """The market at the central values, and the uncertain inputs in a fixed order (demand
-        price elasticity, short run, long run, demand shifters, supply shifters): the order of
-        the draws' columns."""
+        price elasticity, short run, long run, demand shifters, supply shifters, inflation):
+        the order of the draws' columns."""
         inputs: list[UncertainInput] = []
 
         def central(target, pointer, value):
@@ -139,8 +194,10 @@ class UncertainMarketSchema(MarketSchema):
             n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
             for n, v in supply["shifters"].items()
         }
+        inflation = central("inflation", "/market/inflation", data.get("inflation", 0.0))
         numbers = {
             **data,
+            "inflation": inflation,
             "demand": {"price_elasticity": eta, "shifters": demand_shifters},
             "supply": {
                 "short_run_elasticity": short_run,
@@ -149,6 +206,79 @@ class UncertainMarketSchema(MarketSchema):
             },
         }
         return build_market(numbers), inputs
+
+
+@dataclass(frozen=True)
+class _UncertainAdjustment(Adjustment):
+    """An adjustment at its central values, carrying its uncertain inputs until the request is
+    built (the scenario gets a plain Adjustment)."""
+
+    uncertain: tuple[UncertainInput, ...] = ()
+
+    def plain(self) -> Adjustment:
+        return Adjustment(**{f.name: getattr(self, f.name) for f in dataclasses.fields(Adjustment)})
+
+
+def _uncertain_adjustment(data, **values) -> _UncertainAdjustment:
+    """Replace each distribution in `data` (rate, depreciation) by its central value."""
+    targets = {"rate": "schedule_rate", "depreciation": "depreciation"}
+    inputs = []
+    for name in ("rate", "depreciation"):
+        value = data.get(name)
+        if isinstance(value, Distribution):
+            inputs.append(UncertainInput(targets[name], f"/adjustment/{name}", value))
+            data = {**data, name: value.central}
+    return _UncertainAdjustment(
+        **values,
+        rate=data.get("rate"),
+        half_life=data.get("half_life"),
+        depreciation=data.get("depreciation"),
+        uncertain=tuple(inputs),
+    )
+
+
+def _rate(what: str) -> UncertainNumber:
+    return UncertainNumber(
+        0.0,
+        1.0,
+        lower_open=True,
+        metadata={"description": f"{what} In bands and sensitivity it may be a distribution in (0, 1]."},
+    )
+
+
+class UncertainGeometricScheduleSchema(GeometricScheduleSchema):
+    rate = _rate("Nerlove adjustment coefficient lambda in (0, 1].")
+
+    @post_load
+    def _build(self, data, **kwargs) -> _UncertainAdjustment:
+        return _uncertain_adjustment(data, schedule="geometric")
+
+
+class UncertainStockScheduleSchema(StockScheduleSchema):
+    rate = _rate(
+        "Share lambda in (0, 1] of the gap to the desired stock closed each period (default: "
+        "short_run / long_run elasticity, per draw in bands)."
+    )
+    depreciation = UncertainNumber(
+        0.0,
+        1.0,
+        metadata={
+            "description": "Largest share of the stock lost in one period, in [0, 1]; without it the "
+            "stock may fall as fast as it rose. In bands and sensitivity it may be a distribution "
+            "in [0, 1]."
+        },
+    )
+
+    @post_load
+    def _build(self, data, **kwargs) -> _UncertainAdjustment:
+        return _uncertain_adjustment(data, schedule="stock")
+
+
+UNCERTAIN_SCHEDULE_SCHEMAS = {
+    **SCHEDULE_SCHEMAS,
+    "geometric": UncertainGeometricScheduleSchema,
+    "stock": UncertainStockScheduleSchema,
+}
 
 
 @dataclass(frozen=True)
@@ -163,6 +293,11 @@ class UncertainRequest:
 
 class _UncertainRequestSchema(PathsRequestSchema):
     market = fields.Nested(UncertainMarketSchema, required=True)
+    adjustment = Tagged(
+        "schedule",
+        UNCERTAIN_SCHEDULE_SCHEMAS,
+        metadata={"description": PathsRequestSchema._declared_fields["adjustment"].metadata["description"]},
+    )
     supply_correlation = Real(
         load_default=0.0,
         validate=_range(-1.0, 1.0),
@@ -174,13 +309,23 @@ class _UncertainRequestSchema(PathsRequestSchema):
     def _market_of(self, data) -> Market:
         return data["market"][0]
 
+    def _scenario_and_inputs(self, data) -> tuple[Scenario, tuple[UncertainInput, ...]]:
+        """The scenario at the central values and the uncertain inputs: the market's, then the
+        adjustment's (rate, depreciation), the order of the draws' columns."""
+        market, inputs = data["market"]
+        adjustment = data.get("adjustment")
+        extra: tuple[UncertainInput, ...] = ()
+        if isinstance(adjustment, _UncertainAdjustment):
+            extra, adjustment = adjustment.uncertain, adjustment.plain()
+        scenario = PathsRequestSchema._build(self, {**data, "market": market, "adjustment": adjustment})
+        return scenario, (*inputs, *extra)
+
     @post_load
     def _build(self, data, **kwargs) -> UncertainRequest:
-        market, inputs = data["market"]
-        scenario = PathsRequestSchema._build(self, {**data, "market": market})
+        scenario, inputs = self._scenario_and_inputs(data)
         return UncertainRequest(
             scenario=scenario,
-            inputs=tuple(inputs),
+            inputs=inputs,
             draws=data.get("draws", 0),
             seed=data.get("seed", 0),
             percentiles=tuple(data.get("percentiles", ())),
@@ -214,6 +359,15 @@ class BandsRequestSchema(_UncertainRequestSchema):
         if cells > limits.MAX_DRAW_CELLS:
             raise ValidationError(
                 f"draws x (horizon + 1) x policies is {cells:,}; the limit is {limits.MAX_DRAW_CELLS:,}.",
+                "draws",
+            )
+        kept = banded_values(*self._scenario_and_inputs(data), data["draws"])
+        if kept > limits.MAX_BAND_VALUES:
+            raise ValidationError(
+                f"draws x (horizon + 1) x banded series is {kept:,}; the limit is "
+                f"{limits.MAX_BAND_VALUES:,} (each policy bands 6 series; 2 more under the stock "
+                "schedule, 2 more on a ceiling with coverage below 1, 1 more with a drawn inflation "
+                "rate): fewer draws, periods or policies.",
                 "draws",
             )
 
