@@ -14,8 +14,8 @@ import numpy as np
 from . import engine
 from .engine.batch import pack
 from .engine.uncertainty import (
-    DISTRIBUTION_BAND_SUMMARY,
-    STOCK_BAND_SUMMARY,
+    GROUP_TOTALS,
+    STOCK_SUMMARY,
     percentile_bands,
     rows_for,
     scenario_batch_with,
@@ -30,19 +30,19 @@ __all__ = ["bands", "sensitivity"]
 _BANDS = BandsRequestSchema()
 _SENSITIVITY = SensitivityRequestSchema()
 
-#: The headline figures whose swings sensitivity reports, in ranking order; then, under the
-#: stock schedule, STOCK_BAND_SUMMARY, and, unless rationing is random, each group's total
-#: (DISTRIBUTION_BAND_SUMMARY): see headlines().
+#: The headline figures whose swings sensitivity reports, in ranking order; then, unless
+#: rationing is random, each group's total (GROUP_TOTALS), and under the stock schedule the
+#: homes below the free path (STOCK_SUMMARY): see headlines(), the order of the band summary.
 HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
 
 
 def headlines(scenario) -> tuple[str, ...]:
     """The headline figures of a scenario's sensitivity, in ranking order."""
     out = HEADLINES
-    if scenario.adjustment.schedule == "stock":
-        out += STOCK_BAND_SUMMARY
     if scenario.welfare.rationing != "random":
-        out += DISTRIBUTION_BAND_SUMMARY
+        out += GROUP_TOTALS
+    if scenario.adjustment.schedule == "stock":
+        out += STOCK_SUMMARY
     return out
 
 
@@ -135,8 +135,10 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                 "infeasible_draws": int(arrays.infeasible_draws[p]),
             }
         )
+    elasticities = all(i.target not in ("inflation", "schedule_rate", "depreciation") for i in req.inputs)
     cautions = [
-        f"Bands are percentiles over {req.draws:,} draws of the uncertain inputs (seed {req.seed}); "
+        f"Bands are percentiles over {req.draws:,} draws of the uncertain "
+        f"{'elasticities' if elasticities else 'inputs'} (seed {req.seed}); "
         "each percentile is taken period by period, so a band is not the path of any one draw.",
     ]
     if req.scenario.welfare.rationing == "random":
@@ -221,8 +223,8 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
             "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
             "its distribution) with every other input at its central value; inputs are sorted by their "
             "largest swing in discounted deadweight loss over all policies, then peak shortage, then "
-            "final price, then the other headlines in their order (homes below the free path under the "
-            "stock schedule, each group's total).",
+            "final price, then the other headlines in their order (each group's total, then the homes "
+            "below the free path under the stock schedule).",
             *central["cautions"],
         ],
     }

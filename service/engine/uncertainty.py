@@ -34,17 +34,17 @@ from . import kernel
 from .batch import PolicyRows, ScenarioBatch, pack
 from .paths import price_index, solve
 from .results import DISTRIBUTION_GROUPS, STOCK_SERIES, summarise
-from .scenario import Scenario
+from .scenario import ADDITION_DEFAULTS, Scenario
 
 __all__ = [
     "BAND_SERIES",
     "BAND_SUMMARY",
     "COVERAGE_BAND_SERIES",
-    "DISTRIBUTION_BAND_SUMMARY",
+    "GROUP_TOTALS",
     "NOMINAL_BAND_SERIES",
     "PARAMETERS",
     "STOCK_BAND_SERIES",
-    "STOCK_BAND_SUMMARY",
+    "STOCK_SUMMARY",
     "TARGETS",
     "BandArrays",
     "BandLayout",
@@ -83,9 +83,9 @@ BAND_SUMMARY = (
     "final_quantity",
 )
 #: Each group's total over the horizon (MODEL.md 15): the summary's distribution_totals.
-DISTRIBUTION_BAND_SUMMARY = tuple("total_" + name for name in DISTRIBUTION_GROUPS)
+GROUP_TOTALS = tuple("total_" + name for name in DISTRIBUTION_GROUPS)
 #: Under the stock schedule.
-STOCK_BAND_SUMMARY = ("final_homes_below_free_path", "peak_homes_below_free_path")
+STOCK_SUMMARY = ("final_homes_below_free_path", "peak_homes_below_free_path")
 
 
 #: The parameters of each distribution, in the order a caller writes them.
@@ -164,6 +164,11 @@ class Distribution:
             return self.low, self.high
         low, high = self.ppf(np.array([0.05, 0.95]))
         return float(low), float(high)
+
+
+# Added with MODEL.md 12-13 (uncertain inflation and stock rates): left out of answer ids at
+# its default, so that ids of requests without it are unchanged.
+ADDITION_DEFAULTS[Distribution] = {"lower_open": False}
 
 
 #: What an uncertain input may replace (besides ("demand_shifter" | "supply_shifter", name)).
@@ -309,9 +314,9 @@ def band_layout(scenario: Scenario, inputs: Sequence[UncertainInput]) -> BandLay
         series.append(BAND_SERIES + (NOMINAL_BAND_SERIES if inflated else ()) + extra)
     summary = BAND_SUMMARY
     if scenario.welfare.rationing != "random":
-        summary += DISTRIBUTION_BAND_SUMMARY
+        summary += GROUP_TOTALS
     if stock:
-        summary += STOCK_BAND_SUMMARY
+        summary += STOCK_SUMMARY
     return BandLayout(tuple(kept), tuple(series), summary, inflated and not drawn)
 
 

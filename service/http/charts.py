@@ -1,4 +1,5 @@
-"""POST /v1/charts: paths, bands or sensitivity drawn as SVG or PNG (service.charts draws)."""
+"""POST /v1/charts: paths, bands, sensitivity or who gains and who loses drawn as SVG or PNG
+(service.charts draws)."""
 
 from __future__ import annotations
 
@@ -36,11 +37,16 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     scenario = spec["scenario"]
     market = scenario.get("market")
     form = market.get("form", "linear") if isinstance(market, dict) else "linear"
-    if spec["chart"] == "paths":
+    if spec["chart"] in ("paths", "gains_and_losses"):
         result = simulate_many([scenario])[0]
         if "status" in result:
             raise ProblemError(result)
-        image = charts.render_paths(result, spec["units"], fmt, form, spec.get("title"))
+        if spec["chart"] == "paths":
+            image = charts.render_paths(result, spec["units"], fmt, form, spec.get("title"))
+        else:
+            image = charts.render_gains_and_losses(
+                result, scenario, spec["units"], fmt, form, spec.get("title")
+            )
     elif spec["chart"] == "bands":
         threads = current_app.extensions["shockpath.settings"].band_threads
         result = bands(scenario, threads=threads)
@@ -57,7 +63,7 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     "post",
     "/v1/charts",
     operationId="postChart",
-    summary="A chart of paths, bands or sensitivity as SVG or PNG",
+    summary="A chart of paths, bands, sensitivity or who gains and who loses as SVG or PNG",
     request="ChartRequest",
     responses={
         "200": {

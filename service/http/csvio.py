@@ -4,6 +4,10 @@
     /v1/bands        policy,period,variable,percentile,value,unit
     /v1/paths/batch  scenario,scenario_id,policy,period,variable,value,unit
 
+Series that only some answers carry (nominal prices, covered and uncovered homes, homes below
+the free path) follow the others; each group of who gains and who loses is a variable of its
+own (money per model period); under inflation `price_index` comes first, its policy cell empty.
+
 Text cells that a spreadsheet would read as a formula (they begin with =, +, -, @, a tab or a
 carriage return) are neutralised as OWASP's "CSV Injection" page recommends: a single quote is
 put in front, so the cell reads as text, and every text cell is wrapped in double quotes (any
@@ -16,10 +20,11 @@ from __future__ import annotations
 
 import csv
 import io
+import itertools
 from collections.abc import Iterable
 from typing import Any
 
-from ..engine.results import SERIES
+from ..engine.results import COVERAGE_SERIES, DISTRIBUTION_GROUPS, NOMINAL_SERIES, SERIES, STOCK_SERIES
 
 __all__ = ["UNITS", "bands_csv", "batch_csv", "neutralise", "paths_csv"]
 
@@ -48,7 +53,19 @@ UNITS = {
     "misallocation_loss": _FLOW,
     "cumulative_deadweight_loss": "money, per model period summed over periods 0 to this one",
     "discounted_deadweight_loss": "money, discounted to period 0, summed over periods 0 to this one",
+    "nominal_consumer_price": "money of the day per unit per price interval",
+    "nominal_producer_price": "money of the day per unit per price interval",
+    "covered_price": _PRICE,
+    "uncovered_price": _PRICE,
+    "covered_quantity": _QUANTITY,
+    "uncovered_quantity": _QUANTITY,
+    "homes_below_free_path": _QUANTITY,
+    "rent_above_free_path": _PRICE,
+    "price_index": "index, period 0 = 1",
+    **{group: _FLOW for group in DISTRIBUTION_GROUPS},
 }
+#: Series that only some answers carry (MODEL.md 12-14), after SERIES in this order.
+_OPTIONAL = NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES
 
 
 def neutralise(text: str) -> str:
@@ -66,8 +83,10 @@ def _text(rows: Iterable[Iterable[Any]], header: list[str]) -> str:
 
 def _path_rows(path: dict[str, Any], periods: list[int], lead: tuple = ()) -> Iterable[tuple]:
     name = neutralise(path["name"])
-    for variable in SERIES:
-        values = path[variable]
+    series = [(v, path[v]) for v in SERIES] + [(v, path[v]) for v in _OPTIONAL if v in path]
+    if path.get("distribution"):  # who gains and who loses: each group a variable of its own
+        series += [(group, path["distribution"][group]) for group in DISTRIBUTION_GROUPS]
+    for variable, values in series:
         if variable == "binding":
             values = [int(v) for v in values]
         unit = UNITS[variable]
@@ -75,11 +94,17 @@ def _path_rows(path: dict[str, Any], periods: list[int], lead: tuple = ()) -> It
             yield (*lead, name, t, variable, value, unit)
 
 
+def _index_rows(body: dict[str, Any], lead: tuple = ()) -> Iterable[tuple]:
+    """Under inflation, the price index first, with an empty policy cell (it is the market's)."""
+    for t, value in zip(body["periods"], body.get("price_index", ()), strict=False):
+        yield (*lead, "", t, "price_index", value, UNITS["price_index"])
+
+
 def paths_csv(body: dict[str, Any]) -> str:
     """CSV text (policy,period,variable,value,unit) from a /v1/paths body."""
     periods = body["periods"]
-    rows = (row for path in body["paths"] for row in _path_rows(path, periods))
-    return _text(rows, ["policy", "period", "variable", "value", "unit"])
+    paths = (row for path in body["paths"] for row in _path_rows(path, periods))
+    return _text(itertools.chain(_index_rows(body), paths), ["policy", "period", "variable", "value", "unit"])
 
 
 def bands_csv(body: dict[str, Any]) -> str:
@@ -110,6 +135,7 @@ def batch_csv(results: list[dict[str, Any]]) -> str:
                 yield (i, "", "", "", "problem", neutralise(str(result.get("detail", ""))), "")
                 continue
             periods = list(result["periods"])
+            yield from _index_rows(result, (i, result["scenario_id"]))
             for path in result["paths"]:
                 yield from _path_rows(path, periods, (i, result["scenario_id"]))
 

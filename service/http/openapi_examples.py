@@ -83,6 +83,14 @@ def request_examples() -> dict[str, dict[str, dict[str, Any]]]:
             "summary": "Percentile ribbons of Quillbrook's uncertain elasticities",
             "value": {"chart": "bands", "format": "png", "scenario": short_bands["value"]},
         },
+        "gains-and-losses-chart": {
+            "summary": "Who gains and who loses under the Quillbrook rent freeze and cap",
+            "value": {
+                "chart": "gains_and_losses",
+                "units": {"currency": "EUR", "period": "year"},
+                "scenario": example_request("quillbrook-rent-freeze"),
+            },
+        },
         "sensitivity-chart": {
             "summary": "A tornado of the rent freeze's discounted deadweight loss",
             "value": {

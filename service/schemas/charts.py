@@ -34,9 +34,15 @@ class UnitsSchema(StrictSchema):
 class ChartRequestSchema(StrictSchema):
     chart = fields.String(
         required=True,
-        validate=validate.OneOf(["paths", "bands", "sensitivity"]),
+        validate=validate.OneOf(["paths", "bands", "sensitivity", "gains_and_losses"]),
         metadata={
-            "description": "paths: lines per policy; bands: percentile ribbons; sensitivity: a tornado."
+            "description": "paths: lines per policy (under the stock schedule also the homes below the "
+            "free path); bands: percentile ribbons; sensitivity: a tornado; gains_and_losses: who gains "
+            "and who loses, one panel per policy with one bar per group of the response's `distribution` "
+            "(tenants in controlled and in uncontrolled homes, households priced or rationed out, owners "
+            "of controlled and of uncontrolled homes, government), summed over the horizon and discounted "
+            "with the scenario's discount rate; a /v1/paths scenario with efficient rationing (under "
+            "random rationing the split is not reported: 422 pointing at /scenario/welfare/rationing)."
         },
     )
     format = fields.String(
@@ -57,5 +63,8 @@ class ChartRequestSchema(StrictSchema):
     scenario = AnyObject(
         PathsRequestSchema,
         required=True,
-        metadata={"description": "The body for /v1/paths, /v1/bands or /v1/sensitivity, by chart."},
+        metadata={
+            "description": "The body for /v1/paths (paths, gains_and_losses), /v1/bands or "
+            "/v1/sensitivity, by chart."
+        },
     )

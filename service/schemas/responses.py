@@ -65,7 +65,8 @@ _SERIES_HELP = {
     "excess_supply": "Qs - Q under a binding floor or quantity cap; 0 elsewhere.",
     "marginal_value": "Qd^-1(Q): what the last unit is worth to buyers.",
     "marginal_cost": "Qs^-1(Q): what the last unit costs sellers; under a partial ceiling the marginal "
-    "cost of uncontrolled homes (= uncovered_price; controlled homes are supplied up to the controlled rent).",
+    "cost of uncontrolled homes (= uncovered_price; controlled homes are supplied up to the controlled "
+    "rent).",
     "binding": "Whether the policy binds in the period.",
     "consumer_surplus_change": "Money per model period, against the period's free market.",
     "producer_surplus_change": "Money per model period.",

@@ -1,16 +1,12 @@
-"""Requests of /v1/bands and /v1/sensitivity: a /v1/paths request in which any elasticity, a
-constant `market.inflation`, and the `rate` of a geometric or stock schedule and the stock's
-`depreciation` may be a distribution object, plus draws, seed, percentiles and an optional
-correlation.
+"""Requests of /v1/bands and /v1/sensitivity: a /v1/paths request in which any elasticity may
+be a distribution object, plus draws, seed, percentiles and an optional correlation.
 
-A distribution is checked against its input's rule (an elasticity's sign rule; inflation
-> -1; a rate in (0, 1]; a depreciation in [0, 1]): a normal's mean must obey it (the draws
-are truncated to it), a uniform's or triangular's whole range must.
+A distribution is checked against its elasticity's sign rule: a normal's mean must obey it
+(the draws are truncated to it), a uniform's or triangular's whole range must.
 """
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 from marshmallow import ValidationError, fields, post_load, validate, validates_schema
@@ -18,7 +14,7 @@ from marshmallow import ValidationError, fields, post_load, validate, validates_
 from .. import limits
 from ..engine.scenario import Adjustment, Market, Scenario
 from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput, banded_values
-from .fields import Real, StrictSchema, Tagged, WholeNumber
+from .fields import NumberOrList, Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
 from .paths import (
     SCHEDULE_SCHEMAS,
@@ -72,34 +68,20 @@ class TriangularSchema(StrictSchema):
 DISTRIBUTIONS = {"normal": NormalSchema, "uniform": UniformSchema, "triangular": TriangularSchema}
 
 
-class UncertainNumber(fields.Field):
-    """A number, or a distribution whose support obeys the input's rule [lower, upper] (either
-    end open); with `items`, also a list loaded by it (inflation's per-period rates, which
-    stay certain)."""
+class UncertainElasticity(fields.Field):
+    """A number, or a distribution whose support obeys the elasticity's sign rule."""
 
     def __init__(
-        self,
-        lower: float,
-        upper: float,
-        upper_open: bool = False,
-        lower_open: bool = False,
-        items: fields.List | None = None,
-        **kwargs,
+        self, lower: float, upper: float, upper_open: bool = False, lower_open: bool = False, **kwargs
     ):
         super().__init__(**kwargs)
         self.lower, self.upper, self.upper_open, self.lower_open = lower, upper, upper_open, lower_open
         self.number = Real(validate=_range(lower, upper, low_ok=not lower_open, high_ok=not upper_open))
-        self.items = items
         self.tagged = Tagged("distribution", DISTRIBUTIONS)
 
-    def _bind_to_schema(self, field_name, parent):
-        super()._bind_to_schema(field_name, parent)
-        if self.items is not None:
-            self.items._bind_to_schema(field_name, parent)
-
     def openapi_alternatives(self):
-        """For the OpenAPI document: a number, the list if any, or one of the distributions."""
-        return [self.number, *([self.items] if self.items is not None else []), self.tagged]
+        """For the OpenAPI document: a number or one of the distributions."""
+        return [self.number, self.tagged]
 
     def _inside(self, x: float) -> bool:
         above = self.lower < x if self.lower_open else self.lower <= x
@@ -107,8 +89,6 @@ class UncertainNumber(fields.Field):
         return above and below
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if self.items is not None and isinstance(value, list):
-            return self.items.deserialize(value)
         if not isinstance(value, dict):
             return self.number.deserialize(value)
         d = self.tagged.deserialize(value)
@@ -131,45 +111,38 @@ class UncertainNumber(fields.Field):
 
 
 def _shifters(description: str) -> fields.Dict:
-    return shifter_map(description, UncertainNumber(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
+    return shifter_map(description, UncertainElasticity(-limits.MAX_ELASTICITY, limits.MAX_ELASTICITY))
 
 
 class UncertainDemandSchema(DemandSchema):
-    price_elasticity = UncertainNumber(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
+    price_elasticity = UncertainElasticity(-limits.MAX_ELASTICITY, 0.0, upper_open=True, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
 
 
 class UncertainSupplySchema(SupplySchema):
-    short_run_elasticity = UncertainNumber(0.0, limits.MAX_ELASTICITY, required=True)
-    long_run_elasticity = UncertainNumber(0.0, limits.MAX_ELASTICITY, required=True)
+    short_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
+    long_run_elasticity = UncertainElasticity(0.0, limits.MAX_ELASTICITY, required=True)
     shifters = _shifters("Shifter elasticities, each a number or a distribution.")
-
-
-def _inflation_rate() -> Real:
-    return Real(validate=_range(-1.0, limits.MAX_RATE, low_ok=False))
 
 
 class UncertainMarketSchema(MarketSchema):
     demand = fields.Nested(UncertainDemandSchema, required=True)
     supply = fields.Nested(UncertainSupplySchema, required=True)
-    inflation = UncertainNumber(
-        -1.0,
-        limits.MAX_RATE,
-        lower_open=True,
-        items=fields.List(_inflation_rate(), validate=validate.Length(1, limits.MAX_HORIZON)),
+    inflation = NumberOrList(
+        UncertainElasticity(-1.0, limits.MAX_RATE, lower_open=True),
+        MarketSchema._declared_fields["inflation"].items,
         load_default=0.0,
         metadata={
             "description": MarketSchema._declared_fields["inflation"].metadata["description"]
-            + " In bands and sensitivity a constant rate may be a distribution (> -1): each draw "
-            "then has that rate in every period."
+            + " A constant rate may be a distribution (each draw a constant rate)."
         },
     )
 
     @post_load
     def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
         """The market at the central values, and the uncertain inputs in a fixed order (demand
-        price elasticity, short run, long run, demand shifters, supply shifters, inflation):
-        the order of the draws' columns."""
+        price elasticity, short run, long run, demand shifters, supply shifters): the order of
+        the draws' columns."""
         inputs: list[UncertainInput] = []
 
         def central(target, pointer, value):
@@ -194,7 +167,9 @@ class UncertainMarketSchema(MarketSchema):
             n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
             for n, v in supply["shifters"].items()
         }
-        inflation = central("inflation", "/market/inflation", data.get("inflation", 0.0))
+        inflation = data.get("inflation", 0.0)
+        if not isinstance(inflation, list):
+            inflation = central("inflation", "/market/inflation", inflation)
         numbers = {
             **data,
             "inflation": inflation,
@@ -210,75 +185,53 @@ class UncertainMarketSchema(MarketSchema):
 
 @dataclass(frozen=True)
 class _UncertainAdjustment(Adjustment):
-    """An adjustment at its central values, carrying its uncertain inputs until the request is
-    built (the scenario gets a plain Adjustment)."""
+    """An Adjustment at its central values that also carries its uncertain inputs (replaced by
+    the plain Adjustment when the scenario is built)."""
 
-    uncertain: tuple[UncertainInput, ...] = ()
-
-    def plain(self) -> Adjustment:
-        return Adjustment(**{f.name: getattr(self, f.name) for f in dataclasses.fields(Adjustment)})
+    inputs: tuple[UncertainInput, ...] = ()
 
 
-def _uncertain_adjustment(data, **values) -> _UncertainAdjustment:
-    """Replace each distribution in `data` (rate, depreciation) by its central value."""
-    targets = {"rate": "schedule_rate", "depreciation": "depreciation"}
+def _schedule_inputs(data, schedule: str) -> Adjustment:
     inputs = []
-    for name in ("rate", "depreciation"):
-        value = data.get(name)
+
+    def central(target, name, value):
         if isinstance(value, Distribution):
-            inputs.append(UncertainInput(targets[name], f"/adjustment/{name}", value))
-            data = {**data, name: value.central}
+            inputs.append(UncertainInput(target, f"/adjustment/{name}", value))
+            return value.central
+        return value
+
+    rate = central("schedule_rate", "rate", data.get("rate"))
+    depreciation = central("depreciation", "depreciation", data.get("depreciation"))
     return _UncertainAdjustment(
-        **values,
-        rate=data.get("rate"),
+        schedule=schedule,
+        rate=rate,
         half_life=data.get("half_life"),
-        depreciation=data.get("depreciation"),
-        uncertain=tuple(inputs),
-    )
-
-
-def _rate(what: str) -> UncertainNumber:
-    return UncertainNumber(
-        0.0,
-        1.0,
-        lower_open=True,
-        metadata={"description": f"{what} In bands and sensitivity it may be a distribution in (0, 1]."},
+        depreciation=depreciation,
+        inputs=tuple(inputs),
     )
 
 
 class UncertainGeometricScheduleSchema(GeometricScheduleSchema):
-    rate = _rate("Nerlove adjustment coefficient lambda in (0, 1].")
+    rate = UncertainElasticity(
+        0.0, 1.0, lower_open=True, metadata=GeometricScheduleSchema._declared_fields["rate"].metadata
+    )
 
     @post_load
-    def _build(self, data, **kwargs) -> _UncertainAdjustment:
-        return _uncertain_adjustment(data, schedule="geometric")
+    def _build(self, data, **kwargs) -> Adjustment:
+        return _schedule_inputs(data, "geometric")
 
 
 class UncertainStockScheduleSchema(StockScheduleSchema):
-    rate = _rate(
-        "Share lambda in (0, 1] of the gap to the desired stock closed each period (default: "
-        "short_run / long_run elasticity, per draw in bands)."
+    rate = UncertainElasticity(
+        0.0, 1.0, lower_open=True, metadata=StockScheduleSchema._declared_fields["rate"].metadata
     )
-    depreciation = UncertainNumber(
-        0.0,
-        1.0,
-        metadata={
-            "description": "Largest share of the stock lost in one period, in [0, 1]; without it the "
-            "stock may fall as fast as it rose. In bands and sensitivity it may be a distribution "
-            "in [0, 1]."
-        },
+    depreciation = UncertainElasticity(
+        0.0, 1.0, metadata=StockScheduleSchema._declared_fields["depreciation"].metadata
     )
 
     @post_load
-    def _build(self, data, **kwargs) -> _UncertainAdjustment:
-        return _uncertain_adjustment(data, schedule="stock")
-
-
-UNCERTAIN_SCHEDULE_SCHEMAS = {
-    **SCHEDULE_SCHEMAS,
-    "geometric": UncertainGeometricScheduleSchema,
-    "stock": UncertainStockScheduleSchema,
-}
+    def _build(self, data, **kwargs) -> Adjustment:
+        return _schedule_inputs(data, "stock")
 
 
 @dataclass(frozen=True)
@@ -295,8 +248,12 @@ class _UncertainRequestSchema(PathsRequestSchema):
     market = fields.Nested(UncertainMarketSchema, required=True)
     adjustment = Tagged(
         "schedule",
-        UNCERTAIN_SCHEDULE_SCHEMAS,
-        metadata={"description": PathsRequestSchema._declared_fields["adjustment"].metadata["description"]},
+        {
+            **SCHEDULE_SCHEMAS,
+            "geometric": UncertainGeometricScheduleSchema,
+            "stock": UncertainStockScheduleSchema,
+        },
+        metadata=PathsRequestSchema._declared_fields["adjustment"].metadata,
     )
     supply_correlation = Real(
         load_default=0.0,
@@ -314,11 +271,16 @@ class _UncertainRequestSchema(PathsRequestSchema):
         adjustment's (rate, depreciation), the order of the draws' columns."""
         market, inputs = data["market"]
         adjustment = data.get("adjustment")
-        extra: tuple[UncertainInput, ...] = ()
         if isinstance(adjustment, _UncertainAdjustment):
-            extra, adjustment = adjustment.uncertain, adjustment.plain()
+            inputs = [*inputs, *adjustment.inputs]
+            adjustment = Adjustment(
+                schedule=adjustment.schedule,
+                rate=adjustment.rate,
+                half_life=adjustment.half_life,
+                depreciation=adjustment.depreciation,
+            )
         scenario = PathsRequestSchema._build(self, {**data, "market": market, "adjustment": adjustment})
-        return scenario, (*inputs, *extra)
+        return scenario, tuple(inputs)
 
     @post_load
     def _build(self, data, **kwargs) -> UncertainRequest:
@@ -361,13 +323,14 @@ class BandsRequestSchema(_UncertainRequestSchema):
                 f"draws x (horizon + 1) x policies is {cells:,}; the limit is {limits.MAX_DRAW_CELLS:,}.",
                 "draws",
             )
+        # Memory: the float32 values the bands keep, one series of one policy per slot.
         kept = banded_values(*self._scenario_and_inputs(data), data["draws"])
         if kept > limits.MAX_BAND_VALUES:
             raise ValidationError(
                 f"draws x (horizon + 1) x banded series is {kept:,}; the limit is "
                 f"{limits.MAX_BAND_VALUES:,} (each policy bands 6 series; 2 more under the stock "
-                "schedule, 2 more on a ceiling with coverage below 1, 1 more with a drawn inflation "
-                "rate): fewer draws, periods or policies.",
+                "schedule, 2 more on a price ceiling with coverage below 1, 1 more with an uncertain "
+                "inflation rate): ask for fewer draws, periods or policies.",
                 "draws",
             )
 

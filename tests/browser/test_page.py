@@ -1,5 +1,6 @@
 """The page at / in a real headless browser (Debian's chromium driven by Playwright): run a
-demo, see the charts and the table, submit an invalid value and see the field error.
+demo, see the charts and the tables (who gains and who loses; the homes below the free path under
+the stock schedule), submit an invalid value and see the field error.
 Screenshots go to tests/artifacts/. CI installs chromium and sets SHOCKPATH_REQUIRE_BROWSER=1
 so that a missing browser fails there instead of skipping."""
 
@@ -140,3 +141,69 @@ def test_an_edited_end_period_changes_the_answer(page, base_url):
     request = page.evaluate("JSON.parse(document.querySelector('#request-json').value)")
     assert request["welfare"] == {"rationing": "random", "discount_rate": 0.05}
     page.screenshot(path=str(ARTIFACTS / "page-edited.png"), full_page=True)
+    # Random rationing: the split between groups is not reported, and said so.
+    groups = page.eval_on_selector_all("#groups tbody tr td", "tds => tds.map(t => t.textContent)")
+    assert groups and set(groups) == {"not reported under random rationing"}
+    assert page.is_hidden("#gains-figure")
+
+
+def test_inflation_stock_and_coverage_from_the_form_give_the_groups_and_the_homes_below(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    page.fill("input[data-pointer='/market/inflation']", "0.03")
+    page.select_option("select[data-pointer='/adjustment/schedule']", "stock")
+    page.fill("input[data-pointer='/adjustment/half_life']", "3")
+    page.fill("input[data-pointer='/adjustment/depreciation']", "0.01")
+    page.fill("input[data-pointer='/policies/1/coverage']", "0.6")
+    page.check("input[data-pointer='/policies/2/indexed']")
+    assert "Prices and welfare stay in real money of period 0" in page.text_content(
+        "#" + page.get_attribute("input[data-pointer='/market/inflation']", "aria-describedby")
+    )
+    request = page.evaluate("JSON.parse(document.querySelector('#request-json').value)")
+    assert request["market"]["inflation"] == 0.03
+    assert request["adjustment"] == {"schedule": "stock", "half_life": 3, "depreciation": 0.01}
+    assert request["policies"][1]["coverage"] == 0.6 and request["policies"][2]["indexed"] is True
+    _run(page)
+    assert page.get_attribute("#results", "data-endpoint") == "/v1/paths"
+    answer = page.evaluate("fetch(document.querySelector('#download-json').href).then(r => r.json())")
+    assert answer["scenario_id"] == page.get_attribute("#results", "data-scenario")
+    # The groups table: one row per policy, each cell the summary's total as the answer has it.
+    rows = page.eval_on_selector_all(
+        "#groups tbody tr",
+        "rows => rows.map(r => [...r.querySelectorAll('td')].map(c => [c.dataset.group, c.textContent]))",
+    )
+    assert page.is_visible("#groups") and len(rows) == len(request["policies"])
+    for row, summary in zip(rows, answer["summary"], strict=True):
+        assert len(row) == 6
+        for group, text in row:
+            value = float(text.replace(",", "").replace("+", ""))
+            assert value == pytest.approx(summary["distribution_totals"][group], abs=0.5)
+    freeze = dict(rows[1])
+    assert freeze["tenants_in_controlled_homes"].startswith("+")
+    assert freeze["owners_of_uncontrolled_homes"].startswith("+")  # uncontrolled rents rise
+    heads = page.eval_on_selector_all("#groups thead th", "ths => ths.map(t => t.textContent)")
+    assert all("per model period, summed over the horizon" in h for h in heads[1:])
+    # The stock schedule: homes below the free path in the summary and in the paths chart.
+    stock_heads = page.eval_on_selector_all("#summary thead th.stock", "ths => ths.map(t => t.textContent)")
+    assert stock_heads == ["Final homes below the free pathunits", "Peak homes below the free pathunits"]
+    freeze_row = _table(page)[1]
+    assert float(freeze_row[-1].replace(",", "")) == pytest.approx(
+        answer["summary"][1]["peak_homes_below_free_path"], abs=0.5
+    )
+    page.wait_for_function(
+        "(() => { const id = document.querySelector('#results').dataset.scenario;"
+        " return ['#chart', '#gains-chart'].every(s => { const c = document.querySelector(s);"
+        " return c.naturalWidth > 0 && c.dataset.scenario === id; }); })()"
+    )
+    svg = page.evaluate("fetch(document.querySelector('#chart').src).then(r => r.text())")
+    assert "Homes below the free path" in svg
+    assert "homes below the free path" in page.get_attribute("#chart", "alt")
+    gains = page.evaluate("fetch(document.querySelector('#gains-chart').src).then(r => r.text())")
+    assert "Who gains and who loses" in gains and "Households priced or rationed out" in gains
+    page.screenshot(path=str(ARTIFACTS / "page-additions.png"), full_page=True)
+    # A kind without coverage drops it from the request; the indexed box stays for a unit tax.
+    page.select_option("select[data-pointer='/policies/1/kind']", "unit_tax")
+    request = page.evaluate("JSON.parse(document.querySelector('#request-json').value)")
+    assert "coverage" not in request["policies"][1]
+    assert page.locator("input[data-pointer='/policies/1/indexed'][type='checkbox']").count() == 1
+    page.select_option("select[data-pointer='/policies/1/kind']", "ad_valorem_tax")
+    assert page.locator("input[data-pointer='/policies/1/indexed']").count() == 0

@@ -1,12 +1,16 @@
-"""POST /v1/charts: valid SVG (parsed) and PNG (decoded, right size) for paths, bands, sensitivity."""
+"""POST /v1/charts: valid SVG (parsed) and PNG (decoded, right size) for paths, bands, sensitivity
+and who gains and who loses (its bars against numpy_financial present values)."""
 
 from __future__ import annotations
 
 import io
 import xml.etree.ElementTree as ET
 
+import numpy as np
+import numpy_financial as npf
 import pytest
 
+from service import simulate
 from service.charts import SIZE_PX
 from service.examples import example_request
 
@@ -145,3 +149,126 @@ def test_octet_stream_gets_the_same_chart_bytes_for_generated_clients(client):
     raw = client.post("/v1/charts", json=body, headers={"Accept": "application/octet-stream"})
     assert raw.status_code == 200 and raw.mimetype == "application/octet-stream"
     assert raw.data == svg.data
+
+
+# --- MODEL.md sections 13-15 on charts: the stock panel and who gains and who loses ---------
+
+GROUP_KEYS = (
+    "tenants_in_controlled_homes",
+    "tenants_in_uncontrolled_homes",
+    "households_priced_out",
+    "owners_of_controlled_homes",
+    "owners_of_uncontrolled_homes",
+    "government",
+)
+
+
+def additions_scenario(**welfare) -> dict:
+    """The rent-freeze demo under inflation and the stock schedule, the freeze covering 60 % of
+    the homes, plus an indexed levy (so that the government's bar is not zero)."""
+    request = example_request("quillbrook-rent-freeze")
+    request["market"]["inflation"] = 0.03
+    request["adjustment"] = {"schedule": "stock", "half_life": 3, "depreciation": 0.01}
+    request["policies"][1]["coverage"] = 0.6
+    request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 40, "indexed": True})
+    request["welfare"].update(welfare)
+    return request
+
+
+@pytest.mark.parametrize("fmt", ["svg", "png"])
+def test_the_gains_and_losses_chart_answers_svg_and_png(client, fmt):
+    body = {"chart": "gains_and_losses", "format": fmt, "units": HOUSING, "scenario": additions_scenario()}
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 200 and response.mimetype == f"image/{'svg+xml' if fmt == 'svg' else fmt}"
+    if fmt == "png":
+        from matplotlib.image import imread
+
+        pixels = imread(io.BytesIO(response.data), format="png")
+        assert pixels.shape[:2] == (SIZE_PX[1], SIZE_PX[0]) and pixels.std() > 0.05
+        return
+    ET.fromstring(response.data)
+    text = response.get_data(as_text=True)
+    for needle in (
+        "Who gains and who loses",
+        "Tenants in controlled homes",
+        "Households priced or rationed out",
+        "Government",
+        "EUR per year",
+        "efficient allocation",
+        "free market of the same period",
+        "discounted at 3.5 % per year",
+        "qualified analysts",
+        "levy: net",
+    ):
+        assert needle in text, needle
+
+
+def _bars(figure) -> np.ndarray:
+    """(policies, groups) the widths of the bars drawn, panel by panel."""
+    panels = [ax for ax in figure.axes if ax.patches]
+    return np.array([[bar.get_width() for bar in ax.patches] for ax in panels])
+
+
+@pytest.mark.parametrize("rate", [0.0, 0.035, 0.07])
+def test_each_bar_is_the_present_value_of_its_groups_distribution(rate):
+    from service.charts import gains_and_losses_figure
+
+    request = additions_scenario(discount_rate=rate)
+    body = simulate(request)
+    drawn = _bars(gains_and_losses_figure(body, request, HOUSING, "linear"))
+    # numpy_financial.npv: sum_t v_t / (1 + r)^t with period 0 first (its change is 0).
+    expected = np.array([[npf.npv(rate, p["distribution"][g]) for g in GROUP_KEYS] for p in body["paths"]])
+    assert drawn.shape == (len(body["paths"]), len(GROUP_KEYS))
+    np.testing.assert_allclose(drawn, expected, rtol=1e-12, atol=1e-6)
+    # The groups add up to minus the (discounted) deadweight loss of the summary (MODEL.md 15).
+    losses = [s["discounted_deadweight_loss"] for s in body["summary"]]
+    np.testing.assert_allclose(drawn.sum(axis=1), -np.array(losses), rtol=1e-9, atol=1e-3)
+    if rate == 0.0:  # undiscounted: the summary's own totals
+        totals = [[s["distribution_totals"][g] for g in GROUP_KEYS] for s in body["summary"]]
+        np.testing.assert_allclose(drawn, totals, rtol=1e-12, atol=1e-6)
+
+
+def test_a_step_discount_schedule_weights_each_period_by_the_product_of_its_rates():
+    from service.charts import discount_factors, gains_and_losses
+
+    steps = [{"through_period": 4, "rate": 0.035}, {"through_period": 9, "rate": 0.03}]
+    request = additions_scenario(discount_rate=steps)
+    body = simulate(request)
+    values = gains_and_losses(body, discount_factors(request))
+    rates = np.array([0.0] + [0.035] * 4 + [0.03] * 11)  # periods 0..15; the last step holds past 9
+    factors = np.cumprod(1.0 / (1.0 + rates))
+    for p, row in zip(body["paths"], values, strict=True):
+        series = np.array([p["distribution"][g] for g in GROUP_KEYS])
+        np.testing.assert_allclose(row, (series * factors).sum(axis=1), rtol=1e-12, atol=1e-6)
+        # Through period 4 it is an ordinary present value at 3.5 %: numpy_financial.npv.
+        head = gains_and_losses({"paths": [p]}, np.where(np.arange(16) <= 4, factors, 0.0))[0]
+        np.testing.assert_allclose(head, [npf.npv(0.035, s[:5]) for s in series], rtol=1e-12, atol=1e-6)
+
+
+def test_random_rationing_answers_422_pointing_at_the_rationing(client):
+    request = example_request("quillbrook-rent-freeze")
+    request["market"]["demand"]["price_elasticity"] = -1.2  # finite willingness to pay
+    request["welfare"]["rationing"] = "random"
+    response = client.post("/v1/charts", json={"chart": "gains_and_losses", "scenario": request})
+    assert response.status_code == 422 and response.mimetype == "application/problem+json"
+    (error,) = response.get_json()["errors"]
+    assert error["pointer"] == "/scenario/welfare/rationing"
+    assert "not reported under random rationing" in error["message"]
+    # The paths chart of the same scenario is drawn: only the split is missing.
+    assert client.post("/v1/charts", json={"chart": "paths", "scenario": request}).status_code == 200
+
+
+def test_the_homes_below_panel_appears_only_under_the_stock_schedule(client):
+    stock = additions_scenario()
+    with_stock = client.post("/v1/charts", json={"chart": "paths", "format": "svg", "scenario": stock})
+    assert "Homes below the free path" in with_stock.get_data(as_text=True)
+    for other in ("paths", "bands"):
+        text = _svg(client, other)
+        assert "Homes below the free path" not in text and "Quantity traded" in text
+    # Drawn from the response's own series: the panel's lines are its homes_below_free_path.
+    from service.charts import render_paths
+
+    body = simulate(stock)
+    assert "Homes below the free path" in render_paths(body, HOUSING, "svg", "linear").decode()
+    body["paths"][0].pop("homes_below_free_path")  # not every path carries it: no panel
+    assert "Homes below the free path" not in render_paths(body, HOUSING, "svg", "linear").decode()

@@ -91,7 +91,8 @@ def test_a_batch_answers_csv_with_a_row_per_value_and_a_problem_row_per_failed_s
     rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
     assert list(rows[0]) == ["scenario", "scenario_id", "policy", "period", "variable", "value", "unit"]
     first = body["results"][0]
-    assert sum(r["scenario"] == "0" for r in rows) == len(first["paths"]) * 17 * len(first["periods"])
+    # 17 series and the six groups of who gains and who loses per path and period.
+    assert sum(r["scenario"] == "0" for r in rows) == len(first["paths"]) * (17 + 6) * len(first["periods"])
     assert all(r["scenario_id"] == first["scenario_id"] for r in rows if r["scenario"] == "0")
     (problem,) = [r for r in rows if r["scenario"] == "1"]
     assert problem["variable"] == "problem" and problem["value"] == body["results"][1]["detail"]

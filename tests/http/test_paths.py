@@ -53,7 +53,7 @@ def test_csv_is_the_same_paths_in_long_form(client, contract_request):
     assert response.headers["ETag"] == f'"{body["scenario_id"]}.csv"'
     rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
     assert list(rows[0]) == ["policy", "period", "variable", "value", "unit"]
-    assert len(rows) == len(body["paths"]) * 17 * 13
+    assert len(rows) == len(body["paths"]) * (17 + 6) * 13  # 17 series and the six groups
     by_key = {(r["policy"], int(r["period"]), r["variable"]): float(r["value"]) for r in rows}
     for path in body["paths"]:
         for t in body["periods"]:

@@ -9,10 +9,19 @@ const SHOCK_VALUE = { step: ["change"], ramp: ["change", "periods"], growth: ["r
 const SCHEDULE_VALUE = { linear: ["periods"], geometric: ["rate", "half_life"], explicit: ["elasticities"], stock: ["rate", "half_life", "depreciation"] };
 const CHOICES = {
   form: ["linear", "constant_elasticity"], rationing: ["efficient", "random"], kind: Object.keys(MAIN_VALUE),
-  profile: Object.keys(SHOCK_VALUE), schedule: ["linear", "geometric", "explicit"],
+  profile: Object.keys(SHOCK_VALUE), schedule: Object.keys(SCHEDULE_VALUE),
   distribution: ["normal", "uniform", "triangular"],
 };
 const BAND_KEYS = ["draws", "seed", "percentiles", "supply_correlation"];
+// The rules with money in them take "indexed"; only a price ceiling takes "coverage".
+const INDEXED_KINDS = ["price_ceiling", "price_floor", "unit_tax", "unit_subsidy"];
+const MARKET_KEYS = ["price", "quantity", "payments_per_period", "form", "inflation"];
+// The groups of who gains and who loses, in the response's order, as the table heads them.
+const GROUPS = [["tenants_in_controlled_homes", "Tenants in controlled homes"],
+  ["tenants_in_uncontrolled_homes", "Tenants in uncontrolled homes"],
+  ["households_priced_out", "Households priced or rationed out"],
+  ["owners_of_controlled_homes", "Owners of controlled homes"],
+  ["owners_of_uncontrolled_homes", "Owners of uncontrolled homes"], ["government", "Government"]];
 // The fields the README's first table names get the ids the page has always had.
 const IDS = { "/market/price": "f-price", "/market/quantity": "f-quantity", "/market/demand/price_elasticity": "f-eta",
   "/market/supply/short_run_elasticity": "f-sr", "/market/supply/long_run_elasticity": "f-lr", "/horizon": "f-horizon" };
@@ -23,10 +32,19 @@ const LABELS = { price: "Price per unit", quantity: "Quantity", payments_per_per
   depreciation: "Depreciation", start: "Start period (optional)", end: "End period (optional)", change: "Change (fraction)",
   values: "Values per period (comma-separated)", shifter: "Shifter", profile: "Profile", name: "Name", kind: "Kind",
   level: "Level (a price, or base)", growth: "Growth cap per period", amount: "Amount per unit",
-  coverage: "Coverage (share)", indexed: "Indexed (true or false)", rationing: "Rationing of a binding ceiling",
+  coverage: "Coverage (share of homes, default 1)", indexed: "Indexed to inflation",
+  inflation: "Inflation per period (a rate, or comma-separated rates)", rationing: "Rationing of a binding ceiling",
   discount_rate: "Discount rate (a number, or JSON steps)", draws: "Draws", seed: "Seed",
   percentiles: "Percentiles (comma-separated)", supply_correlation: "Supply correlation (optional)",
   mean: "mean", sd: "sd", low: "low", high: "high", mode: "mode", distribution: "distribution" };
+// A note under a field (read with it by screen readers: aria-describedby).
+const HINTS = {
+  inflation: "Prices and welfare stay in real money of period 0 (nominal prices are in the answer); ceilings, floors, growth caps, unit taxes and subsidies are then fixed in money unless indexed.",
+  indexed: "With inflation: the rule moves with prices (a growth cap becomes inflation plus the cap).",
+  coverage: "Share of the homes the ceiling covers, above 0 and up to 1 (e.g. older buildings only); the rest rent freely.",
+  schedule: "linear, geometric and explicit move the supply elasticity; stock models the homes themselves (a share of the gap closed each period by rate or half-life, at most the depreciation share lost per period).",
+  depreciation: "Stock schedule: the largest share of the homes lost in one period, 0 to 1; empty: no such floor.",
+};
 
 const unescape = (k) => k.replace(/~1/g, "/").replace(/~0/g, "~");
 const escape = (k) => String(k).replace(/~/g, "~0").replace(/\//g, "~1");
@@ -56,12 +74,17 @@ const PARSE = {
   text: (t) => (t === "" ? undefined : t),
   list: (t) => (t.trim() === "" ? undefined : t.split(",").map((x) => asNumber(x) ?? x)),
   json: (t) => { if (t.trim() === "") return undefined; try { return JSON.parse(t); } catch (e) { return asNumber(t); } },
+  // One number, or a comma-separated list of them (market.inflation).
+  numbers: (t) => {
+    const parts = t.split(",").filter((x) => x.trim() !== "").map((x) => asNumber(x));
+    return parts.length === 0 ? undefined : parts.length === 1 ? parts[0] : parts;
+  },
   boolean: (t) => (t.trim() === "" ? undefined : t.trim() === "true" ? true : t.trim() === "false" ? false : t),
 };
 
 function shown(value, type) {
   if (value == null) return "";
-  if (type === "list" && Array.isArray(value)) return value.join(", ");
+  if ((type === "list" || type === "numbers") && Array.isArray(value)) return value.join(", ");
   if (typeof value === "object") return JSON.stringify(value);
   return String(value);
 }
@@ -69,6 +92,7 @@ function shown(value, type) {
 function typeOf(key, value) {
   if (["name", "shifter"].includes(key)) return "text";
   if (key === "indexed") return "boolean";
+  if (key === "inflation") return "numbers";
   if (Array.isArray(value) && value.every((v) => typeof v === "number")) return "list";
   if (["values", "elasticities", "percentiles"].includes(key)) return "list";
   if (key === "discount_rate" && typeof value === "object") return "json";
@@ -90,6 +114,13 @@ function input(pointer, key, value, label) {
     for (const c of options) { const o = document.createElement("option"); o.value = c; o.textContent = c.replace(/_/g, " "); control.append(o); }
     control.value = value == null ? CHOICES[key][0] : value;
     control.addEventListener("change", () => { setAt(state.request, pointer, control.value); restructure(pointer, key); });
+  } else if (key === "indexed" && (value == null || typeof value === "boolean")) {
+    // A checkbox: checked sends true, unchecked leaves the field out (its default, false).
+    control = document.createElement("input");
+    control.type = "checkbox";
+    control.checked = value === true;
+    control.addEventListener("change", () => { setAt(state.request, pointer, control.checked ? true : undefined); syncJson(); });
+    wrap.classList.add("check");
   } else {
     control = document.createElement("input");
     const type = typeOf(key, value);
@@ -101,6 +132,15 @@ function input(pointer, key, value, label) {
   control.id = id;
   control.dataset.pointer = pointer;
   wrap.append(l, control);
+  if (HINTS[key]) {
+    const hint = document.createElement("p");
+    hint.className = "hint";
+    hint.id = `${id}-hint`;
+    hint.textContent = HINTS[key];
+    control.dataset.hint = hint.id;
+    control.setAttribute("aria-describedby", hint.id);
+    wrap.append(hint);
+  }
   return wrap;
 }
 
@@ -135,10 +175,10 @@ function item(title, fields, onRemove) {
   return box;
 }
 
-function keyedFields(pointer, obj, order) {
+function keyedFields(pointer, obj, order, labels = {}) {
   const keys = [...new Set([...order, ...Object.keys(obj)])];
   const out = document.createElement("div");
-  for (const k of keys) valueFields(out, `${pointer}/${escape(k)}`, k, obj[k]);
+  for (const k of keys) valueFields(out, `${pointer}/${escape(k)}`, k, obj[k], labels[k]);
   return [...out.children];
 }
 
@@ -147,7 +187,7 @@ function renderForm(request) {
   const market = request.market || {};
   const m = $("market-fields");
   m.replaceChildren();
-  for (const k of ["price", "quantity", "payments_per_period", "form"]) valueFields(m, `/market/${k}`, k, market[k]);
+  for (const k of MARKET_KEYS) valueFields(m, `/market/${k}`, k, market[k]);
   for (const side of ["demand", "supply"]) {
     const curve = market[side] || {};
     const main = side === "demand" ? ["price_elasticity"] : ["short_run_elasticity", "long_run_elasticity"];
@@ -157,13 +197,16 @@ function renderForm(request) {
     }
   }
   for (const k of Object.keys(market)) {
-    if (!["price", "quantity", "payments_per_period", "form", "demand", "supply"].includes(k)) valueFields(m, `/market/${escape(k)}`, k, market[k]);
+    if (![...MARKET_KEYS, "demand", "supply"].includes(k)) valueFields(m, `/market/${escape(k)}`, k, market[k]);
   }
   const t = $("time-fields");
   t.replaceChildren();
   valueFields(t, "/horizon", "horizon", request.horizon);
   const adjustment = request.adjustment || { schedule: "linear" };
-  t.append(...keyedFields("/adjustment", adjustment, ["schedule", ...(SCHEDULE_VALUE[adjustment.schedule] || [])]));
+  // Under the stock schedule the rate is the share of the gap to the desired stock closed per period.
+  const stockLabels = adjustment.schedule === "stock"
+    ? { rate: "Rate (share of the gap closed per period; empty: short-run / long-run elasticity)" } : {};
+  t.append(...keyedFields("/adjustment", adjustment, ["schedule", ...(SCHEDULE_VALUE[adjustment.schedule] || [])], stockLabels));
 
   const shocks = $("shock-fields");
   shocks.replaceChildren();
@@ -177,7 +220,8 @@ function renderForm(request) {
   policies.replaceChildren();
   (request.policies || []).forEach((p, i) => {
     const main = (MAIN_VALUE[p.kind] || []).filter((k) => k in p);
-    const order = ["name", "kind", ...(main.length ? main : (MAIN_VALUE[p.kind] || []).slice(0, 1)), "start", "end"];
+    const extra = [...(p.kind === "price_ceiling" ? ["coverage"] : []), ...(INDEXED_KINDS.includes(p.kind) ? ["indexed"] : [])];
+    const order = ["name", "kind", ...(main.length ? main : (MAIN_VALUE[p.kind] || []).slice(0, 1)), ...extra, "start", "end"];
     policies.append(item(`policy ${i + 1}: ${p.name}`, keyedFields(`/policies/${i}`, p, order), () => {
       state.request.policies.splice(i, 1);
       renderForm(state.request);
@@ -205,6 +249,8 @@ function restructure(pointer, key) {
   const round = (x) => Number(x.toPrecision(3));
   if (key === "kind") {
     for (const k of ["level", "growth", "amount", "rate"]) delete obj[k];
+    if (obj.kind !== "price_ceiling") delete obj.coverage;
+    if (!INDEXED_KINDS.includes(obj.kind)) delete obj.indexed;
     Object.assign(obj, { price_ceiling: { level: "base" }, price_floor: { level: round(price * 1.1) },
       quantity_cap: { level: round(quantity * 0.98) }, unit_tax: { amount: round(price * 0.05) },
       unit_subsidy: { amount: round(price * 0.05) }, ad_valorem_tax: { rate: 0.05 }, none: {} }[obj.kind]);
@@ -213,7 +259,7 @@ function restructure(pointer, key) {
     Object.assign(obj, { step: { change: 0.05 }, ramp: { change: 0.05, periods: 3 }, growth: { rate: 0.02 }, path: { values: [0.05] } }[obj.profile]);
   } else if (key === "schedule") {
     for (const k of ["periods", "rate", "half_life", "elasticities", "depreciation"]) delete obj[k];
-    Object.assign(obj, { linear: { periods: 8 }, geometric: {}, explicit: { elasticities: [0.1, 0.5, 1.0] } }[obj.schedule]);
+    Object.assign(obj, { linear: { periods: 8 }, geometric: {}, explicit: { elasticities: [0.1, 0.5, 1.0] }, stock: {} }[obj.schedule]);
   }
   renderForm(state.request);
 }
@@ -261,7 +307,8 @@ function clearErrors() {
   for (const e of document.querySelectorAll(".error")) e.remove();
   for (const input of document.querySelectorAll("[aria-invalid]")) {
     input.removeAttribute("aria-invalid");
-    input.removeAttribute("aria-describedby");
+    if (input.dataset.hint) input.setAttribute("aria-describedby", input.dataset.hint);
+    else input.removeAttribute("aria-describedby");
   }
   $("other-errors").replaceChildren();
 }
@@ -277,7 +324,7 @@ function showProblem(problem) {
       p.textContent = err.message;
       input.after(p);
       input.setAttribute("aria-invalid", "true");
-      input.setAttribute("aria-describedby", p.id);
+      input.setAttribute("aria-describedby", input.dataset.hint ? `${p.id} ${input.dataset.hint}` : p.id);
     } else {
       rest.push(`${err.pointer || "/"}: ${err.message}`);
     }
@@ -300,7 +347,22 @@ function showResults(body, text) {
   const bands = state.endpoint === "/v1/bands";
   const summary = bands ? body.central.summary : body.summary;
   const head = document.querySelector("#summary thead tr");
-  head.querySelector(".range")?.remove();
+  for (const th of head.querySelectorAll(".range, .stock")) th.remove();
+  // Under the stock schedule the summary carries the homes below the free path.
+  const stock = summary.every((s) => "final_homes_below_free_path" in s);
+  if (stock) {
+    for (const text of ["Final homes below the free path", "Peak homes below the free path"]) {
+      const th = document.createElement("th");
+      th.scope = "col";
+      th.className = "stock";
+      th.textContent = text;
+      const unit = document.createElement("span");
+      unit.className = "unit";
+      unit.textContent = units().quantity;
+      th.append(unit);
+      head.append(th);
+    }
+  }
   if (bands) {
     const th = document.createElement("th");
     th.scope = "col";
@@ -320,6 +382,7 @@ function showResults(body, text) {
     const cells = [s.name, fmt.format(s.discounted_deadweight_loss), fmt.format(s.peak_shortage),
       fmt2.format(s.final_consumer_price), fmt.format(s.final_quantity), fmt.format(s.total_consumer_surplus_change),
       fmt.format(s.total_producer_surplus_change), fmt.format(s.total_government_revenue), String(s.binding_periods)];
+    if (stock) cells.push(fmt.format(s.final_homes_below_free_path), fmt.format(s.peak_homes_below_free_path));
     if (bands) {
       const q = body.bands[i].summary.discounted_deadweight_loss;
       const keys = Object.keys(q).sort((a, b) => Number(a) - Number(b));
@@ -332,6 +395,7 @@ function showResults(body, text) {
     ? `Per policy over the horizon, at the central elasticities, with the spread over ${fmt.format(body.draws)} draws`
     : "Per policy over the horizon";
   $("summary").hidden = false;
+  showGroups(summary);
   const list = $("cautions");
   list.replaceChildren(...body.cautions.map((c) => { const li = document.createElement("li"); li.textContent = c; return li; }));
   $("cautions-heading").hidden = false;
@@ -344,18 +408,65 @@ function showResults(body, text) {
   $("status").textContent = `Computed ${summary.length} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
 }
 
-async function drawChart(request, scenarioId) {
+// Who gains and who loses: each group's total per policy (the summary's distribution_totals,
+// summed over the horizon, not discounted); null under random rationing.
+function showGroups(summary) {
+  const table = $("groups");
+  if (!summary.every((s) => "distribution_totals" in s)) { table.hidden = true; return; }
+  const u = units();
+  const per = u.period === "period" ? "model period" : u.period;
+  for (const span of table.querySelectorAll("thead .unit")) span.textContent = `${u.currency} per ${per}, summed over the horizon`;
+  const tbody = table.querySelector("tbody");
+  tbody.replaceChildren();
+  for (const s of summary) {
+    const tr = document.createElement("tr");
+    const th = document.createElement("th");
+    th.scope = "row";
+    th.textContent = s.name;
+    tr.append(th);
+    if (s.distribution_totals == null) {
+      const td = document.createElement("td");
+      td.colSpan = GROUPS.length;
+      td.className = "absent";
+      td.textContent = "not reported under random rationing";
+      tr.append(td);
+    } else {
+      for (const [key] of GROUPS) {
+        const td = document.createElement("td");
+        const v = s.distribution_totals[key];
+        td.textContent = v > 0 ? `+${fmt.format(v)}` : fmt.format(v);
+        td.dataset.group = key;
+        tr.append(td);
+      }
+    }
+    tbody.append(tr);
+  }
+  table.hidden = false;
+}
+
+// A chart of this run: the paths (or bands), or who gains and who loses.
+async function drawChart(request, scenarioId, chart = state.endpoint === "/v1/bands" ? "bands" : "paths", image = "chart", figure = "chart-figure") {
   const response = await fetch("/v1/charts", {
     method: "POST", headers: { "Content-Type": "application/json" },
-    body: JSON.stringify({ chart: state.endpoint === "/v1/bands" ? "bands" : "paths", format: "svg", units: units(), scenario: request }),
+    body: JSON.stringify({ chart, format: "svg", units: units(), scenario: request }),
   });
   if (!response.ok) { $("status").textContent += " (The chart could not be drawn.)"; return; }
   const url = URL.createObjectURL(await response.blob());
   state.objectUrls.push(url);
-  const chart = $("chart");
-  chart.onload = () => { chart.dataset.scenario = scenarioId; };
-  chart.src = url;
-  $("chart-figure").hidden = false;
+  const img = $(image);
+  img.onload = () => { img.dataset.scenario = scenarioId; };
+  img.src = url;
+  $(figure).hidden = false;
+}
+
+function describeChart(body) {
+  const stock = body.paths?.every((p) => "homes_below_free_path" in p);
+  const panels = stock ? "Consumer price, quantity, homes below the free path, shortage and cumulative deadweight loss"
+    : "Consumer price, quantity, shortage and cumulative deadweight loss";
+  $("chart").alt = `${panels} over the periods, one line per policy`;
+  $("chart-caption").textContent = stock
+    ? "Period 0 is today's market; each line is one policy. Under the stock schedule homes not built stay missing: the homes below the free path."
+    : "Period 0 is today's market; each line is one policy.";
 }
 
 async function csvLink(request) {
@@ -381,10 +492,13 @@ async function run(event) {
   }
   // Nothing from an earlier run may stand next to this one's numbers.
   $("status").textContent = "Running...";
-  $("chart-figure").hidden = true;
-  $("chart").removeAttribute("src");
-  delete $("chart").dataset.scenario;
+  for (const [figure, image] of [["chart-figure", "chart"], ["gains-figure", "gains-chart"]]) {
+    $(figure).hidden = true;
+    $(image).removeAttribute("src");
+    delete $(image).dataset.scenario;
+  }
   $("summary").hidden = true;
+  $("groups").hidden = true;
   $("downloads").hidden = true;
   state.endpoint = endpointFor(request);
   const response = await fetch(state.endpoint, {
@@ -396,7 +510,15 @@ async function run(event) {
   showResults(body, text);
   $("results").dataset.scenario = body.scenario_id;
   $("results").dataset.endpoint = state.endpoint;
-  await Promise.all([drawChart(request, body.scenario_id), csvLink(request)]);
+  const charts = [drawChart(request, body.scenario_id), csvLink(request)];
+  if (state.endpoint === "/v1/paths") {
+    describeChart(body);
+    // The split is drawn where it is reported (efficient rationing).
+    if (body.summary.every((s) => s.distribution_totals != null)) {
+      charts.push(drawChart(request, body.scenario_id, "gains_and_losses", "gains-chart", "gains-figure"));
+    }
+  }
+  await Promise.all(charts);
 }
 
 async function loadDemo() {
