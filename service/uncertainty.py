@@ -101,7 +101,9 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                     errors=[{"pointer": f"/policies/{p}", "message": "infeasible in every draw"}],
                 )
             )
-        if not all(np.isfinite(v).all() for part in (arrays.series[p], arrays.summary[p]) for v in part.values()):
+        if not all(
+            np.isfinite(v).all() for part in (arrays.series[p], arrays.summary[p]) for v in part.values()
+        ):
             # Bands are kept in float32 (about 3.4e38 at most): a draw can pass that where the
             # path itself (float64) does not, e.g. a discount rate near -100 % over many periods.
             raise ProblemError(
