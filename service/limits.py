@@ -49,6 +49,10 @@ MAX_POLICY_PERIODS = 200_000
 MAX_DRAWS = 100_000
 #: draws x (horizon + 1) x policies of one bands request (100,000 x 41 x 4 fits).
 MAX_DRAW_CELLS = 16_400_000
+#: draws x (horizon + 1) x banded series of one bands request: the float32 values it keeps
+#: (394 MB). Each policy bands six series, so this is MAX_DRAW_CELLS for most requests; the
+#: stock schedule, a partial ceiling or a drawn inflation rate band more series per policy.
+MAX_BAND_VALUES = 6 * MAX_DRAW_CELLS
 MAX_PERCENTILES = 21
 #: Largest seed of the draws (a signed 64-bit integer).
 MAX_SEED = 2**63 - 1

@@ -1,4 +1,4 @@
-"""The Python API for uncertain elasticities: bands(request) and sensitivity(request).
+"""The Python API for uncertain inputs: bands(request) and sensitivity(request).
 
 Each returns the body of POST /v1/bands or POST /v1/sensitivity, or raises ProblemError with
 the document that endpoint would answer. Both run every draw (or every low/high case)
@@ -14,8 +14,8 @@ import numpy as np
 from . import engine
 from .engine.batch import pack
 from .engine.uncertainty import (
-    BAND_SUMMARY,
-    band_names,
+    GROUP_TOTALS,
+    STOCK_SUMMARY,
     percentile_bands,
     rows_for,
     scenario_batch_with,
@@ -30,10 +30,20 @@ __all__ = ["bands", "sensitivity"]
 _BANDS = BandsRequestSchema()
 _SENSITIVITY = SensitivityRequestSchema()
 
-#: The headline figures whose swings sensitivity reports, in ranking order; then the groups'
-#: totals (not under random rationing) and, under the stock schedule, the homes below the free
-#: path (engine.uncertainty.band_names).
+#: The headline figures whose swings sensitivity reports, in ranking order; then, unless
+#: rationing is random, each group's total (GROUP_TOTALS), and under the stock schedule the
+#: homes below the free path (STOCK_SUMMARY): see headlines(), the order of the band summary.
 HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
+
+
+def headlines(scenario) -> tuple[str, ...]:
+    """The headline figures of a scenario's sensitivity, in ranking order."""
+    out = HEADLINES
+    if scenario.welfare.rationing != "random":
+        out += GROUP_TOTALS
+    if scenario.adjustment.schedule == "stock":
+        out += STOCK_SUMMARY
+    return out
 
 
 def _answer_id(endpoint: str, req: UncertainRequest) -> str:
@@ -91,7 +101,9 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                     errors=[{"pointer": f"/policies/{p}", "message": "infeasible in every draw"}],
                 )
             )
-        if not (np.isfinite(arrays.series[p]).all() and np.isfinite(arrays.summary[p]).all()):
+        if not all(
+            np.isfinite(v).all() for part in (arrays.series[p], arrays.summary[p]) for v in part.values()
+        ):
             # Bands are kept in float32 (about 3.4e38 at most): a draw can pass that where the
             # path itself (float64) does not, e.g. a discount rate near -100 % over many periods.
             raise ProblemError(
@@ -114,21 +126,28 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                 "name": policy.name,
                 "kind": policy.kind,
                 "series": {
-                    name: {k: arrays.series[p, s, i].tolist() for i, k in enumerate(keys)}
-                    for s, name in enumerate(arrays.series_names)
+                    name: {k: values[i].tolist() for i, k in enumerate(keys)}
+                    for name, values in arrays.series[p].items()
                 },
                 "summary": {
-                    name: {k: float(arrays.summary[p, s, i]) for i, k in enumerate(keys)}
-                    for s, name in enumerate(arrays.summary_names)
+                    name: {k: float(values[i]) for i, k in enumerate(keys)}
+                    for name, values in arrays.summary[p].items()
                 },
                 "binding_share": float(arrays.binding_share[p]),
                 "infeasible_draws": int(arrays.infeasible_draws[p]),
             }
         )
+    elasticities = all(i.target not in ("inflation", "schedule_rate", "depreciation") for i in req.inputs)
     cautions = [
-        f"Bands are percentiles over {req.draws:,} draws of the uncertain elasticities (seed {req.seed}); "
+        f"Bands are percentiles over {req.draws:,} draws of the uncertain "
+        f"{'elasticities' if elasticities else 'inputs'} (seed {req.seed}); "
         "each percentile is taken period by period, so a band is not the path of any one draw.",
     ]
+    if req.scenario.welfare.rationing == "random":
+        cautions.append(
+            "Under random rationing the band summaries carry no totals of who gains and who loses: "
+            "the split between groups is defined for efficient allocation only."
+        )
     if int(arrays.infeasible_draws.max()) > 0:
         cautions.append(
             "Some draws make a policy infeasible (zero or negative quantity or price); they are counted "
@@ -167,8 +186,8 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     feasible, _, summary, _ = solve_rows(batch, rows)
     p = base_rows.size
     feasible = feasible.reshape(p, -1).T  # rows are policy-major
-    headlines = HEADLINES + band_names(req.scenario)[1][len(BAND_SUMMARY) :]
-    figures = {name: summary[name].reshape(p, -1).T for name in headlines}
+    names = headlines(req.scenario)
+    figures = {name: summary[name].reshape(p, -1).T for name in names}
 
     entries = []
     for j, item in enumerate(inputs):
@@ -176,13 +195,13 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
         policies = []
         for q, policy in enumerate(req.scenario.policies):
             ok = bool(feasible[lo_row, q] and feasible[hi_row, q])
-            low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in headlines}
-            high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in headlines}
-            swing = {f: abs(high[f] - low[f]) if ok else None for f in headlines}
+            low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in names}
+            high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in names}
+            swing = {f: abs(high[f] - low[f]) if ok else None for f in names}
             policies.append(
                 {"name": policy.name, "kind": policy.kind, "low": low, "high": high, "swing": swing}
             )
-        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in headlines)
+        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in names)
         entries.append(
             (
                 rank,
@@ -190,7 +209,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
                     **_describe(item),
                     "low": ranges[j][0],
                     "high": ranges[j][1],
-                    "largest_swing": {f: rank[n] for n, f in enumerate(headlines)},
+                    "largest_swing": {f: rank[n] for n, f in enumerate(names)},
                     "policies": policies,
                 },
             )
@@ -199,14 +218,15 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     return {
         "scenario_id": _answer_id("sensitivity", req),
         "model_version": engine.MODEL_VERSION,
-        "headlines": list(headlines),
+        "headlines": list(names),
         "central": central,
         "inputs": [e for _, e in entries],
         "cautions": [
             "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
             "its distribution) with every other input at its central value; inputs are sorted by their "
             "largest swing in discounted deadweight loss over all policies, then peak shortage, then "
-            "final price.",
+            "final price, then the other headlines in their order (each group's total, then the homes "
+            "below the free path under the stock schedule).",
             *central["cautions"],
         ],
     }

@@ -93,6 +93,7 @@ SERIES_INDEX = {
             "free_quantity",
             "homes_below_free_path",
             "rent_above_free_path",
+            "nominal_consumer_price",
         )
     )
 }
@@ -529,7 +530,7 @@ def _row_kernel(
     out,
     flags,
     summary,
-    band_column,
+    band_slot,
     band_out,
     band_rows,
     band_start,
@@ -567,11 +568,15 @@ def _row_kernel(
         cell[19] = (1.0 - share) * q0
         cell[26] = p0
         cell[27] = q0
+        cell[30] = p0
+        # Bands: this row's policy writes its series into its own slots of band_out.
+        slots = band_slot[r // band_rows] if banding else band_slot[0]
+        draw = band_start + r % band_rows if banding else 0
         for j in range(cell.shape[0]):
             if column[j] >= 0:
                 out[r, column[j], 0] = cell[j]
-            if banding and band_column[j] >= 0:
-                band_out[r // band_rows, band_column[j], 0, band_start + r % band_rows] = cell[j]
+            if banding and slots[j] >= 0:
+                band_out[slots[j], 0, draw] = cell[j]
         for j in range(3):
             flags[r, j, 0] = False
         k_prev = q0
@@ -794,11 +799,12 @@ def _row_kernel(
             # Against the free path (its own stock history), not this path's free point.
             cell[28] = free[i, 1, t] - q
             cell[29] = pc - free[i, 0, t]
+            cell[30] = pc * price_index[i, t]
             for j in range(cell.shape[0]):
                 if column[j] >= 0:
                     out[r, column[j], t] = cell[j]
-                if banding and band_column[j] >= 0:
-                    band_out[r // band_rows, band_column[j], t, band_start + r % band_rows] = cell[j]
+                if banding and slots[j] >= 0:
+                    band_out[slots[j], t, draw] = cell[j]
             flags[r, 0, t] = binding
             flags[r, 1, t] = rationed
             flags[r, 2, t] = infeasible
@@ -845,11 +851,14 @@ def policy_paths(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The rows' series (R, len(series), T+1) in the order of `series` (default: all of
     SERIES_INDEX), flags (R, 3, T+1) and summary (R, len(SUMMARY_INDEX)). Asking only for
-    the series needed saves memory traffic (bands keep six).
+    the series needed saves memory traffic (bands keep none: they write into `band`).
 
     `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
-    `band` = (names, target, rows_per_policy, first_draw) also writes those series, as float32,
-    straight into target[policy, series, period, draw] for rows in policy-major order.
+    `band` = (layout, target, rows_per_policy, first_draw) also writes series, as float32,
+    straight into target[slot, period, draw] (slots, T+1, draws) for rows in policy-major order
+    (row = policy * rows_per_policy + draw - first_draw): `layout` names each policy's series,
+    and they take the slots one after another (policy 0's first, ...), so each policy bands
+    only the series that apply to it.
     """
     a = batch_arrays
     count = rows["scenario"].shape[0]
@@ -861,13 +870,17 @@ def policy_paths(
     out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
     summary = np.empty((count, len(SUMMARY_INDEX)))
-    band_column = np.full(len(SERIES_INDEX), -1, dtype=np.int64)
     if band is None:
-        band_out, band_rows, band_start = np.empty((1, 1, 1, 1), dtype=np.float32), 0, 0
+        band_slot = np.full((1, len(SERIES_INDEX)), -1, dtype=np.int64)
+        band_out, band_rows, band_start = np.empty((1, 1, 1), dtype=np.float32), 0, 0
     else:
-        names, band_out, band_rows, band_start = band
-        for j, name in enumerate(names):
-            band_column[SERIES_INDEX[name]] = j
+        layout, band_out, band_rows, band_start = band
+        band_slot = np.full((len(layout), len(SERIES_INDEX)), -1, dtype=np.int64)
+        slot = 0
+        for policy, names in enumerate(layout):
+            for name in names:
+                band_slot[policy, SERIES_INDEX[name]] = slot
+                slot += 1
     _row_kernel(
         rows["scenario"],
         rows["kind"],
@@ -897,7 +910,7 @@ def policy_paths(
         out,
         flags,
         summary,
-        band_column,
+        band_slot,
         band_out,
         band_rows,
         band_start,
@@ -1255,5 +1268,6 @@ def warm_up() -> None:
     free = free_paths(arrays)
     policy_paths(arrays, rows, free)
     percentiles(np.ones((2, 3), dtype=np.float32), np.arange(3), np.array([5.0, 50.0]))
-    target = np.empty((2, 1, periods, 1), dtype=np.float32)
-    policy_paths(arrays, rows, free, ("quantity",), (("quantity",), target, 1, 0))
+    percentiles(np.ones((2, 3)), np.arange(3), np.array([5.0, 50.0]))  # bands' summary figures
+    target = np.empty((2, periods, 1), dtype=np.float32)
+    policy_paths(arrays, rows, free, (), ((("quantity",), ("quantity",)), target, 1, 0))

@@ -1,7 +1,8 @@
-"""Uncertain elasticities: draws, the full path model per draw, and percentile bands.
+"""Uncertain inputs: draws, the full path model per draw, and percentile bands.
 
-An elasticity may be normal(mean, sd) truncated to its sign rule (drawn from the truncated
-distribution, never clipped), uniform(low, high) or triangular(low, mode, high). Draws come
+An uncertain input (an elasticity, a constant inflation rate, the adjustment rate lambda or
+the stock's depreciation delta) may be normal(mean, sd) truncated to its sign rule (drawn from
+the truncated distribution, never clipped), uniform(low, high) or triangular(low, mode, high). Draws come
 from one seeded numpy Generator (PCG64): standard normals z, correlated where asked
 (short- and long-run supply elasticity through a Gaussian copula), mapped to uniforms
 u = Phi(z) and through each distribution's inverse CDF (scipy.stats ppf). Every draw runs the
@@ -9,6 +10,14 @@ whole path model of every policy; the batch is cut into blocks of draws only to 
 each block one vectorised engine call. Bands are percentiles over the feasible draws, with
 numpy's default ('linear') definition: Hyndman & Fan (1996), "Sample Quantiles in Statistical
 Packages", *The American Statistician* 50(4), definition 7.
+
+What is banded depends on the scenario (`band_layout`): every policy bands BAND_SERIES; under
+the stock schedule also STOCK_BAND_SERIES; a price ceiling with coverage below 1 also
+COVERAGE_BAND_SERIES; under inflation the nominal consumer price, which is the real price
+times the price index: with a fixed index its percentiles are the real ones times I_t (no
+extra work), with a drawn inflation rate the kernel writes it per draw like any other series.
+Summary percentiles add each group's total (MODEL.md 15; none under random rationing) and,
+under the stock schedule, the final and peak homes below the free path.
 """
 
 from __future__ import annotations
@@ -23,19 +32,26 @@ from scipy import special, stats
 
 from . import kernel
 from .batch import PolicyRows, ScenarioBatch, pack
-from .paths import solve
-from .results import DISTRIBUTION_GROUPS, summarise
+from .paths import price_index, solve
+from .results import DISTRIBUTION_GROUPS, STOCK_SERIES, summarise
 from .scenario import ADDITION_DEFAULTS, Scenario
 
 __all__ = [
     "BAND_SERIES",
     "BAND_SUMMARY",
+    "COVERAGE_BAND_SERIES",
     "GROUP_TOTALS",
+    "NOMINAL_BAND_SERIES",
     "PARAMETERS",
+    "STOCK_BAND_SERIES",
+    "STOCK_SUMMARY",
+    "TARGETS",
     "BandArrays",
+    "BandLayout",
     "Distribution",
     "UncertainInput",
-    "band_names",
+    "band_layout",
+    "banded_values",
     "draw",
     "percentile_bands",
     "rows_for",
@@ -43,7 +59,7 @@ __all__ = [
     "solve_rows",
 ]
 
-#: The per-period series that get bands.
+#: The per-period series that every policy bands.
 BAND_SERIES = (
     "consumer_price",
     "quantity",
@@ -52,7 +68,13 @@ BAND_SERIES = (
     "cumulative_deadweight_loss",
     "discounted_deadweight_loss",
 )
-#: The summary figures that get percentiles.
+#: Banded too under the stock schedule (MODEL.md 13), for every policy.
+STOCK_BAND_SERIES = STOCK_SERIES
+#: Banded too on a price ceiling with coverage below 1 (MODEL.md 14).
+COVERAGE_BAND_SERIES = ("covered_price", "uncovered_price")
+#: Banded too under inflation (MODEL.md 12): consumer_price x price index.
+NOMINAL_BAND_SERIES = ("nominal_consumer_price",)
+#: The summary figures that every policy gets percentiles of.
 BAND_SUMMARY = (
     "total_deadweight_loss",
     "discounted_deadweight_loss",
@@ -60,24 +82,10 @@ BAND_SUMMARY = (
     "final_consumer_price",
     "final_quantity",
 )
-#: Who gains and who loses (MODEL.md 15): each group's total over the horizon.
-GROUP_TOTALS = tuple("total_" + group for group in DISTRIBUTION_GROUPS)
-#: Under the stock schedule (MODEL.md 13).
-STOCK_BAND_SERIES = ("homes_below_free_path",)
+#: Each group's total over the horizon (MODEL.md 15): the summary's distribution_totals.
+GROUP_TOTALS = tuple("total_" + name for name in DISTRIBUTION_GROUPS)
+#: Under the stock schedule.
 STOCK_SUMMARY = ("final_homes_below_free_path", "peak_homes_below_free_path")
-
-
-def band_names(scenario: Scenario) -> tuple[tuple[str, ...], tuple[str, ...]]:
-    """The banded series and summary figures of a scenario: the ones of every answer, the
-    groups' totals (not under random rationing, where the split is not reported), and the homes
-    below the free path under the stock schedule."""
-    series, summary = BAND_SERIES, BAND_SUMMARY
-    if scenario.welfare.rationing != "random":
-        summary += GROUP_TOTALS
-    if scenario.adjustment.schedule == "stock":
-        series += STOCK_BAND_SERIES
-        summary += STOCK_SUMMARY
-    return series, summary
 
 
 #: The parameters of each distribution, in the order a caller writes them.
@@ -105,7 +113,7 @@ class Distribution:
     lower: float = -np.inf
     upper: float = np.inf
     upper_open: bool = False  # the upper bound itself is not allowed (eta < 0)
-    lower_open: bool = False  # the lower bound itself is not allowed (inflation > -1, rate > 0)
+    lower_open: bool = False  # the lower bound itself is not allowed (inflation > -1, lambda > 0)
 
     @property
     def parameters(self) -> dict[str, float]:
@@ -163,13 +171,21 @@ class Distribution:
 ADDITION_DEFAULTS[Distribution] = {"lower_open": False}
 
 
+#: What an uncertain input may replace (besides ("demand_shifter" | "supply_shifter", name)).
+TARGETS = (
+    "demand_elasticity",
+    "short_run_elasticity",
+    "long_run_elasticity",
+    "inflation",  # a constant rate pi of periods 1..T (market.inflation given as a number)
+    "schedule_rate",  # lambda of a geometric or stock schedule (adjustment.rate)
+    "depreciation",  # delta of the stock schedule (adjustment.depreciation)
+)
+
+
 @dataclass(frozen=True)
 class UncertainInput:
-    """Which input is uncertain: target is demand_elasticity, short_run_elasticity,
-    long_run_elasticity, ("demand_shifter" | "supply_shifter", name), or, where the request
-    gives them as numbers, inflation (a constant rate), schedule_rate (lambda of a geometric or
-    stock schedule) or depreciation (of the stock schedule); pointer is its place in the
-    request."""
+    """Which input is uncertain: target is one of TARGETS or ("demand_shifter" |
+    "supply_shifter", name); pointer is its place in the request."""
 
     target: str | tuple[str, str]
     pointer: str
@@ -218,24 +234,31 @@ def scenario_batch_with(
     base: ScenarioBatch, scenario: Scenario, inputs: Sequence[UncertainInput], values: np.ndarray
 ) -> ScenarioBatch:
     """The one-scenario batch `base` repeated once per row of values (rows, inputs), with
-    each uncertain elasticity replaced; shock paths and discounting stay shared (broadcast)."""
+    each uncertain input replaced; shock paths and discounting stay shared (broadcast), and so
+    does inflation unless it is drawn.
+
+    A drawn inflation rate pi becomes the rates (rows, T+1) of periods 1..T (column 0 = 0), as
+    a constant market.inflation does; a drawn adjustment rate is lambda (schedule_rate; the
+    Nerlove default eps_SR / eps_LR of a schedule without one is taken per draw by the engine,
+    from the drawn elasticities); a drawn depreciation delta sets floor_share = 1 - delta.
+    """
     n = values.shape[0]
     fields = {name: np.repeat(getattr(base, name), n, axis=0) for name in _PER_SCENARIO}
     names = scenario.market.shifter_names
     for k, item in enumerate(inputs):
+        column = values[:, k]
         if isinstance(item.target, tuple):
             side, name = item.target
-            key = f"{side}_elasticity"
-            fields[key][:, names.index(name)] = values[:, k]
-        elif item.target == "inflation":  # a constant rate over periods 1..T
-            inflation = np.zeros((n, base.periods))
-            inflation[:, 1:] = values[:, k, None]
-            fields["inflation"] = inflation
+            fields[f"{side}_elasticity"][:, names.index(name)] = column
+        elif item.target == "inflation":
+            rates = np.repeat(column[:, None], base.periods, axis=1)
+            rates[:, 0] = 0.0
+            fields["inflation"] = rates
             fields["has_inflation"] = np.ones(n, dtype=bool)
         elif item.target == "depreciation":
-            fields["floor_share"] = 1.0 - values[:, k]
-        else:
-            fields[item.target] = values[:, k].copy()
+            fields["floor_share"] = 1.0 - column
+        else:  # an elasticity, or schedule_rate
+            fields[item.target] = column.copy()
     return dataclasses.replace(base, **fields)
 
 
@@ -254,17 +277,65 @@ def rows_for(policy_rows: PolicyRows, n: int) -> PolicyRows:
 
 
 @dataclass(frozen=True)
-class BandArrays:
-    """Percentiles per policy: series (policies, series, percentiles, T+1), summary
-    (policies, figures, percentiles), binding share and infeasible draws (policies,)."""
+class BandLayout:
+    """What one scenario's bands hold.
 
-    series: np.ndarray
-    summary: np.ndarray
+    `kept`: per policy, the kernel series written per draw into the float32 buffer (one slot
+    each, policy 0's first); `series`: per policy, the banded series of the answer, in answer
+    order (`kept`, plus the nominal consumer price when it is the real band times a fixed
+    index: `scaled_nominal`); `summary`: the summary figures of every policy.
+    """
+
+    kept: tuple[tuple[str, ...], ...]
+    series: tuple[tuple[str, ...], ...]
+    summary: tuple[str, ...]
+    scaled_nominal: bool
+
+    @property
+    def slots(self) -> int:
+        return sum(len(names) for names in self.kept)
+
+    @property
+    def offsets(self) -> tuple[int, ...]:
+        """First slot of each policy."""
+        return tuple(int(x) for x in np.cumsum([0, *(len(names) for names in self.kept)])[:-1])
+
+
+def band_layout(scenario: Scenario, inputs: Sequence[UncertainInput]) -> BandLayout:
+    """The series and figures a scenario's bands carry: only those that apply to it."""
+    stock = scenario.adjustment.schedule == "stock"
+    drawn = any(item.target == "inflation" for item in inputs)
+    inflated = drawn or scenario.market.inflation != 0.0  # as batch.has_inflation
+    kept, series = [], []
+    for policy in scenario.policies:
+        partial = policy.kind == "price_ceiling" and policy.coverage < 1.0
+        extra = (COVERAGE_BAND_SERIES if partial else ()) + (STOCK_BAND_SERIES if stock else ())
+        kept.append(BAND_SERIES + (NOMINAL_BAND_SERIES if drawn else ()) + extra)
+        series.append(BAND_SERIES + (NOMINAL_BAND_SERIES if inflated else ()) + extra)
+    summary = BAND_SUMMARY
+    if scenario.welfare.rationing != "random":
+        summary += GROUP_TOTALS
+    if stock:
+        summary += STOCK_SUMMARY
+    return BandLayout(tuple(kept), tuple(series), summary, inflated and not drawn)
+
+
+def banded_values(scenario: Scenario, inputs: Sequence[UncertainInput], draws: int) -> int:
+    """Float32 values a bands request keeps: draws x (horizon + 1) x slots (the memory bound)."""
+    return draws * (int(scenario.horizon) + 1) * band_layout(scenario, inputs).slots
+
+
+@dataclass(frozen=True)
+class BandArrays:
+    """Percentiles per policy, in request order: series {name: (percentiles, T+1)} and summary
+    {name: (percentiles,)} (the names of its BandLayout); binding share and infeasible and
+    feasible draws (policies,)."""
+
+    series: tuple[dict[str, np.ndarray], ...]
+    summary: tuple[dict[str, np.ndarray], ...]
     binding_share: np.ndarray
     infeasible_draws: np.ndarray
     feasible_draws: np.ndarray
-    series_names: tuple[str, ...] = BAND_SERIES
-    summary_names: tuple[str, ...] = BAND_SUMMARY
 
 
 def solve_rows(batch: ScenarioBatch, rows: PolicyRows, band: tuple | None = None):
@@ -294,30 +365,31 @@ def percentile_bands(
     Blocks of `block` draws bound memory and stay in cache (each block is one vectorised
     solve); `threads` > 1 solves blocks side by side (numpy releases the GIL), with the same
     answer. Banded series are kept in float32, far finer than the Monte Carlo error of any
-    percentile.
+    percentile; memory is draws x (T+1) x the layout's slots float32 values (banded_values).
     """
     base, base_rows = pack([scenario])
+    layout = band_layout(scenario, inputs)
     p = base_rows.size
     periods = int(scenario.horizon) + 1
     values = draw(inputs, draws, seed, supply_correlation)
-    series_names, summary_names = band_names(scenario)
     # Draws last, so that each period's values over the draws are one contiguous row.
-    kept = np.empty((p, len(series_names), periods, draws), dtype=np.float32)
-    kept_summary = np.empty((draws, p, len(summary_names)))
-    feasible = np.empty((draws, p), dtype=bool)
-    binds = np.empty((draws, p), dtype=bool)
+    kept = np.empty((layout.slots, periods, draws), dtype=np.float32)
+    figures = layout.summary
+    kept_summary = np.empty((p, len(figures), draws))
+    feasible = np.empty((p, draws), dtype=bool)
+    binds = np.empty((p, draws), dtype=bool)
 
     def solve_block(start: int) -> None:
         stop = min(start + block, draws)
         batch = scenario_batch_with(base, scenario, inputs, values[start:stop])
         rows = rows_for(base_rows, stop - start)
         # The kernel writes the banded series straight into `kept` (rows are policy-major).
-        ok, _, summary, bound = solve_rows(batch, rows, band=(series_names, kept, stop - start, start))
+        ok, _, summary, bound = solve_rows(batch, rows, band=(layout.kept, kept, stop - start, start))
         shape = (p, stop - start)
-        feasible[start:stop] = ok.reshape(shape).T
-        binds[start:stop] = bound.reshape(shape).T
-        for s, name in enumerate(summary_names):
-            kept_summary[start:stop, :, s] = summary[name].reshape(shape).T
+        feasible[:, start:stop] = ok.reshape(shape)
+        binds[:, start:stop] = bound.reshape(shape)
+        for f, name in enumerate(figures):
+            kept_summary[:, f, start:stop] = summary[name].reshape(shape)
 
     starts = range(0, draws, block)  # blocks of draws, each vectorised
     if threads > 1:
@@ -328,15 +400,25 @@ def percentile_bands(
             solve_block(start)
 
     q = np.asarray(percentiles, dtype=float)
-    none_feasible = ~feasible.any(axis=0)  # such a policy has no band; the caller reports it
-    feasible = feasible | none_feasible[None, :]
-    series_q = np.empty((len(q), p, len(series_names), periods))
+    none_feasible = ~feasible.any(axis=1)  # such a policy has no band; the caller reports it
+    feasible = feasible | none_feasible[:, None]
+    index = price_index(np.ascontiguousarray(base.inflation))[0] if layout.scaled_nominal else None
+    series_q: list[dict[str, np.ndarray]] = [{} for _ in range(p)]
+    summary_q: list[dict[str, np.ndarray]] = [{} for _ in range(p)]
+    offsets = layout.offsets
 
     def band(policy: int) -> None:
         # Order statistics selected in compiled code (O(draws) each) over the feasible draws.
-        keep = np.flatnonzero(feasible[:, policy])
-        for s in range(len(series_names)):
-            series_q[:, policy, s] = kernel.percentiles(kept[policy, s], keep, q).T
+        keep = np.flatnonzero(feasible[policy])
+        names = layout.kept[policy]
+        block_of = kept[offsets[policy] : offsets[policy] + len(names)].reshape(-1, draws)
+        by_slot = kernel.percentiles(block_of, keep, q).reshape(len(names), periods, len(q))
+        out = {name: by_slot[s].T for s, name in enumerate(names)}
+        if index is not None:  # a fixed index: percentiles of x I_t are those of x, times I_t
+            out["nominal_consumer_price"] = out["consumer_price"] * index[None, :]
+        series_q[policy] = {name: out[name] for name in layout.series[policy]}
+        figures_q = kernel.percentiles(kept_summary[policy], keep, q)
+        summary_q[policy] = {name: figures_q[f] for f, name in enumerate(figures)}
 
     if threads > 1:
         with ThreadPoolExecutor(threads) as pool:
@@ -344,15 +426,12 @@ def percentile_bands(
     else:
         for policy in range(p):
             band(policy)
-    summary_q = np.nanpercentile(np.where(feasible[:, :, None], kept_summary, np.nan), q, axis=0)
-    count = np.where(none_feasible, 0, feasible.sum(axis=0))
-    share = np.where(count > 0, (binds & feasible).sum(axis=0) / np.maximum(count, 1), 0.0)
+    count = np.where(none_feasible, 0, feasible.sum(axis=1))
+    share = np.where(count > 0, (binds & feasible).sum(axis=1) / np.maximum(count, 1), 0.0)
     return BandArrays(
-        series=np.moveaxis(series_q, 0, 2),  # (p, series, q, periods)
-        summary=np.moveaxis(summary_q, 0, 2),  # (p, figures, q)
+        series=tuple(series_q),
+        summary=tuple(summary_q),
         binding_share=share,
         infeasible_draws=draws - count,
         feasible_draws=count,
-        series_names=series_names,
-        summary_names=summary_names,
     )

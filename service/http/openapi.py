@@ -54,8 +54,10 @@ Limits (422 before any work): horizon <= {limits.MAX_HORIZON} periods, <= {limit
 policies, <= {limits.MAX_SHOCKS} shocks, <= {limits.MAX_SHIFTERS_PER_CURVE} shifters per curve,
 <= {limits.MAX_BATCH_SCENARIOS} scenarios per batch and <= {limits.MAX_POLICY_PERIODS:,}
 policy-periods (policies x (longest horizon + 1)) per batch; <= {MAX_DRAWS:,} draws and
-<= {MAX_DRAW_CELLS:,} draws x (horizon + 1) x policies per bands request; bodies <= {limits.MAX_BODY_BYTES}
-bytes (413). Every error is RFC 9457 application/problem+json.
+<= {MAX_DRAW_CELLS:,} draws x (horizon + 1) x policies and <= {limits.MAX_BAND_VALUES:,} draws x
+(horizon + 1) x banded series (6 per policy; 2 more under the stock schedule, 2 more on a ceiling with
+coverage below 1, 1 more with an uncertain inflation rate) per bands request; bodies
+<= {limits.MAX_BODY_BYTES} bytes (413). Every error is RFC 9457 application/problem+json.
 
 Results are model estimates: they inform, and do not replace, local market studies and
 qualified analysts."""

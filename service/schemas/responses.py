@@ -228,7 +228,13 @@ class HealthSchema(Schema):
 
 
 class UncertainInputSchema(Schema):
-    pointer = fields.String(required=True, metadata={"description": "JSON Pointer of the elasticity."})
+    pointer = fields.String(
+        required=True,
+        metadata={
+            "description": "JSON Pointer of the uncertain input: an elasticity, /market/inflation, "
+            "/adjustment/rate or /adjustment/depreciation."
+        },
+    )
     distribution = fields.String(required=True, metadata={"enum": ["normal", "uniform", "triangular"]})
     mean = fields.Float()
     sd = fields.Float()
@@ -253,9 +259,26 @@ class PolicyBandSchema(Schema):
         keys=fields.String(),
         values=_by_percentile(fields.List(fields.Float())),
         required=True,
-        metadata={"description": "Per series, per percentile: one number per period, period 0 first."},
+        metadata={
+            "description": "Per series, per percentile: one number per period, period 0 first. Every "
+            "policy: consumer_price, quantity, shortage, deadweight_loss, cumulative_deadweight_loss, "
+            "discounted_deadweight_loss; under market.inflation also nominal_consumer_price (with a "
+            "fixed index the real band times price_index); under the stock schedule "
+            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1 "
+            "covered_price and uncovered_price. Series that do not apply are absent."
+        },
     )
-    summary = fields.Dict(keys=fields.String(), values=_by_percentile(fields.Float()), required=True)
+    summary = fields.Dict(
+        keys=fields.String(),
+        values=_by_percentile(fields.Float()),
+        required=True,
+        metadata={
+            "description": "Percentiles of summary figures: total_deadweight_loss, "
+            "discounted_deadweight_loss, peak_shortage, final_consumer_price, final_quantity; unless "
+            "rationing is random, each group's total (total_ + a distribution_totals key); under the "
+            "stock schedule final_homes_below_free_path and peak_homes_below_free_path."
+        },
+    )
     binding_share = fields.Float(
         required=True, metadata={"description": "Share of feasible draws in which it binds."}
     )
@@ -298,7 +321,16 @@ class SensitivityInputSchema(UncertainInputSchema):
 class SensitivityResponseSchema(Schema):
     scenario_id = fields.String(required=True)
     model_version = fields.String(required=True)
-    headlines = fields.List(fields.String(), required=True)
+    headlines = fields.List(
+        fields.String(),
+        required=True,
+        metadata={
+            "description": "The figures of low, high and swing, in ranking order: "
+            "discounted_deadweight_loss, peak_shortage, final_consumer_price; unless rationing is "
+            "random each group's total (total_ + a distribution_totals key); under the stock schedule "
+            "final_homes_below_free_path and peak_homes_below_free_path."
+        },
+    )
     central = fields.Nested(PathsResponseSchema, required=True)
     inputs = fields.List(fields.Nested(SensitivityInputSchema), required=True)
     cautions = fields.List(fields.String(), required=True)

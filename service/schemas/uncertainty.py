@@ -13,7 +13,7 @@ from marshmallow import ValidationError, fields, post_load, validate, validates_
 
 from .. import limits
 from ..engine.scenario import Adjustment, Market, Scenario
-from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput
+from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput, banded_values
 from .fields import NumberOrList, Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
 from .paths import (
@@ -266,8 +266,9 @@ class _UncertainRequestSchema(PathsRequestSchema):
     def _market_of(self, data) -> Market:
         return data["market"][0]
 
-    @post_load
-    def _build(self, data, **kwargs) -> UncertainRequest:
+    def _scenario_and_inputs(self, data) -> tuple[Scenario, tuple[UncertainInput, ...]]:
+        """The scenario at the central values and the uncertain inputs: the market's, then the
+        adjustment's (rate, depreciation), the order of the draws' columns."""
         market, inputs = data["market"]
         adjustment = data.get("adjustment")
         if isinstance(adjustment, _UncertainAdjustment):
@@ -279,9 +280,14 @@ class _UncertainRequestSchema(PathsRequestSchema):
                 depreciation=adjustment.depreciation,
             )
         scenario = PathsRequestSchema._build(self, {**data, "market": market, "adjustment": adjustment})
+        return scenario, tuple(inputs)
+
+    @post_load
+    def _build(self, data, **kwargs) -> UncertainRequest:
+        scenario, inputs = self._scenario_and_inputs(data)
         return UncertainRequest(
             scenario=scenario,
-            inputs=tuple(inputs),
+            inputs=inputs,
             draws=data.get("draws", 0),
             seed=data.get("seed", 0),
             percentiles=tuple(data.get("percentiles", ())),
@@ -315,6 +321,16 @@ class BandsRequestSchema(_UncertainRequestSchema):
         if cells > limits.MAX_DRAW_CELLS:
             raise ValidationError(
                 f"draws x (horizon + 1) x policies is {cells:,}; the limit is {limits.MAX_DRAW_CELLS:,}.",
+                "draws",
+            )
+        # Memory: the float32 values the bands keep, one series of one policy per slot.
+        kept = banded_values(*self._scenario_and_inputs(data), data["draws"])
+        if kept > limits.MAX_BAND_VALUES:
+            raise ValidationError(
+                f"draws x (horizon + 1) x banded series is {kept:,}; the limit is "
+                f"{limits.MAX_BAND_VALUES:,} (each policy bands 6 series; 2 more under the stock "
+                "schedule, 2 more on a price ceiling with coverage below 1, 1 more with an uncertain "
+                "inflation rate): ask for fewer draws, periods or policies.",
                 "draws",
             )
 

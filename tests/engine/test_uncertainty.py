@@ -209,3 +209,273 @@ def test_sensitivity_ranks_an_input_without_effect_last_with_zero_swing():
     normal = next(i for i in body["inputs"] if i["distribution"] == "normal")
     low, high = stats.truncnorm(-99.5 / 0.1, 5.0, -0.5, 0.1).ppf([0.05, 0.95])
     assert (normal["low"], normal["high"]) == pytest.approx((low, high), rel=1e-12)
+
+
+# --- what MODEL.md 12-15 add: inflation, the stock, partial coverage, who gains and loses -------
+
+
+def additions_request(**kw):
+    """The market above under the stock schedule (Nerlove default rate eps_SR / eps_LR), with
+    inflation, a nominal freeze lifted after period 3, a growth cap on 60 % of the homes and a
+    nominal levy."""
+    r = request(**kw)
+    r["market"]["inflation"] = 0.03
+    r["adjustment"] = {"schedule": "stock", "depreciation": 0.01}
+    r["policies"] = [
+        {"name": "free", "kind": "none"},
+        {"name": "freeze", "kind": "price_ceiling", "level": "base", "end": 3},
+        {"name": "part cap", "kind": "price_ceiling", "growth": 0.0, "coverage": 0.6},
+        {"name": "levy", "kind": "unit_tax", "amount": 5.0},
+    ]
+    return r
+
+
+def _point(value):
+    return {"distribution": "normal", "mean": value, "sd": 0.0}
+
+
+def _banded(band):
+    return set(band["series"])
+
+
+def test_the_free_market_is_never_below_or_above_its_own_path_in_any_draw():
+    r = additions_request()
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "uniform", "low": -0.9, "high": -0.3}
+    r["market"]["supply"]["long_run_elasticity"] = {"distribution": "uniform", "low": 0.8, "high": 2.0}
+    body = bands({**r, "draws": 300, "seed": 2})
+    free = body["bands"][0]
+    for name in ("homes_below_free_path", "rent_above_free_path"):
+        for values in free["series"][name].values():
+            assert values == [0.0] * 7
+    for name in ("final_homes_below_free_path", "peak_homes_below_free_path"):
+        assert set(free["summary"][name].values()) == {0.0}
+    # The freeze keeps homes missing after it is lifted in period 3 (a durable stock, MODEL.md 13).
+    freeze = body["bands"][1]["series"]["homes_below_free_path"]
+    assert min(freeze["5"][4:]) > 0.0
+
+
+def test_only_the_series_that_apply_to_a_scenario_are_banded():
+    plain = bands({**_with_eta(request(), {"distribution": "normal", "mean": -0.5, "sd": 0.1}), "draws": 50})
+    every = {
+        "consumer_price",
+        "quantity",
+        "shortage",
+        "deadweight_loss",
+        "cumulative_deadweight_loss",
+        "discounted_deadweight_loss",
+    }
+    assert all(_banded(b) == every for b in plain["bands"])
+    assert all("peak_homes_below_free_path" not in b["summary"] for b in plain["bands"])
+    assert all("total_households_priced_out" in b["summary"] for b in plain["bands"])
+
+    r = additions_request()
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "normal", "mean": -0.5, "sd": 0.1}
+    body = bands({**r, "draws": 50})
+    stock = {"homes_below_free_path", "rent_above_free_path", "nominal_consumer_price"}
+    assert [_banded(b) for b in body["bands"]] == [
+        every | stock,
+        every | stock,
+        every | stock | {"covered_price", "uncovered_price"},  # only the ceiling on part of the homes
+        every | stock,
+    ]
+    for band in body["bands"]:
+        assert {"final_homes_below_free_path", "peak_homes_below_free_path"} <= set(band["summary"])
+
+
+def test_under_random_rationing_the_band_summaries_have_no_groups_and_say_so():
+    r = request()
+    r["welfare"] = {"rationing": "random"}
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "normal", "mean": -0.5, "sd": 0.1}
+    body = bands({**r, "draws": 50})
+    assert all(
+        not any(k.startswith("total_") and k != "total_deadweight_loss" for k in b["summary"])
+        for b in body["bands"]
+    )
+    assert any("random rationing" in c and "who gains" in c for c in body["cautions"])
+    assert body["central"]["paths"][0]["distribution"] is None
+
+
+def test_degenerate_inputs_collapse_every_band_onto_the_paths_answer():
+    """Every input a point: each draw is the central scenario, so every percentile of every
+    banded series is its path (float32) and every summary percentile the central figure."""
+    r = additions_request(form="constant_elasticity")
+    r["market"]["demand"]["price_elasticity"] = _point(-0.5)
+    r["market"]["inflation"] = {"distribution": "uniform", "low": 0.03, "high": 0.03}
+    r["adjustment"] = {
+        "schedule": "stock",
+        "rate": {"distribution": "triangular", "low": 0.25, "mode": 0.25, "high": 0.25},
+        "depreciation": _point(0.01),
+    }
+    body = bands({**r, "draws": 40, "seed": 5, "percentiles": [5, 50, 95]})
+    plain = copy.deepcopy(additions_request(form="constant_elasticity"))
+    plain["adjustment"] = {"schedule": "stock", "rate": 0.25, "depreciation": 0.01}
+    paths = simulate(plain)
+    assert body["central"] == paths
+    for band, path, summary in zip(body["bands"], paths["paths"], paths["summary"], strict=True):
+        for name, by_q in band["series"].items():
+            for values in by_q.values():
+                assert values == pytest.approx(path[name], rel=1e-6, abs=1e-3), (band["name"], name)
+        for name, by_q in band["summary"].items():
+            if name.startswith("total_") and name != "total_deadweight_loss":
+                expected = summary["distribution_totals"][name.removeprefix("total_")]
+            else:
+                expected = summary[name]
+            for value in by_q.values():
+                assert value == pytest.approx(expected, rel=1e-12, abs=1e-9), (band["name"], name)
+
+
+def test_a_drawn_inflation_rate_at_a_point_reproduces_the_paths_of_that_inflation():
+    r = additions_request()
+    r["market"]["inflation"] = _point(0.04)
+    body = bands({**r, "draws": 7, "seed": 1})
+    plain = additions_request()
+    plain["market"]["inflation"] = 0.04
+    paths = simulate(plain)
+    assert body["central"] == paths
+    for band, path in zip(body["bands"], paths["paths"], strict=True):
+        # The nominal rent here is written per draw by the kernel (pc x I_t of the draw).
+        for name in ("consumer_price", "nominal_consumer_price", "quantity", "homes_below_free_path"):
+            for values in band["series"][name].values():
+                assert values == pytest.approx(path[name], rel=1e-6), (band["name"], name)
+
+
+def test_with_a_fixed_price_index_the_nominal_band_is_the_real_band_times_the_index():
+    r = additions_request()
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "normal", "mean": -0.5, "sd": 0.15}
+    body = bands({**r, "draws": 1000, "seed": 3})
+    index = np.array(body["central"]["price_index"])
+    assert index[-1] == pytest.approx(1.03**6, rel=1e-14)
+    for band in body["bands"]:
+        for q, real in band["series"]["consumer_price"].items():
+            nominal = band["series"]["nominal_consumer_price"][q]
+            np.testing.assert_allclose(nominal, np.array(real) * index, rtol=1e-15)
+
+
+def test_each_draw_takes_the_nerlove_rate_of_its_own_elasticities():
+    """Stock schedule without a rate: lambda = eps_SR / eps_LR of each draw (MODEL.md 13), so
+    one draw's band is the /v1/paths answer at that draw's elasticities."""
+    from service.schemas.uncertainty import BandsRequestSchema
+
+    r = additions_request()
+    r["market"]["supply"]["short_run_elasticity"] = {"distribution": "uniform", "low": 0.1, "high": 0.5}
+    r["market"]["supply"]["long_run_elasticity"] = {"distribution": "uniform", "low": 0.8, "high": 2.5}
+    req = {**r, "draws": 1, "seed": 12}
+    loaded = BandsRequestSchema().load(req)
+    ((sr, lr),) = draw(loaded.inputs, 1, 12)
+    body = bands(req)
+    plain = additions_request()
+    plain["market"]["supply"]["short_run_elasticity"] = float(sr)
+    plain["market"]["supply"]["long_run_elasticity"] = float(lr)
+    paths = simulate(plain)
+    central = body["central"]
+    # The central rate 0.3 / 1.65 differs from this draw's: the paths differ visibly.
+    assert abs(central["paths"][1]["quantity"][6] - paths["paths"][1]["quantity"][6]) > 1.0
+    for band, path, summary in zip(body["bands"], paths["paths"], paths["summary"], strict=True):
+        for name, by_q in band["series"].items():
+            for values in by_q.values():
+                assert values == pytest.approx(path[name], rel=1e-6, abs=1e-3), (band["name"], name)
+        for name in (
+            "final_homes_below_free_path",
+            "peak_homes_below_free_path",
+            "discounted_deadweight_loss",
+        ):
+            assert band["summary"][name]["50"] == pytest.approx(summary[name], rel=1e-12, abs=1e-9)
+
+
+def test_every_draw_gets_its_own_inflation_rate_and_depreciation_and_keeps_the_rest():
+    from service.engine.batch import pack
+    from service.engine.uncertainty import scenario_batch_with
+    from service.schemas.uncertainty import BandsRequestSchema
+
+    r = additions_request()
+    r["market"]["inflation"] = {"distribution": "uniform", "low": 0.0, "high": 0.1}
+    r["adjustment"] = {
+        "schedule": "stock",
+        "rate": {"distribution": "uniform", "low": 0.1, "high": 0.9},
+        "depreciation": {"distribution": "uniform", "low": 0.0, "high": 0.2},
+    }
+    loaded = BandsRequestSchema().load({**r, "draws": 5})
+    assert [i.target for i in loaded.inputs] == ["inflation", "schedule_rate", "depreciation"]
+    values = np.array([[0.02, 0.3, 0.05], [0.0, 1.0, 0.0], [0.1, 0.5, 1.0]])
+    base, _ = pack([loaded.scenario])
+    batch = scenario_batch_with(base, loaded.scenario, loaded.inputs, values)
+    assert batch.inflation.shape == (3, 7)
+    assert np.array_equal(batch.inflation[:, 0], np.zeros(3))
+    assert np.array_equal(batch.inflation[:, 1:], np.repeat(values[:, :1], 6, axis=1))
+    assert batch.has_inflation.tolist() == [True, True, True]
+    assert batch.schedule_rate.tolist() == [0.3, 1.0, 0.5]
+    assert batch.floor_share.tolist() == [0.95, 1.0, 0.0]  # delta = 1: no floor, as in pack
+    assert batch.stock.tolist() == [True, True, True]
+    assert np.array_equal(batch.demand_elasticity, np.full(3, -0.5))
+
+
+def test_sensitivity_to_depreciation_swings_the_homes_below_the_free_path():
+    """A ceiling 10 % below the base rent: the desired stock falls, and where it would fall
+    faster than the depreciation allows the stock shrinks by exactly that share each period
+    (K_t = (1 - delta) K_(t-1), MODEL.md 13, derived)."""
+    r = request()
+    r["adjustment"] = {
+        "schedule": "stock",
+        "depreciation": {"distribution": "uniform", "low": 0.005, "high": 0.05},
+    }
+    r["policies"] = [
+        {"name": "free", "kind": "none"},
+        {"name": "cut", "kind": "price_ceiling", "level": 90.0},
+    ]
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "uniform", "low": -0.6, "high": -0.4}
+    body = sensitivity(r)
+    entry = next(i for i in body["inputs"] if i["pointer"] == "/adjustment/depreciation")
+    cut = entry["policies"][1]
+    assert cut["swing"]["final_homes_below_free_path"] > 0.0
+    assert cut["swing"]["peak_homes_below_free_path"] > 0.0
+    assert entry["policies"][0]["swing"]["peak_homes_below_free_path"] == 0.0
+    low = copy.deepcopy(r)
+    low["market"]["demand"]["price_elasticity"] = -0.5
+    low["adjustment"]["depreciation"] = 0.005
+    paths = simulate(low)
+    quantity = paths["paths"][1]["quantity"]
+    assert quantity == pytest.approx([1000.0 * 0.995**t for t in range(7)], rel=1e-12)
+    free = paths["paths"][0]["quantity"]
+    assert cut["low"]["final_homes_below_free_path"] == pytest.approx(free[6] - quantity[6], rel=1e-12)
+    assert set(body["headlines"]) >= {"final_homes_below_free_path", "total_households_priced_out"}
+
+
+def test_sensitivity_headlines_follow_the_scenario():
+    r = request()
+    r["market"]["demand"]["price_elasticity"] = {"distribution": "normal", "mean": -0.5, "sd": 0.1}
+    plain = sensitivity(r)["headlines"]
+    assert plain == [
+        "discounted_deadweight_loss",
+        "peak_shortage",
+        "final_consumer_price",
+        "total_tenants_in_controlled_homes",
+        "total_tenants_in_uncontrolled_homes",
+        "total_households_priced_out",
+        "total_owners_of_controlled_homes",
+        "total_owners_of_uncontrolled_homes",
+        "total_government",
+    ]
+    r["welfare"] = {"rationing": "random"}
+    assert sensitivity(r)["headlines"] == plain[:3]
+
+
+@pytest.mark.parametrize(
+    ("distribution", "low", "high"),
+    [
+        (Distribution("normal", mean=-0.98, sd=0.05, lower=-1.0, upper=10.0, lower_open=True), -1.0, 10.0),
+        (Distribution("normal", mean=0.02, sd=0.3, lower=0.0, upper=1.0, lower_open=True), 0.0, 1.0),
+        (Distribution("normal", mean=0.99, sd=0.2, lower=0.0, upper=1.0), 0.0, 1.0),
+    ],
+    ids=["inflation", "rate", "depreciation"],
+)
+def test_truncated_normals_of_rates_stay_inside_their_ranges(distribution, low, high):
+    x = draw([UncertainInput("inflation", "/x", distribution)], 50_000, seed=4)[:, 0]
+    assert x.min() > low if distribution.lower_open else x.min() >= low
+    assert x.max() <= high
+    reference = stats.truncnorm(
+        (low - distribution.mean) / distribution.sd,
+        (high - distribution.mean) / distribution.sd,
+        loc=distribution.mean,
+        scale=distribution.sd,
+    )
+    assert x.mean() == pytest.approx(reference.mean(), abs=4 * reference.std() / np.sqrt(x.size))

@@ -3,6 +3,7 @@ numbers stay numbers; downloads carry a filename and every value its unit."""
 
 from __future__ import annotations
 
+import copy
 import csv
 import io
 
@@ -56,3 +57,105 @@ def test_the_csv_is_a_named_download_with_a_unit_on_every_row(client, contract_r
     rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
     assert all(r["unit"] == UNITS[r["variable"]] for r in rows)
     assert {r["unit"] for r in rows if r["variable"] == "quantity"} == {"units per price interval"}
+
+
+# --- what MODEL.md 12-15 add, in every CSV ----------------------------------------------------
+
+GROUPS = (
+    "tenants_in_controlled_homes",
+    "tenants_in_uncontrolled_homes",
+    "households_priced_out",
+    "owners_of_controlled_homes",
+    "owners_of_uncontrolled_homes",
+    "government",
+)
+
+
+def _rows(response) -> list[dict]:
+    assert response.status_code == 200
+    return list(csv.DictReader(io.StringIO(response.get_data(as_text=True), newline="")))
+
+
+@pytest.fixture
+def additions(contract_request):
+    request = copy.deepcopy(contract_request)
+    request["market"]["inflation"] = 0.025
+    request["adjustment"] = {"schedule": "stock", "half_life": 2, "depreciation": 0.03}
+    ceiling = next(p for p in request["policies"] if p["kind"] == "price_ceiling")
+    ceiling["coverage"] = 0.4
+    return request
+
+
+def test_the_groups_in_the_csv_add_up_to_the_json_totals(client, additions):
+    """Round trip: each group's rows summed over the periods are the summary's
+    distribution_totals (sums in period order, as the engine sums them)."""
+    body = client.post("/v1/paths", json=additions).get_json()
+    rows = _rows(client.post("/v1/paths", json=additions, headers={"Accept": "text/csv"}))
+    for path, summary in zip(body["paths"], body["summary"], strict=True):
+        for group in GROUPS:
+            values = [
+                float(r["value"]) for r in rows if r["policy"] == path["name"] and r["variable"] == group
+            ]
+            assert values == path["distribution"][group]
+            assert {r["unit"] for r in rows if r["variable"] == group} == {"money per model period"}
+            assert sum(values) == pytest.approx(summary["distribution_totals"][group], rel=1e-12, abs=1e-6)
+
+
+def test_the_batch_csv_carries_the_additions_of_each_scenario(client, additions, contract_request):
+    body = {"scenarios": [additions, contract_request]}  # the second without any addition
+    results = client.post("/v1/paths/batch", json=body).get_json()["results"]
+    rows = _rows(client.post("/v1/paths/batch", json=body, headers={"Accept": "text/csv"}))
+    assert "price_index" in results[0] and "price_index" not in results[1]
+    assert any("covered_price" in p for p in results[0]["paths"])
+    assert not any("homes_below_free_path" in p or "covered_price" in p for p in results[1]["paths"])
+    for i, result in enumerate(results):
+        mine = [r for r in rows if r["scenario"] == str(i)]
+        assert {r["scenario_id"] for r in mine} == {result["scenario_id"]}
+        index = [float(r["value"]) for r in mine if r["variable"] == "price_index"]
+        assert index == result.get("price_index", [])
+        for path in result["paths"]:
+            got = {
+                (r["variable"], int(r["period"])): float(r["value"])
+                for r in mine
+                if r["policy"] == path["name"]
+            }
+            for name in (
+                "nominal_consumer_price",
+                "homes_below_free_path",
+                "rent_above_free_path",
+                "covered_price",
+            ):
+                if name in path:
+                    assert [got[(name, t)] for t in result["periods"]] == path[name]
+                else:
+                    assert not any(v == name for v, _ in got)
+            for group in GROUPS:
+                assert [got[(group, t)] for t in result["periods"]] == path["distribution"][group]
+
+
+def test_the_bands_csv_carries_every_banded_series_with_its_unit(client):
+    from service.examples import example_request
+
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["adjustment"] = {"schedule": "stock", "half_life": 3, "depreciation": 0.02}
+    request["market"]["inflation"] = {"distribution": "uniform", "low": 0.0, "high": 0.04}
+    request["policies"][1]["coverage"] = 0.5
+    request["policies"][1]["name"] = "=cap on half"
+    request.update(draws=300)
+    body = client.post("/v1/bands", json=request).get_json()
+    rows = _rows(client.post("/v1/bands", json=request, headers={"Accept": "text/csv"}))
+    got = {(r["policy"], r["variable"], r["percentile"], int(r["period"])): float(r["value"]) for r in rows}
+    count = 0
+    for band in body["bands"]:
+        name = neutralise(band["name"])
+        for variable, by_q in band["series"].items():
+            for q, values in by_q.items():
+                assert [got[(name, variable, q, t)] for t in body["periods"]] == values
+                count += len(values)
+    assert count == len(rows)
+    assert "'=cap on half" in {r["policy"] for r in rows}
+    units = {r["variable"]: r["unit"] for r in rows}
+    assert units["homes_below_free_path"] == "units per price interval"
+    assert units["rent_above_free_path"] == units["covered_price"] == "money per unit per price interval"
+    assert units["nominal_consumer_price"] == "money of the day per unit per price interval"
+    assert all(units[v] == UNITS[v] for v in units)

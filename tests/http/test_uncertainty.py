@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import copy
 
+import pytest
+
 from service import bands
 from service.examples import example_request
 from service.limits import MAX_DRAW_CELLS, MAX_DRAWS
@@ -87,3 +89,69 @@ def test_band_values_beyond_float32_are_a_422_not_a_null(client):
     response = client.post("/v1/bands", json=request)
     assert response.status_code == 422
     assert response.get_json()["type"].endswith("non-finite-result")
+
+
+def _stock_demo():
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["adjustment"] = {"schedule": "stock", "half_life": 3, "depreciation": 0.02}
+    return request
+
+
+def test_bands_of_the_additions_answer_and_match_the_document(client):
+    request = _stock_demo()
+    request["market"]["inflation"] = {"distribution": "triangular", "low": 0.0, "mode": 0.02, "high": 0.06}
+    request["policies"][1]["coverage"] = 0.7
+    request.update(draws=500, seed=3)
+    response = client.post("/v1/bands", json=request)  # validated against the OpenAPI document
+    assert response.status_code == 200
+    body = response.get_json()
+    assert {"homes_below_free_path", "rent_above_free_path", "nominal_consumer_price"} <= set(
+        body["bands"][0]["series"]
+    )
+    assert {"covered_price", "uncovered_price"} <= set(body["bands"][1]["series"])
+    assert "covered_price" not in body["bands"][0]["series"]
+    assert body == bands(request)
+
+
+def test_the_memory_limit_counts_every_banded_series():
+    """Under the stock schedule each policy bands 8 series, not 6: the float32 values kept
+    (MAX_BAND_VALUES) bound the request, checked with 422 before any work."""
+    from service import ProblemError
+    from service.limits import MAX_BAND_VALUES
+    from service.schemas.uncertainty import BandsRequestSchema
+
+    request = _stock_demo()
+    request["policies"] = request["policies"][:3]
+    request["draws"] = MAX_DRAWS
+    request["horizon"] = MAX_BAND_VALUES // (MAX_DRAWS * 3 * 8) - 1  # 40: exactly at the limit
+    assert MAX_DRAWS * (request["horizon"] + 1) * 3 * 8 == MAX_BAND_VALUES
+    BandsRequestSchema().load(request)  # accepted (not run here: it takes seconds)
+    request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 10.0})  # 4 x 8 series
+    with pytest.raises(ProblemError) as info:
+        bands(request)
+    problem = info.value.problem
+    assert problem["status"] == 422 and problem["errors"][0]["pointer"] == "/draws"
+    assert "banded series" in problem["detail"]
+
+
+def test_the_memory_limit_is_a_422_over_http(client):
+    request = _stock_demo()
+    request["draws"] = MAX_DRAWS
+    request["horizon"] = 40
+    request["policies"].append({"name": "levy", "kind": "unit_tax", "amount": 10.0})
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 422
+    assert response.get_json()["errors"][0]["pointer"] == "/draws"
+
+
+def test_sensitivity_of_the_additions_matches_the_document(client):
+    request = _stock_demo()
+    for key in ("draws", "seed", "percentiles"):
+        request.pop(key)
+    request["adjustment"]["depreciation"] = {"distribution": "uniform", "low": 0.0, "high": 0.05}
+    request["market"]["inflation"] = {"distribution": "normal", "mean": 0.02, "sd": 0.01}
+    response = client.post("/v1/sensitivity", json=request)
+    assert response.status_code == 200
+    body = response.get_json()
+    assert "peak_homes_below_free_path" in body["headlines"]
+    assert {"/adjustment/depreciation", "/market/inflation"} <= {i["pointer"] for i in body["inputs"]}
