@@ -10,14 +10,7 @@ import pytest
 from service import bands, sensitivity
 from service.examples import example_request
 
-GROUPS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
+from ..engine.additions import GROUPS
 
 
 @pytest.fixture

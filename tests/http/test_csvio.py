@@ -11,6 +11,8 @@ import pytest
 
 from service.http.csvio import UNITS, neutralise
 
+from ..engine.additions import GROUPS
+
 # OWASP, "CSV Injection" (owasp.org/www-community/attacks/CSV_Injection): cells beginning with
 # =, +, -, @, tab or carriage return are read as formulas by Excel, LibreOffice and Sheets.
 INJECTIONS = [
@@ -60,15 +62,6 @@ def test_the_csv_is_a_named_download_with_a_unit_on_every_row(client, contract_r
 
 
 # --- what MODEL.md 12-15 add, in every CSV ----------------------------------------------------
-
-GROUPS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
 
 
 def _rows(response) -> list[dict]:
@@ -159,3 +152,38 @@ def test_the_bands_csv_carries_every_banded_series_with_its_unit(client):
     assert units["rent_above_free_path"] == units["covered_price"] == "money per unit per price interval"
     assert units["nominal_consumer_price"] == "money of the day per unit per price interval"
     assert all(units[v] == UNITS[v] for v in units)
+
+
+def test_every_series_of_the_json_answer_is_in_the_csv_with_the_same_numbers(client, additions):
+    request = additions
+    body = client.post("/v1/paths", json=request).get_json()
+    rows = _rows(client.post("/v1/paths", json=request, headers={"Accept": "text/csv"}))
+    got = {(r["policy"], int(r["period"]), r["variable"]): float(r["value"]) for r in rows}
+    for t, value in zip(body["periods"], body["price_index"], strict=True):
+        assert got[("", t, "price_index")] == value
+    for path in body["paths"]:
+        series = {k: v for k, v in path.items() if k not in ("name", "kind", "binding", "distribution")}
+        series.update(path["distribution"])
+        for variable, values in series.items():
+            for t, value in enumerate(values):
+                assert got[(path["name"], t, variable)] == value, (path["name"], variable, t)
+
+
+def test_the_groups_in_the_csv_sum_to_minus_the_deadweight_loss(client, additions):
+    # Derived identity (MODEL.md 15): all groups together lose the deadweight loss.
+    request = additions
+    ceiling = next(p["name"] for p in request["policies"] if p["kind"] == "price_ceiling")
+    rows = _rows(client.post("/v1/paths", json=request, headers={"Accept": "text/csv"}))
+    groups = [r for r in rows if r["policy"] == ceiling and r["unit"] == "money per model period"]
+    by_period: dict[int, dict[str, float]] = {}
+    for r in groups:
+        by_period.setdefault(int(r["period"]), {})[r["variable"]] = float(r["value"])
+    for values in by_period.values():
+        total = sum(values[n] for n in GROUPS)
+        assert total == pytest.approx(-values["deadweight_loss"], rel=1e-9, abs=1e-6)
+
+
+def test_without_inflation_there_is_no_price_index_row(client, contract_request):
+    rows = _rows(client.post("/v1/paths", json=contract_request, headers={"Accept": "text/csv"}))
+    assert not any(r["variable"] in ("price_index", "nominal_consumer_price") for r in rows)
+    assert all(r["policy"] for r in rows)
