@@ -87,8 +87,8 @@ def test_the_anchor_rule_matches_githubs():
     assert _anchor("2. Supply elasticity over time (partial adjustment)") == (
         "2-supply-elasticity-over-time-partial-adjustment"
     )
-    assert _anchor("13. A durable stock (adjustment schedule `stock`)") == (
-        "13-a-durable-stock-adjustment-schedule-stock"
+    assert _anchor("13. Homes that last: the `stock` schedule") == (
+        "13-homes-that-last-the-stock-schedule"
     )
     assert _links("[a](b.md) `[c](d.md)` [e](f.md#g)") == ["b.md", "f.md#g"]
 
