@@ -87,9 +87,7 @@ def test_the_anchor_rule_matches_githubs():
     assert _anchor("2. Supply elasticity over time (partial adjustment)") == (
         "2-supply-elasticity-over-time-partial-adjustment"
     )
-    assert _anchor("13. Homes that last: the `stock` schedule") == (
-        "13-homes-that-last-the-stock-schedule"
-    )
+    assert _anchor("13. Homes that last: the `stock` schedule") == ("13-homes-that-last-the-stock-schedule")
     assert _links("[a](b.md) `[c](d.md)` [e](f.md#g)") == ["b.md", "f.md#g"]
 
 
