@@ -202,10 +202,10 @@ def _path_fields() -> dict:
         required=True,
         allow_none=True,
         metadata={
-            "description": "Who gains and who loses (MODEL.md 15), per period, money per model period "
-            "against the period's free market, efficient allocation: the tenants' groups sum to "
-            "consumer_surplus_change, the owners' to producer_surplus_change, all to minus the "
-            "deadweight loss. null under random rationing."
+            "description": "Who gains and who loses (service/engine/MODEL.md section 15), per period, "
+            "money per model period against the period's free market, efficient allocation: the "
+            "tenants' groups sum to consumer_surplus_change, the owners' to producer_surplus_change, "
+            "all to minus the deadweight loss. null under random rationing."
         },
     )
     return out
