@@ -1578,7 +1578,7 @@ def policy_paths(
         column[SERIES_INDEX[name]] = j
     out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
-    summary = np.zeros((count, len(SUMMARY_NAMES)))
+    summary = np.empty((count, len(SUMMARY_NAMES)))
     if band is None:
         band_slot = np.full((1, len(SERIES_NAMES)), -1, dtype=np.int64)
         band_out, band_rows, band_start = np.empty((1, 1, 1), dtype=np.float32), 0, 0
@@ -1594,8 +1594,8 @@ def policy_paths(
     _policy_rows(
         m,
         rows,
-        free[:, :2].copy(),
-        (free if free_other is None else free_other)[:, :2].copy(),
+        free,
+        free if free_other is None else free_other,
         other,
         column,
         out,

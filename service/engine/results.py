@@ -269,19 +269,23 @@ def solve_scenarios(
     return assemble(scenarios, batch, rows, arrays, as_lists)
 
 
-def grouped_rows(batch: ScenarioBatch, rows: PolicyRows) -> np.ndarray:
+def grouped_rows(rows: PolicyRows, ceiling: np.ndarray | None = None) -> np.ndarray:
     """(R,) True where a ceiling's homes are two groups (MODEL.md 17): coverage below 1, new
-    homes exempt, or vacancy decontrol."""
-    exempt = getattr(rows, "exempt_new", np.zeros(rows.size, dtype=bool))
-    decontrol = getattr(rows, "decontrol", np.zeros(rows.size))
-    return is_ceiling(rows.kind) & ((rows.coverage < 1.0) | exempt | (decontrol > 0.0))
+    homes exempt, or vacancy decontrol. `ceiling` is is_ceiling(rows.kind) where known."""
+    two = rows.coverage < 1.0
+    exempt = getattr(rows, "exempt_new", None)
+    if exempt is not None:
+        two |= exempt | (rows.decontrol > 0.0)
+    if not two.any():
+        return two
+    return two & (is_ceiling(rows.kind) if ceiling is None else ceiling)
 
 
 def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
     """The kernel series an answer of this batch needs: the sixteen of every answer, the
     distribution, and the additions' series only where some scenario uses them."""
     names = _REPORTED + DISTRIBUTION_GROUPS
-    if grouped_rows(batch, rows).any():
+    if grouped_rows(rows).any():
         names += COVERAGE_SERIES
     if batch.stock.any():
         names += STOCK_SERIES + tuple(VS_FREE_PATH_SERIES.values())
@@ -319,7 +323,7 @@ def assemble(
     block = arrays.series  # the series solve kept (reported_series), in arrays.series_names order
     binding = arrays.binding
     position = {name: j for j, name in enumerate(arrays.series_names)}
-    partial = grouped_rows(batch, rows)
+    partial = grouped_rows(rows, ceiling)
     conversion = getattr(batch, "conversion", np.zeros(batch.size))
     index = nominal = None
     if batch.has_inflation.any():
