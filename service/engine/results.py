@@ -254,6 +254,24 @@ def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
 
 
+def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays, ceiling) -> np.ndarray:
+    """(n,) True where the same request sent in the other curve form has an answer (MODEL.md
+    20): its free path stays in the linear form's range, every policy is feasible and finite in
+    it, and random rationing of a ceiling keeps finite willingness to pay there."""
+    row_ok = arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0
+    # Linear scenarios answered in constant elasticity: random rationing needs eta < -1 there.
+    s_of = rows.scenario
+    row_ok &= ~(
+        ceiling
+        & batch.random_rationing[s_of]
+        & ~batch.constant_elasticity[s_of]
+        & (batch.demand_elasticity[s_of] >= -1.0)
+    )
+    ok = arrays.alternate_feasible.copy()
+    np.logical_and.at(ok, s_of, row_ok)
+    return ok
+
+
 def solve_scenarios(
     scenarios: Sequence[Scenario], as_lists: bool = False
 ) -> list[ScenarioResult | EngineError]:
@@ -340,9 +358,7 @@ def assemble(
         if nominal is not None:
             index, nominal = index.tolist(), nominal.tolist()
     figures = arrays.summary.tolist()
-    other_ok = (arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0) & arrays.alternate_feasible[
-        rows.scenario
-    ]
+    other_ok = _other_form_answers(batch, rows, arrays, ceiling)[rows.scenario]
     code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
