@@ -1269,14 +1269,19 @@ def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -
 # --- every policy row -----------------------------------------------------------------------
 
 
+#: Where a row's cells go: `out` (kept series, T+1) gets cell[kept[k]] in row column[kept[k]];
+#: band_out[slots[j], t, draw] gets cell[j] for j in `banded`; `checked` lists the cells whose
+#: values must be finite (the sixteen core series, the kept and the banded ones).
+Target = namedtuple("Target", "kept column out checked banded slots band_out draw")
+
+
 @njit(**_JIT)
-def _write(cell, column, out, t, slots, band_out, draw, banding):
-    """A period's cell into the kept series (and a band's slots)."""
-    for j in range(cell.shape[0]):
-        if column[j] >= 0:
-            out[column[j], t] = cell[j]
-        if banding and slots[j] >= 0:
-            band_out[slots[j], t, draw] = cell[j]
+def _write(cell, target, t):
+    """A period's cell into the kept series and the band's slots."""
+    for j in target.kept:
+        target.out[target.column[j], t] = cell[j]
+    for j in target.banded:
+        target.band_out[target.slots[j], t, target.draw] = cell[j]
 
 
 @njit(**_JIT)
@@ -1338,9 +1343,9 @@ def _fill_cell(cell, o, w, p_star, q_star, free_price, free_quantity, index, cum
 
 
 @njit(**_JIT)
-def _add_to_totals(total, cell, t, binding, factor, after_end):
+def _add_to_totals(total, cell, checked, t, binding, factor, after_end):
     """Running totals and peaks of a period (money summed in period order)."""
-    for j in range(cell.shape[0]):
+    for j in checked:
         if not math.isfinite(cell[j]):
             total[_T.non_finite] = 1.0
     if cell[_S.shortage] > total[_T.peak_shortage]:
@@ -1378,9 +1383,9 @@ def _close_totals(total, cell):
 
 
 @njit(**_JIT)
-def _walk_row(m, rows, r, ce, free, column, out, flags, total, cell, slots, band_out, draw, banding):
+def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
     """One policy row's periods in order, in the form `ce`, against the free path `free`
-    (n, 2+, T+1) of that form: series into out (kept series, T+1) and band slots, flags
+    (n, 2+, T+1) of that form: series into `target` (kept series and band slots), flags
     (3, T+1), totals into `total`."""
     i = rows.scenario[r]
     p0, q0, eta, k_pay = m.price[i], m.quantity[i], m.demand_elasticity[i], m.payments_per_period[i]
@@ -1399,7 +1404,7 @@ def _walk_row(m, rows, r, ce, free, column, out, flags, total, cell, slots, band
     m_divisor = 1.0 + 1.0 / eta if random and ce else 2.0
 
     _start_row(cell, p0, q0, share, total)
-    _write(cell, column, out, 0, slots, band_out, draw, banding)
+    _write(cell, target, 0)
     for j in range(3):
         flags[j, 0] = False
     stock_prev = q0  # homes standing at the end of the period before
@@ -1411,8 +1416,8 @@ def _walk_row(m, rows, r, ce, free, column, out, flags, total, cell, slots, band
     controlled = others = Group(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, math.inf)
     for t in range(1, m.eps.shape[1]):
         if t > m.horizon[i]:
-            for j in range(out.shape[0]):
-                out[j, t] = 0.0
+            for j in range(target.out.shape[0]):
+                target.out[j, t] = 0.0
             for j in range(3):
                 flags[j, t] = False
             continue
@@ -1486,11 +1491,11 @@ def _walk_row(m, rows, r, ce, free, column, out, flags, total, cell, slots, band
             cell[_S.extra_rent_vs_free_path] = extra
         else:
             cell[_S.renters_vs_free_path] = cell[_S.extra_rent_vs_free_path] = 0.0
-        _write(cell, column, out, t, slots, band_out, draw, banding)
+        _write(cell, target, t)
         flags[_BINDING, t] = o.binding
         flags[_RATIONED, t] = o.rationed
         flags[_INFEASIBLE, t] = infeasible
-        _add_to_totals(total, cell, t, o.binding, factor, t > end)
+        _add_to_totals(total, cell, target.checked, t, o.binding, factor, t > end)
         if t == m.horizon[i]:
             _close_totals(total, cell)
         stock_prev = standing
@@ -1504,42 +1509,55 @@ def _walk_row(m, rows, r, ce, free, column, out, flags, total, cell, slots, band
 
 @njit(**_JIT)
 def _policy_rows(
-    m, rows, free, free_other, other, column, out, flags, summary, band_slot, band_out, band_rows, band_start
+    m,
+    rows,
+    free,
+    free_other,
+    other,
+    kept,
+    column,
+    out,
+    flags,
+    summary,
+    banded,
+    counts,
+    band_slot,
+    band_out,
+    band_rows,
+    band_start,
 ):
     """Every row in its scenario's form; with `other`, also in the other form (summary figures
     only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
     cell = np.empty(len(SERIES_NAMES))
     periods = m.eps.shape[1]
-    no_columns = np.full(len(SERIES_NAMES), -1, dtype=np.int64)
+    nothing = np.empty(0, dtype=np.int64)
+    core = np.arange(16)
     scratch_out = np.empty((0, periods))
     scratch_flags = np.empty((3, periods), dtype=np.bool_)
     scratch_total = np.empty(summary.shape[1])
-    banding = band_rows > 0
+    every_banded = banded.ravel()
+    checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
         ce = m.constant_elasticity[i]
-        slots = band_slot[r // band_rows] if banding else band_slot[0]
-        draw = band_start + r % band_rows if banding else 0
-        _walk_row(
-            m, rows, r, ce, free, column, out[r], flags[r], summary[r], cell, slots, band_out, draw, banding
-        )
-        if other:
-            _walk_row(
-                m,
-                rows,
-                r,
-                not ce,
-                free_other,
-                no_columns,
-                scratch_out,
-                scratch_flags,
-                scratch_total,
-                cell,
-                slots,
+        if band_rows > 0:
+            policy = r // band_rows
+            target = Target(
+                kept,
+                column,
+                out[r],
+                checked,
+                banded[policy, : counts[policy]],
+                band_slot[policy],
                 band_out,
-                0,
-                False,
+                band_start + r % band_rows,
             )
+        else:
+            target = Target(kept, column, out[r], checked, nothing, band_slot[0], band_out, 0)
+        _walk_row(m, rows, r, ce, free, target, flags[r], summary[r], cell)
+        if other:
+            quiet = Target(nothing, column, scratch_out, core, nothing, band_slot[0], band_out, 0)
+            _walk_row(m, rows, r, not ce, free_other, quiet, scratch_flags, scratch_total, cell)
             feasible = scratch_total[_T.non_finite] == 0.0
             for t in range(m.horizon[i] + 1):
                 if scratch_flags[_INFEASIBLE, t]:
@@ -1590,6 +1608,12 @@ def policy_paths(
             for name in names:
                 band_slot[policy, SERIES_INDEX[name]] = slot
                 slot += 1
+    banded = np.full((band_slot.shape[0], len(SERIES_NAMES)), -1, dtype=np.int64)
+    counts = np.zeros(band_slot.shape[0], dtype=np.int64)
+    for policy in range(band_slot.shape[0]):
+        cells = np.flatnonzero(band_slot[policy] >= 0)
+        banded[policy, : cells.size] = cells
+        counts[policy] = cells.size
     other = free_other is not None
     _policy_rows(
         m,
@@ -1597,10 +1621,13 @@ def policy_paths(
         free,
         free if free_other is None else free_other,
         other,
+        np.flatnonzero(column >= 0),
         column,
         out,
         flags,
         summary,
+        banded,
+        counts,
         band_slot,
         band_out,
         band_rows,
