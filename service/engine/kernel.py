@@ -117,6 +117,17 @@ _STOCK = SCHEDULE_CODES["stock"]
 
 # --- names of the outputs: one tuple each, indices generated from it ------------------------
 
+#: Who gains and who loses (MODEL.md 15, 17, 20): series and their totals, in this order.
+GROUP_NAMES = (
+    "tenants_in_controlled_homes",
+    "tenants_in_uncontrolled_homes",
+    "households_priced_out",
+    "owners_of_controlled_homes",
+    "owners_of_uncontrolled_homes",
+    "government",
+    "households_drawn_in",
+)
+
 #: Per-period output series of a policy row, in the order of the second axis of its output.
 SERIES_NAMES = (
     "consumer_price",
@@ -139,12 +150,7 @@ SERIES_NAMES = (
     "uncovered_price",
     "covered_quantity",
     "uncovered_quantity",
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
+    *GROUP_NAMES[:6],
     "free_price",
     "free_quantity",
     "homes_below_free_path",
@@ -197,26 +203,10 @@ SUMMARY_NAMES = (
     "other_final_consumer_price",
     "other_peak_shortage",
     "other_feasible",
-    "discounted_tenants_in_controlled_homes",
-    "discounted_tenants_in_uncontrolled_homes",
-    "discounted_households_priced_out",
-    "discounted_owners_of_controlled_homes",
-    "discounted_owners_of_uncontrolled_homes",
-    "discounted_government",
-    "discounted_households_drawn_in",
+    *("discounted_" + name for name in GROUP_NAMES),
 )
 SUMMARY_INDEX = {name: i for i, name in enumerate(SUMMARY_NAMES)}
 _T = namedtuple("SummaryIndex", SUMMARY_NAMES)(*range(len(SUMMARY_NAMES)))
-#: Who gains and who loses (MODEL.md 15, 17, 20): series and their totals, in this order.
-GROUP_NAMES = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-    "households_drawn_in",
-)
 _GROUP_SERIES = np.array([SERIES_INDEX[name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_TOTALS = np.array([SUMMARY_INDEX["total_" + name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_DISCOUNTED = np.array([SUMMARY_INDEX["discounted_" + name] for name in GROUP_NAMES], dtype=np.int64)
@@ -651,19 +641,20 @@ def _supply_elasticity_at(c, price, quantity):
 
 
 @njit(**_JIT)
-def _free_outcome(p_star, q_star, share):
-    """The free market of the period: what every policy leaves where it does not bind."""
+def _uncontrolled_outcome(binding, pc, pp, q, qd, qs, excess, mv, mc, p_star, q_star, share):
+    """An outcome that controls no group of homes (the free market; a floor, tax, subsidy or
+    quantity cap): the covered and uncovered series are the free market's split by share."""
     return Outcome(
-        p_star,
-        p_star,
-        q_star,
-        q_star,
-        q_star,
+        pc,
+        pp,
+        q,
+        qd,
+        qs,
         0.0,
-        0.0,
-        p_star,
-        p_star,
-        False,
+        excess,
+        mv,
+        mc,
+        binding,
         False,
         0.0,
         p_star,
@@ -672,6 +663,14 @@ def _free_outcome(p_star, q_star, share):
         (1.0 - share) * q_star,
         0.0,
         0.0,
+    )
+
+
+@njit(**_JIT)
+def _free_outcome(p_star, q_star, share):
+    """The free market of the period: what every policy leaves where it does not bind."""
+    return _uncontrolled_outcome(
+        False, p_star, p_star, q_star, q_star, q_star, 0.0, p_star, p_star, p_star, q_star, share
     )
 
 
@@ -755,25 +754,19 @@ def _floor(c, level, active, p_star, q_star, share):
     demanded = _demand(c, level)
     supplied = _supply(c, level)
     mc = _inverse_supply(c, min(demanded, q_star))
-    return Outcome(
+    return _uncontrolled_outcome(
+        True,
         level,
         level,
         demanded,
         demanded,
         supplied,
-        0.0,
         supplied - demanded,
         level,
         mc,
-        True,
-        False,
-        level,
         p_star,
-        p_star,
-        share * q_star,
-        (1.0 - share) * q_star,
-        0.0,
-        0.0,
+        q_star,
+        share,
     )
 
 
@@ -801,26 +794,7 @@ def _wedge(c, code, rate, real, active, p_star, q_star, share):
     pc = _clear(c, 1.0, 0.0, scale, gap, low, high, first)
     pp = scale * pc - gap
     q = _demand(c, pc)
-    return Outcome(
-        pc,
-        pp,
-        q,
-        q,
-        _supply(c, pp),
-        0.0,
-        0.0,
-        pc,
-        pp,
-        True,
-        False,
-        0.0,
-        p_star,
-        p_star,
-        share * q_star,
-        (1.0 - share) * q_star,
-        0.0,
-        0.0,
-    )
+    return _uncontrolled_outcome(True, pc, pp, q, q, _supply(c, pp), 0.0, pc, pp, p_star, q_star, share)
 
 
 @njit(**_JIT)
@@ -831,25 +805,9 @@ def _quantity_cap(c, cap, active, p_star, q_star, share):
         return _free_outcome(p_star, q_star, share)
     price = _inverse_demand(c, cap)
     supplied = _supply(c, price)
-    return Outcome(
-        price,
-        price,
-        cap,
-        cap,
-        supplied,
-        0.0,
-        supplied - cap,
-        price,
-        _inverse_supply(c, min(cap, q_star)),
-        True,
-        False,
-        0.0,
-        p_star,
-        p_star,
-        share * q_star,
-        (1.0 - share) * q_star,
-        0.0,
-        0.0,
+    mc = _inverse_supply(c, min(cap, q_star))
+    return _uncontrolled_outcome(
+        price, price, cap, cap, supplied, supplied - cap, price, mc, p_star, q_star, share
     )
 
 
@@ -1507,27 +1465,21 @@ def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
             guess = p_star
 
 
+#: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
+#: `column`s, `flags` (R, 3, T+1), `summary` (R, figures); for bands, per policy the `banded`
+#: cells (padded, `counts` of them) and their `band_slot`s in `band_out` (slots, T+1, draws),
+#: `band_rows` rows per policy from draw `band_start` (band_rows = 0: no bands).
+Outputs = namedtuple(
+    "Outputs", "kept column out flags summary banded counts band_slot band_out band_rows band_start"
+)
+
+
 @njit(**_JIT)
-def _policy_rows(
-    m,
-    rows,
-    free,
-    free_other,
-    other,
-    kept,
-    column,
-    out,
-    flags,
-    summary,
-    banded,
-    counts,
-    band_slot,
-    band_out,
-    band_rows,
-    band_start,
-):
+def _policy_rows(m, rows, free, free_other, other, x):
     """Every row in its scenario's form; with `other`, also in the other form (summary figures
     only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
+    kept, column, out, flags, summary = x.kept, x.column, x.out, x.flags, x.summary
+    band_rows, band_slot, band_out = x.band_rows, x.band_slot, x.band_out
     cell = np.empty(len(SERIES_NAMES))
     periods = m.eps.shape[1]
     nothing = np.empty(0, dtype=np.int64)
@@ -1535,7 +1487,7 @@ def _policy_rows(
     scratch_out = np.empty((0, periods))
     scratch_flags = np.empty((3, periods), dtype=np.bool_)
     scratch_total = np.empty(summary.shape[1])
-    every_banded = banded.ravel()
+    every_banded = x.banded.ravel()
     checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
@@ -1547,10 +1499,10 @@ def _policy_rows(
                 column,
                 out[r],
                 checked,
-                banded[policy, : counts[policy]],
+                x.banded[policy, : x.counts[policy]],
                 band_slot[policy],
                 band_out,
-                band_start + r % band_rows,
+                x.band_start + r % band_rows,
             )
         else:
             target = Target(kept, column, out[r], checked, nothing, band_slot[0], band_out, 0)
@@ -1614,13 +1566,7 @@ def policy_paths(
         cells = np.flatnonzero(band_slot[policy] >= 0)
         banded[policy, : cells.size] = cells
         counts[policy] = cells.size
-    other = free_other is not None
-    _policy_rows(
-        m,
-        rows,
-        free,
-        free if free_other is None else free_other,
-        other,
+    outputs = Outputs(
         np.flatnonzero(column >= 0),
         column,
         out,
@@ -1633,6 +1579,7 @@ def policy_paths(
         band_rows,
         band_start,
     )
+    _policy_rows(m, rows, free, free if free_other is None else free_other, free_other is not None, outputs)
     return out, flags, summary
 
 
