@@ -807,7 +807,7 @@ def _quantity_cap(c, cap, active, p_star, q_star, share):
     supplied = _supply(c, price)
     mc = _inverse_supply(c, min(cap, q_star))
     return _uncontrolled_outcome(
-        price, price, cap, cap, supplied, supplied - cap, price, mc, p_star, q_star, share
+        True, price, price, cap, cap, supplied, supplied - cap, price, mc, p_star, q_star, share
     )
 
 
