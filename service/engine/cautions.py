@@ -282,7 +282,8 @@ def scenario_cautions(
     lifted = list(lifted_ceilings) if not stock else []
     if lifted:
         out.append(
-            f"{_names(lifted)} ends before the horizon. Under this schedule the homes a ceiling kept "
+            f"{_names(lifted)} {'ends' if len(lifted) == 1 else 'end'} before the horizon. Under this "
+            "schedule the homes a ceiling kept "
             "from being built return the moment it ends, as if built overnight; real homes take years. "
             'Use the stock schedule ("adjustment": {"schedule": "stock"}) to see the years after '
             "a ceiling ends."
