@@ -77,44 +77,98 @@ _SERIES_HELP = {
     "discounted_deadweight_loss": "Discounted sum of deadweight loss through the period.",
     "nominal_consumer_price": "With market.inflation only: consumer_price x price_index, money of the day.",
     "nominal_producer_price": "With market.inflation only: producer_price x price_index.",
-    "covered_price": "Ceilings with coverage below 1 only: rent of controlled homes (the ceiling where it "
-    "binds, else the free-market rent).",
-    "uncovered_price": "Ceilings with coverage below 1 only: rent of uncontrolled homes, >= the free-market "
-    "rent (Fallis & Smith 1984).",
-    "covered_quantity": "Ceilings with coverage below 1 only: controlled homes let, per price interval.",
-    "uncovered_quantity": "Ceilings with coverage below 1 only: uncontrolled homes let.",
+    "covered_price": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: the mean "
+    "rent owners of controlled homes receive (the ceiling where it binds, with vacancy decontrol the mix of "
+    "capped and reset rents; else the market rent).",
+    "uncovered_price": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: the "
+    "market rent of uncontrolled homes, >= the rent without the rule (Fallis & Smith 1984).",
+    "covered_quantity": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: "
+    "controlled homes let, per price interval.",
+    "uncovered_quantity": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: "
+    "uncontrolled homes let.",
     "homes_below_free_path": "Stock schedule only: the free path's quantity minus this path's (homes "
     "missing; negative where the path has more homes).",
     "rent_above_free_path": "Stock schedule only: consumer_price minus the free path's price.",
+    "vacant_homes": "Stock schedule only: homes standing but not let (K_t - Q_t), e.g. under a floor or a "
+    "quantity cap; they are lost no faster than the depreciation and offered again the period after "
+    "(MODEL.md 16).",
+    "converted_homes": "Stock schedule with conversion only: controlled homes that left the rental market "
+    "in the period, sold to owner-occupiers or put to other uses (MODEL.md 18).",
 }
 
 _GROUP_HELP = {
-    "tenants_in_controlled_homes": "(P* - c) Qc: tenants who hold a controlled home.",
-    "tenants_in_uncontrolled_homes": "-(Pu - P*) Qu under a partial ceiling; under a tax, subsidy, floor or "
-    "quantity cap every tenant, -(Pc - P*) Q.",
-    "households_priced_out": "-integral_Q^Q* (Qd^-1 - P*): households priced or rationed out (drawn in "
-    "where Q > Q*).",
+    "tenants_in_controlled_homes": "(P^ - Rc) Kc: tenants who hold a controlled home.",
+    "tenants_in_uncontrolled_homes": "-(M - P^) Ku under a ceiling that splits the market; under a tax, "
+    "subsidy, floor or quantity cap the tenants who rent in both, -(Pc - P^) min(Q, Q^).",
+    "households_priced_out": "-integral_Q^Q^ (Qd^-1 - P^): households priced or rationed out; 0 where "
+    "Q > Q^.",
     "owners_of_controlled_homes": "Producer surplus change of the controlled homes.",
     "owners_of_uncontrolled_homes": "Producer surplus change of the uncontrolled homes (all owners where "
     "nothing is controlled).",
     "government": "(Pc - Pp) Q: revenue, negative for a subsidy.",
+    "households_drawn_in": "integral_Q^^Q (Qd^-1 - Pc) >= 0: households that rent only because of the "
+    "policy (a subsidy); 0 where Q <= Q^ (MODEL.md 20).",
 }
 
+assert set(DISTRIBUTION_GROUPS) <= set(_GROUP_HELP)
 DistributionSchema = Schema.from_dict(
     {
-        name: fields.List(fields.Float(), required=True, metadata={"description": help_})
-        for name, help_ in _GROUP_HELP.items()
+        name: fields.List(fields.Float(), required=True, metadata={"description": _GROUP_HELP[name]})
+        for name in DISTRIBUTION_GROUPS
     },
     name="DistributionSeries",
 )
 DistributionTotalsSchema = Schema.from_dict(
     {
-        name: fields.Float(required=True, metadata={"description": help_})
-        for name, help_ in _GROUP_HELP.items()
+        name: fields.Float(required=True, metadata={"description": _GROUP_HELP[name]})
+        for name in DISTRIBUTION_GROUPS
     },
     name="DistributionTotals",
 )
-assert tuple(_GROUP_HELP) == DISTRIBUTION_GROUPS
+
+#: Renters against the free path (MODEL.md 19), per period.
+VsFreePathSchema = Schema.from_dict(
+    {
+        "renters": _numbers(
+            "Renters' surplus against the free path, money per model period: "
+            "-integral_Q^QF (Qd^-1 - PF) - (Pc - PF) Q - misallocation; 0 before the policy starts."
+        ),
+        "extra_rent": _numbers("(Pc - PF) Q: rent paid above the free path's rent, money per model period."),
+    },
+    name="VsFreePath",
+)
+#: Its totals over the horizon (MODEL.md 19).
+VsFreePathTotalsSchema = Schema.from_dict(
+    {
+        "renters": fields.Float(required=True, metadata={"description": "Sum of renters over the horizon."}),
+        "renters_discounted": fields.Float(
+            required=True, metadata={"description": "Discounted sum of renters."}
+        ),
+        "renters_after_end": fields.Float(
+            required=True,
+            metadata={
+                "description": "Sum of renters in the periods after the policy's end (not discounted; 0 when "
+                "it lasts to the horizon)."
+            },
+        ),
+        "extra_rent": fields.Float(required=True, metadata={"description": "Sum of extra_rent."}),
+        "extra_rent_after_end": fields.Float(
+            required=True,
+            metadata={"description": "Sum of extra_rent after the policy's end (not discounted)."},
+        ),
+    },
+    name="VsFreePathTotals",
+)
+#: The same request solved in the other curve form (MODEL.md 20).
+OtherFormSchema = Schema.from_dict(
+    {
+        "form": fields.String(required=True, metadata={"enum": ["linear", "constant_elasticity"]}),
+        "discounted_deadweight_loss": fields.Float(required=True),
+        "final_consumer_price": fields.Float(required=True),
+        "peak_shortage": fields.Float(required=True),
+    },
+    name="OtherForm",
+)
 
 
 def _path_fields() -> dict:
@@ -129,8 +183,17 @@ def _path_fields() -> dict:
             )
         else:
             out[name] = _numbers(_SERIES_HELP[name])
-    for name in NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES:  # only where they apply
-        out[name] = fields.List(fields.Float(), metadata={"description": _SERIES_HELP[name]})
+    for name in (*NOMINAL_SERIES, *COVERAGE_SERIES, *STOCK_SERIES, "vacant_homes", "converted_homes"):
+        out[name] = fields.List(
+            fields.Float(), metadata={"description": _SERIES_HELP[name]}
+        )  # where they apply
+    out["vs_free_path"] = fields.Nested(
+        VsFreePathSchema,
+        metadata={
+            "description": "Stock schedule only: renters against the answer's free path, the years after a "
+            "rule ends included (MODEL.md 19)."
+        },
+    )
     out["distribution"] = fields.Nested(
         DistributionSchema,
         required=True,
@@ -174,6 +237,24 @@ class PolicySummarySchema(Schema):
         metadata={
             "description": "Stock schedule only: the most homes below the free path in any period (>= 0)."
         }
+    )
+    vs_free_path_totals = fields.Nested(
+        VsFreePathTotalsSchema,
+        metadata={"description": "Stock schedule only: totals of vs_free_path (MODEL.md 19)."},
+    )
+    final_vacant_homes = fields.Float(
+        metadata={"description": "Stock schedule only: homes standing empty in the last period."}
+    )
+    total_converted_homes = fields.Float(
+        metadata={"description": "Stock schedule with conversion only: controlled homes converted, summed."}
+    )
+    other_form = fields.Nested(
+        OtherFormSchema,
+        allow_none=True,
+        metadata={
+            "description": "The same request solved in the other curve form; null where that form has no "
+            "answer (MODEL.md 20). A caution names the figures that differ by more than 10 % of the larger."
+        },
     )
 
 
@@ -232,7 +313,8 @@ class UncertainInputSchema(Schema):
         required=True,
         metadata={
             "description": "JSON Pointer of the uncertain input: an elasticity, /market/inflation, "
-            "/adjustment/rate or /adjustment/depreciation."
+            "/adjustment/rate, /adjustment/depreciation, /adjustment/conversion or "
+            "/policies/{i}/vacancy_decontrol."
         },
     )
     distribution = fields.String(required=True, metadata={"enum": ["normal", "uniform", "triangular"]})
@@ -264,8 +346,9 @@ class PolicyBandSchema(Schema):
             "policy: consumer_price, quantity, shortage, deadweight_loss, cumulative_deadweight_loss, "
             "discounted_deadweight_loss; under market.inflation also nominal_consumer_price (with a "
             "fixed index the real band times price_index); under the stock schedule "
-            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1 "
-            "covered_price and uncovered_price. Series that do not apply are absent."
+            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1, "
+            "exempt new homes or vacancy decontrol covered_price and uncovered_price. Series that do not "
+            "apply are absent."
         },
     )
     summary = fields.Dict(
@@ -276,7 +359,10 @@ class PolicyBandSchema(Schema):
             "description": "Percentiles of summary figures: total_deadweight_loss, "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price, final_quantity; unless "
             "rationing is random, each group's total (total_ + a distribution_totals key); under the "
-            "stock schedule final_homes_below_free_path and peak_homes_below_free_path."
+            "stock schedule final_homes_below_free_path, peak_homes_below_free_path, "
+            "vs_free_path_renters_discounted and the other totals of renters against the free path "
+            "(vs_free_path_ + a vs_free_path_totals key), final_vacant_homes and, where controlled homes "
+            "may convert, total_converted_homes."
         },
     )
     binding_share = fields.Float(
@@ -328,7 +414,7 @@ class SensitivityResponseSchema(Schema):
             "description": "The figures of low, high and swing, in ranking order: "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price; unless rationing is "
             "random each group's total (total_ + a distribution_totals key); under the stock schedule "
-            "final_homes_below_free_path and peak_homes_below_free_path."
+            "final_homes_below_free_path, peak_homes_below_free_path and vs_free_path_renters_discounted."
         },
     )
     central = fields.Nested(PathsResponseSchema, required=True)
