@@ -293,3 +293,92 @@ def test_uncertain_conversion_and_decontrol_are_inputs_at_their_pointers_with_ce
     assert loaded.scenario.adjustment.conversion == 0.03
     assert loaded.scenario.policies[1].vacancy_decontrol == pytest.approx(0.2)
     assert loaded.scenario.policies[2].vacancy_decontrol == 0.0
+
+
+# --- what bands and sensitivity report with these inputs (MODEL.md 19-20) ----------------------------
+
+
+def _point(value):
+    """A distribution collapsed to one value: every draw is the central scenario."""
+    return {"distribution": "normal", "mean": value, "sd": 0.0}
+
+
+def _tollbrae():
+    from service.examples import example_request
+
+    return example_request("tollbrae-decontrol-and-exempt-building")
+
+
+def test_point_draws_of_conversion_and_decontrol_give_the_paths_answer_in_every_percentile():
+    """Each draw carries its own kappa and tau into the kernel: with point distributions every
+    percentile is the central /v1/paths answer (bands keep float32 series)."""
+    from service import bands
+
+    request = _tollbrae()
+    request["adjustment"]["conversion"] = _point(0.02)
+    request["policies"][2]["vacancy_decontrol"] = _point(0.1)
+    body = bands(dict(request, draws=40, seed=1))
+    answer = simulate(_tollbrae())
+    assert body["central"] == answer
+    for band, path, summary in zip(body["bands"], answer["paths"], answer["summary"], strict=True):
+        for name, by_q in band["series"].items():
+            for values in by_q.values():
+                assert values == pytest.approx(path[name], rel=1e-6, abs=1e-3), (band["name"], name)
+        totals = summary["vs_free_path_totals"]
+        for key, value in totals.items():
+            for q in band["summary"]["vs_free_path_" + key].values():
+                assert q == pytest.approx(value, rel=1e-12, abs=1e-6), (band["name"], key)
+        for key in ("final_vacant_homes", "total_converted_homes"):
+            for q in band["summary"][key].values():
+                assert q == pytest.approx(summary[key], rel=1e-12, abs=1e-6), (band["name"], key)
+
+
+def test_a_drawn_vacancy_decontrol_moves_only_its_own_cap():
+    from service import bands
+
+    request = _tollbrae()
+    request["policies"][2]["vacancy_decontrol"] = {"distribution": "uniform", "low": 0.05, "high": 0.6}
+    body = bands(dict(request, draws=200, seed=5, percentiles=[5, 95]))
+    strict, decontrolled = body["bands"][1], body["bands"][2]
+    assert (
+        strict["summary"]["discounted_deadweight_loss"]["5"]
+        == strict["summary"]["discounted_deadweight_loss"]["95"]
+    )
+    low, high = (decontrolled["summary"]["final_consumer_price"][q] for q in ("5", "95"))
+    assert abs(high - low) > 1e-6 * abs(high)  # the share of rents reset differs between draws
+
+
+def test_sensitivity_ranks_renters_against_the_free_path_and_swings_conversion():
+    from service import sensitivity
+
+    request = _tollbrae()
+    request["adjustment"]["conversion"] = {"distribution": "uniform", "low": 0.0, "high": 0.06}
+    body = sensitivity(request)
+    assert "vs_free_path_renters_discounted" in body["headlines"]
+    (entry,) = body["inputs"]
+    assert entry["pointer"] == "/adjustment/conversion"
+    strict = next(p for p in entry["policies"] if p["name"] == "strict 2% cap on every home")
+    assert strict["swing"]["final_homes_below_free_path"] > 0.0  # converted homes are missing homes
+
+
+@pytest.mark.parametrize(
+    ("adjustment", "coupled"),
+    [
+        ({"schedule": "stock", "depreciation": 0.01}, True),
+        ({"schedule": "geometric"}, True),
+        ({"schedule": "stock", "rate": 0.12}, False),
+        ({"schedule": "geometric", "half_life": 5.0}, False),
+    ],
+)
+def test_the_coupling_caution_appears_under_the_default_rate_with_an_uncertain_long_run(adjustment, coupled):
+    from service import bands, sensitivity
+
+    request = _tollbrae()
+    request["adjustment"] = adjustment
+    request["policies"] = request["policies"][:2]
+    request["market"]["supply"]["long_run_elasticity"] = {"distribution": "uniform", "low": 0.8, "high": 1.2}
+    for body in (bands(dict(request, draws=20, seed=2)), sensitivity(request)):
+        assert any("speed of building" in c for c in body["cautions"]) == coupled
+    request["market"]["supply"]["long_run_elasticity"] = 1.0
+    request["market"]["demand"]["price_elasticity"] = {"distribution": "uniform", "low": -0.5, "high": -0.3}
+    assert not any("speed of building" in c for c in sensitivity(request)["cautions"])
