@@ -10,10 +10,12 @@ import copy
 import pytest
 
 from service import simulate
+from service.schemas.compiled import Rejected, compile_loader
 from service.schemas.paths import PathsRequestSchema
 
 from ..engine.additions import scenario
 
+FAST = compile_loader(PathsRequestSchema())
 STOCK = {"schedule": "stock", "half_life": 3.0, "depreciation": 0.01}
 FREEZE = {"name": "freeze", "kind": "price_ceiling", "level": "base"}
 CAP = {"name": "cap", "kind": "price_ceiling", "growth": 0.02}
@@ -135,6 +137,23 @@ def test_in_a_batch_the_pointer_names_the_scenario(client, contract_request, cas
     first, second = response.get_json()["results"]
     assert "status" not in first
     assert second["status"] == 422 and [e["pointer"] for e in second["errors"]] == ["/scenarios/1" + pointer]
+
+
+@pytest.mark.parametrize("case", list(BAD))
+def test_the_fast_loader_refuses_each_of_them_too(case):
+    """schemas/compiled.py runs the same checks, the one that reads the request as sent
+    (new_homes without a stock) included, and leaves the error document to marshmallow."""
+    request = BAD[case][0]
+    with pytest.raises(Rejected):
+        FAST(copy.deepcopy(request))
+
+
+def test_the_fast_loader_loads_the_fields_as_marshmallow_does():
+    request = _request({**CAP, "new_homes": "exempt", "vacancy_decontrol": 0.25})
+    request["adjustment"] = _stock(build_limit=0.02, conversion=0.03)
+    assert FAST(copy.deepcopy(request)) == PathsRequestSchema().load(request)
+    written = _request({**FREEZE, "new_homes": "covered"})
+    assert FAST(copy.deepcopy(written)) == PathsRequestSchema().load(written)
 
 
 def test_covered_new_homes_under_random_rationing_are_allowed():
