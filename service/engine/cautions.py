@@ -15,12 +15,16 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 
+import numpy as np
+
 __all__ = [
     "FORM_GAP",
     "GENERAL_CAUTION",
     "LARGE_SHOCK",
     "MISALLOCATION_SHARE",
     "OTHER_FORM_FIGURES",
+    "misallocation_shares",
+    "other_form_pairs",
     "scenario_cautions",
 ]
 
@@ -45,6 +49,41 @@ OTHER_FORM_FIGURES = {
     "final_consumer_price": "final consumer price",
     "peak_shortage": "peak shortage",
 }
+
+
+def misallocation_shares(
+    names: Sequence[str],
+    misallocation_loss: np.ndarray,
+    consumer_price: np.ndarray,
+    quantity: np.ndarray,
+    payments_per_period: float,
+) -> dict[str, tuple[float, int]]:
+    """The `misallocation_shares` argument from one scenario's series, each (policies, T+1):
+    per policy, the largest misallocation_loss_t / (Pc_t Q_t k) and its earliest period
+    (policies without misallocation are left out)."""
+    bill = consumer_price * quantity * payments_per_period
+    share = np.divide(misallocation_loss, bill, out=np.zeros_like(bill), where=bill > 0.0)
+    at = np.argmax(share, axis=1)
+    return {
+        name: (float(share[p, at[p]]), int(at[p])) for p, name in enumerate(names) if share[p, at[p]] > 0.0
+    }
+
+
+def other_form_pairs(
+    names: Sequence[str], summary: Mapping[str, np.ndarray]
+) -> dict[str, dict[str, tuple[float, float]] | None]:
+    """The `other_form` argument from one scenario's summary figures, each (policies,), by
+    kernel.SUMMARY_INDEX name: this form's figure and `other_` + its name, None where
+    `other_feasible` is 0."""
+    out: dict[str, dict[str, tuple[float, float]] | None] = {}
+    for p, name in enumerate(names):
+        if summary["other_feasible"][p] == 0.0:
+            out[name] = None
+        else:
+            out[name] = {
+                key: (float(summary[key][p]), float(summary["other_" + key][p])) for key in OTHER_FORM_FIGURES
+            }
+    return out
 
 
 def _percent(x: float) -> str:

@@ -669,7 +669,7 @@ class PathsRequestSchema(StrictSchema):
                     errors.setdefault("policies", {}).setdefault(i, {})[name] = [
                         f"Random rationing is defined for a ceiling on the whole market only; with "
                         f"'{name}' use efficient rationing (controlled homes go to the households who "
-                        "value a home at least the market rent, MODEL.md 17)."
+                        "value a home at least the market rent)."
                     ]
         if errors:
             raise ValidationError(errors)

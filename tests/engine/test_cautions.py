@@ -3,9 +3,17 @@ called directly through scenario_cautions with the facts the answer assembly pas
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 
-from service.engine.cautions import FORM_GAP, GENERAL_CAUTION, MISALLOCATION_SHARE, scenario_cautions
+from service.engine.cautions import (
+    FORM_GAP,
+    GENERAL_CAUTION,
+    MISALLOCATION_SHARE,
+    misallocation_shares,
+    other_form_pairs,
+    scenario_cautions,
+)
 
 #: A scenario with none of the conditions: a free market and a tax, efficient rationing.
 QUIET = {
@@ -196,3 +204,36 @@ def test_every_caution_under_efficient_rationing_avoids_the_words_random_rationi
         misallocation_shares={"freeze": (0.9, 1)},
     )
     assert not any("random rationing" in c for c in cautions)
+
+
+# --- the facts from the arrays of one scenario ------------------------------------------------------
+
+
+def test_misallocation_shares_are_the_largest_loss_over_the_rent_bill_and_its_period():
+    price = np.array([[1000.0, 1000.0, 900.0], [1000.0, 1000.0, 1000.0]])
+    quantity = np.array([[100.0, 90.0, 80.0], [100.0, 100.0, 100.0]])
+    loss = np.array([[0.0, 0.3 * 12 * 1000 * 90, 0.2 * 12 * 900 * 80], [0.0, 0.0, 0.0]])
+    shares = misallocation_shares(["freeze", "free"], loss, price, quantity, 12.0)
+    assert shares == {"freeze": (pytest.approx(0.3, rel=1e-15), 1)}
+
+
+def test_other_form_pairs_read_the_summary_by_name():
+    summary = {
+        "discounted_deadweight_loss": np.array([0.0, 5.0]),
+        "final_consumer_price": np.array([1100.0, 1000.0]),
+        "peak_shortage": np.array([0.0, 30.0]),
+        "other_discounted_deadweight_loss": np.array([0.0, 7.0]),
+        "other_final_consumer_price": np.array([1120.0, 990.0]),
+        "other_peak_shortage": np.array([0.0, 35.0]),
+        "other_feasible": np.array([1.0, 0.0]),
+    }
+    pairs = other_form_pairs(["free", "levy"], summary)
+    assert pairs == {
+        "free": {
+            "discounted_deadweight_loss": (0.0, 0.0),
+            "final_consumer_price": (1100.0, 1120.0),
+            "peak_shortage": (0.0, 0.0),
+        },
+        "levy": None,
+    }
+    assert _present(_cautions(other_form=pairs)) == {"no other answer"}
