@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -22,13 +23,14 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
-from .kernel import SERIES_INDEX, SUMMARY_INDEX
-from .paths import PathArrays, price_index, solve
+from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
+from .paths import PathArrays, solve
 from .policies import is_ceiling
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
 __all__ = [
+    "CONVERSION_SERIES",
     "COVERAGE_SERIES",
     "DISTRIBUTION_GROUPS",
     "NOMINAL_SERIES",
@@ -44,22 +46,28 @@ __all__ = [
 
 #: The per-period series of every policy path, in response order: the kernel's first sixteen
 #: series with `binding` after the marginal cost.
-SERIES = (*tuple(SERIES_INDEX)[:9], "binding", *tuple(SERIES_INDEX)[9:16])
+SERIES = (*SERIES_NAMES[:9], "binding", *SERIES_NAMES[9:16])
 #: The series solve keeps for an answer: every reported one but the `binding` flags.
-_REPORTED = tuple(SERIES_INDEX)[:16]
-#: Who gains and who loses (MODEL.md 15): per path, in this order; money per model period.
-DISTRIBUTION_GROUPS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
-#: Series of a ceiling with coverage below 1 (MODEL.md 14).
+_REPORTED = SERIES_NAMES[:16]
+#: Who gains and who loses (MODEL.md 15, 20): per path, in this order; money per model period.
+DISTRIBUTION_GROUPS = GROUP_NAMES
+#: Series of a ceiling over two groups: coverage below 1 (MODEL.md 14), exempt new homes or
+#: vacancy decontrol (17).
 COVERAGE_SERIES = ("covered_price", "uncovered_price", "covered_quantity", "uncovered_quantity")
-#: Series of every path under the stock schedule (MODEL.md 13).
-STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path")
+#: Series of every path under the stock schedule (MODEL.md 13, 16).
+STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path", "vacant_homes")
+#: Series of every path under the stock schedule with conversion (MODEL.md 18).
+CONVERSION_SERIES = ("converted_homes",)
+#: Renters against the free path under the stock schedule (MODEL.md 19): answer key -> series.
+VS_FREE_PATH_SERIES = {"renters": "renters_vs_free_path", "extra_rent": "extra_rent_vs_free_path"}
+#: Their totals in the summary: answer key -> kernel summary figure.
+VS_FREE_PATH_TOTALS = {
+    "renters": "vs_free_path_renters",
+    "renters_discounted": "vs_free_path_renters_discounted",
+    "renters_after_end": "vs_free_path_renters_after_end",
+    "extra_rent": "vs_free_path_extra_rent",
+    "extra_rent_after_end": "vs_free_path_extra_rent_after_end",
+}
 #: Series of every path under inflation (MODEL.md 12): real price x price index.
 NOMINAL_SERIES = ("nominal_consumer_price", "nominal_producer_price")
 
@@ -84,6 +92,8 @@ class PolicyPath:
     kind: str
     series: dict[str, np.ndarray]
     distribution: dict[str, np.ndarray] | None = None
+    #: Under the stock schedule: renters' surplus and extra rent against the free path.
+    vs_free_path: dict[str, np.ndarray] | None = None
 
 
 @dataclass(frozen=True)
@@ -107,6 +117,16 @@ class PolicySummary:
     #: Under the stock schedule: homes below the free path in the last period, and at most.
     final_homes_below_free_path: float | None = None
     peak_homes_below_free_path: float | None = None
+    #: Under the stock schedule: renters against the free path over the horizon (MODEL.md 19),
+    #: homes standing empty in the last period, and (with conversion) homes converted in all.
+    vs_free_path_totals: dict[str, float] | None = None
+    final_vacant_homes: float | None = None
+    total_converted_homes: float | None = None
+    #: The same request in the other curve form (MODEL.md 20); None where it has no answer.
+    other_form: dict[str, Any] | None = None
+    #: Discounted totals of DISTRIBUTION_GROUPS (the discount factors of the welfare options);
+    #: None under random rationing.
+    distribution_totals_discounted: dict[str, float] | None = None
 
 
 @dataclass(frozen=True)
@@ -249,14 +269,24 @@ def solve_scenarios(
     return assemble(scenarios, batch, rows, arrays, as_lists)
 
 
+def grouped_rows(batch: ScenarioBatch, rows: PolicyRows) -> np.ndarray:
+    """(R,) True where a ceiling's homes are two groups (MODEL.md 17): coverage below 1, new
+    homes exempt, or vacancy decontrol."""
+    exempt = getattr(rows, "exempt_new", np.zeros(rows.size, dtype=bool))
+    decontrol = getattr(rows, "decontrol", np.zeros(rows.size))
+    return is_ceiling(rows.kind) & ((rows.coverage < 1.0) | exempt | (decontrol > 0.0))
+
+
 def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
     """The kernel series an answer of this batch needs: the sixteen of every answer, the
     distribution, and the additions' series only where some scenario uses them."""
     names = _REPORTED + DISTRIBUTION_GROUPS
-    if (is_ceiling(rows.kind) & (rows.coverage < 1.0)).any():
+    if grouped_rows(batch, rows).any():
         names += COVERAGE_SERIES
     if batch.stock.any():
-        names += STOCK_SERIES
+        names += STOCK_SERIES + tuple(VS_FREE_PATH_SERIES.values())
+        if (getattr(batch, "conversion", np.zeros(batch.size)) > 0.0).any():
+            names += CONVERSION_SERIES
     return names
 
 
@@ -289,10 +319,11 @@ def assemble(
     block = arrays.series  # the series solve kept (reported_series), in arrays.series_names order
     binding = arrays.binding
     position = {name: j for j, name in enumerate(arrays.series_names)}
-    partial = ceiling & (rows.coverage < 1.0)
+    partial = grouped_rows(batch, rows)
+    conversion = getattr(batch, "conversion", np.zeros(batch.size))
     index = nominal = None
     if batch.has_inflation.any():
-        index = price_index(np.ascontiguousarray(np.broadcast_to(batch.inflation, arrays.valid.shape)))
+        index = arrays.price_index
         nominal = np.stack(
             [
                 block[:, position[name]] * index[rows.scenario]
@@ -305,6 +336,9 @@ def assemble(
         if nominal is not None:
             index, nominal = index.tolist(), nominal.tolist()
     figures = arrays.summary.tolist()
+    other_ok = (arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0) & arrays.alternate_feasible[
+        rows.scenario
+    ]
     code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
@@ -318,7 +352,9 @@ def assemble(
         ceiling_binds = partial_binds = False
         inflated = bool(batch.has_inflation[i])
         stock = bool(batch.stock[i])
+        converting = stock and bool(conversion[i] > 0.0)
         random = bool(batch.random_rationing[i])
+        other_form = "linear" if scenario.market.form == "constant_elasticity" else "constant_elasticity"
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
             values = block[r]
@@ -332,11 +368,15 @@ def assemble(
             if partial[r]:
                 for name in COVERAGE_SERIES:
                     path[name] = values[position[name]][:end]
+            vs_free_path = None
             if stock:
-                for name in STOCK_SERIES:
+                for name in STOCK_SERIES + (CONVERSION_SERIES if converting else ()):
                     path[name] = values[position[name]][:end]
+                vs_free_path = {
+                    key: values[position[name]][:end] for key, name in VS_FREE_PATH_SERIES.items()
+                }
             groups = None if random else {name: values[position[name]][:end] for name in DISTRIBUTION_GROUPS}
-            paths.append(PolicyPath(policy.name, policy.kind, path, groups))
+            paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
             peak_period = int(f[code["peak_shortage_period"]])
             binding_periods = int(f[code["binding_periods"]])
@@ -361,6 +401,22 @@ def assemble(
                     else {name: f[code["total_" + name]] for name in DISTRIBUTION_GROUPS},
                     final_homes_below_free_path=f[code["final_homes_below_free_path"]] if stock else None,
                     peak_homes_below_free_path=f[code["peak_homes_below_free_path"]] if stock else None,
+                    vs_free_path_totals={key: f[code[name]] for key, name in VS_FREE_PATH_TOTALS.items()}
+                    if stock
+                    else None,
+                    final_vacant_homes=f[code["final_vacant_homes"]] if stock else None,
+                    total_converted_homes=f[code["total_converted_homes"]] if converting else None,
+                    other_form={
+                        "form": other_form,
+                        "discounted_deadweight_loss": f[code["other_discounted_deadweight_loss"]],
+                        "final_consumer_price": f[code["other_final_consumer_price"]],
+                        "peak_shortage": f[code["other_peak_shortage"]],
+                    }
+                    if other_ok[r]
+                    else None,
+                    distribution_totals_discounted=None
+                    if random
+                    else {name: f[code["discounted_" + name]] for name in DISTRIBUTION_GROUPS},
                 )
             )
         rf = {

@@ -9,7 +9,16 @@ from __future__ import annotations
 
 from marshmallow import Schema, fields
 
-from ..engine.results import COVERAGE_SERIES, DISTRIBUTION_GROUPS, NOMINAL_SERIES, SERIES, STOCK_SERIES
+from ..engine.results import (
+    CONVERSION_SERIES,
+    COVERAGE_SERIES,
+    DISTRIBUTION_GROUPS,
+    NOMINAL_SERIES,
+    SERIES,
+    STOCK_SERIES,
+    VS_FREE_PATH_SERIES,
+    VS_FREE_PATH_TOTALS,
+)
 from .fields import Either
 
 __all__ = [
@@ -78,77 +87,58 @@ _SERIES_HELP = {
     "nominal_consumer_price": "With market.inflation only: consumer_price x price_index, money of the day.",
     "nominal_producer_price": "With market.inflation only: producer_price x price_index.",
     "covered_price": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: the mean "
-    "rent owners of controlled homes receive (the ceiling where it binds, with vacancy decontrol the mix of "
-    "capped and reset rents; else the market rent).",
-    "uncovered_price": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: the "
-    "market rent of uncontrolled homes, >= the rent without the rule (Fallis & Smith 1984).",
-    "covered_quantity": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: "
-    "controlled homes let, per price interval.",
-    "uncovered_quantity": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: "
-    "uncontrolled homes let.",
+    "rent of controlled homes (the rule's rent where it binds; with vacancy decontrol new tenancies pay the "
+    "market rent), else the market rent.",
+    "uncovered_price": "Same ceilings only: the market rent, paid for uncontrolled homes; >= the rent of "
+    "the same period without the rule (Fallis & Smith 1984).",
+    "covered_quantity": "Same ceilings only: controlled homes let, per price interval (under the stock "
+    "schedule the controlled group's own stock).",
+    "uncovered_quantity": "Same ceilings only: the other homes let.",
+    "vacant_homes": "Stock schedule only: homes standing but not let (a binding floor or quantity cap); "
+    "they stand empty, are lost no faster than depreciation and are offered again the period after.",
+    "converted_homes": "Stock schedule with conversion only: controlled homes that leave the rental "
+    "market for good in the period (MODEL.md 18).",
     "homes_below_free_path": "Stock schedule only: the free path's quantity minus this path's (homes "
     "missing; negative where the path has more homes).",
     "rent_above_free_path": "Stock schedule only: consumer_price minus the free path's price.",
-    "vacant_homes": "Stock schedule only: homes standing but not let (K_t - Q_t), e.g. under a floor or a "
-    "quantity cap; they are lost no faster than the depreciation and offered again the period after "
-    "(MODEL.md 16).",
-    "converted_homes": "Stock schedule with conversion only: controlled homes that left the rental market "
-    "in the period, sold to owner-occupiers or put to other uses (MODEL.md 18).",
 }
 
 _GROUP_HELP = {
-    "tenants_in_controlled_homes": "(P^ - Rc) Kc: tenants who hold a controlled home.",
-    "tenants_in_uncontrolled_homes": "-(M - P^) Ku under a ceiling that splits the market; under a tax, "
-    "subsidy, floor or quantity cap the tenants who rent in both, -(Pc - P^) min(Q, Q^).",
-    "households_priced_out": "-integral_Q^Q^ (Qd^-1 - P^): households priced or rationed out; 0 where "
-    "Q > Q^.",
+    "tenants_in_controlled_homes": "(P* - c) Qc: tenants who hold a controlled home.",
+    "tenants_in_uncontrolled_homes": "-(Pu - P*) Qu under a partial ceiling; under a tax, subsidy, floor or "
+    "quantity cap every tenant, -(Pc - P*) Q.",
+    "households_priced_out": "-integral_Q^Q* (Qd^-1 - P*): households priced or rationed out (0 where a "
+    "subsidy draws households in).",
     "owners_of_controlled_homes": "Producer surplus change of the controlled homes.",
     "owners_of_uncontrolled_homes": "Producer surplus change of the uncontrolled homes (all owners where "
     "nothing is controlled).",
     "government": "(Pc - Pp) Q: revenue, negative for a subsidy.",
-    "households_drawn_in": "integral_Q^^Q (Qd^-1 - Pc) >= 0: households that rent only because of the "
-    "policy (a subsidy); 0 where Q <= Q^ (MODEL.md 20).",
+    "households_drawn_in": "integral_Q*^Q (Qd^-1 - Pc) >= 0: households that rent only because a subsidy "
+    "lowers the rent (0 wherever Q <= Q*); the tenants' group then counts only those who rent in both.",
 }
 
-assert set(DISTRIBUTION_GROUPS) <= set(_GROUP_HELP)
-DistributionSchema = Schema.from_dict(
-    {
-        name: fields.List(fields.Float(), required=True, metadata={"description": _GROUP_HELP[name]})
-        for name in DISTRIBUTION_GROUPS
-    },
-    name="DistributionSeries",
-)
-DistributionTotalsSchema = Schema.from_dict(
-    {
-        name: fields.Float(required=True, metadata={"description": _GROUP_HELP[name]})
-        for name in DISTRIBUTION_GROUPS
-    },
-    name="DistributionTotals",
-)
-
-#: Renters against the free path (MODEL.md 19), per period.
+_VS_FREE_PATH_HELP = {
+    "renters": "Renters' surplus against the free path of the same request, x k: -integral_Q^QF "
+    "(Qd^-1 - PF) - (Pc - PF) Q - misallocation (MODEL.md 19); counts the years after a rule ends.",
+    "extra_rent": "(Pc - PF) Q x k: the rent renters pay above the free path's rent for the homes let.",
+}
 VsFreePathSchema = Schema.from_dict(
     {
-        "renters": _numbers(
-            "Renters' surplus against the free path, money per model period: "
-            "-integral_Q^QF (Qd^-1 - PF) - (Pc - PF) Q - misallocation; 0 before the policy starts."
-        ),
-        "extra_rent": _numbers("(Pc - PF) Q: rent paid above the free path's rent, money per model period."),
+        k: fields.List(fields.Float(), required=True, metadata={"description": h})
+        for k, h in _VS_FREE_PATH_HELP.items()
     },
-    name="VsFreePath",
+    name="VsFreePathSeries",
 )
-#: Its totals over the horizon (MODEL.md 19).
 VsFreePathTotalsSchema = Schema.from_dict(
     {
         "renters": fields.Float(required=True, metadata={"description": "Sum of renters over the horizon."}),
         "renters_discounted": fields.Float(
-            required=True, metadata={"description": "Discounted sum of renters."}
+            required=True, metadata={"description": "Sum of renters x the discount factor of each period."}
         ),
         "renters_after_end": fields.Float(
             required=True,
             metadata={
-                "description": "Sum of renters in the periods after the policy's end (not discounted; 0 when "
-                "it lasts to the horizon)."
+                "description": "Sum of renters in the periods after the policy's end (not discounted)."
             },
         ),
         "extra_rent": fields.Float(required=True, metadata={"description": "Sum of extra_rent."}),
@@ -159,16 +149,32 @@ VsFreePathTotalsSchema = Schema.from_dict(
     },
     name="VsFreePathTotals",
 )
-#: The same request solved in the other curve form (MODEL.md 20).
-OtherFormSchema = Schema.from_dict(
+assert tuple(_VS_FREE_PATH_HELP) == tuple(VS_FREE_PATH_SERIES)
+assert tuple(VsFreePathTotalsSchema._declared_fields) == tuple(VS_FREE_PATH_TOTALS)
+
+
+class OtherFormSchema(Schema):
+    form = fields.String(required=True, metadata={"enum": ["linear", "constant_elasticity"]})
+    discounted_deadweight_loss = fields.Float(required=True)
+    final_consumer_price = fields.Float(required=True)
+    peak_shortage = fields.Float(required=True)
+
+
+DistributionSchema = Schema.from_dict(
     {
-        "form": fields.String(required=True, metadata={"enum": ["linear", "constant_elasticity"]}),
-        "discounted_deadweight_loss": fields.Float(required=True),
-        "final_consumer_price": fields.Float(required=True),
-        "peak_shortage": fields.Float(required=True),
+        name: fields.List(fields.Float(), required=True, metadata={"description": help_})
+        for name, help_ in _GROUP_HELP.items()
     },
-    name="OtherForm",
+    name="DistributionSeries",
 )
+DistributionTotalsSchema = Schema.from_dict(
+    {
+        name: fields.Float(required=True, metadata={"description": help_})
+        for name, help_ in _GROUP_HELP.items()
+    },
+    name="DistributionTotals",
+)
+assert tuple(_GROUP_HELP) == DISTRIBUTION_GROUPS
 
 
 def _path_fields() -> dict:
@@ -183,15 +189,12 @@ def _path_fields() -> dict:
             )
         else:
             out[name] = _numbers(_SERIES_HELP[name])
-    for name in (*NOMINAL_SERIES, *COVERAGE_SERIES, *STOCK_SERIES, "vacant_homes", "converted_homes"):
-        out[name] = fields.List(
-            fields.Float(), metadata={"description": _SERIES_HELP[name]}
-        )  # where they apply
+    for name in NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES + CONVERSION_SERIES:  # only where they apply
+        out[name] = fields.List(fields.Float(), metadata={"description": _SERIES_HELP[name]})
     out["vs_free_path"] = fields.Nested(
         VsFreePathSchema,
         metadata={
-            "description": "Stock schedule only: renters against the answer's free path, the years after a "
-            "rule ends included (MODEL.md 19)."
+            "description": "Stock schedule only: renters against the free path, per period (MODEL.md 19)."
         },
     )
     out["distribution"] = fields.Nested(
@@ -240,20 +243,30 @@ class PolicySummarySchema(Schema):
     )
     vs_free_path_totals = fields.Nested(
         VsFreePathTotalsSchema,
-        metadata={"description": "Stock schedule only: totals of vs_free_path (MODEL.md 19)."},
+        metadata={"description": "Stock schedule only: renters against the free path over the horizon."},
     )
     final_vacant_homes = fields.Float(
         metadata={"description": "Stock schedule only: homes standing empty in the last period."}
     )
     total_converted_homes = fields.Float(
-        metadata={"description": "Stock schedule with conversion only: controlled homes converted, summed."}
+        metadata={"description": "Stock schedule with conversion only: controlled homes converted in all."}
     )
     other_form = fields.Nested(
         OtherFormSchema,
+        required=True,
         allow_none=True,
         metadata={
-            "description": "The same request solved in the other curve form; null where that form has no "
-            "answer (MODEL.md 20). A caution names the figures that differ by more than 10 % of the larger."
+            "description": "The same request solved in the other curve form (MODEL.md 20): its discounted "
+            "deadweight loss, final consumer price and peak shortage; null where that form has no answer."
+        },
+    )
+    distribution_totals_discounted = fields.Nested(
+        DistributionTotalsSchema,
+        required=True,
+        allow_none=True,
+        metadata={
+            "description": "Each group's change discounted with the welfare options' discount factors and "
+            "summed over the horizon; null under random rationing."
         },
     )
 
