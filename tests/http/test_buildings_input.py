@@ -401,3 +401,25 @@ def test_the_coupling_caution_appears_under_the_default_rate_with_an_uncertain_l
     request["market"]["supply"]["long_run_elasticity"] = 1.0
     request["market"]["demand"]["price_elasticity"] = {"distribution": "uniform", "low": -0.5, "high": -0.3}
     assert not any("speed of building" in c for c in sensitivity(request)["cautions"])
+
+
+def test_the_tollbrae_demo_tells_its_story(client):
+    """The demo of MODEL.md 16-18: under vacancy decontrol the controlled rent is a mix of capped
+    and market rents, never above the market rent, and nobody queues (MODEL.md 17); conversion
+    starts in the rule's second period (MODEL.md 18); exempting new homes leaves fewer homes
+    missing than a strict cap on every home (derived: all building stays at the market rent)."""
+    request = client.get("/v1/examples/tollbrae-decontrol-and-exempt-building").get_json()
+    body = client.post("/v1/paths", json=request).get_json()
+    paths = {p["name"]: p for p in body["paths"]}
+    totals = {s["name"]: s for s in body["summary"]}
+    strict, mixed = "strict 2% cap on every home", "2% cap, new homes exempt, rents reset between tenants"
+    cap = paths[mixed]
+    assert all(c <= u for c, u in zip(cap["covered_price"], cap["uncovered_price"], strict=True))
+    assert cap["covered_price"][15] < cap["uncovered_price"][15]  # the cap still binds at the horizon
+    assert cap["shortage"] == [0.0] * 16
+    assert "covered_price" not in paths[strict]
+    for name in (strict, mixed):
+        assert paths[name]["converted_homes"][:2] == [0.0, 0.0]
+        assert totals[name]["total_converted_homes"] > 0.0
+    assert totals[strict]["final_homes_below_free_path"] > totals[mixed]["final_homes_below_free_path"]
+    assert totals[strict]["peak_shortage"] > 0.0
