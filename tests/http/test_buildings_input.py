@@ -423,3 +423,26 @@ def test_the_tollbrae_demo_tells_its_story(client):
         assert totals[name]["total_converted_homes"] > 0.0
     assert totals[strict]["final_homes_below_free_path"] > totals[mixed]["final_homes_below_free_path"]
     assert totals[strict]["peak_shortage"] > 0.0
+
+
+@pytest.mark.parametrize("endpoint", ["/v1/bands", "/v1/sensitivity"])
+def test_uncertain_conversion_and_decontrol_answer_over_http_as_documented(client, endpoint):
+    """The `client` fixture validates each answer against the OpenAPI document."""
+    request = _uncertain(_tollbrae(), endpoint)
+    request["adjustment"]["conversion"] = {"distribution": "uniform", "low": 0.0, "high": 0.04}
+    request["policies"][2]["vacancy_decontrol"] = {
+        "distribution": "triangular",
+        "low": 0.05,
+        "mode": 0.1,
+        "high": 0.2,
+    }
+    response = client.post(endpoint, json=request)
+    assert response.status_code == 200, response.get_json()
+    body = response.get_json()
+    pointers = [
+        i["pointer"] for i in (body["uncertain_inputs"] if endpoint == "/v1/bands" else body["inputs"])
+    ]
+    assert sorted(pointers) == ["/adjustment/conversion", "/policies/2/vacancy_decontrol"]
+    if endpoint == "/v1/bands":
+        assert "total_converted_homes" in body["bands"][1]["summary"]
+        assert "vs_free_path_renters_after_end" in body["bands"][1]["summary"]
