@@ -326,7 +326,8 @@ class UncertainInputSchema(Schema):
         required=True,
         metadata={
             "description": "JSON Pointer of the uncertain input: an elasticity, /market/inflation, "
-            "/adjustment/rate or /adjustment/depreciation."
+            "/adjustment/rate, /adjustment/depreciation, /adjustment/conversion or "
+            "/policies/{i}/vacancy_decontrol."
         },
     )
     distribution = fields.String(required=True, metadata={"enum": ["normal", "uniform", "triangular"]})
@@ -358,8 +359,9 @@ class PolicyBandSchema(Schema):
             "policy: consumer_price, quantity, shortage, deadweight_loss, cumulative_deadweight_loss, "
             "discounted_deadweight_loss; under market.inflation also nominal_consumer_price (with a "
             "fixed index the real band times price_index); under the stock schedule "
-            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1 "
-            "covered_price and uncovered_price. Series that do not apply are absent."
+            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1, "
+            "exempt new homes or vacancy decontrol covered_price and uncovered_price. Series that do not "
+            "apply are absent."
         },
     )
     summary = fields.Dict(
@@ -370,7 +372,10 @@ class PolicyBandSchema(Schema):
             "description": "Percentiles of summary figures: total_deadweight_loss, "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price, final_quantity; unless "
             "rationing is random, each group's total (total_ + a distribution_totals key); under the "
-            "stock schedule final_homes_below_free_path and peak_homes_below_free_path."
+            "stock schedule final_homes_below_free_path, peak_homes_below_free_path, "
+            "vs_free_path_renters_discounted and the other totals of renters against the free path "
+            "(vs_free_path_ + a vs_free_path_totals key), final_vacant_homes and, where controlled homes "
+            "may convert, total_converted_homes."
         },
     )
     binding_share = fields.Float(
@@ -422,7 +427,7 @@ class SensitivityResponseSchema(Schema):
             "description": "The figures of low, high and swing, in ranking order: "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price; unless rationing is "
             "random each group's total (total_ + a distribution_totals key); under the stock schedule "
-            "final_homes_below_free_path and peak_homes_below_free_path."
+            "final_homes_below_free_path, peak_homes_below_free_path and vs_free_path_renters_discounted."
         },
     )
     central = fields.Nested(PathsResponseSchema, required=True)
