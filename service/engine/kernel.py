@@ -1736,7 +1736,7 @@ def prepare(batch, max_change: float) -> Prepared:
     inputs = ScheduleInputs(
         batch.short_run_elasticity,
         batch.long_run_elasticity,
-        getattr(batch, "impact_elasticity", batch.short_run_elasticity),
+        batch.impact_elasticity,
         batch.schedule,
         batch.schedule_periods.astype(np.float64),
         batch.schedule_rate,
