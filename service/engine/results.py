@@ -465,6 +465,13 @@ def assemble(
             conversion=converting and any((s.total_converted_homes or 0.0) > 0.0 for s in summaries),
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),
+            figure_scales={
+                "discounted_deadweight_loss": float(
+                    batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end
+                ),
+                "final_consumer_price": float(batch.price[i]),
+                "peak_shortage": float(batch.quantity[i]),
+            },
         )
         results.append(
             ScenarioResult(
