@@ -943,12 +943,7 @@ def paths(request: dict) -> dict[str, list[Row]]:
     stock = is_stock(request)
     build_limit(request)
     conversion(request)
-    market = request["market"]
-    inelastic = (
-        market.get("form", "linear") == "constant_elasticity" and market["demand"]["price_elasticity"] >= -1.0
-    )
-    if random and inelastic and any(p["kind"] == "price_ceiling" for p in request["policies"]):
-        raise ValueError("random rationing needs |eta| > 1 under constant-elasticity demand with a ceiling")
+    _check_rationing(request)
     free_path = _run(request, FREE, index) if stock else None
     out: dict[str, list[Row]] = {}
     for policy in request["policies"]:
@@ -968,6 +963,18 @@ def paths(request: dict) -> dict[str, list[Row]]:
                 row.distribution = {name: k * value for name, value in row.distribution.items()}
         out[policy["name"]] = rows
     return out
+
+
+def _check_rationing(request: dict) -> None:
+    """MODEL.md section 11: random rationing with constant-elasticity demand and |eta| <= 1 is
+    an input error when the request has any price ceiling (misallocation needs finite
+    willingness to pay)."""
+    market = request["market"]
+    random = (request.get("welfare") or {}).get("rationing", "efficient") == "random"
+    form = market.get("form", "linear")
+    inelastic = form == "constant_elasticity" and market["demand"]["price_elasticity"] >= -1.0
+    if random and inelastic and any(p["kind"] == "price_ceiling" for p in request["policies"]):
+        raise ValueError("random rationing needs |eta| > 1 under constant-elasticity demand with a ceiling")
 
 
 def _vs_free_path(request: dict, t: int, row: Row, free: Row) -> tuple[float, float]:
@@ -1114,6 +1121,10 @@ def other_form(request: dict) -> dict[str, dict | None]:
     swapped["market"]["form"] = other
     k = request["market"].get("payments_per_period", 1)
     out: dict[str, dict | None] = {}
+    try:  # a rule of the whole request (random rationing, |eta| <= 1, any ceiling): no answer at all
+        _check_rationing(swapped)
+    except ValueError:
+        return dict.fromkeys((p["name"] for p in request["policies"]), None)
     for policy in request["policies"]:
         solved = answers(dict(swapped, policies=[policy]))
         if solved is None:

@@ -550,3 +550,8 @@ def test_other_form_agrees_to_first_order_and_is_none_without_an_answer():
     assert reference.answers(crash) is not None
     assert reference.other_form(crash) == {"free": None, "freeze": None, "tax": None}
     assert reference.other_form(dict(small, policies=[])) == {}
+    # MODEL.md 11: random rationing with constant-elasticity demand and |eta| <= 1 is an input
+    # error for a whole request with a ceiling, so a linear request's other form has no answer.
+    rationed = dict(small, welfare={"rationing": "random"})
+    assert reference.answers(rationed) is not None
+    assert reference.other_form(rationed) == {"free": None, "freeze": None, "tax": None}
