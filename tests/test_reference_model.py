@@ -1,10 +1,11 @@
 """Facts about the scalar reference itself (tests/reference.py), MODEL.md sections 12-15.
 
-The engine does not have inflation, the durable stock, partial coverage or the distribution
-yet, so nothing here calls it: these tests check the reference against exact identities of
-the model, so that it can later judge the engine. The source of each check is named beside
-it; "derived" means it follows from the definitions in MODEL.md by algebra (worked out
-here, not taken from a publication).
+Nothing here calls the engine (tests/engine/test_reference.py, test_additions.py and
+test_buildings.py compare it with the reference through tests/engine/harness.py): these tests
+check the reference against exact identities of the model, so that it can judge the engine.
+Sections 16-20 have their own file, tests/test_reference_buildings.py. The source of each
+check is named beside it; "derived" means it follows from the definitions in MODEL.md by
+algebra (worked out here, not taken from a publication).
 """
 
 from __future__ import annotations
