@@ -26,7 +26,7 @@ from .errors import (
 from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
 from .paths import PathArrays, solve
 from .policies import is_ceiling
-from .reduced_form import reduced_form
+from .reduced_form import short_and_long_run
 from .scenario import Scenario
 
 __all__ = [
@@ -304,18 +304,7 @@ def assemble(
 ) -> list[ScenarioResult | EngineError]:
     """Slice the batch's arrays into one result (or error) per scenario."""
     failed = arrays.scenario_failed(rows)
-    sr_price, sr_quantity = reduced_form(
-        batch.demand_elasticity,
-        batch.short_run_elasticity,
-        batch.demand_shifter_elasticity,
-        batch.supply_shifter_elasticity,
-    )
-    lr_price, lr_quantity = reduced_form(
-        batch.demand_elasticity,
-        batch.long_run_elasticity,
-        batch.demand_shifter_elasticity,
-        batch.supply_shifter_elasticity,
-    )
+    (sr_price, sr_quantity), (lr_price, lr_quantity) = short_and_long_run(batch)
     ceiling = is_ceiling(rows.kind)
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
