@@ -423,7 +423,20 @@ def integral(f, a: float, b: float, kinks: tuple[float, ...] = (), offset: float
     # An absolute tolerance on the scale of the integrand, so that an integral near zero
     # (where the relative one cannot be met in floating point) still converges cleanly.
     width = hi - lo
-    scale = max(abs(f(lo + x * width)) for x in (0.25, 0.5, 0.75)) * width  # inside: f(0) may be infinite
+    sampled = max(abs(f(lo + x * width)) for x in (0.25, 0.5, 0.75))  # inside: f(0) may be infinite
+    scale = sampled * width
+    # A spike at an end that the inner samples miss (a nearly vertical constant-elasticity supply:
+    # its inverse is a huge power of q, 0 but right at the top): quad's nodes miss it too, so the
+    # interval is also cut at geometrically closer points toward that end.
+    for x, toward in ((lo, 1.0), (hi, -1.0)):
+        try:
+            end = abs(f(x))
+        except (ZeroDivisionError, OverflowError):
+            continue
+        if math.isfinite(end) and end > 1e3 * sampled:
+            inside += [x + toward * width * 10.0**-k for k in range(1, 9)]
+            scale = max(scale, end * width)
+    inside = sorted(set(inside))
     options = dict(QUAD, epsabs=max(1e-12 * scale, 1e-13 * abs(offset) * width))
     with warnings.catch_warnings():
         warnings.simplefilter("error", IntegrationWarning)

@@ -97,7 +97,7 @@ def solved_or_none(request):
 def real_series(p) -> list[str]:
     """The names of a path's series in real money or quantities (everything but the nominal
     prices, the flags and the distribution)."""
-    return [k for k in p if k not in ("name", "kind", "distribution", "binding", *NOMINAL)]
+    return [k for k in p if k not in ("name", "kind", "distribution", "binding", "vs_free_path", *NOMINAL)]
 
 
 def assert_same_paths(a, b, scale_price, scale_quantity, scale_money, rel=0.0, names=None):
@@ -116,6 +116,9 @@ def assert_same_paths(a, b, scale_price, scale_quantity, scale_money, rel=0.0, n
         for key in real_series(pa):
             scale = scale_money if key in MONEY else scale_price if "price" in key else scale_quantity
             _same(pa[key], pb[key], rel, scale, (pa["name"], key))
+        assert ("vs_free_path" in pa) == ("vs_free_path" in pb), pa["name"]
+        for key in pa.get("vs_free_path", {}):
+            _same(pa["vs_free_path"][key], pb["vs_free_path"][key], rel, scale_money, (pa["name"], key))
         assert (pa["distribution"] is None) == (pb["distribution"] is None)
         for group in GROUPS if pa["distribution"] else ():
             _same(pa["distribution"][group], pb["distribution"][group], rel, scale_money, (pa["name"], group))
