@@ -14,7 +14,7 @@ bind = os.environ.get("SHOCKPATH_BIND", "127.0.0.1:8000")
 workers = int(os.environ.get("SHOCKPATH_WORKERS", str(max(1, multiprocessing.cpu_count()))))
 worker_class = "sync"
 threads = 1
-# The largest request the limits allow takes about 2 s here (README, "Limits"); 60 s leaves
+# The largest request the limits allow takes about 2 s here (openapi/API.md, "Limits"); 60 s leaves
 # a wide margin before gunicorn would replace a worker.
 timeout = int(os.environ.get("SHOCKPATH_TIMEOUT", "60"))
 graceful_timeout = int(os.environ.get("SHOCKPATH_GRACEFUL_TIMEOUT", "30"))

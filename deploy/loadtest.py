@@ -1,6 +1,6 @@
 """Load and fault test: gunicorn under wrk with a mix of demo scenarios, one worker killed.
 
-    .venv/bin/python deploy/loadtest.py --seconds 60            # the long run (README figures)
+    .venv/bin/python deploy/loadtest.py --seconds 60            # the long run (deploy/OPERATIONS.md figures)
     .venv/bin/python deploy/loadtest.py --seconds 8 --check     # the short run CI asserts on
 
 Starts gunicorn with deploy/gunicorn.conf.py on a free loopback port, warms it up, drives it

@@ -2,7 +2,7 @@
 
 Request limits are checked with 422 before any model work (the schemas); they are sized on a
 2-core machine so that the largest allowed request finishes well inside the gunicorn timeout
-(see README, "Limits"), and the OpenAPI document carries the same numbers. The engine reads
+(openapi/API.md, "Limits"), and the OpenAPI document carries the same numbers. The engine reads
 MAX_SHIFTER_CHANGE, the model's own ceiling, from here too.
 """
 

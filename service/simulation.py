@@ -125,18 +125,33 @@ def render(
 
 def _path_body(path: engine.PolicyPath, out) -> dict[str, Any]:
     distribution = path.distribution
-    return {
+    body = {
         "name": path.name,
         "kind": path.kind,
         **{k: out(v) for k, v in path.series.items()},
         "distribution": None if distribution is None else {k: out(v) for k, v in distribution.items()},
     }
+    if path.vs_free_path is not None:
+        body["vs_free_path"] = {k: out(v) for k, v in path.vs_free_path.items()}
+    return body
+
+
+#: Summary figures that exist only under some options (the stock schedule, conversion):
+#: left out of the answer where they do not apply.
+_OPTIONAL_FIGURES = (
+    "final_homes_below_free_path",
+    "peak_homes_below_free_path",
+    "vs_free_path_totals",
+    "final_vacant_homes",
+    "total_converted_homes",
+)
 
 
 def _summary_body(summary: engine.PolicySummary) -> dict[str, Any]:
     body = dict(summary.__dict__)
-    if body["final_homes_below_free_path"] is None:  # only under the stock schedule
-        del body["final_homes_below_free_path"], body["peak_homes_below_free_path"]
+    for name in _OPTIONAL_FIGURES:
+        if body[name] is None:
+            del body[name]
     return body
 
 

@@ -16,6 +16,8 @@ from .engine.batch import pack
 from .engine.uncertainty import (
     GROUP_TOTALS,
     STOCK_SUMMARY,
+    default_rate_coupled,
+    is_elasticity,
     percentile_bands,
     rows_for,
     scenario_batch_with,
@@ -32,7 +34,8 @@ _SENSITIVITY = SensitivityRequestSchema()
 
 #: The headline figures whose swings sensitivity reports, in ranking order; then, unless
 #: rationing is random, each group's total (GROUP_TOTALS), and under the stock schedule the
-#: homes below the free path (STOCK_SUMMARY): see headlines(), the order of the band summary.
+#: homes below the free path and the renters' discounted surplus against the free path
+#: (STOCK_SUMMARY): see headlines(), the order of the band summary.
 HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
 
 
@@ -71,6 +74,19 @@ def _central_answer(req: UncertainRequest) -> dict[str, Any]:
         body = dict(body, detail="At the central values: " + body["detail"])
         raise ProblemError(body)
     return body
+
+
+def _coupling_caution(req: UncertainRequest) -> list[str]:
+    """MODEL.md 20: under the Nerlove default rate an uncertain long-run elasticity also moves
+    the speed of building."""
+    if not default_rate_coupled(req.scenario, req.inputs):
+        return []
+    return [
+        "Without a rate or half_life the speed of building is the short-run elasticity divided by the "
+        "long-run elasticity, so in draws with a larger long-run elasticity homes are also built more "
+        "slowly: the two move together here. Give adjustment.rate or adjustment.half_life to vary the "
+        "long-run elasticity and the speed of building apart."
+    ]
 
 
 def _key(q: float) -> str:
@@ -137,7 +153,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                 "infeasible_draws": int(arrays.infeasible_draws[p]),
             }
         )
-    elasticities = all(i.target not in ("inflation", "schedule_rate", "depreciation") for i in req.inputs)
+    elasticities = all(is_elasticity(i.target) for i in req.inputs)
     cautions = [
         f"Bands are percentiles over {req.draws:,} draws of the uncertain "
         f"{'elasticities' if elasticities else 'inputs'} (seed {req.seed}); "
@@ -153,6 +169,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
             "Some draws make a policy infeasible (zero or negative quantity or price); they are counted "
             "in infeasible_draws and left out of that policy's percentiles."
         )
+    cautions += _coupling_caution(req)
     cautions += central["cautions"]
     return {
         "scenario_id": _answer_id("bands", req),
@@ -182,7 +199,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
         values[2 + 2 * j, j] = high
     base, base_rows = pack([req.scenario])
     batch = scenario_batch_with(base, req.scenario, inputs, values)
-    rows = rows_for(base_rows, values.shape[0])
+    rows = rows_for(base_rows, values.shape[0], inputs, values)
     feasible, _, summary, _ = solve_rows(batch, rows)
     p = base_rows.size
     feasible = feasible.reshape(p, -1).T  # rows are policy-major
@@ -225,8 +242,10 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
             "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
             "its distribution) with every other input at its central value; inputs are sorted by their "
             "largest swing in discounted deadweight loss over all policies, then peak shortage, then "
-            "final price, then the other headlines in their order (each group's total, then the homes "
-            "below the free path under the stock schedule).",
+            "final price, then the other headlines in their order (each group's total, then under the "
+            "stock schedule the homes below the free path and renters' discounted gain or loss against "
+            "the free path).",
+            *_coupling_caution(req),
             *central["cautions"],
         ],
     }

@@ -1,4 +1,4 @@
-"""An independent scalar reference for the model, written from ../shared/MODEL.md alone.
+"""An independent scalar reference for the model, written from service/engine/MODEL.md alone.
 
 One scenario, one period, one policy at a time, in plain Python floats: equilibria and
 wedge roots by scipy.optimize.brentq on bracketed excess demand, every welfare integral by
@@ -6,8 +6,8 @@ scipy.integrate.quad. Slow on purpose and shares no code with service/engine: th
 compare the vectorised engine against it, and the benchmarks time it as the scalar
 baseline.
 
-Additions (MODEL.md sections 12-15; names as in API.md "Additions")
--------------------------------------------------------------------
+Additions (MODEL.md sections 12-15; names as in openapi/API.md "Additions")
+---------------------------------------------------------------------------
 Request fields understood, besides the core ones:
 
 - ``market.inflation``: a number, or a list of per-period rates for periods 1, 2, ... (the

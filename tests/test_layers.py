@@ -1,4 +1,5 @@
-"""The layers import one way: engine <- schemas <- the Python API <- http (DEVELOPERS.md, "Map").
+"""The layers import one way: engine <- schemas <- the Python API <- http (DEVELOPERS.md, "The
+layer map").
 
 Each module's imports are read with ast (nothing is imported to check them), and a fresh
 interpreter shows that the numeric core and the Python API load without the web stack.

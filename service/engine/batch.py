@@ -19,7 +19,7 @@ from .scenario import Scenario
 from .schedules import SCHEDULE_CODES
 from .shocks import PROFILE_CODES, shifter_paths, shock_paths
 
-__all__ = ["PolicyRows", "ScenarioBatch", "pack", "policy_kind_code"]
+__all__ = ["PolicyRows", "ScenarioBatch", "impact_elasticity", "pack", "policy_kind_code"]
 
 
 @dataclass(frozen=True)
@@ -48,6 +48,9 @@ class ScenarioBatch:
     discount_rate: np.ndarray  # (n or 1, T+1) rate per model period, column 0 unused
     inflation: np.ndarray  # (n or 1, T+1) general inflation pi_t per model period, column 0 = 0
     has_inflation: np.ndarray  # (n,) bool: the request gave market.inflation (not 0)
+    build_limit: np.ndarray  # (n,) b, most homes added per period / K_(t-1); 0 = no limit (MODEL.md 16)
+    conversion: np.ndarray  # (n,) kappa of controlled homes' conversion; 0 = none (MODEL.md 18)
+    impact_elasticity: np.ndarray  # (n,) supply elasticity at the base point: impact_elasticity()
 
     @property
     def size(self) -> int:
@@ -70,6 +73,8 @@ class PolicyRows:
     end: np.ndarray  # (R,) last active period
     indexed: np.ndarray  # (R,) bool: a money rule that moves with prices (MODEL.md 12)
     coverage: np.ndarray  # (R,) share of homes a ceiling covers (MODEL.md 14); 1 elsewhere
+    exempt_new: np.ndarray  # (R,) bool: a ceiling whose new homes are exempt (MODEL.md 17)
+    decontrol: np.ndarray  # (R,) vacancy decontrol tau of a growth cap; 0 = off (MODEL.md 17)
 
     @property
     def size(self) -> int:
@@ -93,6 +98,22 @@ def _policy_value(policy, base_price: float) -> float:
     if policy.kind == "ad_valorem_tax":
         return float(policy.rate)
     return float(policy.amount)
+
+
+def impact_elasticity(
+    stock: np.ndarray, schedule_rate: np.ndarray, short_run: np.ndarray, long_run: np.ndarray
+) -> np.ndarray:
+    """Supply elasticity at the base point in the impact period (MODEL.md 20), (n,).
+
+    Under the stock schedule with an explicit `rate` or `half_life` (schedule_rate > 0) a share
+    lambda of the gap to the desired stock closes in the impact period, and the desired stock
+    has elasticity eps_LR at the base point, so the impact elasticity is lambda eps_LR (Nerlove
+    1958: short-run elasticity = lambda x long-run elasticity); the given short-run elasticity
+    is then unused. Everywhere else (the stock schedule's default lambda = eps_SR / eps_LR
+    included, which gives lambda eps_LR = eps_SR) it is the short-run elasticity, unchanged.
+    """
+    explicit = stock & (schedule_rate > 0.0)
+    return np.where(explicit, schedule_rate * long_run, short_run)
 
 
 def _discount_rates(scenarios: Sequence[Scenario], periods: int) -> np.ndarray:
@@ -142,6 +163,8 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
     schedule_periods = np.zeros(n)
     schedule_rate = np.zeros(n)
     floor_share = np.zeros(n)
+    build_limit = np.zeros(n)
+    conversion = np.zeros(n)
     for i, s in enumerate(scenarios):
         market = s.market
         index = {name: j for j, name in enumerate(names[i])}
@@ -161,6 +184,9 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
             schedule_rate[i] = -math.expm1(math.log(0.5) / adj.half_life)  # rate_from_half_life
         if adj.depreciation is not None:
             floor_share[i] = 1.0 - adj.depreciation
+        if adj.build_limit is not None:
+            build_limit[i] = adj.build_limit
+        conversion[i] = adj.conversion
         if code == SCHEDULE_CODES["explicit"]:
             values = np.asarray(adj.elasticities[: periods - 1], dtype=float)
             explicit[i, 1 : 1 + values.size] = values
@@ -189,14 +215,17 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
     out_of_range = np.zeros((n, m), dtype=bool)
     np.logical_or.at(out_of_range, (scenario_of, shifter_of), too_large)
 
+    stock = schedule == SCHEDULE_CODES["stock"]
+    short_run = np.array([s.market.short_run_elasticity for s in scenarios], dtype=float)
+    long_run = np.array([s.market.long_run_elasticity for s in scenarios], dtype=float)
     batch = ScenarioBatch(
         price=np.array([s.market.price for s in scenarios], dtype=float),
         quantity=np.array([s.market.quantity for s in scenarios], dtype=float),
         payments_per_period=np.array([s.market.payments_per_period for s in scenarios], dtype=float),
         constant_elasticity=np.array([s.market.form == "constant_elasticity" for s in scenarios]),
         demand_elasticity=np.array([s.market.demand_elasticity for s in scenarios], dtype=float),
-        short_run_elasticity=np.array([s.market.short_run_elasticity for s in scenarios], dtype=float),
-        long_run_elasticity=np.array([s.market.long_run_elasticity for s in scenarios], dtype=float),
+        short_run_elasticity=short_run,
+        long_run_elasticity=long_run,
         demand_shifter_elasticity=demand_shifter,
         supply_shifter_elasticity=supply_shifter,
         shifter_change=change,
@@ -208,10 +237,13 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         horizon=np.array([s.horizon for s in scenarios], dtype=np.int64),
         random_rationing=np.array([s.welfare.rationing == "random" for s in scenarios]),
         discount_rate=_discount_rates(scenarios, periods),
-        stock=schedule == SCHEDULE_CODES["stock"],
+        stock=stock,
         floor_share=floor_share,
         inflation=_per_period([s.market.inflation for s in scenarios], periods),
         has_inflation=np.array([s.market.inflation != 0.0 for s in scenarios]),
+        build_limit=build_limit,
+        conversion=conversion,
+        impact_elasticity=impact_elasticity(stock, schedule_rate, short_run, long_run),
     )
     flat = [(i, p) for i, s in enumerate(scenarios) for p in s.policies]
     big = np.iinfo(np.int64).max
@@ -223,5 +255,7 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         end=np.array([big if p.end is None else p.end for _, p in flat], dtype=np.int64),
         indexed=np.array([p.indexed for _, p in flat], dtype=bool),
         coverage=np.array([p.coverage for _, p in flat], dtype=float),
+        exempt_new=np.array([p.new_homes == "exempt" for _, p in flat], dtype=bool),
+        decontrol=np.array([p.vacancy_decontrol for _, p in flat], dtype=float),
     )
     return batch, rows

@@ -1,15 +1,32 @@
-"""Cautions computed from each case.
+"""Cautions computed from each case, worded for a council reader (MODEL.md sections 9 and 20).
 
-First-order (linear) results drift from exact ones as shocks grow; where the largest shock
-passes 10 % the caution states how far the two curve forms' free-market paths differ. Under
-efficient rationing the deadweight loss of a binding ceiling is a lower bound (real rationing
-also misallocates: Glaeser & Luttmer 2003, *American Economic Review* 93(4)). Policies that
-never bind are named. Every answer carries the general caution.
+Each caution appears only where its condition holds; `scenario_cautions` receives the facts
+each condition needs (booleans, names, numbers) and decides nothing else. Sources: efficient
+rationing makes a ceiling's deadweight loss a lower bound, and random rationing misallocates
+(Glaeser & Luttmer 2003, *American Economic Review* 93(4)); controlled rents raise the rents of
+uncontrolled homes (Fallis & Smith 1984, *American Economic Review* 74(1)); owners convert
+controlled homes to other uses (Sims 2007, *Journal of Urban Economics* 61(1); Diamond,
+McQuade & Qian 2019, *American Economic Review* 109(9)); short-run elasticity = lambda x
+long-run elasticity under partial adjustment (Nerlove 1958, *The Dynamics of Supply*).
 """
 
 from __future__ import annotations
 
-__all__ = ["GENERAL_CAUTION", "LARGE_SHOCK", "scenario_cautions"]
+import math
+from collections.abc import Mapping, Sequence
+
+import numpy as np
+
+__all__ = [
+    "FORM_GAP",
+    "GENERAL_CAUTION",
+    "LARGE_SHOCK",
+    "MISALLOCATION_SHARE",
+    "OTHER_FORM_FIGURES",
+    "misallocation_shares",
+    "other_form_pairs",
+    "scenario_cautions",
+]
 
 GENERAL_CAUTION = (
     "These are model estimates from the elasticities given: they inform, and do not replace, "
@@ -17,16 +34,108 @@ GENERAL_CAUTION = (
     "people's homes."
 )
 
-#: Largest fractional shock above which the two curve forms visibly differ.
+#: Largest fractional shock above which the two curve forms visibly differ (the shock-size
+#: caution, given only to callers that do not pass `other_form`).
 LARGE_SHOCK = 0.10
+#: Two forms' values of one figure differ visibly when they differ by more than this share of
+#: the larger (MODEL.md 20).
+FORM_GAP = 0.10
+#: A random-rationing misallocation loss above this share of the period's rent bill Pc Q k
+#: comes mostly from willingness to pay far above the rent (MODEL.md 20).
+MISALLOCATION_SHARE = 0.25
+#: The figures compared between the two curve forms, with the words a reader sees.
+OTHER_FORM_FIGURES = {
+    "discounted_deadweight_loss": "discounted deadweight loss",
+    "final_consumer_price": "final consumer price",
+    "peak_shortage": "peak shortage",
+}
+
+
+def misallocation_shares(
+    names: Sequence[str],
+    misallocation_loss: np.ndarray,
+    consumer_price: np.ndarray,
+    quantity: np.ndarray,
+    payments_per_period: float,
+) -> dict[str, tuple[float, int]]:
+    """The `misallocation_shares` argument from one scenario's series, each (policies, T+1):
+    per policy, the largest misallocation_loss_t / (Pc_t Q_t k) and its earliest period
+    (policies without misallocation are left out)."""
+    bill = consumer_price * quantity * payments_per_period
+    share = np.divide(misallocation_loss, bill, out=np.zeros_like(bill), where=bill > 0.0)
+    at = np.argmax(share, axis=1)
+    return {
+        name: (float(share[p, at[p]]), int(at[p])) for p, name in enumerate(names) if share[p, at[p]] > 0.0
+    }
+
+
+def other_form_pairs(
+    names: Sequence[str], summary: Mapping[str, np.ndarray]
+) -> dict[str, dict[str, tuple[float, float]] | None]:
+    """The `other_form` argument from one scenario's summary figures, each (policies,), by
+    kernel.SUMMARY_INDEX name: this form's figure and `other_` + its name, None where
+    `other_feasible` is 0."""
+    out: dict[str, dict[str, tuple[float, float]] | None] = {}
+    for p, name in enumerate(names):
+        if summary["other_feasible"][p] == 0.0:
+            out[name] = None
+        else:
+            out[name] = {
+                key: (float(summary[key][p]), float(summary["other_" + key][p])) for key in OTHER_FORM_FIGURES
+            }
+    return out
 
 
 def _percent(x: float) -> str:
     return f"{100.0 * x:.1f} %"
 
 
-def scenario_cautions(
-    *,
+def _figure(x: float) -> str:
+    return f"{x:,.4g}" if abs(x) < 1e4 else f"{x:,.0f}"
+
+
+def _differs(a: float, b: float) -> bool:
+    """|a - b| > FORM_GAP x the larger magnitude (two zeros agree)."""
+    return abs(a - b) > FORM_GAP * max(abs(a), abs(b))
+
+
+def _names(names: Sequence[str]) -> str:
+    return ", ".join(f"'{n}'" for n in names)
+
+
+#: Per policy name, {figure: (this form's value, the other form's)}, or None: no answer there.
+OtherForm = Mapping[str, Mapping[str, tuple[float, float]] | None]
+
+
+def _other_form_caution(form: str, other_form: OtherForm) -> str | None:
+    other = "constant-elasticity" if form == "linear" else "linear"
+    differ, missing = [], []
+    for policy, figures in other_form.items():
+        if figures is None:
+            missing.append(policy)
+            continue
+        for key, words in OTHER_FORM_FIGURES.items():
+            if key in figures and _differs(*figures[key]):
+                this, there = figures[key]
+                differ.append(f"'{policy}' {words} ({_figure(this)} here, {_figure(there)} there)")
+    if not differ and not missing:
+        return None
+    parts = []
+    if differ:
+        parts.append(
+            f"Solved with the {other} curves instead, these figures differ by more than "
+            f"{_percent(FORM_GAP)} of the larger: " + "; ".join(differ) + ". The two forms agree only for "
+            "small changes; read such figures as a range, not a point (other_form in each summary)."
+        )
+    if missing:
+        parts.append(
+            f"The {other} form has no answer for {_names(missing)} (it leaves zero or negative "
+            "quantity or price), so the figures shown rest on this form alone."
+        )
+    return " ".join(parts)
+
+
+def _shock_size_caution(
     form: str,
     largest_shock: float,
     largest_shock_period: int,
@@ -34,28 +143,96 @@ def scenario_cautions(
     price_gap: float,
     price_gap_period: int,
     quantity_gap: float,
+) -> str | None:
+    if largest_shock <= LARGE_SHOCK:
+        return None
+    other = "constant-elasticity" if form == "linear" else "linear"
+    head = (
+        f"The largest shock is {_percent(largest_shock)} (period {largest_shock_period}); "
+        "above roughly 10-20 % first-order (linear) and constant-elasticity answers differ visibly."
+    )
+    if alternate_feasible:
+        head += (
+            f" Here the {other} form's free-market price differs by up to {_percent(price_gap)} "
+            f"(period {price_gap_period}) and its quantity by up to {_percent(quantity_gap)}."
+        )
+    else:
+        head += f" The {other} form cannot represent this shock (it leaves zero or negative quantity)."
+    return head
+
+
+def scenario_cautions(
+    *,
+    form: str,
     ceiling_binds: bool,
     random_rationing: bool,
     never_binding: list[str],
+    largest_shock: float = 0.0,
+    largest_shock_period: int = 0,
+    alternate_feasible: bool = True,
+    price_gap: float = 0.0,
+    price_gap_period: int = 0,
+    quantity_gap: float = 0.0,
     inflation: bool = False,
     stock: bool = False,
     partial_binds: bool = False,
+    other_form: OtherForm | None = None,
+    shortage: bool = False,
+    lifted_ceilings: Sequence[str] = (),
+    misallocation_shares: Mapping[str, tuple[float, int]] | None = None,
+    exempt_binds: bool = False,
+    conversion: bool = False,
+    short_run_elasticity: float | None = None,
+    impact_elasticity: float | None = None,
 ) -> list[str]:
-    """Sentences for one scenario; gaps are |other form / this form - 1| at their worst period."""
+    """Sentences for one scenario, each only where its condition holds.
+
+    form: the request's curve form ("linear" | "constant_elasticity").
+    ceiling_binds: some price ceiling binds in some period (efficient rationing: its loss is a
+        lower bound; random rationing: misallocation is included). Also adds, to what the model
+        leaves out, the upkeep and quality of controlled homes and tenants who stay because their
+        rent is low.
+    random_rationing: the request's `welfare.rationing` is "random".
+    never_binding: names of policies (not "none") that never bind over the horizon.
+    largest_shock .. quantity_gap: facts of the shock-size caution (largest |shock| as a
+        fraction and its period; whether the other form has a free market; its largest price
+        gap |other / this - 1|, the period, its largest quantity gap). Used only when
+        `other_form` is None (callers from before MODEL.md 20); `other_form` replaces it.
+    inflation: the request has market.inflation (not 0).
+    stock: the adjustment schedule is `stock`.
+    partial_binds: a price ceiling with coverage < 1 binds.
+    other_form: per policy name, {figure: (this form's value, the other form's value)} for the
+        figures of OTHER_FORM_FIGURES (MODEL.md 20: the summary's other_form), or None where the
+        other form has no answer for that policy. Each figure whose two values differ by more
+        than FORM_GAP of the larger is named; so is each policy without an answer.
+    shortage: some path reports a shortage above 0 (peak_shortage > 0): what it counts.
+    lifted_ceilings: names of binding price ceilings that end before the horizon; cautioned
+        only when `stock` is False (without a stock their homes return at once).
+    misallocation_shares: per policy name, (the largest misallocation_loss / (Pc Q k) over its
+        periods, that period); cautioned under random rationing where a share passes
+        MISALLOCATION_SHARE.
+    exempt_binds: a price ceiling with `new_homes: "exempt"` or vacancy decontrol binds (its
+        uncontrolled rents rise; with `partial_binds` the Fallis & Smith caution).
+    conversion: some path converts controlled homes (converted_homes > 0): its rent effect is
+        an upper bound (MODEL.md 18).
+    short_run_elasticity, impact_elasticity: the given eps_SR and the impact elasticity used
+        (ScenarioBatch.impact_elasticity: lambda eps_LR under `stock` with an explicit rate or
+        half-life); under `stock`, a caution when they differ (MODEL.md 20).
+    """
     out: list[str] = []
-    other = "constant-elasticity" if form == "linear" else "linear"
-    if largest_shock > LARGE_SHOCK:
-        head = (
-            f"The largest shock is {_percent(largest_shock)} (period {largest_shock_period}); "
-            "above roughly 10-20 % first-order (linear) and constant-elasticity answers differ visibly."
+    if other_form is None:
+        head = _shock_size_caution(
+            form,
+            largest_shock,
+            largest_shock_period,
+            alternate_feasible,
+            price_gap,
+            price_gap_period,
+            quantity_gap,
         )
-        if alternate_feasible:
-            head += (
-                f" Here the {other} form's free-market price differs by up to {_percent(price_gap)} "
-                f"(period {price_gap_period}) and its quantity by up to {_percent(quantity_gap)}."
-            )
-        else:
-            head += f" The {other} form cannot represent this shock (it leaves zero or negative quantity)."
+    else:
+        head = _other_form_caution(form, other_form)
+    if head is not None:
         out.append(head)
     if ceiling_binds and not random_rationing:
         out.append(
@@ -67,12 +244,45 @@ def scenario_cautions(
             "Binding price ceilings ration units at random among willing buyers; the misallocation "
             "loss is included in the deadweight loss and in the consumers' loss."
         )
-    if partial_binds:
+    if shortage:
         out.append(
-            "A ceiling that covers only part of the homes raises the rents of uncontrolled homes: "
-            "households without a controlled home bid for them (Fallis & Smith 1984, American "
-            "Economic Review 74(1)). Controlled homes are assumed to go to the households who value "
-            "them most, so the loss shown is a lower bound."
+            "A shortage counts homes that households would rent at the controlled rent and cannot: "
+            "it includes households that would take more space and households that would form "
+            "(young adults leaving home, people moving to the area). It is not a count of "
+            "households without a home."
+        )
+    if random_rationing and misallocation_shares:
+        large = [
+            f"'{name}' ({_percent(share)} in period {period})"
+            for name, (share, period) in misallocation_shares.items()
+            if share > MISALLOCATION_SHARE
+        ]
+        if large:
+            out.append(
+                "Under random rationing the misallocation loss passes a quarter of the period's rent "
+                "bill for " + ", ".join(large) + ". Such a loss comes from households that would pay far "
+                "more than the rent and do not get a home, that is from the top of the demand curve, "
+                "where demand is least known: treat its size with care."
+            )
+    if partial_binds or exempt_binds:
+        which = []
+        if partial_binds:
+            which.append("covers only part of the homes")
+        if exempt_binds:
+            which.append("exempts new homes or resets rents between tenants")
+        out.append(
+            "A ceiling that "
+            + " or ".join(which)
+            + " raises the rents of uncontrolled homes: households without a controlled home bid for "
+            "them (Fallis & Smith 1984, American Economic Review 74(1)). Controlled homes are assumed "
+            "to go to the households who value them most, so that rise, and the loss shown, are "
+            "lower bounds."
+        )
+    if conversion:
+        out.append(
+            "Controlled homes converted to other uses (converted_homes) leave the rental market, but "
+            "the households that buy or use them still count as wanting to rent, so the rise in rents "
+            "that conversion causes is an upper bound."
         )
     if random_rationing:
         out.append(
@@ -92,14 +302,44 @@ def scenario_cautions(
             "Under the stock schedule homes not built stay missing after a policy ends "
             "(homes_below_free_path). The deadweight loss counts only each period's loss against "
             "that period's free market on the same stock, so the full cost of homes never built is "
-            "larger than the within-period deadweight loss shown."
+            "larger than the within-period deadweight loss shown; renters' gains and losses against "
+            "the free path, the years after a rule ends included, are in vs_free_path."
+        )
+    if (
+        stock
+        and short_run_elasticity is not None
+        and impact_elasticity is not None
+        and not math.isclose(short_run_elasticity, impact_elasticity, rel_tol=1e-9, abs_tol=1e-12)
+    ):
+        out.append(
+            f"Under the stock schedule with a given rate or half-life, building in the first year "
+            f"responds to rents with elasticity {impact_elasticity:.3g} (the rate times the long-run "
+            f"elasticity); the short-run elasticity given, {short_run_elasticity:.3g}, is not used. "
+            "Leave out the rate and half-life to make the first-year response the short-run "
+            "elasticity."
+        )
+    lifted = list(lifted_ceilings) if not stock else []
+    if lifted:
+        out.append(
+            f"{_names(lifted)} {'ends' if len(lifted) == 1 else 'end'} before the horizon. Under this "
+            "schedule the homes a ceiling kept "
+            "from being built return the moment it ends, as if built overnight; real homes take years. "
+            'Use the stock schedule ("adjustment": {"schedule": "stock"}) to see the years after '
+            "a ceiling ends."
         )
     if never_binding:
-        names = ", ".join(f"'{n}'" for n in never_binding)
-        out.append(f"Never binds over the horizon, so it equals the free market: {names}.")
+        out.append(f"Never binds over the horizon, so it equals the free market: {_names(never_binding)}.")
+    left_out = (
+        "search costs, the owner-occupied market, and linked markets (nearby areas, other kinds of home)"
+    )
+    if ceiling_binds:
+        left_out = (
+            "upkeep and quality of controlled homes (owners may spend less on them), tenants who stay "
+            "in a home because its rent is low, " + left_out
+        )
     out.append(
         "Welfare figures compare each period with that period's free market under the model's "
-        "curves; they leave out search costs, quality changes and who holds which home."
+        f"curves. The model leaves out {left_out}."
     )
     out.append(GENERAL_CAUTION)
     return out

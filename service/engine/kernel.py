@@ -1,24 +1,33 @@
 """The compiled period pass: every period of every path, one cell at a time.
 
-One loop over scenarios computes the free-market path of both curve forms; one loop over
-policy rows walks each row's periods in order and computes, in the same pass, the period's
-curves, the row's own free-market point, the policy outcome, the welfare change, its split
-between groups, and the running (cumulative and discounted) sums. Compiled with numba
-(`nogil`, cached on disk); the numpy layer around it (paths.py) packs inputs and reads the
-output arrays. No scipy and no Python objects inside: problems come back as flags.
+All compiled code of the engine lives in this file, in sections (numba's on-disk cache is
+invalidated only by changes to a function's own file, so a compiled function calling one in
+another module could run stale code after an edit). The concept modules around it (shocks,
+schedules, policies, welfare, ...) hold the docstrings and the Python-side helpers; the codes
+they use are defined here, once.
 
-Curves of period t (shifts D, S in the linear form; ln A, ln B in constant elasticity):
+One loop over scenarios computes each scenario's free-market path; one loop over policy rows
+walks each row's periods in order (`_walk_row`) and computes, per period: the period's curves
+(`_period_curves`), the row's own free-market point, the policy's outcome (one small function
+per kind: `_ceiling`, `_floor`, `_wedge`, `_quantity_cap`, and `_controlled_groups` for a
+ceiling whose controlled homes keep their own stock), the welfare change and who gains and
+who loses (`_welfare`, `_group_welfare`), renters against the free path (`_vs_free_path`),
+and the running sums. No scipy and no Python objects inside: problems come back as flags.
 
-    demand      Qd(P) = Q0 max(1 + eta p + D, 0)          or  Q0 (P/P0)^eta A,    p = (P-P0)/P0
+Curves of period t (MODEL.md sections 3 and 16; shifts D, S in the linear form, ln A, ln B in
+constant elasticity; p = (P - P0)/P0):
+
+    demand      Qd(P) = Q0 max(1 + eta p + D, 0)          or  Q0 (P/P0)^eta A
     base supply K(P)  = Q0 max(1 + e p + S, 0)            or  Q0 (P/P0)^e B
-    supply      Qs(P) = max(a + b K(P), f)
+    supply      Qs(P) = min(max(a + b K(P), f), h)
 
-Without a durable stock a = 0, b = 1, f = 0 and e = eps_t (so Qs = K). With the stock
-schedule (Nerlove 1958, *The Dynamics of Supply*: a share lambda of the gap between the
-stock and its desired level closes each period) e = eps_LR, a = (1 - lambda) K_(t-1),
-b = lambda and f = (1 - delta) K_(t-1): the stock shrinks by at most the share delta per
-period, supply being elastic upward and inelastic downward (Glaeser & Gyourko 2005, *JPE*
-113(2)). Each path carries its own stock K_t = Q_t.
+Without a durable stock a = 0, b = 1, f = 0, h = inf and e = eps_t (so Qs = K). With the stock
+schedule (Nerlove 1958, *The Dynamics of Supply*: a share lambda of the gap between the stock
+and its desired level closes each period) e = eps_LR, a = (1 - lambda) K_(t-1), b = lambda,
+f = (1 - delta) K_(t-1) (the stock shrinks by at most the share delta per period: supply is
+elastic upward and inelastic downward, Glaeser & Gyourko 2005, *JPE* 113(2)) and
+h = (1 + b_build) K_(t-1) (completions are limited). Homes standing after the period:
+K_t = max(Q_t, f); homes not let stand empty and are offered again the period after.
 
 Clearing with a wedge or a second segment: Qd(Pc) = alpha Qs(scale Pc - gap) + beta, with
 (alpha, beta, scale, gap) = (1, 0, 1, tau) for a unit tax, (1, 0, 1 - r, 0) ad valorem,
@@ -26,7 +35,13 @@ Clearing with a wedge or a second segment: Qd(Pc) = alpha Qs(scale Pc - gap) + b
 covers the share s of homes (Fallis & Smith 1984, *AER* 74(1)). Linear curves solve in closed
 form; constant elasticity in closed form where it exists, else by Newton's method in log
 price, safeguarded by bisection on a bracket whose signs are checked, converged on the price
-scale. A kinked (floored) supply is solved on its upper branch and then checked.
+scale. A kinked supply is solved on its sloped branch and then checked against each bound.
+
+A ceiling whose controlled homes are a group of their own (MODEL.md 17-18: under the stock
+schedule with partial coverage, exempt new homes or conversion; vacancy decontrol under any
+schedule) clears the market rent M from Qd(M) = Sc(Rc(M)) + Su(M) with Brent's method
+(Brent 1973, *Algorithms for Minimization without Derivatives*, ch. 4), and measures welfare by
+price integrals of the groups' supply curves against the same period without the rule.
 
 Welfare against the same path's free market of the period (P*, Q*): DWL = int_Q^Q* Qd^-1 -
 int_Q^Q* Qs^-1 (per segment under partial coverage); the integrals are closed forms
@@ -36,6 +51,7 @@ int_Q^Q* Qs^-1 (per segment under partial coverage); the integrals are closed fo
 from __future__ import annotations
 
 import math
+from collections import namedtuple
 
 import numpy as np
 
@@ -46,8 +62,15 @@ except ImportError as error:  # pragma: no cover
 
 __all__ = [
     "FLAG_NAMES",
+    "KIND_CODES",
+    "PROFILE_CODES",
+    "SCHEDULE_CODES",
     "SERIES_INDEX",
+    "SERIES_NAMES",
     "SUMMARY_INDEX",
+    "SUMMARY_NAMES",
+    "MarketInputs",
+    "RowInputs",
     "free_paths",
     "percentiles",
     "policy_paths",
@@ -58,79 +81,202 @@ __all__ = [
 
 _JIT = {"cache": True, "nogil": True, "error_model": "numpy", "fastmath": False}
 
-#: Per-period output series of a policy row, by name: index into the second axis.
-SERIES_INDEX = {
-    name: i
-    for i, name in enumerate(
-        (
-            "consumer_price",
-            "producer_price",
-            "quantity",
-            "quantity_demanded",
-            "quantity_supplied",
-            "shortage",
-            "excess_supply",
-            "marginal_value",
-            "marginal_cost",
-            "consumer_surplus_change",
-            "producer_surplus_change",
-            "government_revenue",
-            "deadweight_loss",
-            "misallocation_loss",
-            "cumulative_deadweight_loss",
-            "discounted_deadweight_loss",
-            "covered_price",
-            "uncovered_price",
-            "covered_quantity",
-            "uncovered_quantity",
-            "tenants_in_controlled_homes",
-            "tenants_in_uncontrolled_homes",
-            "households_priced_out",
-            "owners_of_controlled_homes",
-            "owners_of_uncontrolled_homes",
-            "government",
-            "free_price",
-            "free_quantity",
-            "homes_below_free_path",
-            "rent_above_free_path",
-            "nominal_consumer_price",
-        )
-    )
-}
-FLAG_NAMES = ("binding", "rationed", "infeasible")
-#: Summary figures of a policy row over its horizon (money summed in period order).
-SUMMARY_INDEX = {
-    name: i
-    for i, name in enumerate(
-        (
-            "total_deadweight_loss",
-            "discounted_deadweight_loss",
-            "peak_shortage",
-            "peak_shortage_period",
-            "binding_periods",
-            "final_consumer_price",
-            "final_quantity",
-            "total_consumer_surplus_change",
-            "total_producer_surplus_change",
-            "total_government_revenue",
-            "total_tenants_in_controlled_homes",
-            "total_tenants_in_uncontrolled_homes",
-            "total_households_priced_out",
-            "total_owners_of_controlled_homes",
-            "total_owners_of_uncontrolled_homes",
-            "total_government",
-            "non_finite",
-            "final_homes_below_free_path",
-            "peak_homes_below_free_path",
-        )
-    )
-}
+# --- codes: the one home of every code the Python side packs --------------------------------
 
-# Policy kind codes (policies.KIND_CODES holds the same numbers).
-_NONE, _CEILING, _GROWTH_CAP, _FLOOR, _UNIT_TAX, _AD_VALOREM, _SUBSIDY, _QUANTITY_CAP = range(8)
+#: Policy kinds; a price ceiling with a growth rate is its own code (policies.py).
+KIND_CODES = {
+    "none": 0,
+    "price_ceiling": 1,
+    "price_ceiling_growth": 2,
+    "price_floor": 3,
+    "unit_tax": 4,
+    "ad_valorem_tax": 5,
+    "unit_subsidy": 6,
+    "quantity_cap": 7,
+}
+#: Shock profiles (shocks.py).
+PROFILE_CODES = {"step": 0, "ramp": 1, "growth": 2, "path": 3}
+#: Supply adjustment schedules (schedules.py); "constant" means no schedule.
+SCHEDULE_CODES = {"constant": 0, "linear": 1, "geometric": 2, "explicit": 3, "stock": 4}
+
+_NONE = KIND_CODES["none"]
+_CEILING = KIND_CODES["price_ceiling"]
+_GROWTH_CAP = KIND_CODES["price_ceiling_growth"]
+_FLOOR = KIND_CODES["price_floor"]
+_UNIT_TAX = KIND_CODES["unit_tax"]
+_AD_VALOREM = KIND_CODES["ad_valorem_tax"]
+_SUBSIDY = KIND_CODES["unit_subsidy"]
+_QUANTITY_CAP = KIND_CODES["quantity_cap"]
+_STEP = PROFILE_CODES["step"]
+_RAMP = PROFILE_CODES["ramp"]
+_GROWTH = PROFILE_CODES["growth"]
+_LINEAR_SCHEDULE = SCHEDULE_CODES["linear"]
+_GEOMETRIC = SCHEDULE_CODES["geometric"]
+_EXPLICIT = SCHEDULE_CODES["explicit"]
+_STOCK = SCHEDULE_CODES["stock"]
+
+# --- names of the outputs: one tuple each, indices generated from it ------------------------
+
+#: Who gains and who loses (MODEL.md 15, 17, 20): series and their totals, in this order.
+GROUP_NAMES = (
+    "tenants_in_controlled_homes",
+    "tenants_in_uncontrolled_homes",
+    "households_priced_out",
+    "owners_of_controlled_homes",
+    "owners_of_uncontrolled_homes",
+    "government",
+    "households_drawn_in",
+)
+
+#: Per-period output series of a policy row, in the order of the second axis of its output.
+SERIES_NAMES = (
+    "consumer_price",
+    "producer_price",
+    "quantity",
+    "quantity_demanded",
+    "quantity_supplied",
+    "shortage",
+    "excess_supply",
+    "marginal_value",
+    "marginal_cost",
+    "consumer_surplus_change",
+    "producer_surplus_change",
+    "government_revenue",
+    "deadweight_loss",
+    "misallocation_loss",
+    "cumulative_deadweight_loss",
+    "discounted_deadweight_loss",
+    "covered_price",
+    "uncovered_price",
+    "covered_quantity",
+    "uncovered_quantity",
+    *GROUP_NAMES[:6],
+    "free_price",
+    "free_quantity",
+    "homes_below_free_path",
+    "rent_above_free_path",
+    "nominal_consumer_price",
+    "vacant_homes",
+    "converted_homes",
+    "renters_vs_free_path",
+    "extra_rent_vs_free_path",
+    "households_drawn_in",
+    "homes_standing",
+)
+SERIES_INDEX = {name: i for i, name in enumerate(SERIES_NAMES)}
+#: The same indices as named constants for the compiled code (`_S.quantity`, ...).
+_S = namedtuple("SeriesIndex", SERIES_NAMES)(*range(len(SERIES_NAMES)))
+
+FLAG_NAMES = ("binding", "rationed", "infeasible")
+_BINDING, _RATIONED, _INFEASIBLE = 0, 1, 2
+
+#: Summary figures of a policy row over its horizon (money summed in period order).
+SUMMARY_NAMES = (
+    "total_deadweight_loss",
+    "discounted_deadweight_loss",
+    "peak_shortage",
+    "peak_shortage_period",
+    "binding_periods",
+    "final_consumer_price",
+    "final_quantity",
+    "total_consumer_surplus_change",
+    "total_producer_surplus_change",
+    "total_government_revenue",
+    "total_tenants_in_controlled_homes",
+    "total_tenants_in_uncontrolled_homes",
+    "total_households_priced_out",
+    "total_owners_of_controlled_homes",
+    "total_owners_of_uncontrolled_homes",
+    "total_government",
+    "non_finite",
+    "final_homes_below_free_path",
+    "peak_homes_below_free_path",
+    "total_households_drawn_in",
+    "vs_free_path_renters",
+    "vs_free_path_renters_discounted",
+    "vs_free_path_renters_after_end",
+    "vs_free_path_extra_rent",
+    "vs_free_path_extra_rent_after_end",
+    "final_vacant_homes",
+    "total_converted_homes",
+    "other_discounted_deadweight_loss",
+    "other_final_consumer_price",
+    "other_peak_shortage",
+    "other_feasible",
+    *("discounted_" + name for name in GROUP_NAMES),
+)
+SUMMARY_INDEX = {name: i for i, name in enumerate(SUMMARY_NAMES)}
+_T = namedtuple("SummaryIndex", SUMMARY_NAMES)(*range(len(SUMMARY_NAMES)))
+_GROUP_SERIES = np.array([SERIES_INDEX[name] for name in GROUP_NAMES], dtype=np.int64)
+_GROUP_TOTALS = np.array([SUMMARY_INDEX["total_" + name] for name in GROUP_NAMES], dtype=np.int64)
+_GROUP_DISCOUNTED = np.array([SUMMARY_INDEX["discounted_" + name] for name in GROUP_NAMES], dtype=np.int64)
+
+# --- inputs, as named tuples of arrays ------------------------------------------------------
+
+#: Scenario-level inputs of the period pass; n scenarios, T + 1 periods.
+MarketInputs = namedtuple(
+    "MarketInputs",
+    (
+        "constant_elasticity",  # (n,) bool: the scenario's own form
+        "price",  # (n,) P0
+        "quantity",  # (n,) Q0
+        "demand_elasticity",  # (n,) eta < 0
+        "payments_per_period",  # (n,) k
+        "eps",  # (n, T+1) supply elasticity of the schedule
+        "linear_shifts",  # (n, 2, T+1) D, S of the linear form
+        "constant_shifts",  # (n, 2, T+1) ln A, ln B of the constant-elasticity form
+        "horizon",  # (n,) int T
+        "stock",  # (n,) bool: the stock schedule
+        "stock_rate",  # (n,) lambda
+        "floor_share",  # (n,) 1 - delta; 0 = no depreciation bound
+        "build_limit",  # (n,) b; 0 = no build limit
+        "conversion",  # (n,) kappa; 0 = none
+        "long_run_elasticity",  # (n,) eps_LR
+        "random_rationing",  # (n,) bool
+        "discount_factor",  # (n, T+1)
+        "price_index",  # (n, T+1) I_t
+        "inflation",  # (n, T+1) pi_t, column 0 unused
+    ),
+)
+#: One row per (scenario, policy).
+RowInputs = namedtuple(
+    "RowInputs",
+    (
+        "scenario",  # (R,) int
+        "kind",  # (R,) KIND_CODES
+        "value",  # (R,) level, growth, amount or rate
+        "start",  # (R,) int
+        "end",  # (R,) int
+        "indexed",  # (R,) bool
+        "coverage",  # (R,) s
+        "exempt_new",  # (R,) bool: new homes exempt from a ceiling
+        "decontrol",  # (R,) tau; 0 = no vacancy decontrol
+    ),
+)
+
+#: The curves of one period on one path (see the module docstring).
+Curves = namedtuple("Curves", "ce p0 q0 eta d e s a b f h")
+#: One policy's outcome in a period (prices per price interval, quantities per interval).
+Outcome = namedtuple(
+    "Outcome",
+    (
+        "pc pp q qd qs shortage excess mv mc binding rationed level "
+        "covered_price uncovered_price covered_q uncovered_q unit_covered unit_uncovered"
+    ),
+)
+#: A group's supply as a function of the rent it receives (MODEL.md 17):
+#: G(P) = min(max(A + B K(P) + C max(0, D K(P) - E), lo), hi), K the period's base curve.
+Group = namedtuple("Group", "A B C D E lo hi")
+#: Welfare of a period, money per model period (x k), and its split between groups.
+Welfare = namedtuple(
+    "Welfare", "dcs dps rev dwl mis tenants_c tenants_u priced_out owners_c owners_u government drawn_in"
+)
 
 _TINY = 2.2250738585072014e-308
 _ULP = 2.220446049250313e-16
+#: A deadweight loss this far below zero, relative to the areas it is the difference of and
+#: the rent bill, is rounding; beyond it the kernel reports the negative value (a test then fails).
+_LOSS_ROUNDING = 1e-12
 
 
 # --- curves of one period ------------------------------------------------------------------
@@ -158,43 +304,52 @@ def _curve_price(ce, p0, q0, elasticity, shift, quantity):
 
 
 @njit(**_JIT)
-def _demand(ce, p0, q0, eta, d, price):
+def _demand(c, price):
     """Qd(P), truncated at zero."""
-    return _curve(ce, p0, q0, eta, d, price)
+    return _curve(c.ce, c.p0, c.q0, c.eta, c.d, price)
 
 
 @njit(**_JIT)
-def _inverse_demand(ce, p0, q0, eta, d, quantity):
+def _inverse_demand(c, quantity):
     """Qd^-1(Q): the marginal buyer's value of the quantity-th unit."""
-    return _curve_price(ce, p0, q0, eta, d, quantity)
+    return _curve_price(c.ce, c.p0, c.q0, c.eta, c.d, quantity)
 
 
 @njit(**_JIT)
-def _base_supply(ce, p0, q0, e, s, price):
-    """K(P): the period's supply curve (desired stock under the stock schedule)."""
-    return _curve(ce, p0, q0, e, s, price)
+def _base_supply(c, price):
+    """K(P): the period's supply curve (the desired stock under the stock schedule)."""
+    return _curve(c.ce, c.p0, c.q0, c.e, c.s, price)
 
 
 @njit(**_JIT)
-def _supply(ce, p0, q0, e, s, a, b, f, price):
-    """Qs(P) = max(a + b K(P), f)."""
-    return max(a + b * _base_supply(ce, p0, q0, e, s, price), f)
+def _supply(c, price):
+    """Qs(P) = min(max(a + b K(P), f), h)."""
+    return min(max(c.a + c.b * _base_supply(c, price), c.f), c.h)
 
 
 @njit(**_JIT)
-def _supply_line(ce, p0, q0, e, s, a, b, quantity):
-    """Price on the upper branch a + b K(P) = quantity (e > 0; quantity above a)."""
-    return _curve_price(ce, p0, q0, e, s, (quantity - a) / b)
+def _supply_line(c, quantity):
+    """Price on the sloped branch a + b K(P) = quantity (e > 0; quantity above a)."""
+    return _curve_price(c.ce, c.p0, c.q0, c.e, c.s, (quantity - c.a) / c.b)
 
 
 @njit(**_JIT)
-def _inverse_supply(ce, p0, q0, e, s, a, b, f, quantity):
+def _inverse_supply(c, quantity):
     """Qs^-1(Q): 0 up to the quantity offered at price zero (and on vertical supply)."""
-    if e <= 0.0:
+    if c.e <= 0.0:
         return 0.0
-    if quantity <= _supply(ce, p0, q0, e, s, a, b, f, 0.0):
+    if quantity <= _supply(c, 0.0):
         return 0.0
-    return max(_supply_line(ce, p0, q0, e, s, a, b, quantity), 0.0)
+    return max(_supply_line(c, quantity), 0.0)
+
+
+@njit(**_JIT)
+def _plain(c):
+    """True where supply is the period's curve itself (no stock memory and no bounds)."""
+    return c.a == 0.0 and c.b == 1.0 and c.f == 0.0 and c.h == math.inf
+
+
+# --- areas under the curves -----------------------------------------------------------------
 
 
 @njit(**_JIT)
@@ -215,85 +370,90 @@ def _power_law_integral(lower, price_lower, upper, price_upper, m):
 
 
 @njit(**_JIT)
-def _demand_integral(ce, p0, q0, eta, d, lower, upper):
+def _demand_integral(c, lower, upper):
     """int_lower^upper Qd^-1(q) dq, signed; lower, upper > 0."""
-    if ce:
-        m = 1.0 + 1.0 / eta
-        return _power_law_integral(
-            lower,
-            _inverse_demand(ce, p0, q0, eta, d, lower),
-            upper,
-            _inverse_demand(ce, p0, q0, eta, d, upper),
-            m,
-        )
-    return (
-        (upper - lower)
-        * 0.5
-        * (_inverse_demand(ce, p0, q0, eta, d, lower) + _inverse_demand(ce, p0, q0, eta, d, upper))
-    )
+    if c.ce:
+        m = 1.0 + 1.0 / c.eta
+        return _power_law_integral(lower, _inverse_demand(c, lower), upper, _inverse_demand(c, upper), m)
+    return (upper - lower) * 0.5 * (_inverse_demand(c, lower) + _inverse_demand(c, upper))
 
 
 @njit(**_JIT)
-def _supply_integral(ce, p0, q0, e, s, a, b, f, lower, upper):
+def _supply_integral(c, lower, upper):
     """int_lower^upper Qs^-1(q) dq, signed: only the part above the zero-price quantity."""
-    if e <= 0.0:
+    if c.e <= 0.0:
         return 0.0
-    zero_price_quantity = _supply(ce, p0, q0, e, s, a, b, f, 0.0)
+    zero_price_quantity = _supply(c, 0.0)
     lo = max(lower, zero_price_quantity)
     hi = max(upper, zero_price_quantity)
     if lo == hi:
         return 0.0
-    if not ce:
-        return (
-            (hi - lo)
-            * 0.5
-            * (_supply_line(ce, p0, q0, e, s, a, b, lo) + _supply_line(ce, p0, q0, e, s, a, b, hi))
-        )
+    if not c.ce:
+        return (hi - lo) * 0.5 * (_supply_line(c, lo) + _supply_line(c, hi))
     # int a+bK = q of K^-1((q - a)/b) dq = b int K^-1(x) dx, x = (q - a)/b: a power law in x.
-    x_lo, x_hi = (lo - a) / b, (hi - a) / b
-    m = 1.0 + 1.0 / e
+    x_lo, x_hi = (lo - c.a) / c.b, (hi - c.a) / c.b
+    m = 1.0 + 1.0 / c.e
     if x_lo <= 0.0:
-        return b * x_hi * _supply_line(ce, p0, q0, e, s, a, b, hi) / m
+        return c.b * x_hi * _supply_line(c, hi) / m
     if x_hi <= 0.0:
-        return -b * x_lo * _supply_line(ce, p0, q0, e, s, a, b, lo) / m
-    return b * _power_law_integral(
-        x_lo, _supply_line(ce, p0, q0, e, s, a, b, lo), x_hi, _supply_line(ce, p0, q0, e, s, a, b, hi), m
-    )
+        return -c.b * x_lo * _supply_line(c, lo) / m
+    return c.b * _power_law_integral(x_lo, _supply_line(c, lo), x_hi, _supply_line(c, hi), m)
+
+
+@njit(**_JIT)
+def _base_supply_price_integral(c, lower, upper):
+    """int_lower^upper K(p) dp, signed, for prices lower, upper >= 0: a trapezoid on the
+    linear curve's positive part, a power law (through expm1) on the constant-elasticity one."""
+    if lower == upper:
+        return 0.0
+    if upper < lower:
+        return -_base_supply_price_integral(c, upper, lower)
+    if c.e <= 0.0:
+        return (upper - lower) * _base_supply(c, upper)
+    if not c.ce:
+        zero = c.p0 * (1.0 - (1.0 + c.s) / c.e)  # K(p) = 0 at and below this price
+        lo, hi = max(lower, zero), max(upper, zero)
+        return (hi - lo) * 0.5 * (_base_supply(c, lo) + _base_supply(c, hi))
+    if lower <= 0.0:
+        return upper * _base_supply(c, upper) / (c.e + 1.0)
+    # int p^e dp = p K(p) / (e + 1): written as upper K(upper) (1 - (lower/upper)^(e+1)) / (e+1).
+    z = (c.e + 1.0) * math.log(lower / upper)
+    return -upper * _base_supply(c, upper) * math.log(lower / upper) * _expm1_over(z)
 
 
 # --- clearing -------------------------------------------------------------------------------
 
 
 @njit(**_JIT)
-def _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+def _excess_log(x, c, alpha, beta, scale, gap):
     """G(x) = ln Qd(e^x) - ln(alpha (a + b K(scale e^x - gap)) + beta) and dG/dx (CE)."""
     price = math.exp(x)
     producer = scale * price - gap
-    left = eta * (x - math.log(p0)) + d
-    if a == 0.0 and b == 1.0 and alpha == 1.0 and beta == 0.0:
+    left = c.eta * (x - math.log(c.p0)) + c.d
+    if c.a == 0.0 and c.b == 1.0 and alpha == 1.0 and beta == 0.0:
         # A single power-law segment: ln Qs(Pp) - ln Q0 = e ln(Pp/P0) + S, no exp needed.
         if not producer > 0.0:
-            return math.inf, eta
-        return left - e * math.log(producer / p0) - s, eta - e * scale * price / producer
+            return math.inf, c.eta
+        return left - c.e * math.log(producer / c.p0) - c.s, c.eta - c.e * scale * price / producer
     k = 0.0
     if producer > 0.0:
-        k = q0 * math.exp(e * math.log(producer / p0) + s)
-    right = alpha * (a + b * k) + beta
+        k = c.q0 * math.exp(c.e * math.log(producer / c.p0) + c.s)
+    right = alpha * (c.a + c.b * k) + beta
     if not right > 0.0:
-        return math.inf, eta
-    slope = eta
+        return math.inf, c.eta
+    slope = c.eta
     if producer > 0.0:
-        slope = eta - alpha * b * e * k * scale * price / (producer * right)
-    return left + math.log(q0) - math.log(right), slope
+        slope = c.eta - alpha * c.b * c.e * k * scale * price / (producer * right)
+    return left + math.log(c.q0) - math.log(right), slope
 
 
 @njit(**_JIT)
-def _newton_from(x, lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+def _newton_from(x, lo, hi, c, alpha, beta, scale, gap):
     """Newton's method in log price from a good first guess x, kept inside the expected
     bracket (lo, hi) by bisection. Returns NaN unless a Newton step itself converged (a root,
     not merely a collapsed bracket)."""
     for _ in range(60):
-        g, slope = _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        g, slope = _excess_log(x, c, alpha, beta, scale, gap)
         if g == 0.0:
             return x
         if g > 0.0:
@@ -314,10 +474,10 @@ def _newton_from(x, lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
 
 
 @njit(**_JIT)
-def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
+def _log_root(lo, hi, c, alpha, beta, scale, gap):
     """Root of the decreasing G on a bracket [lo, hi] of log prices (widened until signs
     hold); safeguarded Newton: a step that leaves the bracket is replaced by bisection."""
-    g_lo, _ = _excess_log(lo, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+    g_lo, _ = _excess_log(lo, c, alpha, beta, scale, gap)
     width = max(hi - lo, 0.125)
     for _ in range(80):
         if g_lo > 0.0:
@@ -325,8 +485,8 @@ def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
         hi = lo
         lo -= width
         width *= 2.0
-        g_lo, _ = _excess_log(lo, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
-    g_hi, _ = _excess_log(hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        g_lo, _ = _excess_log(lo, c, alpha, beta, scale, gap)
+    g_hi, _ = _excess_log(hi, c, alpha, beta, scale, gap)
     width = max(hi - lo, 0.125)
     for _ in range(80):
         if g_hi < 0.0:
@@ -334,7 +494,7 @@ def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
         lo = hi
         hi += width
         width *= 2.0
-        g_hi, _ = _excess_log(hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        g_hi, _ = _excess_log(hi, c, alpha, beta, scale, gap)
     if not (g_lo > 0.0 and g_hi < 0.0):
         if g_lo == 0.0:
             return lo
@@ -343,7 +503,7 @@ def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
         return math.nan
     x = 0.5 * (lo + hi)
     for _ in range(200):
-        g, slope = _excess_log(x, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        g, slope = _excess_log(x, c, alpha, beta, scale, gap)
         if g == 0.0:
             return x
         if g > 0.0:
@@ -362,566 +522,1068 @@ def _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap):
 
 
 @njit(**_JIT)
-def _clear(ce, p0, q0, eta, d, e, s, a, b, f, alpha, beta, scale, gap, low, high, guess=0.0):
+def _on_bounds(c, price, alpha, beta, scale, gap):
+    """The price where supply sits on a bound at the producer price of `price` (a kink:
+    vertical supply), else `price` itself."""
+    sloped = c.a + c.b * _base_supply(c, scale * price - gap)
+    if c.f > 0.0 and sloped < c.f:
+        return _inverse_demand(c, alpha * c.f + beta)
+    if sloped > c.h:
+        return _inverse_demand(c, alpha * c.h + beta)
+    return price
+
+
+@njit(**_JIT)
+def _clear(c, alpha, beta, scale, gap, low, high, guess=0.0):
     """Consumer price Pc solving Qd(Pc) = alpha Qs(scale Pc - gap) + beta.
 
     [low, high] is a price bracket the caller expects (checked and widened for constant
     elasticity). NaN where no root is found; the caller reports it.
     """
-    plain = a == 0.0 and b == 1.0 and f == 0.0
+    plain = _plain(c)
     one_segment = alpha == 1.0 and beta == 0.0
-    if not ce:
+    if not c.ce:
         if plain:
-            slope_e, shift = e, s
+            slope_e, shift = c.e, c.s
             floor = 0.0
         else:
-            slope_e = b * e
-            shift = (a / q0 + b * (1.0 + s)) - 1.0
-            floor = max(a, f)
+            slope_e = c.b * c.e
+            shift = (c.a / c.q0 + c.b * (1.0 + c.s)) - 1.0
+            floor = max(c.a, c.f)
         if one_segment:
-            x = (d - shift - slope_e * (scale - 1.0 - gap / p0)) / (slope_e * scale - eta)
+            x = (c.d - shift - slope_e * (scale - 1.0 - gap / c.p0)) / (slope_e * scale - c.eta)
         else:
-            x = (1.0 + d - alpha * (1.0 + shift + slope_e * (scale - 1.0 - gap / p0)) - beta / q0) / (
-                alpha * slope_e * scale - eta
+            x = (1.0 + c.d - alpha * (1.0 + shift + slope_e * (scale - 1.0 - gap / c.p0)) - beta / c.q0) / (
+                alpha * slope_e * scale - c.eta
             )
-        price = p0 * (1.0 + x)
-        producer_rel = (scale * price - gap - p0) / p0
-        if q0 * (1.0 + slope_e * producer_rel + shift) < floor:
-            price = _inverse_demand(ce, p0, q0, eta, d, alpha * floor + beta)
+        price = c.p0 * (1.0 + x)
+        producer_rel = (scale * price - gap - c.p0) / c.p0
+        offered = c.q0 * (1.0 + slope_e * producer_rel + shift)
+        if offered < floor:
+            price = _inverse_demand(c, alpha * floor + beta)
+        elif offered > c.h:
+            price = _inverse_demand(c, alpha * c.h + beta)
         return price
-    if plain and one_segment and (gap == 0.0 or e <= 0.0):
+    if plain and one_segment and (gap == 0.0 or c.e <= 0.0):
         # Closed form; on vertical supply the quantity is fixed and buyers pay P*.
-        return p0 * math.exp((d - s - e * math.log(scale)) / (e - eta))
-    if e <= 0.0:
-        fixed = max(a + b * q0 * math.exp(s), f)
-        return _inverse_demand(ce, p0, q0, eta, d, alpha * fixed + beta)
+        return c.p0 * math.exp((c.d - c.s - c.e * math.log(scale)) / (c.e - c.eta))
+    if c.e <= 0.0:
+        fixed = min(max(c.a + c.b * c.q0 * math.exp(c.s), c.f), c.h)
+        return _inverse_demand(c, alpha * fixed + beta)
     lo = math.log(max(low, _TINY))
     hi = math.log(max(high, low * (1.0 + 1e-12), _TINY))
     x = math.nan
     if guess > 0.0:
         start = min(max(math.log(guess), lo), hi)
-        x = _newton_from(start, lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
+        x = _newton_from(start, lo, hi, c, alpha, beta, scale, gap)
     if not math.isfinite(x):  # no guess, or the expected bracket was wrong: check and widen it
-        x = _log_root(lo, hi, p0, q0, eta, d, e, s, a, b, alpha, beta, scale, gap)
-    price = math.exp(x)
-    if f > 0.0 and a + b * _base_supply(ce, p0, q0, e, s, scale * price - gap) < f:
-        price = _inverse_demand(ce, p0, q0, eta, d, alpha * f + beta)
-    return price
+        x = _log_root(lo, hi, c, alpha, beta, scale, gap)
+    return _on_bounds(c, math.exp(x), alpha, beta, scale, gap)
 
 
 @njit(**_JIT)
-def _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess):
+def _free_point(c, guess):
     """The period's free-market point (P*, Q*) on these curves."""
-    if a == 0.0 and b == 1.0 and f == 0.0:
-        if ce:
-            log_price = (d - s) / (e - eta)
-            return p0 * math.exp(log_price), q0 * math.exp(e * log_price + s)
-        relative = (d - s) / (e - eta)
-        return p0 * (1.0 + relative), q0 * (1.0 + e * relative + s)
-    price = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, 1.0, 0.0, 0.5 * guess, 2.0 * guess, guess)
-    return price, _supply(ce, p0, q0, e, s, a, b, f, price)
+    if _plain(c):
+        if c.ce:
+            log_price = (c.d - c.s) / (c.e - c.eta)
+            return c.p0 * math.exp(log_price), c.q0 * math.exp(c.e * log_price + c.s)
+        relative = (c.d - c.s) / (c.e - c.eta)
+        return c.p0 * (1.0 + relative), c.q0 * (1.0 + c.e * relative + c.s)
+    price = _clear(c, 1.0, 0.0, 1.0, 0.0, 0.5 * guess, 2.0 * guess, guess)
+    return price, _supply(c, price)
+
+
+# --- the period's curves --------------------------------------------------------------------
 
 
 @njit(**_JIT)
-def _stock_curve(stock, k_prev, rate, floor_share):
-    """(a, b, f) of the period's supply: the stock's memory, or none."""
-    if stock:
-        return (1.0 - rate) * k_prev, rate, floor_share * k_prev
-    return 0.0, 1.0, 0.0
+def _period_curves(m, i, ce, t, stock_prev):
+    """The curves of period t on a path whose homes standing at the end of t-1 are
+    `stock_prev` (used only under the stock schedule; MODEL.md 13 and 16)."""
+    shifts = m.constant_shifts if ce else m.linear_shifts
+    d, s = shifts[i, 0, t], shifts[i, 1, t]
+    if m.stock[i]:
+        rate = m.stock_rate[i]
+        top = (1.0 + m.build_limit[i]) * stock_prev if m.build_limit[i] > 0.0 else math.inf
+        return Curves(
+            ce,
+            m.price[i],
+            m.quantity[i],
+            m.demand_elasticity[i],
+            d,
+            m.long_run_elasticity[i],
+            s,
+            (1.0 - rate) * stock_prev,
+            rate,
+            m.floor_share[i] * stock_prev,
+            top,
+        )
+    return Curves(
+        ce, m.price[i], m.quantity[i], m.demand_elasticity[i], d, m.eps[i, t], s, 0.0, 1.0, 0.0, math.inf
+    )
+
+
+@njit(**_JIT)
+def _supply_elasticity_at(c, price, quantity):
+    """Elasticity of the period's supply at a point on it: b e K / Q on the sloped branch
+    (b e Q0 P / (P0 Q) for the linear form), 0 on a bound."""
+    k = _base_supply(c, price)
+    sloped = c.a + c.b * k
+    if sloped < c.f or sloped > c.h or quantity <= 0.0:
+        return 0.0
+    if c.ce:
+        return c.b * c.e * k / quantity
+    return c.b * c.e * c.q0 * price / (c.p0 * quantity)
+
+
+# --- one policy's outcome in a period, by kind (MODEL.md 5, 12, 14) -------------------------
+
+
+@njit(**_JIT)
+def _uncontrolled_outcome(binding, pc, pp, q, qd, qs, excess, mv, mc, p_star, q_star, share):
+    """An outcome that controls no group of homes (the free market; a floor, tax, subsidy or
+    quantity cap): the covered and uncovered series are the free market's split by share."""
+    return Outcome(
+        pc,
+        pp,
+        q,
+        qd,
+        qs,
+        0.0,
+        excess,
+        mv,
+        mc,
+        binding,
+        False,
+        0.0,
+        p_star,
+        p_star,
+        share * q_star,
+        (1.0 - share) * q_star,
+        0.0,
+        0.0,
+    )
+
+
+@njit(**_JIT)
+def _free_outcome(p_star, q_star, share):
+    """The free market of the period: what every policy leaves where it does not bind."""
+    return _uncontrolled_outcome(
+        False, p_star, p_star, q_star, q_star, q_star, 0.0, p_star, p_star, p_star, q_star, share
+    )
+
+
+@njit(**_JIT)
+def _rule_rent(code, real, growth, indexed, inflation, previous_rent):
+    """A ceiling's real rent in the period: a level (real value), or a growth cap on the
+    controlled rent of the period before, (1+g)/(1+pi) or, indexed, (1+pi+g)/(1+pi)."""
+    if code == _CEILING:
+        return real
+    if indexed:
+        return (1.0 + inflation + growth) * previous_rent / (1.0 + inflation)
+    return (1.0 + growth) * previous_rent / (1.0 + inflation)
+
+
+@njit(**_JIT)
+def _ceiling(c, level, active, p_star, q_star, share):
+    """A ceiling on the share s of homes, pooled with the others (no stock of their own).
+
+    Binding where level < P*: covered homes Qc = s Qs(c); with s = 1, Pc = Pp = c, Q = Qs(c),
+    shortage Qd(c) - Q; with s < 1 the uncovered rent Pu clears (1-s) Qs(Pu) = Qd(Pu) - Qc
+    (Fallis & Smith 1984) and Pc = Pp is the quantity-weighted mean rent."""
+    if not (active and level < p_star):
+        return _free_outcome(p_star, q_star, share)
+    supplied = _supply(c, level)
+    demanded = _demand(c, level)
+    if share >= 1.0:
+        return Outcome(
+            level,
+            level,
+            supplied,
+            demanded,
+            supplied,
+            demanded - supplied,
+            0.0,
+            _inverse_demand(c, supplied),
+            level,
+            True,
+            True,
+            level,
+            level,
+            level,
+            supplied,
+            0.0,
+            0.0,
+            0.0,
+        )
+    covered_q = share * supplied
+    high = _inverse_demand(c, covered_q) if covered_q > 0.0 else 4.0 * p_star
+    uncovered_price = _clear(c, 1.0 - share, covered_q, 1.0, 0.0, p_star, high)
+    unit_uncovered = _supply(c, uncovered_price)
+    uncovered_q = (1.0 - share) * unit_uncovered
+    q = covered_q + uncovered_q
+    pc = (level * covered_q + uncovered_price * uncovered_q) / q
+    return Outcome(
+        pc,
+        pc,
+        q,
+        demanded,
+        q,
+        max(demanded - q, 0.0),
+        0.0,
+        _inverse_demand(c, q),
+        uncovered_price,
+        True,
+        True,
+        level,
+        level,
+        uncovered_price,
+        covered_q,
+        uncovered_q,
+        supplied,
+        unit_uncovered,
+    )
+
+
+@njit(**_JIT)
+def _floor(c, level, active, p_star, q_star, share):
+    """A price floor f > P*: Pc = Pp = f, Q = Qd(f), excess supply Qs(f) - Q."""
+    if not (active and level > p_star):
+        return _free_outcome(p_star, q_star, share)
+    demanded = _demand(c, level)
+    supplied = _supply(c, level)
+    mc = _inverse_supply(c, min(demanded, q_star))
+    return _uncontrolled_outcome(
+        True,
+        level,
+        level,
+        demanded,
+        demanded,
+        supplied,
+        supplied - demanded,
+        level,
+        mc,
+        p_star,
+        q_star,
+        share,
+    )
+
+
+@njit(**_JIT)
+def _wedge(c, code, rate, real, active, p_star, q_star, share):
+    """A tax or subsidy between buyers and sellers: Qd(Pc) = Qs(scale Pc - gap) with
+    (scale, gap) = (1, tau) for a unit tax, (1 - r, 0) ad valorem, (1, -s) a subsidy."""
+    if code == _AD_VALOREM:
+        scale, gap = 1.0 - rate, 0.0
+        low, high = p_star, p_star / scale
+    elif code == _UNIT_TAX:
+        scale, gap = 1.0, real
+        low, high = p_star, p_star + real
+    else:
+        scale, gap = 1.0, -real
+        top = _supply(c, p_star + real)
+        low, high = _inverse_demand(c, top), p_star
+    if not (active and rate > 0.0):
+        return _free_outcome(p_star, q_star, share)
+    # First guess: buyers bear the share e/(e - eta) of the wedge (Fullerton & Metcalf 2002,
+    # exact for small wedges); Newton then converges in a few steps.
+    share_e = c.b * c.e
+    wedge = gap + (1.0 - scale) * p_star
+    first = p_star + wedge * share_e / (share_e - c.eta) if share_e - c.eta > 0.0 else p_star
+    pc = _clear(c, 1.0, 0.0, scale, gap, low, high, first)
+    pp = scale * pc - gap
+    q = _demand(c, pc)
+    return _uncontrolled_outcome(True, pc, pp, q, q, _supply(c, pp), 0.0, pc, pp, p_star, q_star, share)
+
+
+@njit(**_JIT)
+def _quantity_cap(c, cap, active, p_star, q_star, share):
+    """A quantity cap Qbar < Q*: Q = Qbar, Pc = Pp = Qd^-1(Qbar), MC = Qs^-1(Qbar); sellers
+    without a permit are the excess supply Qs(Pp) - Qbar."""
+    if not (active and cap < q_star):
+        return _free_outcome(p_star, q_star, share)
+    price = _inverse_demand(c, cap)
+    supplied = _supply(c, price)
+    mc = _inverse_supply(c, min(cap, q_star))
+    return _uncontrolled_outcome(
+        True, price, price, cap, cap, supplied, supplied - cap, price, mc, p_star, q_star, share
+    )
+
+
+@njit(**_JIT)
+def _policy_outcome(c, code, value, real, level, active, p_star, q_star, share):
+    """Dispatch to the rule of the policy's kind."""
+    if code == _CEILING or code == _GROWTH_CAP:
+        return _ceiling(c, level, active, p_star, q_star, share)
+    if code == _FLOOR:
+        return _floor(c, real, active, p_star, q_star, share)
+    if code == _UNIT_TAX or code == _AD_VALOREM or code == _SUBSIDY:
+        return _wedge(c, code, value, real, active, p_star, q_star, share)
+    if code == _QUANTITY_CAP:
+        return _quantity_cap(c, value, active, p_star, q_star, share)
+    return _free_outcome(p_star, q_star, share)
+
+
+# --- a ceiling's controlled homes as a group of their own (MODEL.md 17, 18) ----------------
+
+
+@njit(**_JIT)
+def _group_supply(c, g, price):
+    """G(P) = min(max(A + B K(P) + C max(0, D K(P) - E), lo), hi): the homes a group lets at
+    the rent it receives, K the period's base (desired-stock) curve."""
+    k = _base_supply(c, price)
+    return min(max(g.A + g.B * k + g.C * max(0.0, g.D * k - g.E), g.lo), g.hi)
+
+
+@njit(**_JIT)
+def _group_break(c, g, target, low, high, points, count):
+    """Append to `points` the price in (low, high) where the group's sloped part, as a
+    function of K, reaches `target` (a bound or the kink of C), if the base curve crosses it."""
+    if not (c.e > 0.0 and target > 0.0):
+        return count
+    price = _curve_price(c.ce, c.p0, c.q0, c.e, c.s, target)
+    if low < price < high:
+        points[count] = price
+        count += 1
+    return count
+
+
+@njit(**_JIT)
+def _group_integral(c, g, lower, upper):
+    """int_lower^upper G(p) dp, signed, exact: the price axis is cut where G changes branch
+    (its bounds and its kink), and each piece is a constant or A' + B' K(p)."""
+    if lower == upper:
+        return 0.0
+    if upper < lower:
+        return -_group_integral(c, g, upper, lower)
+    points = np.empty(8)
+    points[0] = lower
+    count = 1
+    # In K: the kink of C at K = E/D; the bounds where A + B K (+ C (D K - E)) = lo or hi.
+    kink = g.E / g.D if g.C > 0.0 and g.D > 0.0 else -1.0
+    count = _group_break(c, g, kink, lower, upper, points, count)
+    for bound in (g.lo, g.hi):
+        if bound == math.inf:
+            continue
+        below = (bound - g.A) / g.B if g.B > 0.0 else -1.0
+        if kink < 0.0 or below <= kink:
+            count = _group_break(c, g, below, lower, upper, points, count)
+        if g.C > 0.0 and g.D > 0.0:
+            above = (bound - g.A + g.C * g.E) / (g.B + g.C * g.D)
+            if above > kink:
+                count = _group_break(c, g, above, lower, upper, points, count)
+    points[count] = upper
+    count += 1
+    cuts = np.sort(points[:count])
+    total = 0.0
+    for j in range(count - 1):
+        a, b = cuts[j], cuts[j + 1]
+        if b <= a:
+            continue
+        k_mid = _base_supply(c, 0.5 * (a + b))
+        sloped = g.A + g.B * k_mid + g.C * max(0.0, g.D * k_mid - g.E)
+        if sloped <= g.lo:
+            total += g.lo * (b - a)
+        elif sloped >= g.hi:
+            total += g.hi * (b - a)
+        elif g.C > 0.0 and g.D * k_mid - g.E > 0.0:
+            total += (g.A - g.C * g.E) * (b - a) + (g.B + g.C * g.D) * _base_supply_price_integral(c, a, b)
+        else:
+            total += g.A * (b - a) + g.B * _base_supply_price_integral(c, a, b)
+    return total
+
+
+@njit(**_JIT)
+def _received(rule, tau, market_rent):
+    """Rc(M) = (1 - tau) min(r, M) + tau M: the controlled group's mean rent where new
+    tenancies (the share tau) start at the market rent; Rc = M without a rule."""
+    if rule < 0.0:
+        return market_rent
+    return (1.0 - tau) * min(rule, market_rent) + tau * market_rent
+
+
+@njit(**_JIT)
+def _group_excess(c, controlled, others, rule, tau, price):
+    """Qd(M) - Sc(Rc(M)) - Su(M): falls as M rises (rule < 0: no rule)."""
+    return (
+        _demand(c, price)
+        - _group_supply(c, controlled, _received(rule, tau, price))
+        - _group_supply(c, others, price)
+    )
+
+
+@njit(**_JIT)
+def _market_rent(c, controlled, others, rule, tau, guess):
+    """The root M of _group_excess: a bracket from `guess` widened until its signs hold, then
+    Brent's method (Brent 1973, ch. 4: inverse quadratic interpolation, secant and bisection,
+    as scipy.optimize.brentq), converged to 4 ulp of M. NaN where no bracket is found."""
+    lo = hi = guess
+    f_lo = f_hi = _group_excess(c, controlled, others, rule, tau, guess)
+    if f_lo == 0.0:
+        return guess
+    for _ in range(200):
+        if f_lo > 0.0:
+            break
+        hi, f_hi = lo, f_lo
+        lo *= 0.5
+        f_lo = _group_excess(c, controlled, others, rule, tau, lo)
+    for _ in range(200):
+        if f_hi < 0.0:
+            break
+        lo, f_lo = hi, f_hi
+        hi *= 2.0
+        f_hi = _group_excess(c, controlled, others, rule, tau, hi)
+    if not (f_lo > 0.0 and f_hi < 0.0):
+        return math.nan
+    # Brent's zeroin on [lo, hi] (x_pre, x_cur, x_blk as in scipy's brentq).
+    x_pre, x_cur, f_pre, f_cur = lo, hi, f_lo, f_hi
+    x_blk = f_blk = s_pre = s_cur = 0.0
+    for _ in range(200):
+        if f_pre != 0.0 and f_cur != 0.0 and (f_pre < 0.0) != (f_cur < 0.0):
+            x_blk, f_blk = x_pre, f_pre
+            s_pre = s_cur = x_cur - x_pre
+        if abs(f_blk) < abs(f_cur):
+            x_pre, x_cur, x_blk = x_cur, x_blk, x_cur
+            f_pre, f_cur, f_blk = f_cur, f_blk, f_cur
+        delta = 2.0 * _ULP * abs(x_cur)
+        s_bis = 0.5 * (x_blk - x_cur)
+        if f_cur == 0.0 or abs(s_bis) < delta:
+            return x_cur
+        if abs(s_pre) > delta and abs(f_cur) < abs(f_pre):
+            if x_pre == x_blk:
+                s_try = -f_cur * (x_cur - x_pre) / (f_cur - f_pre)
+            else:
+                d_pre = (f_pre - f_cur) / (x_pre - x_cur)
+                d_blk = (f_blk - f_cur) / (x_blk - x_cur)
+                s_try = -f_cur * (f_blk * d_blk - f_pre * d_pre) / (d_blk * d_pre * (f_blk - f_pre))
+            if 2.0 * abs(s_try) < min(abs(s_pre), 3.0 * abs(s_bis) - delta):
+                s_pre, s_cur = s_cur, s_try
+            else:
+                s_pre = s_cur = s_bis
+        else:
+            s_pre = s_cur = s_bis
+        x_pre, f_pre = x_cur, f_cur
+        x_cur += s_cur if abs(s_cur) > delta else (delta if s_bis > 0.0 else -delta)
+        f_cur = _group_excess(c, controlled, others, rule, tau, x_cur)
+    return x_cur
+
+
+@njit(**_JIT)
+def _group_supplies(
+    c, stock, share, exempt, controlled_prev, others_prev, converted_share, floor_share, build
+):
+    """The two groups' supply curves of the period (MODEL.md 17).
+
+    Without a stock: Sc = s Qs_t, Su = (1-s) Qs_t. Under the stock schedule, with
+    Kc~ = (1 - v) Kc_(t-1) after conversion and lambda = c.b, each group closes the share lambda
+    of the gap to its desired stock, within its bounds: covered new homes
+    Sc(R) = clip((1-lambda) Kc~ + lambda s K(R); (1-delta) Kc~, (1+b) Kc~) and
+    Su(M) = clip((1-lambda) Ku + lambda (1-s) K(M); (1-delta) Ku, (1+b) Ku); exempt new homes
+    cap the controlled group at Kc~ and give all building to the others,
+    Su(M) = clip((1-lambda) Ku + lambda [(1-s) K(M) + max(0, s K(M) - Kc~)]; (1-delta) Ku,
+    Ku + b (Kc + Ku)), with Kc, Ku the stocks of t-1 before conversion."""
+    if not stock:
+        return Group(0.0, share, 0.0, 0.0, 0.0, 0.0, math.inf), Group(
+            0.0, 1.0 - share, 0.0, 0.0, 0.0, 0.0, math.inf
+        )
+    rate = c.b
+    kept = (1.0 - converted_share) * controlled_prev
+    low_c, low_u = floor_share * kept, floor_share * others_prev
+    if exempt:
+        top_u = others_prev + build * (controlled_prev + others_prev) if build > 0.0 else math.inf
+        return Group((1.0 - rate) * kept, rate * share, 0.0, 0.0, 0.0, low_c, kept), Group(
+            (1.0 - rate) * others_prev, rate * (1.0 - share), rate, share, kept, low_u, top_u
+        )
+    top_c = (1.0 + build) * kept if build > 0.0 else math.inf
+    top_u = (1.0 + build) * others_prev if build > 0.0 else math.inf
+    return Group((1.0 - rate) * kept, rate * share, 0.0, 0.0, 0.0, low_c, top_c), Group(
+        (1.0 - rate) * others_prev, rate * (1.0 - share), 0.0, 0.0, 0.0, low_u, top_u
+    )
+
+
+@njit(**_JIT)
+def _controlled_groups(c, controlled, others, rule, tau, active, whole, guess):
+    """A ceiling over two groups of homes (MODEL.md 17): the market rent M clears
+    Qd(M) = Sc(Rc(M)) + Su(M); the comparator P^ clears the same curves without the rule.
+    The rule binds where r < P^ (then r < M: Fallis & Smith 1984) and tau < 1.
+
+    Returns the outcome (covered_price Rc, uncovered_price M, covered_q Kc = Sc(Rc),
+    uncovered_q Ku = Su(M), Q = Kc + Ku, Pc = Pp the mean rent, MV = M, quantity demanded
+    Qd(r) under a binding rule without decontrol, else Q; MC = Rc for a whole-market rule,
+    else M) and the comparator (P^, Q^)."""
+    p_hat = _market_rent(c, controlled, others, -1.0, 0.0, guess)
+    q_hat = _group_supply(c, controlled, p_hat) + _group_supply(c, others, p_hat)
+    binding = active and rule < p_hat and tau < 1.0
+    if binding:
+        market = _market_rent(c, controlled, others, rule, tau, p_hat)
+        received = _received(rule, tau, market)
+    else:
+        market = received = p_hat
+    kc = _group_supply(c, controlled, received)
+    ku = _group_supply(c, others, market)
+    q = kc + ku
+    pc = (received * kc + market * ku) / q if binding and q > 0.0 else market
+    demanded = _demand(c, rule) if binding and tau == 0.0 else q
+    return (
+        Outcome(
+            pc,
+            pc,
+            q,
+            demanded,
+            q,
+            max(demanded - q, 0.0),
+            0.0,
+            market,
+            received if whole else market,
+            binding,
+            binding,
+            rule,
+            received,
+            market,
+            kc,
+            ku,
+            0.0,
+            0.0,
+        ),
+        p_hat,
+        q_hat,
+    )
+
+
+# --- welfare and who gains and who loses (MODEL.md 6, 15, 17, 20) --------------------------
+
+
+@njit(**_JIT)
+def _no_welfare():
+    return Welfare(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
+
+
+@njit(**_JIT)
+def _deadweight(demand_area, supply_area, scale):
+    """int_Q^Q* (Qd^-1 - Qs^-1) dq >= 0; a negative value beyond rounding (relative to the
+    areas and to the period's rent bill `scale`) is reported as it is."""
+    loss = demand_area - supply_area
+    if loss < 0.0 and -loss <= _LOSS_ROUNDING * (abs(demand_area) + abs(supply_area) + scale):
+        return 0.0
+    return loss
+
+
+@njit(**_JIT)
+def _misallocation(c, o, random, m_divisor):
+    """Random rationing of a binding ceiling (Glaeser & Luttmer 2003): the Q homes go at
+    random among the Qd households that want one, M = Q (Qd^-1(Q) - Pc) / m with m = 2
+    (linear demand) or 1 + 1/eta (constant elasticity, |eta| > 1); per price interval."""
+    if o.rationed and random and m_divisor > 0.0:
+        return max(o.q * (_inverse_demand(c, o.q) - o.pc) / m_divisor, 0.0)
+    return 0.0
+
+
+@njit(**_JIT)
+def _welfare(c, o, p_star, q_star, k_pay, share, ceiling, subsidy, random, m_divisor):
+    """Welfare of a period against the free market (P*, Q*) of the same curves, x k:
+
+        dCS = P* Q* - Pc Q - int_Q^Q* Qd^-1 (- misallocation),  dPS = Pp Q - P* Q* + int_Q^Q* Qs^-1,
+        G = (Pc - Pp) Q,  DWL = int_Q^Q* Qd^-1 - int_Q^Q* Qs^-1 (+ misallocation)
+
+    (per segment under partial coverage), split between groups: tenants of controlled homes
+    (P* - c) Qc, of uncontrolled homes -(Pu - P*) Qu (every tenant -(Pc - P*) min(Q, Q*) where
+    nothing is controlled), households priced out -int_Q^Q* (Qd^-1 - P*) where Q < Q*, drawn in
+    int_Q*^Q (Qd^-1 - Pc) where a subsidy lets Q > Q*, owners of each segment, government G. Exactly 0 where
+    the policy does not bind."""
+    if not o.binding:
+        return _no_welfare()
+    partial = ceiling and share < 1.0
+    q = o.q
+    demand_area = _demand_integral(c, q, q_star)
+    if partial:
+        supply_area = share * _supply_integral(c, o.unit_covered, q_star) + (1.0 - share) * _supply_integral(
+            c, o.unit_uncovered, q_star
+        )
+    else:
+        supply_area = _supply_integral(c, q, q_star)
+    free_spending = p_star * q_star
+    consumer = free_spending - o.pc * q - demand_area
+    producer = o.pp * q - free_spending + supply_area
+    revenue = (o.pc - o.pp) * q
+    deadweight = _deadweight(demand_area, supply_area, free_spending)
+    mis = _misallocation(c, o, random, m_divisor)
+    dcs = k_pay * (consumer - mis)
+    dps = k_pay * producer
+    rev = k_pay * revenue
+    dwl = k_pay * (deadweight + mis)
+    mis = k_pay * mis
+    priced_out = -k_pay * (demand_area - p_star * (q_star - q))
+    tenants_c = tenants_u = owners_c = owners_u = government = drawn_in = 0.0
+    if ceiling:
+        tenants_c = k_pay * (p_star - o.level) * o.covered_q
+        if partial:
+            tenants_u = -k_pay * (o.uncovered_price - p_star) * o.uncovered_q
+            owners_c = (
+                k_pay
+                * share
+                * (o.level * o.unit_covered - free_spending + _supply_integral(c, o.unit_covered, q_star))
+            )
+            owners_u = (
+                k_pay
+                * (1.0 - share)
+                * (
+                    o.uncovered_price * o.unit_uncovered
+                    - free_spending
+                    + _supply_integral(c, o.unit_uncovered, q_star)
+                )
+            )
+        else:
+            owners_c = dps
+    else:
+        if subsidy and q > q_star:  # households drawn in: only those who rent in both pay Pc
+            tenants_u = -k_pay * (o.pc - p_star) * q_star
+            drawn_in = k_pay * (-demand_area - o.pc * (q - q_star))
+            priced_out = 0.0
+        else:
+            tenants_u = -k_pay * (o.pc - p_star) * q
+        owners_u = dps
+        government = rev
+    return Welfare(
+        dcs, dps, rev, dwl, mis, tenants_c, tenants_u, priced_out, owners_c, owners_u, government, drawn_in
+    )
+
+
+@njit(**_JIT)
+def _group_welfare(c, o, controlled, others, p_hat, q_hat, k_pay, random, m_divisor):
+    """Welfare of a ceiling over two groups (MODEL.md 17) against the same period without the
+    rule (P^, Q^), by price integrals of the groups' supply curves, x k:
+
+        tenants of controlled homes (P^ - Rc) Kc,  of the others -(M - P^) Ku,
+        priced out -int_Q^Q^ (Qd^-1 - P^),  owners of controlled homes -int_Rc^P^ Sc(p) dp,
+        owners of the others int_P^^M Su(p) dp,  government 0,  DWL = -(sum of the groups)
+
+    (derived by parts: DWL = int_Q^Q^ Qd^-1 - int_Kc^Sc(P^) Sc^-1 - int_Ku^Su(P^) Su^-1 >= 0)."""
+    if not o.binding:
+        return _no_welfare()
+    tenants_c = k_pay * (p_hat - o.covered_price) * o.covered_q
+    tenants_u = -k_pay * (o.uncovered_price - p_hat) * o.uncovered_q
+    priced_out = -k_pay * (_demand_integral(c, o.q, q_hat) - p_hat * (q_hat - o.q))
+    owners_c = -k_pay * _group_integral(c, controlled, o.covered_price, p_hat)
+    owners_u = k_pay * _group_integral(c, others, p_hat, o.uncovered_price)
+    mis = k_pay * _misallocation(c, o, random, m_divisor)
+    dcs = tenants_c + tenants_u + priced_out - mis
+    dps = owners_c + owners_u
+    dwl = -(dcs + dps)
+    return Welfare(dcs, dps, 0.0, dwl, mis, tenants_c, tenants_u, priced_out, owners_c, owners_u, 0.0, 0.0)
+
+
+@njit(**_JIT)
+def _vs_free_path(c, o, free_price, free_quantity, k_pay, misallocation):
+    """Renters against the free path of the same request (MODEL.md 19), exact because both
+    paths share the demand curve, x k:
+
+        extra_rent = (Pc - P^F) Q,  renters = -int_Q^Q^F (Qd^-1 - P^F) dq - extra_rent - misallocation
+    """
+    extra = k_pay * (o.pc - free_price) * o.q
+    area = _demand_integral(c, o.q, free_quantity) - free_price * (free_quantity - o.q)
+    return -k_pay * area - extra - misallocation, extra
 
 
 # --- the free path of each scenario ---------------------------------------------------------
 
 
 @njit(**_JIT)
-def _free_path_kernel(
-    ce_form, p0s, q0s, etas, eps, shifts, horizon, stock, stock_rate, floor_share, long_run, out
-):
-    n = p0s.shape[0]
-    for i in range(n):
-        ce = ce_form[i]
-        p0, q0, eta = p0s[i], q0s[i], etas[i]
+def _free_path_kernel(m, form_ce, out):
+    """out[i] = (P*_t, Q*_t, supply elasticity_t) of scenario i in the form form_ce[i]."""
+    for i in range(m.price.shape[0]):
+        ce = form_ce[i]
+        p0, q0 = m.price[i], m.quantity[i]
         out[i, 0, 0] = p0
         out[i, 1, 0] = q0
-        out[i, 2, 0] = eps[i, 0]
-        k_prev = q0
+        out[i, 2, 0] = m.eps[i, 0]
+        stock_prev = q0
         guess = p0
-        for t in range(1, horizon[i] + 1):
-            d, s = shifts[i, 0, t], shifts[i, 1, t]
-            a, b, f = _stock_curve(stock[i], k_prev, stock_rate[i], floor_share[i])
-            e = long_run[i] if stock[i] else eps[i, t]
-            price, quantity = _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess)
+        for t in range(1, m.horizon[i] + 1):
+            c = _period_curves(m, i, ce, t, stock_prev)
+            price, quantity = _free_point(c, guess)
             out[i, 0, t] = price
             out[i, 1, t] = quantity
-            if stock[i]:
-                # Elasticity of this period's supply at its equilibrium point.
-                k = _base_supply(ce, p0, q0, e, s, price)
-                on_floor = a + b * k < f
-                if ce:
-                    out[i, 2, t] = 0.0 if on_floor or quantity <= 0.0 else b * e * k / quantity
-                else:
-                    out[i, 2, t] = (
-                        0.0 if on_floor or quantity <= 0.0 else b * e * q0 * price / (p0 * quantity)
-                    )
-            else:
-                out[i, 2, t] = eps[i, t]
-            k_prev = quantity
+            # Under the stock schedule: the elasticity of this period's supply at its equilibrium.
+            out[i, 2, t] = _supply_elasticity_at(c, price, quantity) if m.stock[i] else m.eps[i, t]
+            stock_prev = quantity
             if price > 0.0 and math.isfinite(price):
                 guess = price
-        for t in range(horizon[i] + 1, eps.shape[1]):  # padding of a shorter horizon
+        for t in range(m.horizon[i] + 1, m.eps.shape[1]):  # padding of a shorter horizon
             out[i, 0, t] = p0
             out[i, 1, t] = q0
-            out[i, 2, t] = eps[i, t]
+            out[i, 2, t] = m.eps[i, t]
 
 
-def free_paths(batch_arrays: dict) -> np.ndarray:
-    """(n, 3, T+1): free-market price, quantity and supply elasticity of each scenario in
-    the form given by `constant_elasticity` (n,) with the matching `shifts` (n, 2, T+1)."""
-    a = batch_arrays
-    n, periods = a["eps"].shape
-    out = np.zeros((n, 3, periods))
-    _free_path_kernel(
-        a["constant_elasticity"],
-        a["price"],
-        a["quantity"],
-        a["demand_elasticity"],
-        a["eps"],
-        a["shifts"],
-        a["horizon"],
-        a["stock"],
-        a["stock_rate"],
-        a["floor_share"],
-        a["long_run_elasticity"],
-        out,
-    )
+def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -> np.ndarray:
+    """(n, 3, T+1): free-market price, quantity and supply elasticity of each scenario, in the
+    form given by `constant_elasticity` (n,) (default: each scenario's own)."""
+    form = m.constant_elasticity if constant_elasticity is None else constant_elasticity
+    out = np.zeros((m.price.shape[0], 3, m.eps.shape[1]))
+    _free_path_kernel(m, form, out)
     return out
 
 
 # --- every policy row -----------------------------------------------------------------------
 
 
+#: Where a row's cells go: `out` (kept series, T+1) gets cell[kept[k]] in row column[kept[k]];
+#: band_out[slots[j], t, draw] gets cell[j] for j in `banded`; `checked` lists the cells whose
+#: values must be finite (the sixteen core series, the kept and the banded ones).
+Target = namedtuple("Target", "kept column out checked banded slots band_out draw")
+
+
 @njit(**_JIT)
-def _row_kernel(
-    scenario,
-    kind,
-    value,
-    start,
-    end,
-    indexed,
-    coverage,
-    ce_form,
-    p0s,
-    q0s,
-    etas,
-    ks,
-    eps,
-    shifts,
-    horizon,
-    stock,
-    stock_rate,
-    floor_share,
-    long_run,
-    random_rationing,
-    factor,
-    price_index,
-    inflation,
-    free,
-    column,
-    out,
-    flags,
-    summary,
-    band_slot,
-    band_out,
-    band_rows,
-    band_start,
-):
-    rows = scenario.shape[0]
-    banding = band_rows > 0
-    cell = np.empty(column.shape[0])
-    for r in range(rows):
-        i = scenario[r]
-        ce = ce_form[i]
-        p0, q0, eta, k_pay = p0s[i], q0s[i], etas[i], ks[i]
-        code = kind[r]
-        v = value[r]
-        share = coverage[r]
-        ceiling = code == _CEILING or code == _GROWTH_CAP
-        partial = ceiling and share < 1.0
-        random = random_rationing[i]
-        if random and ce:
-            m_divisor = 1.0 + 1.0 / eta
+def _write(cell, target, t):
+    """A period's cell into the kept series and the band's slots."""
+    for j in target.kept:
+        target.out[target.column[j], t] = cell[j]
+    for j in target.banded:
+        target.band_out[target.slots[j], t, target.draw] = cell[j]
+
+
+@njit(**_JIT)
+def _start_row(cell, p0, q0, share, total):
+    """Period 0 (the base point) and empty running totals."""
+    for j in range(cell.shape[0]):
+        cell[j] = 0.0
+    for name in (_S.consumer_price, _S.producer_price, _S.marginal_value, _S.marginal_cost):
+        cell[name] = p0
+    for name in (_S.quantity, _S.quantity_demanded, _S.quantity_supplied, _S.free_quantity):
+        cell[name] = q0
+    for name in (_S.covered_price, _S.uncovered_price, _S.free_price, _S.nominal_consumer_price):
+        cell[name] = p0
+    cell[_S.covered_quantity] = share * q0
+    cell[_S.uncovered_quantity] = (1.0 - share) * q0
+    cell[_S.homes_standing] = q0
+    for j in range(total.shape[0]):
+        total[j] = 0.0
+    total[_T.peak_shortage_period] = -1.0
+    total[_T.final_consumer_price] = p0
+    total[_T.final_quantity] = q0
+
+
+@njit(**_JIT)
+def _fill_cell(cell, o, w, p_star, q_star, free_price, free_quantity, index, cumulative, discounted):
+    cell[_S.consumer_price] = o.pc
+    cell[_S.producer_price] = o.pp
+    cell[_S.quantity] = o.q
+    cell[_S.quantity_demanded] = o.qd
+    cell[_S.quantity_supplied] = o.qs
+    cell[_S.shortage] = o.shortage
+    cell[_S.excess_supply] = o.excess
+    cell[_S.marginal_value] = o.mv
+    cell[_S.marginal_cost] = o.mc
+    cell[_S.consumer_surplus_change] = w.dcs
+    cell[_S.producer_surplus_change] = w.dps
+    cell[_S.government_revenue] = w.rev
+    cell[_S.deadweight_loss] = w.dwl
+    cell[_S.misallocation_loss] = w.mis
+    cell[_S.cumulative_deadweight_loss] = cumulative
+    cell[_S.discounted_deadweight_loss] = discounted
+    cell[_S.covered_price] = o.covered_price
+    cell[_S.uncovered_price] = o.uncovered_price
+    cell[_S.covered_quantity] = o.covered_q
+    cell[_S.uncovered_quantity] = o.uncovered_q
+    cell[_S.tenants_in_controlled_homes] = w.tenants_c
+    cell[_S.tenants_in_uncontrolled_homes] = w.tenants_u
+    cell[_S.households_priced_out] = w.priced_out
+    cell[_S.owners_of_controlled_homes] = w.owners_c
+    cell[_S.owners_of_uncontrolled_homes] = w.owners_u
+    cell[_S.government] = w.government
+    cell[_S.households_drawn_in] = w.drawn_in
+    cell[_S.free_price] = p_star
+    cell[_S.free_quantity] = q_star
+    # Against the free path (its own stock history), not this path's free point.
+    cell[_S.homes_below_free_path] = free_quantity - o.q
+    cell[_S.rent_above_free_path] = o.pc - free_price
+    cell[_S.nominal_consumer_price] = o.pc * index
+
+
+@njit(**_JIT)
+def _add_to_totals(total, cell, checked, t, binding, factor, after_end):
+    """Running totals and peaks of a period (money summed in period order)."""
+    for j in checked:
+        if not math.isfinite(cell[j]):
+            total[_T.non_finite] = 1.0
+    if cell[_S.shortage] > total[_T.peak_shortage]:
+        total[_T.peak_shortage] = cell[_S.shortage]
+        total[_T.peak_shortage_period] = t
+    if binding:
+        total[_T.binding_periods] += 1.0
+    total[_T.total_consumer_surplus_change] += cell[_S.consumer_surplus_change]
+    total[_T.total_producer_surplus_change] += cell[_S.producer_surplus_change]
+    total[_T.total_government_revenue] += cell[_S.government_revenue]
+    for g in range(_GROUP_SERIES.shape[0]):
+        total[_GROUP_TOTALS[g]] += cell[_GROUP_SERIES[g]]
+        total[_GROUP_DISCOUNTED[g]] += cell[_GROUP_SERIES[g]] * factor
+    if cell[_S.homes_below_free_path] > total[_T.peak_homes_below_free_path]:
+        total[_T.peak_homes_below_free_path] = cell[_S.homes_below_free_path]
+    renters, extra = cell[_S.renters_vs_free_path], cell[_S.extra_rent_vs_free_path]
+    total[_T.vs_free_path_renters] += renters
+    total[_T.vs_free_path_renters_discounted] += renters * factor
+    total[_T.vs_free_path_extra_rent] += extra
+    if after_end:
+        total[_T.vs_free_path_renters_after_end] += renters
+        total[_T.vs_free_path_extra_rent_after_end] += extra
+    total[_T.total_converted_homes] += cell[_S.converted_homes]
+
+
+@njit(**_JIT)
+def _close_totals(total, cell):
+    """Figures of the horizon's last period."""
+    total[_T.final_homes_below_free_path] = cell[_S.homes_below_free_path]
+    total[_T.total_deadweight_loss] = cell[_S.cumulative_deadweight_loss]
+    total[_T.discounted_deadweight_loss] = cell[_S.discounted_deadweight_loss]
+    total[_T.final_consumer_price] = cell[_S.consumer_price]
+    total[_T.final_quantity] = cell[_S.quantity]
+    total[_T.final_vacant_homes] = cell[_S.vacant_homes]
+
+
+@njit(**_JIT)
+def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
+    """One policy row's periods in order, in the form `ce`, against the free path `free`
+    (n, 2+, T+1) of that form: series into `target` (kept series and band slots), flags
+    (3, T+1), totals into `total`."""
+    i = rows.scenario[r]
+    p0, q0, eta, k_pay = m.price[i], m.quantity[i], m.demand_elasticity[i], m.payments_per_period[i]
+    code, v, share = rows.kind[r], rows.value[r], rows.coverage[r]
+    start, end = rows.start[r], rows.end[r]
+    ceiling = code == _CEILING or code == _GROWTH_CAP
+    stock = m.stock[i]
+    exempt = ceiling and rows.exempt_new[r]
+    tau = rows.decontrol[r] if ceiling else 0.0
+    kappa = m.conversion[i] if ceiling and stock else 0.0
+    # A ceiling whose controlled homes are a group of their own (MODEL.md 17, 18).
+    grouped = ceiling and ((stock and (share < 1.0 or exempt or kappa > 0.0)) or tau > 0.0)
+    whole = share >= 1.0 and not exempt and tau == 0.0
+    vacancies = stock and (code == _FLOOR or code == _QUANTITY_CAP)
+    random = m.random_rationing[i]
+    m_divisor = 1.0 + 1.0 / eta if random and ce else 2.0
+
+    _start_row(cell, p0, q0, share, total)
+    _write(cell, target, 0)
+    for j in range(3):
+        flags[j, 0] = False
+    stock_prev = q0  # homes standing at the end of the period before
+    previous_rent = p0  # the controlled rent of the period before
+    guess = p0
+    cumulative = discounted = 0.0
+    controlled_prev = others_prev = 0.0
+    in_groups = prev_bound = False
+    controlled = others = Group(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, math.inf)
+    for t in range(1, m.eps.shape[1]):
+        if t > m.horizon[i]:
+            for j in range(target.out.shape[0]):
+                target.out[j, t] = 0.0
+            for j in range(3):
+                flags[j, t] = False
+            continue
+        c = _period_curves(m, i, ce, t, stock_prev)
+        active = start <= t and t <= end
+        # Money rules are nominal: their real value falls with the price index.
+        real = v if rows.indexed[r] else v / m.price_index[i, t]
+        level = _rule_rent(code, real, v, rows.indexed[r], m.inflation[i, t], previous_rent)
+        converted = 0.0
+        if grouped and active:
+            conversion_share = 0.0
+            if not in_groups:  # the rule's first period: the standing homes split by share
+                controlled_prev, others_prev = share * stock_prev, (1.0 - share) * stock_prev
+                in_groups = True
+            elif kappa > 0.0 and prev_bound:
+                gap = math.log(free[i, 0, t - 1] / previous_rent)
+                conversion_share = min(1.0, kappa * max(0.0, gap))
+            converted = conversion_share * controlled_prev
+            controlled, others = _group_supplies(
+                c,
+                stock,
+                share,
+                exempt,
+                controlled_prev,
+                others_prev,
+                conversion_share,
+                m.floor_share[i],
+                m.build_limit[i],
+            )
+            o, p_star, q_star = _controlled_groups(c, controlled, others, level, tau, True, whole, guess)
         else:
-            m_divisor = 2.0
-        # Period 0: the base point.
-        for j in range(cell.shape[0]):
-            cell[j] = 0.0
-        cell[0] = p0
-        cell[1] = p0
-        cell[2] = q0
-        cell[3] = q0
-        cell[4] = q0
-        cell[7] = p0
-        cell[8] = p0
-        cell[16] = p0
-        cell[17] = p0
-        cell[18] = share * q0
-        cell[19] = (1.0 - share) * q0
-        cell[26] = p0
-        cell[27] = q0
-        cell[30] = p0
-        # Bands: this row's policy writes its series into its own slots of band_out.
-        slots = band_slot[r // band_rows] if banding else band_slot[0]
-        draw = band_start + r % band_rows if banding else 0
-        for j in range(cell.shape[0]):
-            if column[j] >= 0:
-                out[r, column[j], 0] = cell[j]
-            if banding and slots[j] >= 0:
-                band_out[slots[j], 0, draw] = cell[j]
-        for j in range(3):
-            flags[r, j, 0] = False
-        k_prev = q0
-        previous_rent = p0  # the covered (controlled) rent of the period before
-        guess = p0
-        cumulative = 0.0
-        discounted = 0.0
-        for j in range(summary.shape[1]):
-            summary[r, j] = 0.0
-        summary[r, 3] = -1.0
-        summary[r, 5] = p0
-        summary[r, 6] = q0
-        for t in range(1, out.shape[2]):
-            if t > horizon[i]:
-                for j in range(out.shape[1]):
-                    out[r, j, t] = 0.0
-                for j in range(3):
-                    flags[r, j, t] = False
-                continue
-            d, s = shifts[i, 0, t], shifts[i, 1, t]
-            a, b, f = _stock_curve(stock[i], k_prev, stock_rate[i], floor_share[i])
-            e = long_run[i] if stock[i] else eps[i, t]
-            if stock[i]:
-                p_star, q_star = _free_point(ce, p0, q0, eta, d, e, s, a, b, f, guess)
+            in_groups = False
+            if stock:
+                p_star, q_star = _free_point(c, guess)
             else:
                 p_star, q_star = free[i, 0, t], free[i, 1, t]
-            active = start[r] <= t and t <= end[r]
-            # Money rules are nominal: their real value falls with the price index.
-            real = v if indexed[r] else v / price_index[i, t]
-            pc = pp = p_star
-            q = qd = qs = q_star
-            shortage = excess = 0.0
-            mv = mc = p_star
-            covered_price = uncovered_price = p_star
-            covered_q = share * q_star
-            uncovered_q = (1.0 - share) * q_star
-            binding = False
-            rationed = False
-            level = 0.0
-            unit_covered = unit_uncovered = 0.0
-            if code == _CEILING or code == _GROWTH_CAP:
-                if code == _CEILING:
-                    level = real
-                elif indexed[r]:
-                    level = (1.0 + inflation[i, t] + v) * previous_rent / (1.0 + inflation[i, t])
-                else:
-                    level = (1.0 + v) * previous_rent / (1.0 + inflation[i, t])
-                binding = active and level < p_star
-                if binding:
-                    rationed = True
-                    supplied = _supply(ce, p0, q0, e, s, a, b, f, level)
-                    demanded = _demand(ce, p0, q0, eta, d, level)
-                    if not partial:
-                        pc = pp = level
-                        q = qs = supplied
-                        qd = demanded
-                        shortage = demanded - supplied
-                        mv = _inverse_demand(ce, p0, q0, eta, d, supplied)
-                        mc = level
-                        covered_price = uncovered_price = level
-                        covered_q = supplied
-                        uncovered_q = 0.0
-                    else:
-                        unit_covered = supplied
-                        covered_q = share * supplied
-                        high = (
-                            _inverse_demand(ce, p0, q0, eta, d, covered_q)
-                            if covered_q > 0.0
-                            else 4.0 * p_star
-                        )
-                        uncovered_price = _clear(
-                            ce, p0, q0, eta, d, e, s, a, b, f, 1.0 - share, covered_q, 1.0, 0.0, p_star, high
-                        )
-                        unit_uncovered = _supply(ce, p0, q0, e, s, a, b, f, uncovered_price)
-                        uncovered_q = (1.0 - share) * unit_uncovered
-                        covered_price = level
-                        q = qs = covered_q + uncovered_q
-                        qd = demanded
-                        shortage = max(demanded - q, 0.0)
-                        pc = pp = (level * covered_q + uncovered_price * uncovered_q) / q
-                        mv = _inverse_demand(ce, p0, q0, eta, d, q)
-                        mc = uncovered_price
-            elif code == _FLOOR:
-                level = real
-                binding = active and level > p_star
-                if binding:
-                    pc = pp = mv = level
-                    qd = q = _demand(ce, p0, q0, eta, d, level)
-                    qs = _supply(ce, p0, q0, e, s, a, b, f, level)
-                    excess = qs - qd
-                    mc = _inverse_supply(ce, p0, q0, e, s, a, b, f, min(qd, q_star))
-            elif code == _UNIT_TAX or code == _AD_VALOREM or code == _SUBSIDY:
-                if code == _AD_VALOREM:
-                    scale, gap = 1.0 - v, 0.0
-                    binding = active and v > 0.0
-                    low, high = p_star, p_star / scale
-                elif code == _UNIT_TAX:
-                    scale, gap = 1.0, real
-                    binding = active and v > 0.0
-                    low, high = p_star, p_star + real
-                else:
-                    scale, gap = 1.0, -real
-                    binding = active and v > 0.0
-                    top = _supply(ce, p0, q0, e, s, a, b, f, p_star + real)
-                    low, high = _inverse_demand(ce, p0, q0, eta, d, top), p_star
-                if binding:
-                    # First guess: buyers bear the share e/(e - eta) of the wedge (Fullerton &
-                    # Metcalf 2002, exact for small wedges); Newton then converges in a few steps.
-                    share_e = b * e
-                    wedge = gap + (1.0 - scale) * p_star
-                    first = p_star + wedge * share_e / (share_e - eta) if share_e - eta > 0.0 else p_star
-                    pc = _clear(ce, p0, q0, eta, d, e, s, a, b, f, 1.0, 0.0, scale, gap, low, high, first)
-                    pp = scale * pc - gap
-                    qd = q = _demand(ce, p0, q0, eta, d, pc)
-                    qs = _supply(ce, p0, q0, e, s, a, b, f, pp)
-                    mv = pc
-                    mc = pp
-            elif code == _QUANTITY_CAP:
-                binding = active and v < q_star
-                if binding:
-                    q = qd = v
-                    pc = pp = mv = _inverse_demand(ce, p0, q0, eta, d, v)
-                    qs = _supply(ce, p0, q0, e, s, a, b, f, pc)
-                    excess = qs - v
-                    mc = _inverse_supply(ce, p0, q0, e, s, a, b, f, min(v, q_star))
-            infeasible = False
-            if binding and not (q > 0.0 and pc > 0.0 and pp > 0.0):
-                infeasible = True
-            if stock[i] and not (p_star > 0.0 and q_star > 0.0):
-                infeasible = True
-            if infeasible:
-                binding = rationed = False
-                pc = pp = mv = mc = covered_price = uncovered_price = p_star
-                q = qd = qs = q_star
-                shortage = excess = 0.0
-                covered_q = share * q_star
-                uncovered_q = (1.0 - share) * q_star
-            dcs = dps = rev = dwl = mis = 0.0
-            g_tc = g_tu = g_out = g_oc = g_ou = g_gov = 0.0
-            if binding:
-                demand_area = _demand_integral(ce, p0, q0, eta, d, q, q_star)
-                if partial:
-                    supply_area = share * _supply_integral(
-                        ce, p0, q0, e, s, a, b, f, unit_covered, q_star
-                    ) + (1.0 - share) * _supply_integral(ce, p0, q0, e, s, a, b, f, unit_uncovered, q_star)
-                else:
-                    supply_area = _supply_integral(ce, p0, q0, e, s, a, b, f, q, q_star)
-                free_spending = p_star * q_star
-                consumer = free_spending - pc * q - demand_area
-                producer = pp * q - free_spending + supply_area
-                revenue = (pc - pp) * q
-                deadweight = max(demand_area - supply_area, 0.0)
-                if rationed and random and m_divisor > 0.0:
-                    mis = max(q * (_inverse_demand(ce, p0, q0, eta, d, q) - pc) / m_divisor, 0.0)
-                dcs = k_pay * (consumer - mis)
-                dps = k_pay * producer
-                rev = k_pay * revenue
-                dwl = k_pay * (deadweight + mis)
-                mis = k_pay * mis
-                # Who gains and who loses (efficient allocation).
-                g_out = -k_pay * (demand_area - p_star * (q_star - q))
-                if ceiling:
-                    g_tc = k_pay * (p_star - level) * covered_q
-                    if partial:
-                        g_tu = -k_pay * (uncovered_price - p_star) * uncovered_q
-                        g_oc = (
-                            k_pay
-                            * share
-                            * (
-                                level * unit_covered
-                                - free_spending
-                                + _supply_integral(ce, p0, q0, e, s, a, b, f, unit_covered, q_star)
-                            )
-                        )
-                        g_ou = (
-                            k_pay
-                            * (1.0 - share)
-                            * (
-                                uncovered_price * unit_uncovered
-                                - free_spending
-                                + _supply_integral(ce, p0, q0, e, s, a, b, f, unit_uncovered, q_star)
-                            )
-                        )
-                    else:
-                        g_oc = dps
-                else:
-                    g_tu = -k_pay * (pc - p_star) * q
-                    g_ou = dps
-                    g_gov = rev
-            cumulative += dwl
-            discounted += dwl * factor[i, t]
-            cell[0] = pc
-            cell[1] = pp
-            cell[2] = q
-            cell[3] = qd
-            cell[4] = qs
-            cell[5] = shortage
-            cell[6] = excess
-            cell[7] = mv
-            cell[8] = mc
-            cell[9] = dcs
-            cell[10] = dps
-            cell[11] = rev
-            cell[12] = dwl
-            cell[13] = mis
-            cell[14] = cumulative
-            cell[15] = discounted
-            cell[16] = covered_price
-            cell[17] = uncovered_price
-            cell[18] = covered_q
-            cell[19] = uncovered_q
-            cell[20] = g_tc
-            cell[21] = g_tu
-            cell[22] = g_out
-            cell[23] = g_oc
-            cell[24] = g_ou
-            cell[25] = g_gov
-            cell[26] = p_star
-            cell[27] = q_star
-            # Against the free path (its own stock history), not this path's free point.
-            cell[28] = free[i, 1, t] - q
-            cell[29] = pc - free[i, 0, t]
-            cell[30] = pc * price_index[i, t]
-            for j in range(cell.shape[0]):
-                if column[j] >= 0:
-                    out[r, column[j], t] = cell[j]
-                if banding and slots[j] >= 0:
-                    band_out[slots[j], t, draw] = cell[j]
-            flags[r, 0, t] = binding
-            flags[r, 1, t] = rationed
-            flags[r, 2, t] = infeasible
-            total = summary[r]
-            checksum = 0.0
-            for j in range(16):
-                checksum += cell[j]
-            if not math.isfinite(checksum):
-                total[16] = 1.0
-            if shortage > total[2]:
-                total[2] = shortage
-                total[3] = t
-            if binding:
-                total[4] += 1.0
-            total[7] += dcs
-            total[8] += dps
-            total[9] += rev
-            total[10] += g_tc
-            total[11] += g_tu
-            total[12] += g_out
-            total[13] += g_oc
-            total[14] += g_ou
-            total[15] += g_gov
-            if cell[28] > total[18]:
-                total[18] = cell[28]
-            if t == horizon[i]:
-                total[17] = cell[28]
-                total[0] = cumulative
-                total[1] = discounted
-                total[5] = pc
-                total[6] = q
-            k_prev = q
-            previous_rent = covered_price
-            if p_star > 0.0 and math.isfinite(p_star):
-                guess = p_star
+            o = _policy_outcome(c, code, v, real, level, active, p_star, q_star, share)
+        infeasible = o.binding and not (o.q > 0.0 and o.pc > 0.0 and o.pp > 0.0)
+        if stock and not (p_star > 0.0 and q_star > 0.0):
+            infeasible = True
+        if infeasible:
+            o = _free_outcome(p_star, q_star, share)
+        if grouped and active:
+            w = _group_welfare(c, o, controlled, others, p_star, q_star, k_pay, random, m_divisor)
+        else:
+            w = _welfare(c, o, p_star, q_star, k_pay, share, ceiling, code == _SUBSIDY, random, m_divisor)
+        cumulative += w.dwl
+        factor = m.discount_factor[i, t]
+        discounted += w.dwl * factor
+        _fill_cell(
+            cell,
+            o,
+            w,
+            p_star,
+            q_star,
+            free[i, 0, t],
+            free[i, 1, t],
+            m.price_index[i, t],
+            cumulative,
+            discounted,
+        )
+        standing = o.q
+        if vacancies and o.binding:  # homes offered and not let stand empty (MODEL.md 16)
+            standing = max(o.q, c.f)
+        cell[_S.homes_standing] = standing
+        cell[_S.vacant_homes] = standing - o.q
+        cell[_S.converted_homes] = converted
+        if stock and code != _NONE and t >= start:
+            renters, extra = _vs_free_path(c, o, free[i, 0, t], free[i, 1, t], k_pay, w.mis)
+            cell[_S.renters_vs_free_path] = renters
+            cell[_S.extra_rent_vs_free_path] = extra
+        else:
+            cell[_S.renters_vs_free_path] = cell[_S.extra_rent_vs_free_path] = 0.0
+        _write(cell, target, t)
+        flags[_BINDING, t] = o.binding
+        flags[_RATIONED, t] = o.rationed
+        flags[_INFEASIBLE, t] = infeasible
+        _add_to_totals(total, cell, target.checked, t, o.binding, factor, t > end)
+        if t == m.horizon[i]:
+            _close_totals(total, cell)
+        stock_prev = standing
+        if in_groups:
+            controlled_prev, others_prev = o.covered_q, o.uncovered_q
+        previous_rent = o.covered_price
+        prev_bound = o.binding
+        if p_star > 0.0 and math.isfinite(p_star):
+            guess = p_star
+
+
+#: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
+#: `column`s, `flags` (R, 3, T+1), `summary` (R, figures); for bands, per policy the `banded`
+#: cells (padded, `counts` of them) and their `band_slot`s in `band_out` (slots, T+1, draws),
+#: `band_rows` rows per policy from draw `band_start` (band_rows = 0: no bands).
+Outputs = namedtuple(
+    "Outputs", "kept column out flags summary banded counts band_slot band_out band_rows band_start"
+)
+
+
+@njit(**_JIT)
+def _policy_rows(m, rows, free, free_other, other, x):
+    """Every row in its scenario's form; with `other`, also in the other form (summary figures
+    only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
+    kept, column, out, flags, summary = x.kept, x.column, x.out, x.flags, x.summary
+    band_rows, band_slot, band_out = x.band_rows, x.band_slot, x.band_out
+    cell = np.empty(len(SERIES_NAMES))
+    periods = m.eps.shape[1]
+    nothing = np.empty(0, dtype=np.int64)
+    core = np.arange(16)
+    scratch_out = np.empty((0, periods))
+    scratch_flags = np.empty((3, periods), dtype=np.bool_)
+    scratch_total = np.empty(summary.shape[1])
+    every_banded = x.banded.ravel()
+    checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
+    for r in range(rows.scenario.shape[0]):
+        i = rows.scenario[r]
+        ce = m.constant_elasticity[i]
+        if band_rows > 0:
+            policy = r // band_rows
+            target = Target(
+                kept,
+                column,
+                out[r],
+                checked,
+                x.banded[policy, : x.counts[policy]],
+                band_slot[policy],
+                band_out,
+                x.band_start + r % band_rows,
+            )
+        else:
+            target = Target(kept, column, out[r], checked, nothing, band_slot[0], band_out, 0)
+        _walk_row(m, rows, r, ce, free, target, flags[r], summary[r], cell)
+        if other:
+            quiet = Target(nothing, column, scratch_out, core, nothing, band_slot[0], band_out, 0)
+            _walk_row(m, rows, r, not ce, free_other, quiet, scratch_flags, scratch_total, cell)
+            feasible = scratch_total[_T.non_finite] == 0.0
+            for t in range(m.horizon[i] + 1):
+                if scratch_flags[_INFEASIBLE, t]:
+                    feasible = False
+            summary[r, _T.other_discounted_deadweight_loss] = scratch_total[_T.discounted_deadweight_loss]
+            summary[r, _T.other_final_consumer_price] = scratch_total[_T.final_consumer_price]
+            summary[r, _T.other_peak_shortage] = scratch_total[_T.peak_shortage]
+            summary[r, _T.other_feasible] = 1.0 if feasible else 0.0
 
 
 def policy_paths(
-    batch_arrays: dict,
-    rows: dict,
+    m: MarketInputs,
+    rows: RowInputs,
     free: np.ndarray,
     series: tuple[str, ...] | None = None,
     band: tuple | None = None,
+    free_other: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The rows' series (R, len(series), T+1) in the order of `series` (default: all of
-    SERIES_INDEX), flags (R, 3, T+1) and summary (R, len(SUMMARY_INDEX)). Asking only for
+    SERIES_NAMES), flags (R, 3, T+1) and summary (R, len(SUMMARY_NAMES)). Asking only for
     the series needed saves memory traffic (bands keep none: they write into `band`).
 
-    `free` is free_paths' output for the scenarios' own forms (used where there is no stock).
+    `free` is free_paths' output for the scenarios' own forms; `free_other` (the other
+    form's) also solves every row in the other form for the summary's other-form figures.
     `band` = (layout, target, rows_per_policy, first_draw) also writes series, as float32,
     straight into target[slot, period, draw] (slots, T+1, draws) for rows in policy-major order
     (row = policy * rows_per_policy + draw - first_draw): `layout` names each policy's series,
     and they take the slots one after another (policy 0's first, ...), so each policy bands
     only the series that apply to it.
     """
-    a = batch_arrays
-    count = rows["scenario"].shape[0]
-    periods = a["eps"].shape[1]
-    wanted = tuple(SERIES_INDEX) if series is None else series
-    column = np.full(len(SERIES_INDEX), -1, dtype=np.int64)
+    count = rows.scenario.shape[0]
+    periods = m.eps.shape[1]
+    wanted = SERIES_NAMES if series is None else series
+    column = np.full(len(SERIES_NAMES), -1, dtype=np.int64)
     for j, name in enumerate(wanted):
         column[SERIES_INDEX[name]] = j
     out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
-    summary = np.empty((count, len(SUMMARY_INDEX)))
+    summary = np.empty((count, len(SUMMARY_NAMES)))
     if band is None:
-        band_slot = np.full((1, len(SERIES_INDEX)), -1, dtype=np.int64)
+        band_slot = np.full((1, len(SERIES_NAMES)), -1, dtype=np.int64)
         band_out, band_rows, band_start = np.empty((1, 1, 1), dtype=np.float32), 0, 0
     else:
         layout, band_out, band_rows, band_start = band
-        band_slot = np.full((len(layout), len(SERIES_INDEX)), -1, dtype=np.int64)
+        band_slot = np.full((len(layout), len(SERIES_NAMES)), -1, dtype=np.int64)
         slot = 0
         for policy, names in enumerate(layout):
             for name in names:
                 band_slot[policy, SERIES_INDEX[name]] = slot
                 slot += 1
-    _row_kernel(
-        rows["scenario"],
-        rows["kind"],
-        rows["value"],
-        rows["start"],
-        rows["end"],
-        rows["indexed"],
-        rows["coverage"],
-        a["constant_elasticity"],
-        a["price"],
-        a["quantity"],
-        a["demand_elasticity"],
-        a["payments_per_period"],
-        a["eps"],
-        a["shifts"],
-        a["horizon"],
-        a["stock"],
-        a["stock_rate"],
-        a["floor_share"],
-        a["long_run_elasticity"],
-        a["random_rationing"],
-        a["discount_factor"],
-        a["price_index"],
-        a["inflation"],
-        free,
+    banded = np.full((band_slot.shape[0], len(SERIES_NAMES)), -1, dtype=np.int64)
+    counts = np.zeros(band_slot.shape[0], dtype=np.int64)
+    for policy in range(band_slot.shape[0]):
+        cells = np.flatnonzero(band_slot[policy] >= 0)
+        banded[policy, : cells.size] = cells
+        counts[policy] = cells.size
+    outputs = Outputs(
+        np.flatnonzero(column >= 0),
         column,
         out,
         flags,
         summary,
+        banded,
+        counts,
         band_slot,
         band_out,
         band_rows,
         band_start,
     )
+    _policy_rows(m, rows, free, free if free_other is None else free_other, free_other is not None, outputs)
     return out, flags, summary
 
 
 # --- inputs of the period pass: shock paths, supply elasticity over time, discounting -------
-
-_STEP, _RAMP, _GROWTH, _PATH = range(4)
-_CONSTANT, _LINEAR_SCHEDULE, _GEOMETRIC, _EXPLICIT, _STOCK = range(5)
 
 
 @njit(**_JIT)
@@ -960,103 +1622,121 @@ def shock_paths(profile, change, rate, start, ramp, values, counts, horizon: int
     return paths, too_large
 
 
+#: Inputs of the schedule, shift and discount pass; n scenarios, m shifters, T + 1 periods.
+ScheduleInputs = namedtuple(
+    "ScheduleInputs",
+    (
+        "short_run",  # (n,) eps_SR
+        "long_run",  # (n,) eps_LR
+        "impact",  # (n,) the period-0 elasticity (lambda eps_LR under stock with a rate, MODEL.md 20)
+        "schedule",  # (n,) SCHEDULE_CODES
+        "periods",  # (n,) K of a linear schedule, as float
+        "rate",  # (n,) lambda; 0 = the Nerlove default
+        "explicit",  # (n or 1, T+1) eps_t of an explicit schedule
+        "horizon",  # (n,) T
+        "demand_shifter",  # (n, m) eta_i
+        "supply_shifter",  # (n, m) eps_j
+        "change",  # (n or 1, m, T+1) summed fractional change per shifter
+        "change_too_large",  # (n or 1, m) a growth path passed the limit
+        "discount_rate",  # (n or 1, T+1) rate per period, column 0 unused
+    ),
+)
+#: What the pass returns: eps (n, T+1), shifts of both forms (n, 2, T+1) each (demand, supply),
+#: the out-of-range mask (n, m), the undefined-schedule mask (n,), discount factors (n, T+1).
+Prepared = namedtuple("Prepared", "eps linear constant shift_bad undefined factor")
+
+
 @njit(**_JIT)
-def _prepare_kernel(
-    sr,
-    lr,
-    schedule,
-    schedule_periods,
-    schedule_rate,
-    explicit,
-    horizon,
-    demand_e,
-    supply_e,
-    change,
-    change_too_large,
-    max_change,
-    discount_rate,
-    eps,
-    linear,
-    constant,
-    shift_bad,
-    undefined,
-    factor,
-):
-    n, periods = eps.shape
-    m = demand_e.shape[1]
-    for i in range(n):
-        # Supply elasticity over time: eps_t = eps_SR (1 - w_t) + eps_LR w_t, w_1 = 0.
-        code = schedule[i]
-        rate = schedule_rate[i]
-        undefined[i] = False
-        if (code == _GEOMETRIC or code == _STOCK) and rate <= 0.0:
-            if sr[i] > 0.0 and sr[i] <= lr[i]:
-                rate = sr[i] / lr[i]  # Nerlove (1958): eps_SR = lambda eps_LR
+def _elasticity_path(x, i, out):
+    """eps_t = eps_SR (1 - w_t) + eps_LR w_t, w_1 = 0, of one scenario's schedule (schedules.py;
+    Nerlove 1958); returns False where the Nerlove default rate is needed and undefined."""
+    code = x.schedule[i]
+    rate = x.rate[i]
+    sr, lr = x.short_run[i], x.long_run[i]
+    defined = True
+    if (code == _GEOMETRIC or code == _STOCK) and rate <= 0.0:
+        if sr > 0.0 and sr <= lr:
+            rate = sr / lr  # Nerlove (1958): eps_SR = lambda eps_LR
+        else:
+            rate = 1.0
+            defined = False
+    out.eps[i, 0] = x.impact[i]
+    for t in range(1, out.eps.shape[1]):
+        lag = t - 1
+        w = 0.0
+        if code == _LINEAR_SCHEDULE:
+            k = x.periods[i]
+            w = min(lag / k, 1.0) if k > 0 else 1.0
+        elif code == _GEOMETRIC:
+            if rate >= 1.0:
+                w = 1.0 if lag > 0 else 0.0
             else:
-                rate = 1.0
-                undefined[i] = True
-        eps[i, 0] = sr[i]
-        for t in range(1, periods):
-            lag = t - 1
-            w = 0.0
-            if code == _LINEAR_SCHEDULE:
-                k = schedule_periods[i]
-                w = min(lag / k, 1.0) if k > 0 else 1.0
-            elif code == _GEOMETRIC:
-                if rate >= 1.0:
-                    w = 1.0 if lag > 0 else 0.0
-                else:
-                    w = -math.expm1(lag * math.log1p(-rate))
-            if code == _EXPLICIT:
-                eps[i, t] = explicit[min(i, explicit.shape[0] - 1), t]
-            else:
-                eps[i, t] = sr[i] * (1.0 - w) + lr[i] * w
-        # Shifts: D = sum_i eta_i g_i and ln A = sum_i eta_i ln(1 + g_i), shifter by shifter.
-        row = min(i, change.shape[0] - 1)
-        for j in range(m):
-            shift_bad[i, j] = change_too_large[row, j]
+                w = -math.expm1(lag * math.log1p(-rate))
+        if code == _EXPLICIT:
+            out.eps[i, t] = x.explicit[min(i, x.explicit.shape[0] - 1), t]
+        else:
+            out.eps[i, t] = sr * (1.0 - w) + lr * w
+    return defined
+
+
+@njit(**_JIT)
+def _shifts(x, i, max_change, out):
+    """D = sum_j eta_j g_j and ln A = sum_j eta_j ln(1 + g_j) (and S, ln B with eps_j), shifter by
+    shifter; a summed change <= -1 or above max_change marks the shifter out of range."""
+    row = min(i, x.change.shape[0] - 1)
+    m = x.demand_shifter.shape[1]
+    periods = out.eps.shape[1]
+    for j in range(m):
+        out.shift_bad[i, j] = x.change_too_large[row, j]
+    for t in range(periods):
+        out.linear[i, 0, t] = 0.0
+        out.linear[i, 1, t] = 0.0
+        out.constant[i, 0, t] = 0.0
+        out.constant[i, 1, t] = 0.0
+    for j in range(m):
         for t in range(periods):
-            linear[i, 0, t] = 0.0
-            linear[i, 1, t] = 0.0
-            constant[i, 0, t] = 0.0
-            constant[i, 1, t] = 0.0
-        for j in range(m):
-            for t in range(periods):
-                g = change[row, j, t]
-                if t <= horizon[i] and (g <= -1.0 or g > max_change):
-                    shift_bad[i, j] = True
-                safe = min(g, max_change) if g > -1.0 else 0.0
-                log_safe = math.log1p(safe)
-                linear[i, 0, t] += demand_e[i, j] * safe
-                constant[i, 0, t] += demand_e[i, j] * log_safe
-                linear[i, 1, t] += supply_e[i, j] * safe
-                constant[i, 1, t] += supply_e[i, j] * log_safe
-        # Discount factor of period s: prod_(u<=s) 1 / (1 + r_u).
-        rates = discount_rate[min(i, discount_rate.shape[0] - 1)]
-        factor[i, 0] = 1.0
-        log_factor = 0.0
-        for t in range(1, periods):
-            log_factor -= math.log1p(rates[t])
-            factor[i, t] = math.exp(log_factor)
+            g = x.change[row, j, t]
+            if t <= x.horizon[i] and (g <= -1.0 or g > max_change):
+                out.shift_bad[i, j] = True
+            safe = min(g, max_change) if g > -1.0 else 0.0
+            log_safe = math.log1p(safe)
+            out.linear[i, 0, t] += x.demand_shifter[i, j] * safe
+            out.constant[i, 0, t] += x.demand_shifter[i, j] * log_safe
+            out.linear[i, 1, t] += x.supply_shifter[i, j] * safe
+            out.constant[i, 1, t] += x.supply_shifter[i, j] * log_safe
 
 
-def prepare(batch, max_change: float):
-    """Supply elasticity (n, T+1), shifts of both forms (n, 2, T+1) each (demand, supply), the
-    out-of-range mask (n, m), the undefined-schedule mask (n,) and discount factors (n, T+1)."""
+@njit(**_JIT)
+def _discount_factors(x, i, out):
+    """Discount factor of period s: prod_(u<=s) 1 / (1 + r_u)."""
+    rates = x.discount_rate[min(i, x.discount_rate.shape[0] - 1)]
+    out.factor[i, 0] = 1.0
+    log_factor = 0.0
+    for t in range(1, out.factor.shape[1]):
+        log_factor -= math.log1p(rates[t])
+        out.factor[i, t] = math.exp(log_factor)
+
+
+@njit(**_JIT)
+def _prepare_kernel(x, max_change, out):
+    for i in range(out.eps.shape[0]):
+        out.undefined[i] = not _elasticity_path(x, i, out)
+        _shifts(x, i, max_change, out)
+        _discount_factors(x, i, out)
+
+
+def prepare(batch, max_change: float) -> Prepared:
+    """Supply elasticity over time, the shifts of both forms, the problem masks and the
+    discount factors of a ScenarioBatch (see Prepared)."""
     n, periods = batch.size, batch.periods
     m = batch.demand_shifter_elasticity.shape[1]
-    eps = np.empty((n, periods))
-    linear = np.empty((n, 2, periods))
-    constant = np.empty((n, 2, periods))
-    shift_bad = np.empty((n, m), dtype=np.bool_)
-    undefined = np.empty(n, dtype=np.bool_)
-    factor = np.empty((n, periods))
     change = batch.shifter_change
     if change.shape[1] != m:  # no shifters at all
         change = np.zeros((1, m, periods))
-    _prepare_kernel(
+    inputs = ScheduleInputs(
         batch.short_run_elasticity,
         batch.long_run_elasticity,
+        getattr(batch, "impact_elasticity", batch.short_run_elasticity),
         batch.schedule,
         batch.schedule_periods.astype(np.float64),
         batch.schedule_rate,
@@ -1066,16 +1746,18 @@ def prepare(batch, max_change: float):
         np.ascontiguousarray(batch.supply_shifter_elasticity),
         np.ascontiguousarray(change),
         np.ascontiguousarray(batch.shock_out_of_range),
-        max_change,
         np.ascontiguousarray(batch.discount_rate),
-        eps,
-        linear,
-        constant,
-        shift_bad,
-        undefined,
-        factor,
     )
-    return eps, linear, constant, shift_bad, undefined, factor
+    out = Prepared(
+        np.empty((n, periods)),
+        np.empty((n, 2, periods)),
+        np.empty((n, 2, periods)),
+        np.empty((n, m), dtype=np.bool_),
+        np.empty(n, dtype=np.bool_),
+        np.empty((n, periods)),
+    )
+    _prepare_kernel(inputs, max_change, out)
+    return out
 
 
 # --- percentiles over draws -----------------------------------------------------------------
@@ -1238,36 +1920,42 @@ def percentiles(values: np.ndarray, keep: np.ndarray, q: np.ndarray) -> np.ndarr
 def warm_up() -> None:
     """Compile (or load from the on-disk cache) every kernel signature the service uses."""
     n, periods = 2, 3
-    arrays = {
-        "constant_elasticity": np.array([False, True]),
-        "price": np.ones(n),
-        "quantity": np.ones(n),
-        "demand_elasticity": -np.ones(n),
-        "payments_per_period": np.ones(n),
-        "eps": np.ones((n, periods)),
-        "shifts": np.zeros((n, 2, periods)),
-        "horizon": np.full(n, periods - 1, dtype=np.int64),
-        "stock": np.array([False, True]),
-        "stock_rate": np.full(n, 0.5),
-        "floor_share": np.zeros(n),
-        "long_run_elasticity": np.ones(n),
-        "random_rationing": np.zeros(n, dtype=bool),
-        "discount_factor": np.ones((n, periods)),
-        "price_index": np.ones((n, periods)),
-        "inflation": np.zeros((n, periods)),
-    }
-    rows = {
-        "scenario": np.array([0, 1], dtype=np.int64),
-        "kind": np.array([_UNIT_TAX, _CEILING], dtype=np.int64),
-        "value": np.array([0.1, 0.9]),
-        "start": np.ones(2, dtype=np.int64),
-        "end": np.full(2, 10, dtype=np.int64),
-        "indexed": np.zeros(2, dtype=bool),
-        "coverage": np.array([1.0, 0.5]),
-    }
-    free = free_paths(arrays)
-    policy_paths(arrays, rows, free)
+    market = MarketInputs(
+        constant_elasticity=np.array([False, True]),
+        price=np.ones(n),
+        quantity=np.ones(n),
+        demand_elasticity=-np.ones(n),
+        payments_per_period=np.ones(n),
+        eps=np.ones((n, periods)),
+        linear_shifts=np.zeros((n, 2, periods)),
+        constant_shifts=np.zeros((n, 2, periods)),
+        horizon=np.full(n, periods - 1, dtype=np.int64),
+        stock=np.array([False, True]),
+        stock_rate=np.full(n, 0.5),
+        floor_share=np.zeros(n),
+        build_limit=np.zeros(n),
+        conversion=np.zeros(n),
+        long_run_elasticity=np.ones(n),
+        random_rationing=np.zeros(n, dtype=bool),
+        discount_factor=np.ones((n, periods)),
+        price_index=np.ones((n, periods)),
+        inflation=np.zeros((n, periods)),
+    )
+    rows = RowInputs(
+        scenario=np.array([0, 1], dtype=np.int64),
+        kind=np.array([_UNIT_TAX, _CEILING], dtype=np.int64),
+        value=np.array([0.1, 0.9]),
+        start=np.ones(2, dtype=np.int64),
+        end=np.full(2, 10, dtype=np.int64),
+        indexed=np.zeros(2, dtype=bool),
+        coverage=np.array([1.0, 0.5]),
+        exempt_new=np.zeros(2, dtype=bool),
+        decontrol=np.zeros(2),
+    )
+    free = free_paths(market)
+    other = free_paths(market, ~market.constant_elasticity)
+    policy_paths(market, rows, free, free_other=other)
     percentiles(np.ones((2, 3), dtype=np.float32), np.arange(3), np.array([5.0, 50.0]))
     percentiles(np.ones((2, 3)), np.arange(3), np.array([5.0, 50.0]))  # bands' summary figures
     target = np.empty((2, periods, 1), dtype=np.float32)
-    policy_paths(arrays, rows, free, (), ((("quantity",), ("quantity",)), target, 1, 0))
+    policy_paths(market, rows, free, (), ((("quantity",), ("quantity",)), target, 1, 0))

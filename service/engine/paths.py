@@ -18,17 +18,16 @@ ordinary present value (as numpy_financial.npv for a constant rate).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 
 import numpy as np
 
 from ..limits import MAX_SHIFTER_CHANGE
 from . import kernel
 from .batch import PolicyRows, ScenarioBatch
-from .policies import Outcome, is_ceiling
-from .welfare import WelfareChange
+from .policies import is_ceiling
 
-__all__ = ["PathArrays", "price_index", "solve"]
+__all__ = ["PathArrays", "kernel_inputs", "price_index", "solve"]
 
 
 @dataclass(frozen=True)
@@ -42,9 +41,8 @@ class PathArrays:
     alternate_price: np.ndarray  # (n, T+1): free-market price in the other curve form
     alternate_quantity: np.ndarray  # (n, T+1)
     alternate_feasible: np.ndarray  # (n,) bool: the other form has P*, Q* > 0 throughout
-    outcome: Outcome | None  # (R, T+1) each; None when solve kept only some series
-    welfare: WelfareChange | None  # (R, T+1) each; likewise
     discount_factor: np.ndarray  # (n, T+1)
+    price_index: np.ndarray  # (n, T+1) I_t (ones without inflation)
     # Problems, as masks
     shift_out_of_range: np.ndarray  # (n, m): summed change <= -1 or above MAX_SHIFTER_CHANGE
     schedule_undefined: np.ndarray  # (n,): Nerlove default needed but not applicable
@@ -52,7 +50,7 @@ class PathArrays:
     policy_infeasible: np.ndarray  # (R, T+1): Q, Pc or Pp <= 0 where the policy binds
     unbounded_willingness: np.ndarray  # (R,): random rationing, ceiling, CE with |eta| <= 1
     non_finite: np.ndarray  # (R,): a reported value is not finite
-    summary: np.ndarray  # (R, len(kernel.SUMMARY_INDEX)): headline figures over the horizon
+    summary: np.ndarray  # (R, len(kernel.SUMMARY_NAMES)): headline figures over the horizon
     series: np.ndarray  # (R, len(series_names), T+1): the kept series of every row
     series_names: tuple[str, ...]
     binding: np.ndarray  # (R, T+1) bool
@@ -98,54 +96,13 @@ def solve(
 ) -> PathArrays:
     """Compute every path of every policy row of the batch.
 
-    `series` names the only series to keep (`outcome` and `welfare` are None unless it holds
-    all of theirs; read the series with `named`); `alternate=False` skips the other curve form's free path
-    (used only by the cautions); `band` is passed to kernel.policy_paths (bands write their
-    series straight into the percentile buffer).
+    `series` names the only series to keep (read them with `named`); `alternate=False` skips
+    the other curve form (its free path and every row's other-form summary figures, MODEL.md
+    20); `band` is passed to kernel.policy_paths (bands write their series straight into the
+    percentile buffer).
     """
     with np.errstate(**FLOATING_POINT):
         return _solve(batch, rows, series, alternate, band)
-
-
-def _kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, eps, shifts, factor):
-    """The kernel's input arrays, with inflation (a price index), the durable stock and
-    partial coverage (MODEL.md sections 12-14)."""
-    n, periods = batch.size, batch.periods
-    inflation = batch.inflation
-    if inflation.shape != (n, periods):
-        inflation = np.ascontiguousarray(np.broadcast_to(inflation, (n, periods)))
-    index = price_index(inflation) if batch.has_inflation.any() else np.ones((n, periods))
-    sr, lr = batch.short_run_elasticity, batch.long_run_elasticity
-    # The Nerlove default eps_SR = lambda eps_LR where the schedule gives no rate (else 1: the
-    # request is refused, see prepare's undefined mask).
-    nerlove = np.divide(sr, lr, out=np.ones(n), where=(sr > 0.0) & (sr <= lr))
-    arrays = {
-        "price": batch.price,
-        "quantity": batch.quantity,
-        "demand_elasticity": batch.demand_elasticity,
-        "payments_per_period": batch.payments_per_period,
-        "eps": eps,
-        "shifts": shifts,
-        "horizon": batch.horizon,
-        "stock": batch.stock,
-        "stock_rate": np.where(batch.schedule_rate > 0.0, batch.schedule_rate, nerlove),
-        "floor_share": batch.floor_share,
-        "long_run_elasticity": lr,
-        "random_rationing": batch.random_rationing,
-        "discount_factor": factor,
-        "price_index": index,
-        "inflation": inflation,
-    }
-    policy = {
-        "scenario": rows.scenario,
-        "kind": rows.kind,
-        "value": rows.value,
-        "start": rows.start,
-        "end": rows.end,
-        "indexed": rows.indexed,
-        "coverage": rows.coverage,
-    }
-    return arrays, policy
 
 
 def price_index(inflation: np.ndarray) -> np.ndarray:
@@ -156,93 +113,110 @@ def price_index(inflation: np.ndarray) -> np.ndarray:
     return np.cumprod(factors, axis=1)
 
 
-def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PathArrays:
+def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepared):
+    """The period pass's one input structure: (kernel.MarketInputs, kernel.RowInputs), with the
+    price index (MODEL.md 12), the stock's rate (the Nerlove default filled in, 13), its
+    bounds (16), conversion (18) and the rows' coverage, exemption and decontrol (14, 17).
+    Scenarios whose inputs already failed run at their base point, so nothing overflows."""
     n, periods = batch.size, batch.periods
-    t = np.arange(periods)
-    valid = t[None, :] <= batch.horizon[:, None]
-    eps, linear_shifts, constant_shifts, shift_bad, schedule_undefined, factor = kernel.prepare(
-        batch, MAX_SHIFTER_CHANGE
+    eps, linear, constant = prepared.eps, prepared.linear, prepared.constant
+    bad = prepared.shift_bad.any(axis=1) | prepared.undefined
+    if bad.any():
+        eps = np.where(bad[:, None], batch.short_run_elasticity[:, None], eps)
+        linear = np.where(bad[:, None, None], 0.0, linear)
+        constant = np.where(bad[:, None, None], 0.0, constant)
+    inflation = batch.inflation
+    if inflation.shape != (n, periods):
+        inflation = np.ascontiguousarray(np.broadcast_to(inflation, (n, periods)))
+    index = price_index(inflation) if batch.has_inflation.any() else np.ones((n, periods))
+    sr, lr = batch.short_run_elasticity, batch.long_run_elasticity
+    # The Nerlove default eps_SR = lambda eps_LR where the schedule gives no rate (else 1: the
+    # request is refused, see prepare's undefined mask).
+    nerlove = np.divide(sr, lr, out=np.ones(n), where=(sr > 0.0) & (sr <= lr))
+    zeros = np.zeros(n)
+    market = kernel.MarketInputs(
+        constant_elasticity=batch.constant_elasticity,
+        price=batch.price,
+        quantity=batch.quantity,
+        demand_elasticity=batch.demand_elasticity,
+        payments_per_period=batch.payments_per_period,
+        eps=eps,
+        linear_shifts=linear,
+        constant_shifts=constant,
+        horizon=batch.horizon,
+        stock=batch.stock,
+        stock_rate=np.where(batch.schedule_rate > 0.0, batch.schedule_rate, nerlove),
+        floor_share=batch.floor_share,
+        build_limit=getattr(batch, "build_limit", zeros),
+        conversion=getattr(batch, "conversion", zeros),
+        long_run_elasticity=lr,
+        random_rationing=batch.random_rationing,
+        discount_factor=prepared.factor,
+        price_index=index,
+        inflation=inflation,
     )
-    scenario_bad = shift_bad.any(axis=1) | schedule_undefined
-    ce = batch.constant_elasticity
-    if scenario_bad.any():  # failed scenarios run at their base point, so nothing overflows
-        bad = scenario_bad[:, None]
-        eps = np.where(bad, batch.short_run_elasticity[:, None], eps)
-        linear_shifts = np.where(bad[:, :, None], 0.0, linear_shifts)
-        constant_shifts = np.where(bad[:, :, None], 0.0, constant_shifts)
+    count = rows.size
+    policy = kernel.RowInputs(
+        scenario=rows.scenario,
+        kind=rows.kind,
+        value=rows.value,
+        start=rows.start,
+        end=rows.end,
+        indexed=rows.indexed,
+        coverage=rows.coverage,
+        exempt_new=getattr(rows, "exempt_new", np.zeros(count, dtype=bool)),
+        decontrol=getattr(rows, "decontrol", np.zeros(count)),
+    )
+    return market, policy
 
-    if alternate:
-        # Free paths in both forms (the other form feeds the cautions).
-        arrays, policy = _kernel_inputs(batch, rows, eps, linear_shifts, factor)
-        lin_free = kernel.free_paths(dict(arrays, constant_elasticity=np.zeros(n, dtype=bool)))
-        ce_free = kernel.free_paths(
-            dict(arrays, constant_elasticity=np.ones(n, dtype=bool), shifts=constant_shifts)
-        )
-        primary = np.where(ce[:, None, None], ce_free, lin_free)
-    else:
-        arrays, policy = _kernel_inputs(batch, rows, eps, linear_shifts, factor)
-        primary = lin_free = ce_free = None
-    arrays["constant_elasticity"] = ce
-    if ce.any():
-        arrays["shifts"] = (
-            constant_shifts if ce.all() else np.where(ce[:, None, None], constant_shifts, linear_shifts)
-        )
-    if primary is None:
-        primary = lin_free = ce_free = kernel.free_paths(arrays)
-    lin_price, lin_quantity = lin_free[:, 0], lin_free[:, 1]
-    ce_price, ce_quantity = ce_free[:, 0], ce_free[:, 1]
-    linear_failed = valid & ~((lin_price > 0.0) & (lin_quantity > 0.0))
+
+def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PathArrays:
+    t = np.arange(batch.periods)
+    valid = t[None, :] <= batch.horizon[:, None]
+    prepared = kernel.prepare(batch, MAX_SHIFTER_CHANGE)
+    market, policy = kernel_inputs(batch, rows, prepared)
+    ce = batch.constant_elasticity
+    own = kernel.free_paths(market)
+    other = kernel.free_paths(market, ~ce) if alternate else None
+    lin_free = own if other is None else np.where(ce[:, None, None], other, own)
+    # The linear form's range (MODEL.md 4): P* and Q* > 0 in every valid period.
+    linear_failed = valid & ~((lin_free[:, 0] > 0.0) & (lin_free[:, 1] > 0.0))
     linear_out_of_range = linear_failed & ~ce[:, None]
-    scenario_bad = _inputs_failed(shift_bad, schedule_undefined, linear_out_of_range)
+    scenario_bad = _inputs_failed(prepared.shift_bad, prepared.undefined, linear_out_of_range)
     keep = ~scenario_bad[:, None]
-    free_price = np.where(keep, primary[:, 0], batch.price[:, None])
-    free_quantity = np.where(keep, primary[:, 1], batch.quantity[:, None])
-    if alternate:
-        lin_feasible = ~linear_failed.any(axis=1)
-        alternate_feasible = np.where(ce, lin_feasible, True) & ~scenario_bad
+    free_price = np.where(keep, own[:, 0], batch.price[:, None])
+    free_quantity = np.where(keep, own[:, 1], batch.quantity[:, None])
+    if other is not None:
+        alternate_feasible = np.where(ce, ~linear_failed.any(axis=1), True) & ~scenario_bad
         alternate_ok = keep & alternate_feasible[:, None]
-        alternate_price = np.where(
-            alternate_ok, np.where(ce[:, None], lin_price, ce_price), batch.price[:, None]
-        )
-        alternate_quantity = np.where(
-            alternate_ok, np.where(ce[:, None], lin_quantity, ce_quantity), batch.quantity[:, None]
-        )
+        alternate_price = np.where(alternate_ok, other[:, 0], batch.price[:, None])
+        alternate_quantity = np.where(alternate_ok, other[:, 1], batch.quantity[:, None])
     else:
-        alternate_feasible = np.zeros(n, dtype=bool)
+        alternate_feasible = np.zeros(batch.size, dtype=bool)
         alternate_price, alternate_quantity = free_price, free_quantity
 
-    # Policy rows: one kernel call, each scenario in its own form.
-    own_free = np.ascontiguousarray(primary[:, :2])
-    names = tuple(kernel.SERIES_INDEX) if series is None else series
-    values, flags, summary = kernel.policy_paths(arrays, policy, own_free, names, band)
-    index = {name: j for j, name in enumerate(names)}
+    # Policy rows: one kernel call, each scenario in its own form (and in the other one).
+    names = kernel.SERIES_NAMES if series is None else series
+    values, flags, summary = kernel.policy_paths(market, policy, own, names, band, other)
     s_of = rows.scenario
-    row_valid = valid[s_of]
-    outcome = welfare = None
-    if _OUTCOME_SERIES.issubset(index):
-        outcome, welfare = _outcome_and_welfare(values, index, flags)
-    infeasible = flags[:, 2] & row_valid
-    binding = flags[:, 0]
-
+    infeasible = flags[:, 2] & valid[s_of]
     unbounded = is_ceiling(rows.kind) & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
-
-    # The compiled pass flags a row where any reported value of a valid period is not finite.
+    # The compiled pass flags a row where any value of a valid period is not finite.
     non_finite = summary[:, kernel.SUMMARY_INDEX["non_finite"]] > 0.0
 
     return PathArrays(
         valid=valid,
-        supply_elasticity=np.where(keep, primary[:, 2], eps),
+        supply_elasticity=np.where(keep, own[:, 2], market.eps),
         free_price=free_price,
         free_quantity=free_quantity,
         alternate_price=alternate_price,
         alternate_quantity=alternate_quantity,
         alternate_feasible=alternate_feasible,
-        outcome=outcome,
-        welfare=welfare,
-        discount_factor=factor,
-        shift_out_of_range=shift_bad,
-        schedule_undefined=schedule_undefined,
+        discount_factor=prepared.factor,
+        price_index=market.price_index,
+        shift_out_of_range=prepared.shift_bad,
+        schedule_undefined=prepared.undefined,
         linear_out_of_range=linear_out_of_range,
         policy_infeasible=infeasible,
         unbounded_willingness=unbounded,
@@ -250,22 +224,5 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
         summary=summary,
         series=values,
         series_names=names,
-        binding=binding,
-    )
-
-
-_FLAGS = ("binding", "rationed")
-_OUTCOME_SERIES = frozenset(
-    [f.name for f in fields(Outcome) if f.name not in _FLAGS] + [f.name for f in fields(WelfareChange)]
-)
-
-
-def _outcome_and_welfare(values, index, flags) -> tuple[Outcome, WelfareChange]:
-    outcome = Outcome(
-        **{
-            f.name: values[:, index[f.name]] for f in fields(Outcome) if f.name not in ("binding", "rationed")
-        },
         binding=flags[:, 0],
-        rationed=flags[:, 1],
     )
-    return outcome, WelfareChange(**{f.name: values[:, index[f.name]] for f in fields(WelfareChange)})

@@ -24,41 +24,15 @@ The compiled period pass (kernel.py) applies these rules cell by cell, under the
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
-__all__ = ["CEILING_KINDS", "KIND_CODES", "Outcome", "is_ceiling"]
+from . import kernel
+
+__all__ = ["CEILING_KINDS", "KIND_CODES", "is_ceiling"]
 
 
-@dataclass(frozen=True)
-class Outcome:
-    """What one policy leaves in each period; every field is (rows, periods)."""
-
-    consumer_price: np.ndarray
-    producer_price: np.ndarray
-    quantity: np.ndarray
-    quantity_demanded: np.ndarray
-    quantity_supplied: np.ndarray
-    shortage: np.ndarray
-    excess_supply: np.ndarray
-    marginal_value: np.ndarray
-    marginal_cost: np.ndarray
-    binding: np.ndarray  # bool
-    rationed: np.ndarray  # bool: a binding ceiling rations buyers
-
-
-#: Internal codes of the policy kinds; the growth cap is its own code.
-KIND_CODES = {
-    "none": 0,
-    "price_ceiling": 1,
-    "price_ceiling_growth": 2,
-    "price_floor": 3,
-    "unit_tax": 4,
-    "ad_valorem_tax": 5,
-    "unit_subsidy": 6,
-    "quantity_cap": 7,
-}
+#: Internal codes of the policy kinds (defined once, in kernel.py); the growth cap is its own code.
+KIND_CODES = kernel.KIND_CODES
 
 CEILING_KINDS = (KIND_CODES["price_ceiling"], KIND_CODES["price_ceiling_growth"])
 

@@ -9,13 +9,19 @@ at supply elasticity eps (short or long run):
 the equilibrium displacement formulas of Muth (1964), "The Derived Demand Curve for a Productive
 Factor and the Industry Supply Curve", *Oxford Economic Papers* 16(2) (title from memory), and
 Gardner (1987); Alston, Norton & Pardey (1995), *Science Under Scarcity*, ch. 4-5.
+
+The short-run rows are taken at the impact elasticity (`ScenarioBatch.impact_elasticity`):
+eps_SR, except under the stock schedule with an explicit `rate` or `half_life`, where the
+impact-period supply elasticity at the base point is lambda eps_LR (MODEL.md 20).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["reduced_form"]
+from .batch import ScenarioBatch
+
+__all__ = ["reduced_form", "short_and_long_run"]
 
 
 def reduced_form(
@@ -35,3 +41,20 @@ def reduced_form(
     price = (demand_shifter_elasticity - supply_shifter_elasticity) / denominator
     quantity = (eps * demand_shifter_elasticity - eta * supply_shifter_elasticity) / denominator
     return price, quantity
+
+
+def short_and_long_run(
+    batch: ScenarioBatch,
+) -> tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]:
+    """((price, quantity) at the impact elasticity, (price, quantity) at eps_LR), each
+    (scenarios, shifters): the short- and long-run rows of every scenario of a batch."""
+    at = [
+        reduced_form(
+            batch.demand_elasticity,
+            elasticity,
+            batch.demand_shifter_elasticity,
+            batch.supply_shifter_elasticity,
+        )
+        for elasticity in (batch.impact_elasticity, batch.long_run_elasticity)
+    ]
+    return at[0], at[1]

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -22,13 +23,14 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
-from .kernel import SERIES_INDEX, SUMMARY_INDEX
-from .paths import PathArrays, price_index, solve
+from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
+from .paths import PathArrays, solve
 from .policies import is_ceiling
 from .reduced_form import reduced_form
 from .scenario import Scenario
 
 __all__ = [
+    "CONVERSION_SERIES",
     "COVERAGE_SERIES",
     "DISTRIBUTION_GROUPS",
     "NOMINAL_SERIES",
@@ -44,22 +46,28 @@ __all__ = [
 
 #: The per-period series of every policy path, in response order: the kernel's first sixteen
 #: series with `binding` after the marginal cost.
-SERIES = (*tuple(SERIES_INDEX)[:9], "binding", *tuple(SERIES_INDEX)[9:16])
+SERIES = (*SERIES_NAMES[:9], "binding", *SERIES_NAMES[9:16])
 #: The series solve keeps for an answer: every reported one but the `binding` flags.
-_REPORTED = tuple(SERIES_INDEX)[:16]
-#: Who gains and who loses (MODEL.md 15): per path, in this order; money per model period.
-DISTRIBUTION_GROUPS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
-#: Series of a ceiling with coverage below 1 (MODEL.md 14).
+_REPORTED = SERIES_NAMES[:16]
+#: Who gains and who loses (MODEL.md 15, 20): per path, in this order; money per model period.
+DISTRIBUTION_GROUPS = GROUP_NAMES
+#: Series of a ceiling over two groups: coverage below 1 (MODEL.md 14), exempt new homes or
+#: vacancy decontrol (17).
 COVERAGE_SERIES = ("covered_price", "uncovered_price", "covered_quantity", "uncovered_quantity")
-#: Series of every path under the stock schedule (MODEL.md 13).
-STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path")
+#: Series of every path under the stock schedule (MODEL.md 13, 16).
+STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path", "vacant_homes")
+#: Series of every path under the stock schedule with conversion (MODEL.md 18).
+CONVERSION_SERIES = ("converted_homes",)
+#: Renters against the free path under the stock schedule (MODEL.md 19): answer key -> series.
+VS_FREE_PATH_SERIES = {"renters": "renters_vs_free_path", "extra_rent": "extra_rent_vs_free_path"}
+#: Their totals in the summary: answer key -> kernel summary figure.
+VS_FREE_PATH_TOTALS = {
+    "renters": "vs_free_path_renters",
+    "renters_discounted": "vs_free_path_renters_discounted",
+    "renters_after_end": "vs_free_path_renters_after_end",
+    "extra_rent": "vs_free_path_extra_rent",
+    "extra_rent_after_end": "vs_free_path_extra_rent_after_end",
+}
 #: Series of every path under inflation (MODEL.md 12): real price x price index.
 NOMINAL_SERIES = ("nominal_consumer_price", "nominal_producer_price")
 
@@ -84,6 +92,8 @@ class PolicyPath:
     kind: str
     series: dict[str, np.ndarray]
     distribution: dict[str, np.ndarray] | None = None
+    #: Under the stock schedule: renters' surplus and extra rent against the free path.
+    vs_free_path: dict[str, np.ndarray] | None = None
 
 
 @dataclass(frozen=True)
@@ -107,6 +117,16 @@ class PolicySummary:
     #: Under the stock schedule: homes below the free path in the last period, and at most.
     final_homes_below_free_path: float | None = None
     peak_homes_below_free_path: float | None = None
+    #: Under the stock schedule: renters against the free path over the horizon (MODEL.md 19),
+    #: homes standing empty in the last period, and (with conversion) homes converted in all.
+    vs_free_path_totals: dict[str, float] | None = None
+    final_vacant_homes: float | None = None
+    total_converted_homes: float | None = None
+    #: The same request in the other curve form (MODEL.md 20); None where it has no answer.
+    other_form: dict[str, Any] | None = None
+    #: Discounted totals of DISTRIBUTION_GROUPS (the discount factors of the welfare options);
+    #: None under random rationing.
+    distribution_totals_discounted: dict[str, float] | None = None
 
 
 @dataclass(frozen=True)
@@ -234,6 +254,24 @@ def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
 
 
+def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays, ceiling) -> np.ndarray:
+    """(n,) True where the same request sent in the other curve form has an answer (MODEL.md
+    20): its free path stays in the linear form's range, every policy is feasible and finite in
+    it, and random rationing of a ceiling keeps finite willingness to pay there."""
+    row_ok = arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0
+    # Linear scenarios answered in constant elasticity: random rationing needs eta < -1 there.
+    s_of = rows.scenario
+    row_ok &= ~(
+        ceiling
+        & batch.random_rationing[s_of]
+        & ~batch.constant_elasticity[s_of]
+        & (batch.demand_elasticity[s_of] >= -1.0)
+    )
+    ok = arrays.alternate_feasible.copy()
+    np.logical_and.at(ok, s_of, row_ok)
+    return ok
+
+
 def solve_scenarios(
     scenarios: Sequence[Scenario], as_lists: bool = False
 ) -> list[ScenarioResult | EngineError]:
@@ -249,14 +287,28 @@ def solve_scenarios(
     return assemble(scenarios, batch, rows, arrays, as_lists)
 
 
+def grouped_rows(rows: PolicyRows, ceiling: np.ndarray | None = None) -> np.ndarray:
+    """(R,) True where a ceiling's homes are two groups (MODEL.md 17): coverage below 1, new
+    homes exempt, or vacancy decontrol. `ceiling` is is_ceiling(rows.kind) where known."""
+    two = rows.coverage < 1.0
+    exempt = getattr(rows, "exempt_new", None)
+    if exempt is not None:
+        two |= exempt | (rows.decontrol > 0.0)
+    if not two.any():
+        return two
+    return two & (is_ceiling(rows.kind) if ceiling is None else ceiling)
+
+
 def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
     """The kernel series an answer of this batch needs: the sixteen of every answer, the
     distribution, and the additions' series only where some scenario uses them."""
     names = _REPORTED + DISTRIBUTION_GROUPS
-    if (is_ceiling(rows.kind) & (rows.coverage < 1.0)).any():
+    if grouped_rows(rows).any():
         names += COVERAGE_SERIES
     if batch.stock.any():
-        names += STOCK_SERIES
+        names += STOCK_SERIES + tuple(VS_FREE_PATH_SERIES.values())
+        if (getattr(batch, "conversion", np.zeros(batch.size)) > 0.0).any():
+            names += CONVERSION_SERIES
     return names
 
 
@@ -289,10 +341,11 @@ def assemble(
     block = arrays.series  # the series solve kept (reported_series), in arrays.series_names order
     binding = arrays.binding
     position = {name: j for j, name in enumerate(arrays.series_names)}
-    partial = ceiling & (rows.coverage < 1.0)
+    partial = grouped_rows(rows, ceiling)
+    conversion = getattr(batch, "conversion", np.zeros(batch.size))
     index = nominal = None
     if batch.has_inflation.any():
-        index = price_index(np.ascontiguousarray(np.broadcast_to(batch.inflation, arrays.valid.shape)))
+        index = arrays.price_index
         nominal = np.stack(
             [
                 block[:, position[name]] * index[rows.scenario]
@@ -305,6 +358,7 @@ def assemble(
         if nominal is not None:
             index, nominal = index.tolist(), nominal.tolist()
     figures = arrays.summary.tolist()
+    other_ok = _other_form_answers(batch, rows, arrays, ceiling)[rows.scenario]
     code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
@@ -318,7 +372,9 @@ def assemble(
         ceiling_binds = partial_binds = False
         inflated = bool(batch.has_inflation[i])
         stock = bool(batch.stock[i])
+        converting = stock and bool(conversion[i] > 0.0)
         random = bool(batch.random_rationing[i])
+        other_form = "linear" if scenario.market.form == "constant_elasticity" else "constant_elasticity"
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
             values = block[r]
@@ -332,11 +388,15 @@ def assemble(
             if partial[r]:
                 for name in COVERAGE_SERIES:
                     path[name] = values[position[name]][:end]
+            vs_free_path = None
             if stock:
-                for name in STOCK_SERIES:
+                for name in STOCK_SERIES + (CONVERSION_SERIES if converting else ()):
                     path[name] = values[position[name]][:end]
+                vs_free_path = {
+                    key: values[position[name]][:end] for key, name in VS_FREE_PATH_SERIES.items()
+                }
             groups = None if random else {name: values[position[name]][:end] for name in DISTRIBUTION_GROUPS}
-            paths.append(PolicyPath(policy.name, policy.kind, path, groups))
+            paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
             peak_period = int(f[code["peak_shortage_period"]])
             binding_periods = int(f[code["binding_periods"]])
@@ -361,6 +421,22 @@ def assemble(
                     else {name: f[code["total_" + name]] for name in DISTRIBUTION_GROUPS},
                     final_homes_below_free_path=f[code["final_homes_below_free_path"]] if stock else None,
                     peak_homes_below_free_path=f[code["peak_homes_below_free_path"]] if stock else None,
+                    vs_free_path_totals={key: f[code[name]] for key, name in VS_FREE_PATH_TOTALS.items()}
+                    if stock
+                    else None,
+                    final_vacant_homes=f[code["final_vacant_homes"]] if stock else None,
+                    total_converted_homes=f[code["total_converted_homes"]] if converting else None,
+                    other_form={
+                        "form": other_form,
+                        "discounted_deadweight_loss": f[code["other_discounted_deadweight_loss"]],
+                        "final_consumer_price": f[code["other_final_consumer_price"]],
+                        "peak_shortage": f[code["other_peak_shortage"]],
+                    }
+                    if other_ok[r]
+                    else None,
+                    distribution_totals_discounted=None
+                    if random
+                    else {name: f[code["discounted_" + name]] for name in DISTRIBUTION_GROUPS},
                 )
             )
         rf = {

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 __all__ = [
     "ADDITION_DEFAULTS",
     "FORMS",
+    "NEW_HOMES",
     "RATIONING_RULES",
     "SCHEDULES",
     "SHOCK_PROFILES",
@@ -30,6 +31,8 @@ FORMS = ("linear", "constant_elasticity")
 SHOCK_PROFILES = ("step", "ramp", "growth", "path")
 SCHEDULES = ("linear", "geometric", "explicit", "stock")
 RATIONING_RULES = ("efficient", "random")
+#: Whether homes built after a ceiling starts fall under it (MODEL.md 17); the first is the default.
+NEW_HOMES = ("covered", "exempt")
 
 
 @dataclass(frozen=True)
@@ -86,7 +89,10 @@ class Adjustment:
     half_life (> 0) or neither (Nerlove default); `explicit` elasticities (eps_t, t >= 1).
     `stock` (MODEL.md 13) moves the stock itself toward the long-run supply curve: rate or
     half_life as for `geometric` (default eps_SR / eps_LR), and `depreciation` delta in [0, 1],
-    the largest share of the stock lost in one period (None: no such floor).
+    the largest share of the stock lost in one period (None: no such floor), `build_limit` b > 0,
+    the largest share of the standing homes added in one period (None: no such cap; MODEL.md
+    16), and `conversion` kappa >= 0, how fast controlled homes leave the rental market per unit
+    of log gap between the free-path rent and the controlled rent (0: none; MODEL.md 18).
     schedule None means constant elasticity (allowed only when short and long run agree).
     """
 
@@ -96,6 +102,8 @@ class Adjustment:
     half_life: float | None = None
     elasticities: tuple[float, ...] = ()
     depreciation: float | None = None
+    build_limit: float | None = None
+    conversion: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -106,7 +114,10 @@ class Policy:
     (level), unit_tax (amount), ad_valorem_tax (rate), unit_subsidy (amount), quantity_cap
     (level). Money is per unit per price interval; quantity per price interval.
     Money rules are nominal under inflation unless `indexed` (MODEL.md 12); `coverage` is the
-    share of homes a price ceiling covers (MODEL.md 14).
+    share of homes a price ceiling covers (MODEL.md 14). Under the stock schedule a ceiling's
+    `new_homes` are "covered" (homes built later fall under the rule in the share s) or
+    "exempt" (never controlled); `vacancy_decontrol` tau in (0, 1] on a growth cap is the share
+    of tenancies that end each period and restart at the market rent (0.0: off; MODEL.md 17).
     """
 
     name: str
@@ -120,6 +131,8 @@ class Policy:
     end: int | None = None
     indexed: bool = False
     coverage: float = 1.0
+    new_homes: str = "covered"
+    vacancy_decontrol: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -150,10 +163,10 @@ class Scenario:
     welfare: Welfare = Welfare()
 
 
-#: Fields added with MODEL.md sections 12-15 and their defaults, per dataclass: left out of
+#: Fields added with MODEL.md sections 12-18 and their defaults, per dataclass: left out of
 #: the scenario id at these values, so that ids of requests without them stay as they were.
 ADDITION_DEFAULTS = {
     Market: {"inflation": 0.0},
-    Adjustment: {"depreciation": None},
-    Policy: {"indexed": False, "coverage": 1.0},
+    Adjustment: {"depreciation": None, "build_limit": None, "conversion": 0.0},
+    Policy: {"indexed": False, "coverage": 1.0, "new_homes": "covered", "vacancy_decontrol": 0.0},
 }

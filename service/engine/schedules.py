@@ -19,9 +19,12 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import kernel
+
 __all__ = ["SCHEDULE_CODES", "half_life_from_rate", "rate_from_half_life"]
 
-SCHEDULE_CODES = {"constant": 0, "linear": 1, "geometric": 2, "explicit": 3, "stock": 4}
+#: Codes of the schedules (defined once, in kernel.py); "constant" means no schedule.
+SCHEDULE_CODES = kernel.SCHEDULE_CODES
 
 
 def rate_from_half_life(half_life: np.ndarray | float) -> np.ndarray:

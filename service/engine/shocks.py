@@ -27,7 +27,8 @@ __all__ = [
     "shock_paths",
 ]
 
-PROFILE_CODES = {"step": 0, "ramp": 1, "growth": 2, "path": 3}
+#: Codes of the shock profiles (defined once, in kernel.py).
+PROFILE_CODES = kernel.PROFILE_CODES
 
 _MAX_LOG_GROWTH = float(np.log1p(MAX_SHIFTER_CHANGE))
 

@@ -1,23 +1,27 @@
 """Uncertain inputs: draws, the full path model per draw, and percentile bands.
 
-An uncertain input (an elasticity, a constant inflation rate, the adjustment rate lambda or
-the stock's depreciation delta) may be normal(mean, sd) truncated to its sign rule (drawn from
-the truncated distribution, never clipped), uniform(low, high) or triangular(low, mode, high). Draws come
-from one seeded numpy Generator (PCG64): standard normals z, correlated where asked
-(short- and long-run supply elasticity through a Gaussian copula), mapped to uniforms
-u = Phi(z) and through each distribution's inverse CDF (scipy.stats ppf). Every draw runs the
-whole path model of every policy; the batch is cut into blocks of draws only to bound memory,
-each block one vectorised engine call. Bands are percentiles over the feasible draws, with
-numpy's default ('linear') definition: Hyndman & Fan (1996), "Sample Quantiles in Statistical
-Packages", *The American Statistician* 50(4), definition 7.
+An uncertain input (an elasticity, a constant inflation rate, the adjustment rate lambda, the
+stock's depreciation delta or conversion kappa, or a growth cap's vacancy decontrol tau) may
+be normal(mean, sd) truncated to its sign rule (drawn from the truncated distribution, never
+clipped), uniform(low, high) or triangular(low, mode, high). Draws come from one seeded numpy
+Generator (PCG64): standard normals z, correlated where asked (short- and long-run supply
+elasticity through a Gaussian copula), mapped to uniforms u = Phi(z) and through each
+distribution's inverse CDF (scipy.stats ppf). Every draw runs the whole path model of every
+policy; the batch is cut into blocks of draws only to bound memory, each block one vectorised
+engine call. Bands are percentiles over the feasible draws, with numpy's default ('linear')
+definition: Hyndman & Fan (1996), "Sample Quantiles in Statistical Packages", *The American
+Statistician* 50(4), definition 7.
 
 What is banded depends on the scenario (`band_layout`): every policy bands BAND_SERIES; under
-the stock schedule also STOCK_BAND_SERIES; a price ceiling with coverage below 1 also
-COVERAGE_BAND_SERIES; under inflation the nominal consumer price, which is the real price
-times the price index: with a fixed index its percentiles are the real ones times I_t (no
-extra work), with a drawn inflation rate the kernel writes it per draw like any other series.
-Summary percentiles add each group's total (MODEL.md 15; none under random rationing) and,
-under the stock schedule, the final and peak homes below the free path.
+the stock schedule also STOCK_BAND_SERIES; a price ceiling with coverage below 1, exempt new
+homes or vacancy decontrol also COVERAGE_BAND_SERIES; under inflation the nominal consumer
+price, which is the real price times the price index: with a fixed index its percentiles are
+the real ones times I_t (no extra work), with a drawn inflation rate the kernel writes it per
+draw like any other series. Summary percentiles add each group's total (MODEL.md 15 and 20;
+none under random rationing) and, under the stock schedule, the final and peak homes below the
+free path, renters against the free path (MODEL.md 19: VS_FREE_PATH_SUMMARY), the final vacant
+homes (MODEL.md 16) and, where controlled homes may convert, the total converted homes
+(MODEL.md 18). Every summary figure is the kernel's, by its name in kernel.SUMMARY_INDEX.
 """
 
 from __future__ import annotations
@@ -31,14 +35,15 @@ import numpy as np
 from scipy import special, stats
 
 from . import kernel
-from .batch import PolicyRows, ScenarioBatch, pack
+from .batch import PolicyRows, ScenarioBatch, impact_elasticity, pack
 from .paths import price_index, solve
-from .results import DISTRIBUTION_GROUPS, STOCK_SERIES, summarise
+from .results import DISTRIBUTION_GROUPS, summarise
 from .scenario import ADDITION_DEFAULTS, Scenario
 
 __all__ = [
     "BAND_SERIES",
     "BAND_SUMMARY",
+    "CONVERSION_SUMMARY",
     "COVERAGE_BAND_SERIES",
     "GROUP_TOTALS",
     "NOMINAL_BAND_SERIES",
@@ -46,13 +51,17 @@ __all__ = [
     "STOCK_BAND_SERIES",
     "STOCK_SUMMARY",
     "TARGETS",
+    "VACANCY_DECONTROL",
+    "VS_FREE_PATH_SUMMARY",
     "BandArrays",
     "BandLayout",
     "Distribution",
     "UncertainInput",
     "band_layout",
     "banded_values",
+    "default_rate_coupled",
     "draw",
+    "is_elasticity",
     "percentile_bands",
     "rows_for",
     "scenario_batch_with",
@@ -68,9 +77,11 @@ BAND_SERIES = (
     "cumulative_deadweight_loss",
     "discounted_deadweight_loss",
 )
-#: Banded too under the stock schedule (MODEL.md 13), for every policy.
-STOCK_BAND_SERIES = STOCK_SERIES
-#: Banded too on a price ceiling with coverage below 1 (MODEL.md 14).
+#: Banded too under the stock schedule (MODEL.md 13), for every policy (the vacant homes of
+#: MODEL.md 16 are banded by their final value in the summary: memory stays 2 series a policy).
+STOCK_BAND_SERIES = ("homes_below_free_path", "rent_above_free_path")
+#: Banded too on a price ceiling with coverage below 1, exempt new homes or vacancy decontrol
+#: (MODEL.md 14 and 17).
 COVERAGE_BAND_SERIES = ("covered_price", "uncovered_price")
 #: Banded too under inflation (MODEL.md 12): consumer_price x price index.
 NOMINAL_BAND_SERIES = ("nominal_consumer_price",)
@@ -84,8 +95,24 @@ BAND_SUMMARY = (
 )
 #: Each group's total over the horizon (MODEL.md 15): the summary's distribution_totals.
 GROUP_TOTALS = tuple("total_" + name for name in DISTRIBUTION_GROUPS)
-#: Under the stock schedule.
-STOCK_SUMMARY = ("final_homes_below_free_path", "peak_homes_below_free_path")
+#: Under the stock schedule: homes below the free path (MODEL.md 13) and, last, the discounted
+#: renters' surplus against the free path (MODEL.md 19), which sensitivity also ranks.
+STOCK_SUMMARY = (
+    "final_homes_below_free_path",
+    "peak_homes_below_free_path",
+    "vs_free_path_renters_discounted",
+)
+#: Banded too under the stock schedule: the other totals of renters against the free path
+#: (MODEL.md 19) and the empty homes standing at the horizon (MODEL.md 16).
+VS_FREE_PATH_SUMMARY = (
+    "vs_free_path_renters",
+    "vs_free_path_renters_after_end",
+    "vs_free_path_extra_rent",
+    "vs_free_path_extra_rent_after_end",
+    "final_vacant_homes",
+)
+#: Banded too under the stock schedule where controlled homes may convert (MODEL.md 18).
+CONVERSION_SUMMARY = ("total_converted_homes",)
 
 
 #: The parameters of each distribution, in the order a caller writes them.
@@ -179,13 +206,35 @@ TARGETS = (
     "inflation",  # a constant rate pi of periods 1..T (market.inflation given as a number)
     "schedule_rate",  # lambda of a geometric or stock schedule (adjustment.rate)
     "depreciation",  # delta of the stock schedule (adjustment.depreciation)
+    "conversion",  # kappa of the stock schedule (adjustment.conversion)
 )
+#: An uncertain vacancy decontrol tau of the growth cap at policy index i has the target
+#: (VACANCY_DECONTROL, i).
+VACANCY_DECONTROL = "vacancy_decontrol"
+_NOT_ELASTICITIES = ("inflation", "schedule_rate", "depreciation", "conversion")
+
+
+def is_elasticity(target: str | tuple[str, object]) -> bool:
+    """Whether an uncertain input's target is an elasticity (of a curve or a shifter)."""
+    if isinstance(target, tuple):
+        return target[0] != VACANCY_DECONTROL
+    return target not in _NOT_ELASTICITIES
+
+
+def default_rate_coupled(scenario: Scenario, inputs: Sequence[UncertainInput]) -> bool:
+    """An uncertain long-run elasticity under the Nerlove default rate lambda = eps_SR / eps_LR
+    (a geometric or stock schedule with neither rate nor half-life, MODEL.md 2 and 20): each
+    draw's larger eps_LR then also means a smaller lambda, slower building."""
+    adj = scenario.adjustment
+    default = adj.schedule in ("geometric", "stock") and adj.rate is None and adj.half_life is None
+    return default and any(item.target == "long_run_elasticity" for item in inputs)
 
 
 @dataclass(frozen=True)
 class UncertainInput:
-    """Which input is uncertain: target is one of TARGETS or ("demand_shifter" |
-    "supply_shifter", name); pointer is its place in the request."""
+    """Which input is uncertain: target is one of TARGETS, ("demand_shifter" |
+    "supply_shifter", name) or (VACANCY_DECONTROL, policy index); pointer is its place in the
+    request."""
 
     target: str | tuple[str, str]
     pointer: str
@@ -227,6 +276,8 @@ _PER_SCENARIO = (
     "stock",
     "floor_share",
     "has_inflation",
+    "build_limit",
+    "conversion",
 )
 
 
@@ -240,7 +291,10 @@ def scenario_batch_with(
     A drawn inflation rate pi becomes the rates (rows, T+1) of periods 1..T (column 0 = 0), as
     a constant market.inflation does; a drawn adjustment rate is lambda (schedule_rate; the
     Nerlove default eps_SR / eps_LR of a schedule without one is taken per draw by the engine,
-    from the drawn elasticities); a drawn depreciation delta sets floor_share = 1 - delta.
+    from the drawn elasticities); a drawn depreciation delta sets floor_share = 1 - delta; a
+    drawn conversion is kappa. The impact elasticity is taken again from the drawn values
+    (batch.impact_elasticity: lambda eps_LR under `stock` with a rate). A drawn vacancy
+    decontrol belongs to policy rows: rows_for.
     """
     n = values.shape[0]
     fields = {name: np.repeat(getattr(base, name), n, axis=0) for name in _PER_SCENARIO}
@@ -249,7 +303,8 @@ def scenario_batch_with(
         column = values[:, k]
         if isinstance(item.target, tuple):
             side, name = item.target
-            fields[f"{side}_elasticity"][:, names.index(name)] = column
+            if side != VACANCY_DECONTROL:
+                fields[f"{side}_elasticity"][:, names.index(name)] = column
         elif item.target == "inflation":
             rates = np.repeat(column[:, None], base.periods, axis=1)
             rates[:, 0] = 0.0
@@ -257,14 +312,32 @@ def scenario_batch_with(
             fields["has_inflation"] = np.ones(n, dtype=bool)
         elif item.target == "depreciation":
             fields["floor_share"] = 1.0 - column
-        else:  # an elasticity, or schedule_rate
+        else:  # an elasticity, schedule_rate or conversion
             fields[item.target] = column.copy()
+    fields["impact_elasticity"] = impact_elasticity(
+        fields["stock"],
+        fields["schedule_rate"],
+        fields["short_run_elasticity"],
+        fields["long_run_elasticity"],
+    )
     return dataclasses.replace(base, **fields)
 
 
-def rows_for(policy_rows: PolicyRows, n: int) -> PolicyRows:
+def rows_for(
+    policy_rows: PolicyRows,
+    n: int,
+    inputs: Sequence[UncertainInput] = (),
+    values: np.ndarray | None = None,
+) -> PolicyRows:
     """The scenario's policy rows for n scenarios, policy-major: row = policy * n + scenario,
-    so that each policy's rows are one contiguous block (views, not copies, in the engine)."""
+    so that each policy's rows are one contiguous block (views, not copies, in the engine).
+    A drawn vacancy decontrol (target (VACANCY_DECONTROL, policy)) replaces that policy's tau
+    with the draws' column of `values` (n, inputs)."""
+    decontrol = np.repeat(policy_rows.decontrol, n)
+    for k, item in enumerate(inputs):
+        if isinstance(item.target, tuple) and item.target[0] == VACANCY_DECONTROL:
+            policy = item.target[1]
+            decontrol[policy * n : (policy + 1) * n] = values[:, k]
     return PolicyRows(
         scenario=np.tile(np.arange(n), policy_rows.size),
         kind=np.repeat(policy_rows.kind, n),
@@ -273,6 +346,8 @@ def rows_for(policy_rows: PolicyRows, n: int) -> PolicyRows:
         end=np.repeat(policy_rows.end, n),
         indexed=np.repeat(policy_rows.indexed, n),
         coverage=np.repeat(policy_rows.coverage, n),
+        exempt_new=np.repeat(policy_rows.exempt_new, n),
+        decontrol=decontrol,
     )
 
 
@@ -308,7 +383,9 @@ def band_layout(scenario: Scenario, inputs: Sequence[UncertainInput]) -> BandLay
     inflated = drawn or scenario.market.inflation != 0.0  # as batch.has_inflation
     kept, series = [], []
     for policy in scenario.policies:
-        partial = policy.kind == "price_ceiling" and policy.coverage < 1.0
+        partial = policy.kind == "price_ceiling" and (
+            policy.coverage < 1.0 or policy.new_homes == "exempt" or policy.vacancy_decontrol != 0.0
+        )
         extra = (COVERAGE_BAND_SERIES if partial else ()) + (STOCK_BAND_SERIES if stock else ())
         kept.append(BAND_SERIES + (NOMINAL_BAND_SERIES if drawn else ()) + extra)
         series.append(BAND_SERIES + (NOMINAL_BAND_SERIES if inflated else ()) + extra)
@@ -316,7 +393,9 @@ def band_layout(scenario: Scenario, inputs: Sequence[UncertainInput]) -> BandLay
     if scenario.welfare.rationing != "random":
         summary += GROUP_TOTALS
     if stock:
-        summary += STOCK_SUMMARY
+        summary += STOCK_SUMMARY + VS_FREE_PATH_SUMMARY
+        converts = scenario.adjustment.conversion != 0.0 or any(i.target == "conversion" for i in inputs)
+        summary += CONVERSION_SUMMARY if converts else ()
     return BandLayout(tuple(kept), tuple(series), summary, inflated and not drawn)
 
 
@@ -382,7 +461,7 @@ def percentile_bands(
     def solve_block(start: int) -> None:
         stop = min(start + block, draws)
         batch = scenario_batch_with(base, scenario, inputs, values[start:stop])
-        rows = rows_for(base_rows, stop - start)
+        rows = rows_for(base_rows, stop - start, inputs, values[start:stop])
         # The kernel writes the banded series straight into `kept` (rows are policy-major).
         ok, _, summary, bound = solve_rows(batch, rows, band=(layout.kept, kept, stop - start, start))
         shape = (p, stop - start)

@@ -18,24 +18,8 @@ Scarcity*, ch. 4-5; for a small unit tax on linear curves DWL is Harberger's (19
 1/2 tau^2 (Q0/P0) eps|eta| / (eps + |eta|); misallocation, Glaeser & Luttmer (2003), "The
 Misallocation of Housing Under Rent Control", *American Economic Review* 93(4).
 
-The compiled period pass (kernel.py) computes these per cell; this module names the result.
+The compiled period pass (kernel.py: `_welfare`, `_group_welfare`, `_vs_free_path`) computes these
+per cell; this module holds their statement.
 """
 
-from __future__ import annotations
-
-from dataclasses import dataclass
-
-import numpy as np
-
-__all__ = ["WelfareChange"]
-
-
-@dataclass(frozen=True)
-class WelfareChange:
-    """Money per model period, each (rows, periods); exactly 0 where nothing binds."""
-
-    consumer_surplus_change: np.ndarray
-    producer_surplus_change: np.ndarray
-    government_revenue: np.ndarray
-    deadweight_loss: np.ndarray
-    misallocation_loss: np.ndarray
+__all__: list[str] = []

@@ -2,9 +2,9 @@
 
 Only gzip: every HTTP client and browser decodes it. Answers under GZIP_MIN_BYTES go as they
 are (the bytes saved would not pay for the time). The level was measured on a 500-scenario
-batch (README, "Compression"): level 1 takes about a quarter of the default level 6's time for
-a body about a sixth larger. A compressed answer's strong ETag gains ":gzip" (it is a different
-representation); conditional.py matches either form.
+batch (openapi/API.md, "Formats and negotiation"): level 1 takes about a quarter of the
+default level 6's time for a body about a sixth larger. A compressed answer's strong ETag
+gains ":gzip" (it is a different representation); conditional.py matches either form.
 """
 
 from __future__ import annotations

@@ -34,7 +34,7 @@ FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 _PRICE = "money per unit per price interval"
 _QUANTITY = "units per price interval"
 _FLOW = "money per model period"
-#: The unit of every series, in the README's terms (money is the caller's currency).
+#: The unit of every series, in the terms of openapi/API.md (money is the caller's currency).
 UNITS = {
     "consumer_price": _PRICE,
     "producer_price": _PRICE,

@@ -3,7 +3,8 @@
 `compile_loader(schema)` walks a schema's declared fields once and builds a tree of small
 closures that check exactly what the fields check (type, finiteness, Range, OneOf, Length,
 required, unknown members) and load defaults the way marshmallow does, then run the schema's
-own `@validates_schema` and `@post_load` hooks. It never writes an error message: on the first
+own `@validates_schema` (with the input as sent where it asks for `pass_original`) and
+`@post_load` hooks. It never writes an error message: on the first
 thing it does not accept it raises `Rejected`, and the caller loads the same input with
 marshmallow, which gives the error document (with its JSON Pointers) exactly as before. So the
 fast path can only make a valid request cheaper, never change an answer or an error; a test
@@ -238,7 +239,7 @@ def _field_loader(field: fields.Field, cache: dict[int, Loader | None]) -> Loade
     raise _Unsupported(type(field).__name__)
 
 
-def _hooks(schema: Schema) -> tuple[list[Callable], list[Callable]]:
+def _hooks(schema: Schema) -> tuple[list[tuple[Callable, bool]], list[Callable]]:
     hooks = type(schema)._hooks
     known = {"validates_schema", "post_load"}
     for tag, entries in hooks.items():
@@ -247,9 +248,11 @@ def _hooks(schema: Schema) -> tuple[list[Callable], list[Callable]]:
     validators, post = [], []
     for tag, out in (("validates_schema", validators), ("post_load", post)):
         for name, pass_collection, kwargs in hooks.get(tag, []):
-            if pass_collection or kwargs.get("pass_original"):
+            original = bool(kwargs.get("pass_original"))
+            if pass_collection or (original and tag != "validates_schema"):
                 raise _Unsupported(f"{tag} options")
-            out.append(getattr(schema, name))
+            hook = getattr(schema, name)
+            out.append((hook, original) if tag == "validates_schema" else hook)
     return validators, post
 
 
@@ -286,8 +289,11 @@ def _schema_loader(schema: Schema, cache: dict[int, Loader | None]) -> Loader:
                 data[attribute] = default() if callable(default) else default
         out: Any = data
         try:
-            for hook in validators:
-                hook(data, many=False, partial=None, unknown="raise")
+            for hook, original in validators:
+                if original:  # the request as sent, as marshmallow passes it
+                    hook(data, value, many=False, partial=None, unknown="raise")
+                else:
+                    hook(data, many=False, partial=None, unknown="raise")
             for hook in post:
                 out = hook(out, many=False, partial=None, unknown="raise")
         except ValidationError:

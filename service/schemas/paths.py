@@ -16,6 +16,7 @@ from marshmallow import ValidationError, fields, post_load, validate, validates_
 
 from .. import limits
 from ..engine.scenario import (
+    NEW_HOMES,
     Adjustment,
     DiscountStep,
     Market,
@@ -313,6 +314,24 @@ class StockScheduleSchema(StrictSchema):
             "decay), in [0, 1]; without it the stock may fall as fast as it rose."
         },
     )
+    build_limit = Real(
+        validate=_range(0.0, limits.MAX_RATE, low_ok=False),
+        metadata={
+            "description": "Largest share b > 0 of the standing homes that can be added in one period "
+            "(builders, land and permits limit completions; typically 0.01-0.03 a year); without it "
+            "building is unlimited (MODEL.md 16)."
+        },
+    )
+    conversion = Real(
+        load_default=0.0,
+        validate=_range(0.0, limits.MAX_ELASTICITY),
+        metadata={
+            "description": "kappa >= 0: each period a share min(1, kappa ln(free rent / controlled rent)) "
+            "of a binding ceiling's controlled homes leaves the rental market for good (sold to "
+            "owner-occupiers or put to other uses; Sims 2007, Journal of Urban Economics 61(1)); "
+            "default 0, none (MODEL.md 18)."
+        },
+    )
 
     @validates_schema
     def _one_of(self, data, **kwargs):
@@ -326,6 +345,8 @@ class StockScheduleSchema(StrictSchema):
             rate=data.get("rate"),
             half_life=data.get("half_life"),
             depreciation=data.get("depreciation"),
+            build_limit=data.get("build_limit"),
+            conversion=data.get("conversion", 0.0),
         )
 
 
@@ -335,6 +356,21 @@ SCHEDULE_SCHEMAS = {
     "explicit": ExplicitScheduleSchema,
     "stock": StockScheduleSchema,
 }
+
+#: Fields of the stock schedule alone: a misplaced one is answered with where it belongs.
+_STOCK_ONLY = ("depreciation", "build_limit", "conversion")
+for _name, _schema in SCHEDULE_SCHEMAS.items():
+    _misplaced = [f"'{f}'" for f in _STOCK_ONLY if f not in _schema._declared_fields]
+    _schema.error_messages = {
+        "unknown": f"Unknown field for schedule '{_name}' (it takes {', '.join(_schema._declared_fields)})."
+        + (
+            f" Note: {', '.join(_misplaced)} belong to the stock schedule "
+            '("adjustment": {"schedule": "stock", ...}), the only one with homes that stand, are '
+            "built and are lost."
+            if _misplaced
+            else ""
+        )
+    }
 
 
 # --- policies -----------------------------------------------------------------------------
@@ -405,11 +441,37 @@ class PriceCeilingSchema(_PolicyBase):
             "(Fallis & Smith 1984)."
         },
     )
+    new_homes = fields.String(
+        load_default="covered",
+        validate=validate.OneOf(NEW_HOMES),
+        metadata={
+            "description": 'Schedule "stock" only: "covered" (default) if homes built after the rule '
+            'starts fall under it in the share `coverage`, "exempt" if they are never controlled '
+            "(as most recent rent laws provide; MODEL.md 17)."
+        },
+    )
+    vacancy_decontrol = Real(
+        validate=_range(0.0, 1.0, low_ok=False),
+        metadata={
+            "description": "Growth caps only: the share tau in (0, 1] of tenancies that end each period; "
+            "a new tenancy starts at the market rent and is then capped, so owners receive on average "
+            "(1 - tau) min(cap, M) + tau M (MODEL.md 17). Absent: off."
+        },
+    )
 
     @validates_schema
     def _level_or_growth(self, data, **kwargs):
         if ("level" in data) == ("growth" in data):
             raise ValidationError("Give exactly one of level or growth.", "level")
+
+    @validates_schema
+    def _decontrol_needs_growth(self, data, **kwargs):
+        if "vacancy_decontrol" in data and "growth" not in data:
+            raise ValidationError(
+                "'vacancy_decontrol' belongs to a growth cap (a price ceiling with `growth`): a fixed "
+                "level or a freeze has no rent of the period before to reset.",
+                "vacancy_decontrol",
+            )
 
 
 class PriceFloorSchema(_PolicyBase):
@@ -459,10 +521,12 @@ POLICY_SCHEMAS = {
 }
 
 #: Where a field belongs to other kinds, say so: `indexed` is only for rules with money in
-#: them, `coverage` only for price ceilings.
+#: them, `coverage`, `new_homes` and `vacancy_decontrol` only for price ceilings.
 _ELSEWHERE = {
     "indexed": "rules with money in them: a price ceiling, price floor, unit tax or unit subsidy",
     "coverage": "a price ceiling",
+    "new_homes": 'a price ceiling under the stock schedule ("adjustment": {"schedule": "stock"})',
+    "vacancy_decontrol": "a growth cap (a price ceiling with `growth`)",
 }
 for _kind, _schema in POLICY_SCHEMAS.items():
     _takes = ", ".join(_schema._declared_fields)
@@ -596,8 +660,39 @@ class PathsRequestSchema(StrictSchema):
                     "coverage below 1 use efficient rationing (households without a controlled "
                     "home rent uncontrolled ones)."
                 ]
+            random = data["welfare"].rationing == "random"
+            for name, used in (
+                ("new_homes", policy.new_homes == "exempt"),
+                ("vacancy_decontrol", policy.vacancy_decontrol != 0.0),
+            ):
+                if random and used:
+                    errors.setdefault("policies", {}).setdefault(i, {})[name] = [
+                        f"Random rationing is defined for a ceiling on the whole market only; with "
+                        f"'{name}' use efficient rationing (controlled homes go to the households who "
+                        "value a home at least the market rent)."
+                    ]
         if errors:
             raise ValidationError(errors)
+
+    @validates_schema(pass_original=True)
+    def _new_homes_need_a_stock(self, data, original, **kwargs):
+        """`new_homes` says who owns homes built later: only the stock schedule builds homes.
+        Read from the request itself, since "covered" given and left out load alike."""
+        adjustment = data.get("adjustment")
+        if adjustment is not None and adjustment.schedule == "stock":
+            return
+        errors = {
+            i: {
+                "new_homes": [
+                    "'new_homes' belongs to a price ceiling under the stock schedule "
+                    '("adjustment": {"schedule": "stock", ...}): without a stock no homes are built.'
+                ]
+            }
+            for i, policy in enumerate(original["policies"])
+            if "new_homes" in policy
+        }
+        if errors:
+            raise ValidationError({"policies": errors})
 
     @post_load
     def _build(self, data, **kwargs) -> Scenario:

@@ -9,7 +9,16 @@ from __future__ import annotations
 
 from marshmallow import Schema, fields
 
-from ..engine.results import COVERAGE_SERIES, DISTRIBUTION_GROUPS, NOMINAL_SERIES, SERIES, STOCK_SERIES
+from ..engine.results import (
+    CONVERSION_SERIES,
+    COVERAGE_SERIES,
+    DISTRIBUTION_GROUPS,
+    NOMINAL_SERIES,
+    SERIES,
+    STOCK_SERIES,
+    VS_FREE_PATH_SERIES,
+    VS_FREE_PATH_TOTALS,
+)
 from .fields import Either
 
 __all__ = [
@@ -77,12 +86,18 @@ _SERIES_HELP = {
     "discounted_deadweight_loss": "Discounted sum of deadweight loss through the period.",
     "nominal_consumer_price": "With market.inflation only: consumer_price x price_index, money of the day.",
     "nominal_producer_price": "With market.inflation only: producer_price x price_index.",
-    "covered_price": "Ceilings with coverage below 1 only: rent of controlled homes (the ceiling where it "
-    "binds, else the free-market rent).",
-    "uncovered_price": "Ceilings with coverage below 1 only: rent of uncontrolled homes, >= the free-market "
-    "rent (Fallis & Smith 1984).",
-    "covered_quantity": "Ceilings with coverage below 1 only: controlled homes let, per price interval.",
-    "uncovered_quantity": "Ceilings with coverage below 1 only: uncontrolled homes let.",
+    "covered_price": "Ceilings with coverage below 1, exempt new homes or vacancy decontrol only: the mean "
+    "rent of controlled homes (the rule's rent where it binds; with vacancy decontrol new tenancies pay the "
+    "market rent), else the market rent.",
+    "uncovered_price": "Same ceilings only: the market rent, paid for uncontrolled homes; >= the rent of "
+    "the same period without the rule (Fallis & Smith 1984).",
+    "covered_quantity": "Same ceilings only: controlled homes let, per price interval (under the stock "
+    "schedule the controlled group's own stock).",
+    "uncovered_quantity": "Same ceilings only: the other homes let.",
+    "vacant_homes": "Stock schedule only: homes standing but not let (a binding floor or quantity cap); "
+    "they stand empty, are lost no faster than depreciation and are offered again the period after.",
+    "converted_homes": "Stock schedule with conversion only: controlled homes that leave the rental "
+    "market for good in the period (MODEL.md 18).",
     "homes_below_free_path": "Stock schedule only: the free path's quantity minus this path's (homes "
     "missing; negative where the path has more homes).",
     "rent_above_free_path": "Stock schedule only: consumer_price minus the free path's price.",
@@ -92,13 +107,58 @@ _GROUP_HELP = {
     "tenants_in_controlled_homes": "(P* - c) Qc: tenants who hold a controlled home.",
     "tenants_in_uncontrolled_homes": "-(Pu - P*) Qu under a partial ceiling; under a tax, subsidy, floor or "
     "quantity cap every tenant, -(Pc - P*) Q.",
-    "households_priced_out": "-integral_Q^Q* (Qd^-1 - P*): households priced or rationed out (drawn in "
-    "where Q > Q*).",
+    "households_priced_out": "-integral_Q^Q* (Qd^-1 - P*): households priced or rationed out (0 where a "
+    "subsidy draws households in).",
     "owners_of_controlled_homes": "Producer surplus change of the controlled homes.",
     "owners_of_uncontrolled_homes": "Producer surplus change of the uncontrolled homes (all owners where "
     "nothing is controlled).",
     "government": "(Pc - Pp) Q: revenue, negative for a subsidy.",
+    "households_drawn_in": "integral_Q*^Q (Qd^-1 - Pc) >= 0: households that rent only because a subsidy "
+    "lowers the rent (0 wherever Q <= Q*); the tenants' group then counts only those who rent in both.",
 }
+
+_VS_FREE_PATH_HELP = {
+    "renters": "Renters' surplus against the free path of the same request, x k: -integral_Q^QF "
+    "(Qd^-1 - PF) - (Pc - PF) Q - misallocation (MODEL.md 19); counts the years after a rule ends.",
+    "extra_rent": "(Pc - PF) Q x k: the rent renters pay above the free path's rent for the homes let.",
+}
+VsFreePathSchema = Schema.from_dict(
+    {
+        k: fields.List(fields.Float(), required=True, metadata={"description": h})
+        for k, h in _VS_FREE_PATH_HELP.items()
+    },
+    name="VsFreePathSeries",
+)
+VsFreePathTotalsSchema = Schema.from_dict(
+    {
+        "renters": fields.Float(required=True, metadata={"description": "Sum of renters over the horizon."}),
+        "renters_discounted": fields.Float(
+            required=True, metadata={"description": "Sum of renters x the discount factor of each period."}
+        ),
+        "renters_after_end": fields.Float(
+            required=True,
+            metadata={
+                "description": "Sum of renters in the periods after the policy's end (not discounted)."
+            },
+        ),
+        "extra_rent": fields.Float(required=True, metadata={"description": "Sum of extra_rent."}),
+        "extra_rent_after_end": fields.Float(
+            required=True,
+            metadata={"description": "Sum of extra_rent after the policy's end (not discounted)."},
+        ),
+    },
+    name="VsFreePathTotals",
+)
+assert tuple(_VS_FREE_PATH_HELP) == tuple(VS_FREE_PATH_SERIES)
+assert tuple(VsFreePathTotalsSchema._declared_fields) == tuple(VS_FREE_PATH_TOTALS)
+
+
+class OtherFormSchema(Schema):
+    form = fields.String(required=True, metadata={"enum": ["linear", "constant_elasticity"]})
+    discounted_deadweight_loss = fields.Float(required=True)
+    final_consumer_price = fields.Float(required=True)
+    peak_shortage = fields.Float(required=True)
+
 
 DistributionSchema = Schema.from_dict(
     {
@@ -129,17 +189,23 @@ def _path_fields() -> dict:
             )
         else:
             out[name] = _numbers(_SERIES_HELP[name])
-    for name in NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES:  # only where they apply
+    for name in NOMINAL_SERIES + COVERAGE_SERIES + STOCK_SERIES + CONVERSION_SERIES:  # only where they apply
         out[name] = fields.List(fields.Float(), metadata={"description": _SERIES_HELP[name]})
+    out["vs_free_path"] = fields.Nested(
+        VsFreePathSchema,
+        metadata={
+            "description": "Stock schedule only: renters against the free path, per period (MODEL.md 19)."
+        },
+    )
     out["distribution"] = fields.Nested(
         DistributionSchema,
         required=True,
         allow_none=True,
         metadata={
-            "description": "Who gains and who loses (MODEL.md 15), per period, money per model period "
-            "against the period's free market, efficient allocation: the tenants' groups sum to "
-            "consumer_surplus_change, the owners' to producer_surplus_change, all to minus the "
-            "deadweight loss. null under random rationing."
+            "description": "Who gains and who loses (service/engine/MODEL.md section 15), per period, "
+            "money per model period against the period's free market, efficient allocation: the "
+            "tenants' groups sum to consumer_surplus_change, the owners' to producer_surplus_change, "
+            "all to minus the deadweight loss. null under random rationing."
         },
     )
     return out
@@ -174,6 +240,34 @@ class PolicySummarySchema(Schema):
         metadata={
             "description": "Stock schedule only: the most homes below the free path in any period (>= 0)."
         }
+    )
+    vs_free_path_totals = fields.Nested(
+        VsFreePathTotalsSchema,
+        metadata={"description": "Stock schedule only: renters against the free path over the horizon."},
+    )
+    final_vacant_homes = fields.Float(
+        metadata={"description": "Stock schedule only: homes standing empty in the last period."}
+    )
+    total_converted_homes = fields.Float(
+        metadata={"description": "Stock schedule with conversion only: controlled homes converted in all."}
+    )
+    other_form = fields.Nested(
+        OtherFormSchema,
+        required=True,
+        allow_none=True,
+        metadata={
+            "description": "The same request solved in the other curve form (MODEL.md 20): its discounted "
+            "deadweight loss, final consumer price and peak shortage; null where that form has no answer."
+        },
+    )
+    distribution_totals_discounted = fields.Nested(
+        DistributionTotalsSchema,
+        required=True,
+        allow_none=True,
+        metadata={
+            "description": "Each group's change discounted with the welfare options' discount factors and "
+            "summed over the horizon; null under random rationing."
+        },
     )
 
 
@@ -232,7 +326,8 @@ class UncertainInputSchema(Schema):
         required=True,
         metadata={
             "description": "JSON Pointer of the uncertain input: an elasticity, /market/inflation, "
-            "/adjustment/rate or /adjustment/depreciation."
+            "/adjustment/rate, /adjustment/depreciation, /adjustment/conversion or "
+            "/policies/{i}/vacancy_decontrol."
         },
     )
     distribution = fields.String(required=True, metadata={"enum": ["normal", "uniform", "triangular"]})
@@ -264,8 +359,9 @@ class PolicyBandSchema(Schema):
             "policy: consumer_price, quantity, shortage, deadweight_loss, cumulative_deadweight_loss, "
             "discounted_deadweight_loss; under market.inflation also nominal_consumer_price (with a "
             "fixed index the real band times price_index); under the stock schedule "
-            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1 "
-            "covered_price and uncovered_price. Series that do not apply are absent."
+            "homes_below_free_path and rent_above_free_path; on a price ceiling with coverage below 1, "
+            "exempt new homes or vacancy decontrol covered_price and uncovered_price. Series that do not "
+            "apply are absent."
         },
     )
     summary = fields.Dict(
@@ -276,7 +372,10 @@ class PolicyBandSchema(Schema):
             "description": "Percentiles of summary figures: total_deadweight_loss, "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price, final_quantity; unless "
             "rationing is random, each group's total (total_ + a distribution_totals key); under the "
-            "stock schedule final_homes_below_free_path and peak_homes_below_free_path."
+            "stock schedule final_homes_below_free_path, peak_homes_below_free_path, "
+            "vs_free_path_renters_discounted and the other totals of renters against the free path "
+            "(vs_free_path_ + a vs_free_path_totals key), final_vacant_homes and, where controlled homes "
+            "may convert, total_converted_homes."
         },
     )
     binding_share = fields.Float(
@@ -328,7 +427,7 @@ class SensitivityResponseSchema(Schema):
             "description": "The figures of low, high and swing, in ranking order: "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price; unless rationing is "
             "random each group's total (total_ + a distribution_totals key); under the stock schedule "
-            "final_homes_below_free_path and peak_homes_below_free_path."
+            "final_homes_below_free_path, peak_homes_below_free_path and vs_free_path_renters_discounted."
         },
     )
     central = fields.Nested(PathsResponseSchema, required=True)

@@ -7,21 +7,30 @@ A distribution is checked against its elasticity's sign rule: a normal's mean mu
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 from marshmallow import ValidationError, fields, post_load, validate, validates_schema
 
 from .. import limits
 from ..engine.scenario import Adjustment, Market, Scenario
-from ..engine.uncertainty import PARAMETERS, Distribution, UncertainInput, banded_values
+from ..engine.uncertainty import (
+    PARAMETERS,
+    VACANCY_DECONTROL,
+    Distribution,
+    UncertainInput,
+    banded_values,
+)
 from .fields import NumberOrList, Real, StrictSchema, Tagged, WholeNumber
 from .fields import in_range as _range
 from .paths import (
+    POLICY_SCHEMAS,
     SCHEDULE_SCHEMAS,
     DemandSchema,
     GeometricScheduleSchema,
     MarketSchema,
     PathsRequestSchema,
+    PriceCeilingSchema,
     StockScheduleSchema,
     SupplySchema,
     build_market,
@@ -202,11 +211,14 @@ def _schedule_inputs(data, schedule: str) -> Adjustment:
 
     rate = central("schedule_rate", "rate", data.get("rate"))
     depreciation = central("depreciation", "depreciation", data.get("depreciation"))
+    conversion = central("conversion", "conversion", data.get("conversion", 0.0))
     return _UncertainAdjustment(
         schedule=schedule,
         rate=rate,
         half_life=data.get("half_life"),
         depreciation=depreciation,
+        build_limit=data.get("build_limit"),
+        conversion=conversion,
         inputs=tuple(inputs),
     )
 
@@ -228,10 +240,27 @@ class UncertainStockScheduleSchema(StockScheduleSchema):
     depreciation = UncertainElasticity(
         0.0, 1.0, metadata=StockScheduleSchema._declared_fields["depreciation"].metadata
     )
+    conversion = UncertainElasticity(
+        0.0,
+        limits.MAX_ELASTICITY,
+        load_default=0.0,
+        metadata=StockScheduleSchema._declared_fields["conversion"].metadata,
+    )
 
     @post_load
     def _build(self, data, **kwargs) -> Adjustment:
         return _schedule_inputs(data, "stock")
+
+
+class UncertainPriceCeilingSchema(PriceCeilingSchema):
+    """A price ceiling whose vacancy decontrol tau may be a distribution (drawn inside (0, 1])."""
+
+    vacancy_decontrol = UncertainElasticity(
+        0.0,
+        1.0,
+        lower_open=True,
+        metadata=PriceCeilingSchema._declared_fields["vacancy_decontrol"].metadata,
+    )
 
 
 @dataclass(frozen=True)
@@ -255,6 +284,11 @@ class _UncertainRequestSchema(PathsRequestSchema):
         },
         metadata=PathsRequestSchema._declared_fields["adjustment"].metadata,
     )
+    policies = fields.List(
+        Tagged("kind", {**POLICY_SCHEMAS, "price_ceiling": UncertainPriceCeilingSchema}),
+        required=True,
+        validate=validate.Length(1, limits.MAX_POLICIES),
+    )
     supply_correlation = Real(
         load_default=0.0,
         validate=_range(-1.0, 1.0),
@@ -268,7 +302,8 @@ class _UncertainRequestSchema(PathsRequestSchema):
 
     def _scenario_and_inputs(self, data) -> tuple[Scenario, tuple[UncertainInput, ...]]:
         """The scenario at the central values and the uncertain inputs: the market's, then the
-        adjustment's (rate, depreciation), the order of the draws' columns."""
+        adjustment's (rate, depreciation, conversion), then each growth cap's vacancy decontrol
+        in policy order: the order of the draws' columns."""
         market, inputs = data["market"]
         adjustment = data.get("adjustment")
         if isinstance(adjustment, _UncertainAdjustment):
@@ -278,9 +313,44 @@ class _UncertainRequestSchema(PathsRequestSchema):
                 rate=adjustment.rate,
                 half_life=adjustment.half_life,
                 depreciation=adjustment.depreciation,
+                build_limit=adjustment.build_limit,
+                conversion=adjustment.conversion,
             )
-        scenario = PathsRequestSchema._build(self, {**data, "market": market, "adjustment": adjustment})
+        policies = list(data["policies"])
+        for i, policy in enumerate(policies):
+            tau = policy.vacancy_decontrol
+            if isinstance(tau, Distribution):
+                pointer = f"/policies/{i}/vacancy_decontrol"
+                inputs = [*inputs, UncertainInput((VACANCY_DECONTROL, i), pointer, tau)]
+                policies[i] = dataclasses.replace(policy, vacancy_decontrol=tau.central)
+        numbers = {**data, "market": market, "adjustment": adjustment, "policies": policies}
+        scenario = PathsRequestSchema._build(self, numbers)
         return scenario, tuple(inputs)
+
+    @validates_schema
+    def _short_run_changes_something(self, data, **kwargs):
+        """Under `stock` with a rate or half-life the impact elasticity is lambda eps_LR and the
+        short-run elasticity is unused (MODEL.md 20): drawing it would change nothing."""
+        adjustment = data.get("adjustment")
+        if adjustment is None or adjustment.schedule != "stock":
+            return
+        if adjustment.rate is None and adjustment.half_life is None:
+            return
+        if any(item.target == "short_run_elasticity" for item in data["market"][1]):
+            raise ValidationError(
+                {
+                    "market": {
+                        "supply": {
+                            "short_run_elasticity": [
+                                "Under the stock schedule with a rate or half_life the short-run "
+                                "elasticity is not used (building in the first period responds with "
+                                "the rate times the long-run elasticity), so drawing it would change "
+                                "nothing: give it as a number, or leave out rate and half_life."
+                            ]
+                        }
+                    }
+                }
+            )
 
     @post_load
     def _build(self, data, **kwargs) -> UncertainRequest:
@@ -329,7 +399,8 @@ class BandsRequestSchema(_UncertainRequestSchema):
             raise ValidationError(
                 f"draws x (horizon + 1) x banded series is {kept:,}; the limit is "
                 f"{limits.MAX_BAND_VALUES:,} (each policy bands 6 series; 2 more under the stock "
-                "schedule, 2 more on a price ceiling with coverage below 1, 1 more with an uncertain "
+                "schedule, 2 more on a price ceiling with coverage below 1, exempt new homes or vacancy "
+                "decontrol, 1 more with an uncertain "
                 "inflation rate): ask for fewer draws, periods or policies.",
                 "draws",
             )

@@ -223,7 +223,7 @@ def test_a_scenario_with_the_additions_gives_the_same_bits_alone_and_in_a_batch(
 
 
 def test_a_mixed_batch_reports_each_scenarios_additions_only():
-    """API.md "Additions": price_index and nominal prices only with inflation, covered series
+    """openapi/API.md "Additions": price_index and nominal prices only with inflation, covered series
     only on ceilings with coverage below 1, homes below the free path only under the stock,
     even inside one batch that has all of them."""
     from .additions import scenario

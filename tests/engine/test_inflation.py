@@ -203,7 +203,7 @@ def test_a_nominal_ceiling_stops_binding_once_inflation_lowers_the_free_rent_bel
 
 @pytest.mark.parametrize("neutral", [0, 0.0, [0.0], [0.0, 0.0, 0.0]])
 def test_no_inflation_is_bit_for_bit_the_request_without_the_field(contract_request, neutral):
-    """API.md "Additions": every answer without the new fields stays bit for bit as it is;
+    """openapi/API.md "Additions": every answer without the new fields stays bit for bit as it is;
     inflation 0 (a number or a list of zeros) is no inflation: no price_index, no nominal
     series, the same scenario id. Likewise coverage 1 and indexed false."""
     plain = simulate(contract_request)
@@ -220,7 +220,7 @@ def test_no_inflation_is_bit_for_bit_the_request_without_the_field(contract_requ
 
 
 def test_every_demo_without_the_new_fields_answers_as_with_them_at_their_defaults():
-    """API.md "Additions" (bit for bit) on every /v1/paths demo that uses none of them."""
+    """openapi/API.md "Additions" (bit for bit) on every /v1/paths demo that uses none of them."""
     from service.examples import examples
 
     checked = 0

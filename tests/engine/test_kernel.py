@@ -17,25 +17,30 @@ P0, Q0 = 100.0, 1000.0
 PLAIN = (0.0, 1.0, 0.0)  # a, b, f: no stock
 
 
+def curves(ce, eta=-0.7, d=0.0, e=1.0, s=0.0, a=0.0, b=1.0, f=0.0, h=math.inf):
+    """The period's curves as the kernel takes them (kernel.Curves)."""
+    return kernel.Curves(ce, P0, Q0, eta, d, e, s, a, b, f, h)
+
+
 def inverse_demand(ce, eta, d=0.0):
-    return lambda q: kernel._inverse_demand(ce, P0, Q0, eta, d, q)
+    return lambda q: kernel._inverse_demand(curves(ce, eta, d), q)
 
 
 def inverse_supply(ce, e, s=0.0, stock=PLAIN):
-    return lambda q: kernel._inverse_supply(ce, P0, Q0, e, s, *stock, q)
+    return lambda q: kernel._inverse_supply(curves(ce, e=e, s=s, a=stock[0], b=stock[1], f=stock[2]), q)
 
 
 @pytest.mark.parametrize("eta", [-0.3, -0.999999, -1.0, -1.000001, -2.5])
 @pytest.mark.parametrize(("lower", "upper"), [(600.0, 1000.0), (1000.0, 1300.0), (1200.0, 700.0)])
 def test_constant_elasticity_demand_integral_equals_quadrature(eta, lower, upper):
     exact = quad(inverse_demand(True, eta, 0.05), lower, upper, epsrel=1e-12)[0]  # scipy.integrate.quad
-    assert kernel._demand_integral(True, P0, Q0, eta, 0.05, lower, upper) == pytest.approx(exact, rel=1e-10)
+    assert kernel._demand_integral(curves(True, eta, 0.05), lower, upper) == pytest.approx(exact, rel=1e-10)
 
 
 @pytest.mark.parametrize("eps", [0.02, 0.3, 1.0, 4.0])
 def test_constant_elasticity_supply_integral_equals_quadrature(eps):
     exact = quad(inverse_supply(True, eps, -0.03), 900.0, 1000.0, epsrel=1e-12)[0]  # scipy.integrate.quad
-    got = kernel._supply_integral(True, P0, Q0, eps, -0.03, *PLAIN, 900.0, 1000.0)
+    got = kernel._supply_integral(curves(True, e=eps, s=-0.03), 900.0, 1000.0)
     assert got == pytest.approx(exact, rel=1e-10)
 
 
@@ -51,7 +56,7 @@ def test_a_stock_supply_curve_integrates_like_quadrature(ce, rate, depreciation)
     lower, upper = 900.0, 1250.0
     kinks = [x for x in (floor, stock[0]) if lower < x < upper]
     exact = quad(f, lower, upper, points=kinks or None, epsrel=1e-12, limit=200)[0]
-    got = kernel._supply_integral(ce, P0, Q0, 1.5, 0.02, *stock, lower, upper)
+    got = kernel._supply_integral(curves(ce, e=1.5, s=0.02, a=stock[0], b=stock[1], f=stock[2]), lower, upper)
     assert got == pytest.approx(exact, rel=1e-9)
 
 
@@ -60,7 +65,7 @@ def test_linear_supply_integral_floors_marginal_cost_at_zero():
     f = inverse_supply(False, 0.5, 0.2)  # zero-price quantity Q0 (1 + 0.2 - 0.5) = 700
     exact = quad(f, 300.0, 1000.0, points=[700.0])[0]  # scipy.integrate.quad
     assert f(500.0) == 0.0
-    assert kernel._supply_integral(False, P0, Q0, 0.5, 0.2, *PLAIN, 300.0, 1000.0) == pytest.approx(
+    assert kernel._supply_integral(curves(False, e=0.5, s=0.2), 300.0, 1000.0) == pytest.approx(
         exact, rel=1e-12
     )
 
@@ -68,19 +73,19 @@ def test_linear_supply_integral_floors_marginal_cost_at_zero():
 @pytest.mark.parametrize("ce", [False, True])
 def test_vertical_supply_has_zero_marginal_cost_below_capacity(ce):
     assert inverse_supply(ce, 0.0)(900.0) == 0.0
-    assert kernel._supply_integral(ce, P0, Q0, 0.0, 0.0, *PLAIN, 800.0, 1000.0) == 0.0
-    assert [kernel._supply(ce, P0, Q0, 0.0, 0.0, *PLAIN, p) for p in (50.0, 500.0)] == [1000.0, 1000.0]
+    assert kernel._supply_integral(curves(ce, e=0.0), 800.0, 1000.0) == 0.0
+    assert [kernel._supply(curves(ce, e=0.0), p) for p in (50.0, 500.0)] == [1000.0, 1000.0]
 
 
 @pytest.mark.parametrize("ce", [False, True])
 def test_curves_pass_through_the_base_point_when_nothing_shifts(ce):
-    assert kernel._demand(ce, P0, Q0, -0.7, 0.0, P0) == pytest.approx(Q0, rel=1e-15)
-    assert kernel._supply(ce, P0, Q0, 1.3, 0.0, *PLAIN, P0) == pytest.approx(Q0, rel=1e-15)
-    assert kernel._inverse_demand(ce, P0, Q0, -0.7, 0.0, Q0) == pytest.approx(P0, rel=1e-15)
+    assert kernel._demand(curves(ce, -0.7), P0) == pytest.approx(Q0, rel=1e-15)
+    assert kernel._supply(curves(ce, e=1.3), P0) == pytest.approx(Q0, rel=1e-15)
+    assert kernel._inverse_demand(curves(ce, -0.7), Q0) == pytest.approx(P0, rel=1e-15)
 
 
 def test_linear_demand_is_truncated_at_zero_quantity():
-    assert [kernel._demand(False, P0, Q0, -0.5, 0.0, p) for p in (300.0, 500.0)] == [0.0, 0.0]
+    assert [kernel._demand(curves(False, -0.5), p) for p in (300.0, 500.0)] == [0.0, 0.0]
 
 
 @pytest.mark.parametrize("gap", [0.01, 5.0, 60.0, 99.0, -0.01, -30.0])
@@ -97,11 +102,10 @@ def test_a_constant_elasticity_wedge_clears_where_brentq_says(gap, eta):
 
     low, high = (p_star, p_star + gap) if gap > 0 else (1e-9, p_star)
     expected = brentq(excess, max(low, gap + 1e-12), high, xtol=1e-14, rtol=4 * np.finfo(float).eps)
-    top = kernel._supply(True, P0, Q0, e, s, *PLAIN, p_star - gap)
-    bracket = (
-        (p_star, p_star + gap) if gap > 0 else (kernel._inverse_demand(True, P0, Q0, eta, d, top), p_star)
-    )
-    got = kernel._clear(True, P0, Q0, eta, d, e, s, *PLAIN, 1.0, 0.0, 1.0, gap, *bracket)
+    c = curves(True, eta, d, e, s)
+    top = kernel._supply(c, p_star - gap)
+    bracket = (p_star, p_star + gap) if gap > 0 else (kernel._inverse_demand(c, top), p_star)
+    got = kernel._clear(c, 1.0, 0.0, 1.0, gap, *bracket)
     assert got == pytest.approx(expected, rel=1e-12)
 
 
@@ -110,20 +114,17 @@ def test_a_constant_elasticity_wedge_clears_where_brentq_says(gap, eta):
 def test_the_uncovered_rent_clears_the_uncovered_homes(ce, share):
     """(1-s) Qs(Pu) = Qd(Pu) - s Qs(c) (Fallis & Smith 1984, AER 74(1)): against brentq."""
     eta, e, d = -0.6, 1.2, 0.08
-    p_star = kernel._free_point(ce, P0, Q0, eta, d, e, 0.0, *PLAIN, P0)[0]
+    c = curves(ce, eta, d, e)
+    p_star = kernel._free_point(c, P0)[0]
     ceiling = 0.9 * p_star
-    covered = share * kernel._supply(ce, P0, Q0, e, 0.0, *PLAIN, ceiling)
+    covered = share * kernel._supply(c, ceiling)
 
     def excess(p):
-        return (
-            kernel._demand(ce, P0, Q0, eta, d, p)
-            - covered
-            - (1 - share) * kernel._supply(ce, P0, Q0, e, 0.0, *PLAIN, p)
-        )
+        return kernel._demand(c, p) - covered - (1 - share) * kernel._supply(c, p)
 
     expected = brentq(excess, p_star, 10 * p_star, xtol=1e-13)
-    high = kernel._inverse_demand(ce, P0, Q0, eta, d, covered)
-    got = kernel._clear(ce, P0, Q0, eta, d, e, 0.0, *PLAIN, 1 - share, covered, 1.0, 0.0, p_star, high)
+    high = kernel._inverse_demand(c, covered)
+    got = kernel._clear(c, 1 - share, covered, 1.0, 0.0, p_star, high)
     assert got == pytest.approx(expected, rel=1e-11)
     assert got >= p_star
 
@@ -149,4 +150,88 @@ def test_order_statistics_give_numpy_percentiles(rows):
         kernel.percentiles(values, keep, q),
         np.percentile(values[:, keep].astype(float), q, axis=1).T,
         rtol=1e-12,
+    )
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize(("build", "depreciation"), [(0.02, None), (0.02, 0.01), (0.5, 0.3)])
+def test_a_stock_supply_with_a_build_limit_clears_where_brentq_says(ce, build, depreciation):
+    """Qs = min(max((1-lambda) K + lambda K*(P), (1-delta) K), (1+b) K) (MODEL.md 16): the free
+    point on the kinked curve against scipy.optimize.brentq, and never above (1+b) K."""
+    k_prev = Q0
+    floor = 0.0 if depreciation is None else (1.0 - depreciation) * k_prev
+    c = curves(ce, -0.5, 0.3, 1.0, 0.0, 0.7 * k_prev, 0.3, floor, (1.0 + build) * k_prev)
+
+    def excess(p):
+        return kernel._demand(c, p) - kernel._supply(c, p)
+
+    expected = brentq(excess, 1e-6, 100 * P0, xtol=1e-14, rtol=4 * np.finfo(float).eps)
+    price, quantity = kernel._free_point(c, P0)
+    assert price == pytest.approx(expected, rel=1e-12)
+    assert quantity <= (1.0 + build) * k_prev
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize(("lower", "upper"), [(20.0, 180.0), (150.0, 60.0), (0.0, 90.0)])
+def test_the_area_under_a_supply_curve_over_price_equals_quadrature(ce, lower, upper):
+    """int K(p) dp, the base curve truncated at zero, against scipy.integrate.quad."""
+    c = curves(ce, e=1.4, s=-0.1)
+    exact = quad(lambda p: kernel._base_supply(c, p), lower, upper, epsrel=1e-12, limit=200)[0]
+    assert kernel._base_supply_price_integral(c, lower, upper) == pytest.approx(exact, rel=1e-10)
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize(
+    "group",
+    [
+        (300.0, 0.2, 0.0, 0.0, 0.0, 380.0, 520.0),  # both bounds
+        (300.0, 0.08, 0.3, 0.4, 420.0, 250.0, 700.0),  # the exempt group's kink, lower bound only
+        (0.0, 0.6, 0.0, 0.0, 0.0, 0.0, math.inf),  # a share of the curve (no stock)
+    ],
+)
+def test_a_groups_supply_integrates_over_price_like_quadrature(ce, group):
+    """int G(p) dp of a group's clipped, kinked supply (MODEL.md 17), against quad with the
+    kinks given as break points (scipy.integrate.quad)."""
+    c = curves(ce, e=1.2, s=0.05)
+    g = kernel.Group(*group)
+    exact = quad(lambda p: kernel._group_supply(c, g, p), 30.0, 240.0, epsrel=1e-12, limit=400)[0]
+    assert kernel._group_integral(c, g, 30.0, 240.0) == pytest.approx(exact, rel=1e-9)
+    assert kernel._group_integral(c, g, 240.0, 30.0) == pytest.approx(-exact, rel=1e-9)
+
+
+@pytest.mark.parametrize("ce", [False, True])
+@pytest.mark.parametrize(("rule", "tau"), [(-1.0, 0.0), (80.0, 0.0), (80.0, 0.4), (60.0, 1.0)])
+def test_the_market_rent_of_two_groups_clears_where_brentq_says(ce, rule, tau):
+    """Qd(M) = Sc(Rc(M)) + Su(M), Rc(M) = (1 - tau) min(r, M) + tau M (MODEL.md 17): Brent's
+    method in the kernel against scipy.optimize.brentq."""
+    c = curves(ce, -0.6, 0.2, 1.0, 0.0)
+    controlled = kernel.Group(360.0, 0.04, 0.0, 0.0, 0.0, 396.0, 400.0)
+    others = kernel.Group(540.0, 0.06, 0.1, 0.4, 400.0, 534.6, 700.0)
+
+    def excess(m):
+        received = m if rule < 0 else (1 - tau) * min(rule, m) + tau * m
+        return (
+            kernel._demand(c, m)
+            - kernel._group_supply(c, controlled, received)
+            - kernel._group_supply(c, others, m)
+        )
+
+    expected = brentq(excess, 1.0, 1000.0, xtol=1e-14, rtol=4 * np.finfo(float).eps)
+    got = kernel._market_rent(c, controlled, others, rule, tau, P0)
+    assert got == pytest.approx(expected, rel=1e-13)
+
+
+def test_python_and_the_kernel_share_every_code():
+    """One home for every code: the concept modules read kernel.py's dictionaries."""
+    from service.engine import policies, schedules, shocks
+
+    assert policies.KIND_CODES is kernel.KIND_CODES
+    assert schedules.SCHEDULE_CODES is kernel.SCHEDULE_CODES
+    assert shocks.PROFILE_CODES is kernel.PROFILE_CODES
+    assert kernel._CEILING == kernel.KIND_CODES["price_ceiling"]
+    assert kernel._STOCK == kernel.SCHEDULE_CODES["stock"]
+    assert kernel._GROWTH == kernel.PROFILE_CODES["growth"]
+    assert [getattr(kernel._S, name) for name in kernel.SERIES_NAMES] == list(range(len(kernel.SERIES_NAMES)))
+    assert [getattr(kernel._T, name) for name in kernel.SUMMARY_NAMES] == list(
+        range(len(kernel.SUMMARY_NAMES))
     )

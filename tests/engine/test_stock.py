@@ -101,8 +101,12 @@ def test_where_the_depreciation_floor_binds_the_stock_shrinks_by_exactly_delta(f
     assert low["binding"][1] and low["binding"][2]  # a ceiling at half the rent, then the floor
     assert all(b == (1 - delta) * a for a, b in itertools.pairwise(low["quantity"]))
     partial = path(body, "partial")
-    for t in range(1, 11):  # the covered homes are the share s of the floored stock
-        assert partial["covered_quantity"][t] == 0.5 * (1 - delta) * partial["quantity"][t - 1]
+    # MODEL.md section 17: the controlled homes are a group with a stock of their own, split off
+    # as the share s of the standing homes in the rule's first period; a ceiling at half the
+    # rent holds that group on its own depreciation bound, so it shrinks by exactly delta.
+    controlled = partial["covered_quantity"]
+    assert controlled[0] == 0.5 * partial["quantity"][0]
+    assert all(b == (1 - delta) * a for a, b in itertools.pairwise(controlled))
 
 
 def test_the_nerlove_default_rate_gives_the_short_run_elasticity_on_impact():

@@ -316,8 +316,10 @@ def test_degenerate_inputs_collapse_every_band_onto_the_paths_answer():
             for values in by_q.values():
                 assert values == pytest.approx(path[name], rel=1e-6, abs=1e-3), (band["name"], name)
         for name, by_q in band["summary"].items():
-            if name.startswith("total_") and name != "total_deadweight_loss":
+            if name.startswith("total_") and name not in ("total_deadweight_loss", "total_converted_homes"):
                 expected = summary["distribution_totals"][name.removeprefix("total_")]
+            elif name.startswith("vs_free_path_"):
+                expected = summary["vs_free_path_totals"][name.removeprefix("vs_free_path_")]
             else:
                 expected = summary[name]
             for value in by_q.values():
@@ -454,6 +456,7 @@ def test_sensitivity_headlines_follow_the_scenario():
         "total_owners_of_controlled_homes",
         "total_owners_of_uncontrolled_homes",
         "total_government",
+        "total_households_drawn_in",
     ]
     r["welfare"] = {"rationing": "random"}
     assert sensitivity(r)["headlines"] == plain[:3]

@@ -1,4 +1,4 @@
-"""POST /v1/paths and /v1/paths/batch with the additions of MODEL.md sections 12-15 (API.md
+"""POST /v1/paths and /v1/paths/batch with the additions of MODEL.md sections 12-15 (openapi/API.md
 "Additions"): answers carry the new fields exactly when they apply (and every response is
 validated against the OpenAPI document by the `client` fixture), defaults written out change
 nothing, and bad input is a 422 whose JSON Pointer names the field to change."""
@@ -55,7 +55,7 @@ def test_an_answer_without_the_additions_has_none_of_their_fields(client, contra
 
 
 def test_defaults_written_out_keep_the_etag_and_get_304(client, contract_request):
-    """API.md "Additions": ids of requests without the new fields are unchanged, and writing
+    """openapi/API.md "Additions": ids of requests without the new fields are unchanged, and writing
     them at their defaults (inflation 0, coverage 1, indexed false) is the same scenario."""
     first = client.post("/v1/paths", json=contract_request)
     written = copy.deepcopy(contract_request)
@@ -205,7 +205,7 @@ def test_the_messages_say_where_the_misplaced_fields_belong(client):
     assert "Nerlove" in message and "rate" in message
 
 
-# --- the demos of the additions tell the story the README tells ----------------------------------
+# --- the demos of the additions answer the worked examples of MODEL.md --------------------------
 
 
 def _demo(client, name):
@@ -216,8 +216,8 @@ def _demo(client, name):
     return {p["name"]: p for p in body["paths"]}, {s["name"]: s for s in body["summary"]}
 
 
-def test_the_essvane_demo_answers_the_numbers_the_readme_quotes(client):
-    """README, "Inflation" and "A durable stock" (numbers from running the demo). The checks by
+def test_the_essvane_demo_answers_its_worked_example(client):
+    """MODEL.md, "Worked examples", Essvane (numbers from running the demo). The checks by
     hand: MODEL.md section 12 (a freeze's real rent P0/I_t) and section 13 (the stock rule, and
     rho = (1-lambda)|eta|/(|eta| + lambda eps_LR) for the gap after the freeze: derived, and true
     here although incomes and households grow, since both paths face the same linear curves)."""
@@ -253,8 +253,8 @@ def test_the_essvane_demo_answers_the_numbers_the_readme_quotes(client):
     assert round(summary["2% nominal cap"]["discounted_deadweight_loss"] / 1e6) == 513
 
 
-def test_the_corrowdale_demo_answers_the_numbers_the_readme_quotes(client):
-    """README, "Part of the homes under a ceiling" and "Who gains and who loses" (numbers from
+def test_the_corrowdale_demo_answers_its_worked_example(client):
+    """MODEL.md, "Worked examples", Corrowdale (numbers from
     running the demo): uncontrolled rents above the free rent (Fallis & Smith 1984, AER 74(1)),
     both segments clearing (MODEL.md section 14), and the groups adding up to minus the
     deadweight loss (derived, MODEL.md section 15)."""

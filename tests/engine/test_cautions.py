@@ -1,0 +1,239 @@
+"""Each caution of MODEL.md sections 9 and 20 is present exactly when its condition holds,
+called directly through scenario_cautions with the facts the answer assembly passes."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from service.engine.cautions import (
+    FORM_GAP,
+    GENERAL_CAUTION,
+    MISALLOCATION_SHARE,
+    misallocation_shares,
+    other_form_pairs,
+    scenario_cautions,
+)
+
+#: A scenario with none of the conditions: a free market and a tax, efficient rationing.
+QUIET = {
+    "form": "linear",
+    "ceiling_binds": False,
+    "random_rationing": False,
+    "never_binding": [],
+    "other_form": {
+        "free": {"discounted_deadweight_loss": (0.0, 0.0), "final_consumer_price": (1100.0, 1101.0)}
+    },
+}
+
+#: Words that mark each caution (and only it).
+MARKS = {
+    "other form": "Solved with the",
+    "no other answer": "has no answer for",
+    "shock size": "The largest shock is",
+    "lower bound": "efficient rationing (units go",
+    "random ceiling": "ration units at random",
+    "shortage": "not a count of households without a home",
+    "misallocation": "top of the demand curve",
+    "uncontrolled rents": "Fallis & Smith 1984",
+    "conversion": "upper bound",
+    "no distribution": "is not reported under random rationing",
+    "inflation": "nominal rules",
+    "stock": "homes_below_free_path",
+    "unused short run": "is not used",
+    "lifted": "return the moment it ends",
+    "never binds": "Never binds",
+    "control left out": "upkeep and quality",
+}
+
+
+def _present(cautions: list[str]) -> set[str]:
+    return {name for name, words in MARKS.items() if any(words in c for c in cautions)}
+
+
+def _cautions(**changes) -> list[str]:
+    return scenario_cautions(**{**QUIET, **changes})
+
+
+def test_a_quiet_scenario_gets_only_the_general_cautions():
+    cautions = _cautions()
+    assert _present(cautions) == set()
+    assert cautions[-1] == GENERAL_CAUTION
+    assert "owner-occupied market" in cautions[-2] and "linked markets" in cautions[-2]
+
+
+@pytest.mark.parametrize(
+    ("changes", "expected"),
+    [
+        ({"ceiling_binds": True}, {"lower bound", "control left out"}),
+        (
+            {"ceiling_binds": True, "random_rationing": True},
+            {"random ceiling", "no distribution", "control left out"},
+        ),
+        ({"random_rationing": True}, {"no distribution"}),
+        ({"shortage": True}, {"shortage"}),
+        ({"partial_binds": True}, {"uncontrolled rents"}),
+        ({"exempt_binds": True}, {"uncontrolled rents"}),
+        ({"conversion": True}, {"conversion"}),
+        ({"inflation": True}, {"inflation"}),
+        ({"stock": True}, {"stock"}),
+        ({"never_binding": ["cap"]}, {"never binds"}),
+        ({"lifted_ceilings": ["freeze"]}, {"lifted"}),
+        ({"lifted_ceilings": ["freeze"], "stock": True}, {"stock"}),
+        (
+            {"stock": True, "short_run_elasticity": 0.2, "impact_elasticity": 0.45},
+            {"stock", "unused short run"},
+        ),
+        ({"stock": True, "short_run_elasticity": 0.2, "impact_elasticity": 0.2}, {"stock"}),
+        ({"short_run_elasticity": 0.2, "impact_elasticity": 0.45}, set()),
+    ],
+)
+def test_each_caution_appears_exactly_when_its_condition_holds(changes, expected):
+    assert _present(_cautions(**changes)) == expected
+
+
+def test_the_shortage_caution_says_what_a_shortage_counts():
+    (text,) = [c for c in _cautions(shortage=True) if MARKS["shortage"] in c]
+    assert "more space" in text and "would form" in text
+
+
+def test_the_caution_on_a_lifted_ceiling_names_it_and_points_to_the_stock_schedule():
+    (text,) = [c for c in _cautions(lifted_ceilings=["freeze 5 years", "cap"]) if MARKS["lifted"] in c]
+    assert "'freeze 5 years', 'cap'" in text and '"schedule": "stock"' in text
+
+
+def test_the_unused_short_run_caution_gives_both_elasticities():
+    cautions = _cautions(stock=True, short_run_elasticity=0.2, impact_elasticity=0.45)
+    (text,) = [c for c in cautions if MARKS["unused short run"] in c]
+    assert "0.45" in text and "0.2" in text
+
+
+# --- random rationing's misallocation: a quarter of the rent bill (MODEL.md 20) ----------------------
+
+
+@pytest.mark.parametrize(
+    ("share", "random", "present"),
+    [
+        (MISALLOCATION_SHARE + 1e-9, True, True),
+        (0.8, True, True),
+        (MISALLOCATION_SHARE, True, False),  # "above a quarter": a quarter itself is not
+        (0.1, True, False),
+        (0.8, False, False),  # no misallocation without random rationing
+    ],
+)
+def test_a_misallocation_loss_above_a_quarter_of_the_rent_bill_is_cautioned(share, random, present):
+    cautions = _cautions(
+        random_rationing=random,
+        ceiling_binds=True,
+        misallocation_shares={"freeze": (share, 4), "cap": (0.01, 2)},
+    )
+    assert ("misallocation" in _present(cautions)) == present
+    if present:
+        (text,) = [c for c in cautions if MARKS["misallocation"] in c]
+        assert "'freeze'" in text and "period 4" in text and "'cap'" not in text
+
+
+# --- the other curve form replaces the shock-size caution (MODEL.md 20) ----------------------------
+
+
+def test_the_other_form_names_each_policy_and_figure_that_differ_by_more_than_a_tenth_of_the_larger():
+    other_form = {
+        "free": {"discounted_deadweight_loss": (0.0, 0.0), "final_consumer_price": (1200.0, 1250.0)},
+        "freeze": {
+            "discounted_deadweight_loss": (1.0e6, 1.6e6),  # 37.5 % of the larger
+            "final_consumer_price": (1000.0, 1000.0),
+            "peak_shortage": (500.0, 560.0),  # 10.7 %
+        },
+        "cap": {
+            "discounted_deadweight_loss": (2.0e6, 2.2e6),  # 9.1 %: agree
+            "final_consumer_price": (1100.0, 1000.0),  # exactly 10 % of the larger: agree
+            "peak_shortage": (0.0, 0.0),
+        },
+    }
+    cautions = _cautions(other_form=other_form, largest_shock=0.5, largest_shock_period=3)
+    assert _present(cautions) == {"other form"}
+    (text,) = [c for c in cautions if MARKS["other form"] in c]
+    assert "constant-elasticity" in text
+    assert "'freeze' discounted deadweight loss (1,000,000 here, 1,600,000 there)" in text
+    assert "'freeze' peak shortage (500 here, 560 there)" in text
+    assert "'cap'" not in text and "'free'" not in text and "final consumer price" not in text
+
+
+def test_the_other_form_without_an_answer_is_named():
+    cautions = _cautions(form="constant_elasticity", other_form={"free": None, "levy": None})
+    assert _present(cautions) == {"no other answer"}
+    (text,) = [c for c in cautions if MARKS["no other answer"] in c]
+    assert "The linear form has no answer for 'free', 'levy'" in text
+
+
+def test_forms_that_agree_give_no_form_caution_whatever_the_shock():
+    agree = {"p": {"discounted_deadweight_loss": (100.0, 100.0 * (1 + FORM_GAP) - 1e-6)}}
+    assert _present(_cautions(other_form=agree, largest_shock=0.8)) == set()
+
+
+def test_callers_without_other_form_keep_the_shock_size_caution():
+    old = {k: v for k, v in QUIET.items() if k != "other_form"}
+    quiet = scenario_cautions(**old, largest_shock=0.05, largest_shock_period=1)
+    assert _present(quiet) == set()
+    loud = scenario_cautions(
+        **old,
+        largest_shock=0.3,
+        largest_shock_period=2,
+        alternate_feasible=True,
+        price_gap=0.04,
+        price_gap_period=5,
+        quantity_gap=0.02,
+    )
+    assert _present(loud) == {"shock size"}
+    assert any("30.0 % (period 2)" in c and "4.0 % (period 5)" in c for c in loud)
+
+
+def test_every_caution_under_efficient_rationing_avoids_the_words_random_rationing():
+    """tests/engine/test_distribution.py relies on it: only random rationing talks about it."""
+    cautions = _cautions(
+        ceiling_binds=True,
+        shortage=True,
+        partial_binds=True,
+        exempt_binds=True,
+        conversion=True,
+        inflation=True,
+        stock=True,
+        short_run_elasticity=0.2,
+        impact_elasticity=0.3,
+        never_binding=["x"],
+        misallocation_shares={"freeze": (0.9, 1)},
+    )
+    assert not any("random rationing" in c for c in cautions)
+
+
+# --- the facts from the arrays of one scenario ------------------------------------------------------
+
+
+def test_misallocation_shares_are_the_largest_loss_over_the_rent_bill_and_its_period():
+    price = np.array([[1000.0, 1000.0, 900.0], [1000.0, 1000.0, 1000.0]])
+    quantity = np.array([[100.0, 90.0, 80.0], [100.0, 100.0, 100.0]])
+    loss = np.array([[0.0, 0.3 * 12 * 1000 * 90, 0.2 * 12 * 900 * 80], [0.0, 0.0, 0.0]])
+    shares = misallocation_shares(["freeze", "free"], loss, price, quantity, 12.0)
+    assert shares == {"freeze": (pytest.approx(0.3, rel=1e-15), 1)}
+
+
+def test_other_form_pairs_read_the_summary_by_name():
+    summary = {
+        "discounted_deadweight_loss": np.array([0.0, 5.0]),
+        "final_consumer_price": np.array([1100.0, 1000.0]),
+        "peak_shortage": np.array([0.0, 30.0]),
+        "other_discounted_deadweight_loss": np.array([0.0, 7.0]),
+        "other_final_consumer_price": np.array([1120.0, 990.0]),
+        "other_peak_shortage": np.array([0.0, 35.0]),
+        "other_feasible": np.array([1.0, 0.0]),
+    }
+    pairs = other_form_pairs(["free", "levy"], summary)
+    assert pairs == {
+        "free": {
+            "discounted_deadweight_loss": (0.0, 0.0),
+            "final_consumer_price": (1100.0, 1120.0),
+            "peak_shortage": (0.0, 0.0),
+        },
+        "levy": None,
+    }
+    assert _present(_cautions(other_form=pairs)) == {"no other answer"}
