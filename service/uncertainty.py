@@ -12,41 +12,21 @@ from typing import Any
 import numpy as np
 
 from . import engine
-from .engine.batch import pack
 from .engine.uncertainty import (
-    GROUP_TOTALS,
-    STOCK_SUMMARY,
     default_rate_coupled,
+    headlines,
     is_elasticity,
+    one_at_a_time,
     percentile_bands,
-    rows_for,
-    scenario_batch_with,
-    solve_rows,
 )
 from .problems import ProblemError, load_request, problem
 from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
 from .simulation import compute, scenario_id
 
-__all__ = ["bands", "sensitivity"]
+__all__ = ["bands", "headlines", "sensitivity"]
 
 _BANDS = BandsRequestSchema()
 _SENSITIVITY = SensitivityRequestSchema()
-
-#: The headline figures whose swings sensitivity reports, in ranking order; then, unless
-#: rationing is random, each group's total (GROUP_TOTALS), and under the stock schedule the
-#: homes below the free path and the renters' discounted surplus against the free path
-#: (STOCK_SUMMARY): see headlines(), the order of the band summary.
-HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
-
-
-def headlines(scenario) -> tuple[str, ...]:
-    """The headline figures of a scenario's sensitivity, in ranking order."""
-    out = HEADLINES
-    if scenario.welfare.rationing != "random":
-        out += GROUP_TOTALS
-    if scenario.adjustment.schedule == "stock":
-        out += STOCK_SUMMARY
-    return out
 
 
 def _answer_id(endpoint: str, req: UncertainRequest) -> str:
@@ -190,21 +170,9 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     req = load_request(_SENSITIVITY, request)
     central = _central_answer(req)
     inputs = req.inputs
-    k = len(inputs)
-    centre = np.array([i.distribution.central for i in inputs])
-    values = np.tile(centre, (2 * k + 1, 1))
-    ranges = [i.distribution.range() for i in inputs]
-    for j, (low, high) in enumerate(ranges):
-        values[1 + 2 * j, j] = low
-        values[2 + 2 * j, j] = high
-    base, base_rows = pack([req.scenario])
-    batch = scenario_batch_with(base, req.scenario, inputs, values)
-    rows = rows_for(base_rows, values.shape[0], inputs, values)
-    feasible, _, summary, _ = solve_rows(batch, rows)
-    p = base_rows.size
-    feasible = feasible.reshape(p, -1).T  # rows are policy-major
-    names = headlines(req.scenario)
-    figures = {name: summary[name].reshape(p, -1).T for name in names}
+    swings = one_at_a_time(req.scenario, inputs)
+    feasible, figures, ranges = swings.feasible, swings.figures, swings.ranges
+    names = tuple(figures)
 
     entries = []
     for j, item in enumerate(inputs):

@@ -185,3 +185,38 @@ def extended_requests(draw, form=None, stock=None):
         if policy["kind"] in INDEXABLE:
             policy["indexed"] = draw(st.booleans())
     return request
+
+
+# --- the second additions of MODEL.md sections 16-20 ---------------------------------------------
+
+
+@st.composite
+def building_adjustments(draw, market):
+    """The `stock` schedule of stock_adjustments() with the bounds and conversion of MODEL.md 16
+    and 18: each of `depreciation`, `build_limit` (b > 0) and `conversion` (kappa >= 0) present
+    or not."""
+    adjustment = draw(stock_adjustments(market))
+    if draw(st.booleans()):
+        adjustment["build_limit"] = draw(floats(0.001, 0.1))
+    if draw(st.booleans()):
+        adjustment["conversion"] = draw(st.one_of(st.just(0.0), floats(0.001, 0.5)))
+    return adjustment
+
+
+@st.composite
+def building_requests(draw, form=None, stock=True):
+    """Random valid requests of extended_requests() (efficient rationing) with the fields of
+    MODEL.md 16-20: under `stock` (always by default) the bounds and conversion of
+    building_adjustments(), `new_homes` on each price ceiling; `vacancy_decontrol` on growth
+    caps (any schedule)."""
+    request = draw(extended_requests(form=form, stock=stock))
+    if stock:
+        request["adjustment"] = draw(building_adjustments(request["market"]))
+    for policy in request["policies"]:
+        if policy["kind"] != "price_ceiling":
+            continue
+        if stock:
+            policy["new_homes"] = draw(st.sampled_from(["covered", "exempt"]))
+        if "growth" in policy and draw(st.booleans()):
+            policy["vacancy_decontrol"] = draw(floats(0.01, 1.0))
+    return request

@@ -1,10 +1,11 @@
 """Facts about the scalar reference itself (tests/reference.py), MODEL.md sections 12-15.
 
-The engine does not have inflation, the durable stock, partial coverage or the distribution
-yet, so nothing here calls it: these tests check the reference against exact identities of
-the model, so that it can later judge the engine. The source of each check is named beside
-it; "derived" means it follows from the definitions in MODEL.md by algebra (worked out
-here, not taken from a publication).
+Nothing here calls the engine (tests/engine/test_reference.py, test_additions.py and
+test_buildings.py compare it with the reference through tests/engine/harness.py): these tests
+check the reference against exact identities of the model, so that it can judge the engine.
+Sections 16-20 have their own file, tests/test_reference_buildings.py. The source of each
+check is named beside it; "derived" means it follows from the definitions in MODEL.md by
+algebra (worked out here, not taken from a publication).
 """
 
 from __future__ import annotations
@@ -74,31 +75,12 @@ def assert_same_rows(a, b, rel=0.0, rel_money=0.0):
 
 def own_free_market(request, rows, t):
     """P*, Q* of the free market of a path's own period-t curves (its own stock under stock)."""
-    if reference.is_stock(request):
-        return reference.free_market(reference.StockPeriod.at(request, t, rows[t - 1].q))
-    return reference.free_market(reference.Period.of(request, t))
+    return reference.free_market(reference.own_curves(request, rows, t))
 
 
-def curves(request, rows, t):
-    if reference.is_stock(request):
-        return reference.StockPeriod.at(request, t, rows[t - 1].q)
-    return reference.Period.of(request, t)
-
-
-def feasible(request) -> dict | None:
-    """The reference's paths, or None where the scenario is an input error (MODEL.md 4, 11)."""
-    try:
-        out = reference.paths(request)
-    except (ValueError, ZeroDivisionError, OverflowError):
-        return None
-    q0 = request["market"]["quantity"]
-    for rows in out.values():
-        for t, r in enumerate(rows):
-            if r.q <= 1e-6 * q0 or r.pc <= 0 or r.pp <= 0:
-                return None
-            if t and min(own_free_market(request, rows, t)) <= 0:
-                return None
-    return out
+curves = reference.own_curves
+#: The reference's paths, or None where the scenario is an input error (MODEL.md 4, 11).
+feasible = reference.answers
 
 
 # --- Section 12: inflation, nominal rules in real money ---------------------------------------
@@ -299,10 +281,12 @@ def test_depreciation_floor_binds_exactly(form):
     assert floored >= 10
     low = out["low ceiling"]
     assert all(r.q == (1 - delta) * p.q for p, r in itertools.pairwise(low))
-    # Partial coverage under the floor: the covered homes are the share s of the floored stock.
+    # Partial coverage under the floor (MODEL.md 17: each group carries its own stock from the
+    # split s K_0, (1-s) K_0): the controlled group shrinks by exactly delta from its own homes.
     rows = out["partial"]
-    for t in range(1, 11):
-        assert rows[t].covered_quantity == 0.5 * (1 - delta) * rows[t - 1].q
+    assert rows[1].covered_quantity == (1 - delta) * (0.5 * rows[0].q)
+    for t in range(2, 11):
+        assert rows[t].covered_quantity == (1 - delta) * rows[t - 1].covered_quantity
 
 
 @pytest.mark.parametrize("form", FORMS)
@@ -377,14 +361,15 @@ def test_partial_ceiling_linear_closed_form(s):
 @pytest.mark.parametrize("form", FORMS)
 @pytest.mark.parametrize("s", [0.3, 0.75])
 def test_partial_ceiling_both_segments_clear(form, s):
-    """MODEL.md section 14: covered homes s Qs(c), uncovered homes (1-s) Qs(Pu), and together
-    they are what households demand at Pu; shortage Qd(c) - Q; rents averaged by quantity;
-    Pu >= P* (Fallis and Smith 1984, American Economic Review 74(1): controls raise
-    uncontrolled rents); DWL >= 0 and equal to -(dCS + dPS + G) (derived)."""
+    """MODEL.md section 14 (schedules without a stock; section 17 replaces it under stock):
+    covered homes s Qs(c), uncovered homes (1-s) Qs(Pu), and together they are what households
+    demand at Pu; shortage Qd(c) - Q; rents averaged by quantity; Pu >= P* (Fallis and Smith
+    1984, American Economic Review 74(1): controls raise uncontrolled rents); DWL >= 0 and
+    equal to -(dCS + dPS + G) (derived)."""
     request = scenario(
         [{"name": "cap", "kind": "price_ceiling", "growth": 0.0, "coverage": s, "start": 2, "end": 6}],
         form,
-        adjustment={"schedule": "stock", "rate": 0.3, "depreciation": 0.01},
+        adjustment={"schedule": "geometric", "rate": 0.3},
         shocks=[
             {"shifter": "income", "profile": "step", "change": 0.12, "start": 2},
             {"shifter": "income", "profile": "growth", "rate": 0.02},
@@ -471,19 +456,15 @@ def test_partial_coverage_with_random_rationing_is_an_error():
 
 
 def assert_groups_sum(request, out):
-    """Derived identities (MODEL.md section 15): tenants' groups sum to dCS, owners' to dPS,
-    all six to -DWL (money per model period, x k)."""
+    """Derived identities (MODEL.md sections 15, 17 and 20): tenants' groups (households drawn
+    in included) sum to dCS, owners' to dPS, all seven to -DWL (money per model period, x k)."""
     k = request["market"].get("payments_per_period", 1)
     scale = k * request["market"]["price"] * request["market"]["quantity"]
     for name, rows in out.items():
         for t, r in enumerate(rows):
             d = r.distribution
-            tenants = (
-                d["tenants_in_controlled_homes"]
-                + d["tenants_in_uncontrolled_homes"]
-                + d["households_priced_out"]
-            )
-            owners = d["owners_of_controlled_homes"] + d["owners_of_uncontrolled_homes"]
+            tenants = sum(d[g] for g in reference.TENANTS)
+            owners = sum(d[g] for g in reference.OWNERS)
             where = (name, t)
             assert tenants == pytest.approx(k * r.dcs, rel=1e-8, abs=1e-9 * scale), where
             assert owners == pytest.approx(k * r.dps, rel=1e-8, abs=1e-9 * scale), where
@@ -569,7 +550,9 @@ def test_groups_against_surplus_as_areas_over_price(form):
             elif kind != "price_floor":
                 assert d["owners_of_uncontrolled_homes"] == pytest.approx(area(c.qs, p_star, r.pp), rel=1e-8)
             if kind != "price_ceiling":
-                tenants = d["tenants_in_uncontrolled_homes"] + d["households_priced_out"]
+                tenants = (
+                    d["tenants_in_uncontrolled_homes"] + d["households_priced_out"] + d["households_drawn_in"]
+                )
                 assert tenants == pytest.approx(-area(c.qd, p_star, r.pc), rel=1e-8)
             checked += 1
     assert checked >= 40
@@ -607,7 +590,8 @@ def test_groups_identities_and_fallis_smith_on_random_markets(request):
     for rows in out.values():
         for t, r in enumerate(rows):
             if t and r.covered_price is not None and r.binding:
-                p_star = own_free_market(request, rows, t)[0]
+                # The comparator: the same period without the rule on the same stocks (section 17).
+                p_star = r.comparator_price or own_free_market(request, rows, t)[0]
                 assert r.uncovered_price >= p_star * (1 - 1e-12) - 1e-12 * p0
                 assert r.covered_price < p_star
                 assert r.dwl >= -1e-9 * p0 * request["market"]["quantity"]

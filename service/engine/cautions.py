@@ -94,9 +94,14 @@ def _figure(x: float) -> str:
     return f"{x:,.4g}" if abs(x) < 1e4 else f"{x:,.0f}"
 
 
-def _differs(a: float, b: float) -> bool:
-    """|a - b| > FORM_GAP x the larger magnitude (two zeros agree)."""
-    return abs(a - b) > FORM_GAP * max(abs(a), abs(b))
+#: Figures smaller than this share of their scale (the base rent bill over the horizon for money,
+#: the base rent for prices, the base number of homes for quantities) are rounding, not results.
+NEGLIGIBLE = 1e-9
+
+
+def _differs(a: float, b: float, negligible: float = 0.0) -> bool:
+    """|a - b| > FORM_GAP x the larger magnitude; two values within rounding of zero agree."""
+    return max(abs(a), abs(b)) > negligible and abs(a - b) > FORM_GAP * max(abs(a), abs(b))
 
 
 def _names(names: Sequence[str]) -> str:
@@ -107,7 +112,9 @@ def _names(names: Sequence[str]) -> str:
 OtherForm = Mapping[str, Mapping[str, tuple[float, float]] | None]
 
 
-def _other_form_caution(form: str, other_form: OtherForm) -> str | None:
+def _other_form_caution(
+    form: str, other_form: OtherForm, scales: Mapping[str, float] | None = None
+) -> str | None:
     other = "constant-elasticity" if form == "linear" else "linear"
     differ, missing = [], []
     for policy, figures in other_form.items():
@@ -115,7 +122,8 @@ def _other_form_caution(form: str, other_form: OtherForm) -> str | None:
             missing.append(policy)
             continue
         for key, words in OTHER_FORM_FIGURES.items():
-            if key in figures and _differs(*figures[key]):
+            negligible = NEGLIGIBLE * (scales or {}).get(key, 0.0)
+            if key in figures and _differs(*figures[key], negligible):
                 this, there = figures[key]
                 differ.append(f"'{policy}' {words} ({_figure(this)} here, {_figure(there)} there)")
     if not differ and not missing:
@@ -184,6 +192,7 @@ def scenario_cautions(
     conversion: bool = False,
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
+    figure_scales: Mapping[str, float] | None = None,
 ) -> list[str]:
     """Sentences for one scenario, each only where its condition holds.
 
@@ -215,6 +224,9 @@ def scenario_cautions(
         uncontrolled rents rise; with `partial_binds` the Fallis & Smith caution).
     conversion: some path converts controlled homes (converted_homes > 0): its rent effect is
         an upper bound (MODEL.md 18).
+    figure_scales: per figure of OTHER_FORM_FIGURES its scale (money: the base rent bill over the
+        horizon; price: the base rent; quantity: the base homes): values below NEGLIGIBLE of it
+        are rounding and never named as a difference.
     short_run_elasticity, impact_elasticity: the given eps_SR and the impact elasticity used
         (ScenarioBatch.impact_elasticity: lambda eps_LR under `stock` with an explicit rate or
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
@@ -231,7 +243,7 @@ def scenario_cautions(
             quantity_gap,
         )
     else:
-        head = _other_form_caution(form, other_form)
+        head = _other_form_caution(form, other_form, figure_scales)
     if head is not None:
         out.append(head)
     if ceiling_binds and not random_rationing:

@@ -1170,6 +1170,11 @@ def _group_welfare(c, o, controlled, others, p_hat, q_hat, k_pay, random, m_divi
     dcs = tenants_c + tenants_u + priced_out - mis
     dps = owners_c + owners_u
     dwl = -(dcs + dps)
+    # The loss is a difference of transfers far larger than it where the rule mostly moves
+    # money: within rounding of them (and of the rent bill) it is 0.
+    rounding = abs(tenants_c) + abs(tenants_u) + abs(priced_out) + abs(owners_c) + abs(owners_u)
+    if abs(dwl) <= _LOSS_ROUNDING * (rounding + k_pay * p_hat * q_hat):
+        dwl = 0.0
     return Welfare(dcs, dps, 0.0, dwl, mis, tenants_c, tenants_u, priced_out, owners_c, owners_u, 0.0, 0.0)
 
 
@@ -1736,7 +1741,7 @@ def prepare(batch, max_change: float) -> Prepared:
     inputs = ScheduleInputs(
         batch.short_run_elasticity,
         batch.long_run_elasticity,
-        getattr(batch, "impact_elasticity", batch.short_run_elasticity),
+        batch.impact_elasticity,
         batch.schedule,
         batch.schedule_periods.astype(np.float64),
         batch.schedule_rate,

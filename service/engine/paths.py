@@ -38,8 +38,6 @@ class PathArrays:
     supply_elasticity: np.ndarray  # (n, T+1)
     free_price: np.ndarray  # (n, T+1)
     free_quantity: np.ndarray  # (n, T+1)
-    alternate_price: np.ndarray  # (n, T+1): free-market price in the other curve form
-    alternate_quantity: np.ndarray  # (n, T+1)
     alternate_feasible: np.ndarray  # (n,) bool: the other form has P*, Q* > 0 throughout
     discount_factor: np.ndarray  # (n, T+1)
     price_index: np.ndarray  # (n, T+1) I_t (ones without inflation)
@@ -133,7 +131,6 @@ def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepa
     # The Nerlove default eps_SR = lambda eps_LR where the schedule gives no rate (else 1: the
     # request is refused, see prepare's undefined mask).
     nerlove = np.divide(sr, lr, out=np.ones(n), where=(sr > 0.0) & (sr <= lr))
-    zeros = np.zeros(n)
     market = kernel.MarketInputs(
         constant_elasticity=batch.constant_elasticity,
         price=batch.price,
@@ -147,15 +144,14 @@ def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepa
         stock=batch.stock,
         stock_rate=np.where(batch.schedule_rate > 0.0, batch.schedule_rate, nerlove),
         floor_share=batch.floor_share,
-        build_limit=getattr(batch, "build_limit", zeros),
-        conversion=getattr(batch, "conversion", zeros),
+        build_limit=batch.build_limit,
+        conversion=batch.conversion,
         long_run_elasticity=lr,
         random_rationing=batch.random_rationing,
         discount_factor=prepared.factor,
         price_index=index,
         inflation=inflation,
     )
-    count = rows.size
     policy = kernel.RowInputs(
         scenario=rows.scenario,
         kind=rows.kind,
@@ -164,8 +160,8 @@ def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepa
         end=rows.end,
         indexed=rows.indexed,
         coverage=rows.coverage,
-        exempt_new=getattr(rows, "exempt_new", np.zeros(count, dtype=bool)),
-        decontrol=getattr(rows, "decontrol", np.zeros(count)),
+        exempt_new=rows.exempt_new,
+        decontrol=rows.decontrol,
     )
     return market, policy
 
@@ -188,12 +184,8 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     free_quantity = np.where(keep, own[:, 1], batch.quantity[:, None])
     if other is not None:
         alternate_feasible = np.where(ce, ~linear_failed.any(axis=1), True) & ~scenario_bad
-        alternate_ok = keep & alternate_feasible[:, None]
-        alternate_price = np.where(alternate_ok, other[:, 0], batch.price[:, None])
-        alternate_quantity = np.where(alternate_ok, other[:, 1], batch.quantity[:, None])
     else:
         alternate_feasible = np.zeros(batch.size, dtype=bool)
-        alternate_price, alternate_quantity = free_price, free_quantity
 
     # Policy rows: one kernel call, each scenario in its own form (and in the other one).
     names = kernel.SERIES_NAMES if series is None else series
@@ -210,8 +202,6 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
         supply_elasticity=np.where(keep, own[:, 2], market.eps),
         free_price=free_price,
         free_quantity=free_quantity,
-        alternate_price=alternate_price,
-        alternate_quantity=alternate_quantity,
         alternate_feasible=alternate_feasible,
         discount_factor=prepared.factor,
         price_index=market.price_index,

@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from .batch import PolicyRows, ScenarioBatch, pack
-from .cautions import scenario_cautions
+from .cautions import OTHER_FORM_FIGURES, misallocation_shares, scenario_cautions
 from .errors import (
     EngineError,
     InfeasiblePolicyError,
@@ -26,7 +26,7 @@ from .errors import (
 from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
 from .paths import PathArrays, solve
 from .policies import is_ceiling
-from .reduced_form import reduced_form
+from .reduced_form import short_and_long_run
 from .scenario import Scenario
 
 __all__ = [
@@ -60,6 +60,8 @@ STOCK_SERIES = ("homes_below_free_path", "rent_above_free_path", "vacant_homes")
 CONVERSION_SERIES = ("converted_homes",)
 #: Renters against the free path under the stock schedule (MODEL.md 19): answer key -> series.
 VS_FREE_PATH_SERIES = {"renters": "renters_vs_free_path", "extra_rent": "extra_rent_vs_free_path"}
+#: The series the misallocation caution reads (MODEL.md 20), in the order cautions takes them.
+_MISALLOCATION = ("misallocation_loss", "consumer_price", "quantity")
 #: Their totals in the summary: answer key -> kernel summary figure.
 VS_FREE_PATH_TOTALS = {
     "renters": "vs_free_path_renters",
@@ -238,22 +240,6 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
     return EngineError("the scenario could not be computed")
 
 
-def _largest_shock(batch: ScenarioBatch, arrays: PathArrays) -> tuple[np.ndarray, np.ndarray]:
-    """Largest |g| per scenario over shifters and valid periods, and its period."""
-    n, m, periods = batch.size, batch.shifter_change.shape[1], batch.periods
-    if m == 0:
-        return np.zeros(n), np.zeros(n, dtype=np.int64)
-    change = np.abs(np.broadcast_to(batch.shifter_change, (n, m, periods)))
-    per_period = np.where(arrays.valid[:, None, :], change, 0.0).max(axis=1)
-    return per_period.max(axis=1), per_period.argmax(axis=1)
-
-
-def _gaps(arrays: PathArrays) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    price_gap = np.where(arrays.valid, np.abs(arrays.alternate_price / arrays.free_price - 1.0), 0.0)
-    quantity_gap = np.where(arrays.valid, np.abs(arrays.alternate_quantity / arrays.free_quantity - 1.0), 0.0)
-    return price_gap.max(axis=1), price_gap.argmax(axis=1), quantity_gap.max(axis=1)
-
-
 def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays, ceiling) -> np.ndarray:
     """(n,) True where the same request sent in the other curve form has an answer (MODEL.md
     20): its free path stays in the linear form's range, every policy is feasible and finite in
@@ -290,10 +276,7 @@ def solve_scenarios(
 def grouped_rows(rows: PolicyRows, ceiling: np.ndarray | None = None) -> np.ndarray:
     """(R,) True where a ceiling's homes are two groups (MODEL.md 17): coverage below 1, new
     homes exempt, or vacancy decontrol. `ceiling` is is_ceiling(rows.kind) where known."""
-    two = rows.coverage < 1.0
-    exempt = getattr(rows, "exempt_new", None)
-    if exempt is not None:
-        two |= exempt | (rows.decontrol > 0.0)
+    two = (rows.coverage < 1.0) | rows.exempt_new | (rows.decontrol > 0.0)
     if not two.any():
         return two
     return two & (is_ceiling(rows.kind) if ceiling is None else ceiling)
@@ -307,7 +290,7 @@ def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
         names += COVERAGE_SERIES
     if batch.stock.any():
         names += STOCK_SERIES + tuple(VS_FREE_PATH_SERIES.values())
-        if (getattr(batch, "conversion", np.zeros(batch.size)) > 0.0).any():
+        if (batch.conversion > 0.0).any():
             names += CONVERSION_SERIES
     return names
 
@@ -321,20 +304,7 @@ def assemble(
 ) -> list[ScenarioResult | EngineError]:
     """Slice the batch's arrays into one result (or error) per scenario."""
     failed = arrays.scenario_failed(rows)
-    sr_price, sr_quantity = reduced_form(
-        batch.demand_elasticity,
-        batch.short_run_elasticity,
-        batch.demand_shifter_elasticity,
-        batch.supply_shifter_elasticity,
-    )
-    lr_price, lr_quantity = reduced_form(
-        batch.demand_elasticity,
-        batch.long_run_elasticity,
-        batch.demand_shifter_elasticity,
-        batch.supply_shifter_elasticity,
-    )
-    largest, largest_at = _largest_shock(batch, arrays)
-    price_gap, price_gap_at, quantity_gap = _gaps(arrays)
+    (sr_price, sr_quantity), (lr_price, lr_quantity) = short_and_long_run(batch)
     ceiling = is_ceiling(rows.kind)
     starts = np.searchsorted(rows.scenario, np.arange(batch.size + 1))
 
@@ -342,7 +312,8 @@ def assemble(
     binding = arrays.binding
     position = {name: j for j, name in enumerate(arrays.series_names)}
     partial = grouped_rows(rows, ceiling)
-    conversion = getattr(batch, "conversion", np.zeros(batch.size))
+    exempt = ceiling & (rows.exempt_new | (rows.decontrol > 0.0))
+    conversion = batch.conversion
     index = nominal = None
     if batch.has_inflation.any():
         index = arrays.price_index
@@ -369,7 +340,7 @@ def assemble(
         end = int(batch.horizon[i]) + 1
         paths = []
         summaries = []
-        ceiling_binds = partial_binds = False
+        ceiling_binds = partial_binds = exempt_binds = False
         inflated = bool(batch.has_inflation[i])
         stock = bool(batch.stock[i])
         converting = stock and bool(conversion[i] > 0.0)
@@ -401,7 +372,10 @@ def assemble(
             peak_period = int(f[code["peak_shortage_period"]])
             binding_periods = int(f[code["binding_periods"]])
             ceiling_binds = ceiling_binds or (bool(ceiling[r]) and binding_periods > 0)
-            partial_binds = partial_binds or (bool(partial[r]) and binding_periods > 0)
+            partial_binds = partial_binds or (
+                bool(partial[r] and rows.coverage[r] < 1.0) and binding_periods > 0
+            )
+            exempt_binds = exempt_binds or (bool(exempt[r]) and binding_periods > 0)
             summaries.append(
                 PolicySummary(
                     name=policy.name,
@@ -448,18 +422,45 @@ def assemble(
         }
         cautions = scenario_cautions(
             form=scenario.market.form,
-            largest_shock=float(largest[i]),
-            largest_shock_period=int(largest_at[i]),
-            alternate_feasible=bool(arrays.alternate_feasible[i]),
-            price_gap=float(price_gap[i]),
-            price_gap_period=int(price_gap_at[i]),
-            quantity_gap=float(quantity_gap[i]),
             ceiling_binds=ceiling_binds,
-            random_rationing=scenario.welfare.rationing == "random",
+            random_rationing=random,
             never_binding=[s.name for s in summaries if s.kind != "none" and s.binding_periods == 0],
             inflation=inflated,
             stock=stock,
             partial_binds=partial_binds,
+            other_form={
+                s.name: None
+                if s.other_form is None
+                else {key: (getattr(s, key), s.other_form[key]) for key in OTHER_FORM_FIGURES}
+                for s in summaries
+            },
+            shortage=any(s.peak_shortage > 0.0 for s in summaries),
+            lifted_ceilings=[
+                p.name
+                for p, s in zip(scenario.policies, summaries, strict=True)
+                if p.kind == "price_ceiling"
+                and s.binding_periods > 0
+                and p.end is not None
+                and p.end < end - 1
+            ],
+            misallocation_shares=misallocation_shares(
+                [p.name for p in scenario.policies],
+                *(arrays.named(name)[row_index.start : row_index.stop, :end] for name in _MISALLOCATION),
+                float(batch.payments_per_period[i]),
+            )
+            if random
+            else None,
+            exempt_binds=exempt_binds,
+            conversion=converting and any((s.total_converted_homes or 0.0) > 0.0 for s in summaries),
+            short_run_elasticity=float(batch.short_run_elasticity[i]),
+            impact_elasticity=float(batch.impact_elasticity[i]),
+            figure_scales={
+                "discounted_deadweight_loss": float(
+                    batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end
+                ),
+                "final_consumer_price": float(batch.price[i]),
+                "peak_shortage": float(batch.quantity[i]),
+            },
         )
         results.append(
             ScenarioResult(

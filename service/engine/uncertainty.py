@@ -46,6 +46,7 @@ __all__ = [
     "CONVERSION_SUMMARY",
     "COVERAGE_BAND_SERIES",
     "GROUP_TOTALS",
+    "HEADLINES",
     "NOMINAL_BAND_SERIES",
     "PARAMETERS",
     "STOCK_BAND_SERIES",
@@ -56,12 +57,15 @@ __all__ = [
     "BandArrays",
     "BandLayout",
     "Distribution",
+    "Swings",
     "UncertainInput",
     "band_layout",
     "banded_values",
     "default_rate_coupled",
     "draw",
+    "headlines",
     "is_elasticity",
+    "one_at_a_time",
     "percentile_bands",
     "rows_for",
     "scenario_batch_with",
@@ -513,4 +517,54 @@ def percentile_bands(
         binding_share=share,
         infeasible_draws=draws - count,
         feasible_draws=count,
+    )
+
+
+#: The headline figures whose swings sensitivity reports, in ranking order; then, unless
+#: rationing is random, each group's total (GROUP_TOTALS), and under the stock schedule the
+#: homes below the free path and the renters' discounted surplus against the free path
+#: (STOCK_SUMMARY): the order of the band summary.
+HEADLINES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price")
+
+
+def headlines(scenario: Scenario) -> tuple[str, ...]:
+    """The headline figures of a scenario's sensitivity, in ranking order."""
+    out = HEADLINES
+    if scenario.welfare.rationing != "random":
+        out += GROUP_TOTALS
+    if scenario.adjustment.schedule == "stock":
+        out += STOCK_SUMMARY
+    return out
+
+
+@dataclass(frozen=True)
+class Swings:
+    """The one-at-a-time design solved: case 0 has every input at its central value, case
+    1 + 2j input j at its low and case 2 + 2j at its high, the others central."""
+
+    ranges: tuple[tuple[float, float], ...]  # (low, high) of each input
+    feasible: np.ndarray  # (2k+1, policies) bool
+    figures: dict[str, np.ndarray]  # headline name -> (2k+1, policies)
+
+
+def one_at_a_time(scenario: Scenario, inputs: Sequence[UncertainInput]) -> Swings:
+    """Each uncertain input moved alone to its low and high (the range given, or its 5th and 95th
+    percentile) with every other at its central value: 2k + 1 cases of the scenario, solved in one
+    vectorised batch, with the headline figures of each case and policy."""
+    k = len(inputs)
+    centre = np.array([i.distribution.central for i in inputs])
+    values = np.tile(centre, (2 * k + 1, 1))
+    ranges = tuple(i.distribution.range() for i in inputs)
+    for j, (low, high) in enumerate(ranges):
+        values[1 + 2 * j, j] = low
+        values[2 + 2 * j, j] = high
+    base, base_rows = pack([scenario])
+    batch = scenario_batch_with(base, scenario, inputs, values)
+    rows = rows_for(base_rows, values.shape[0], inputs, values)
+    feasible, _, summary, _ = solve_rows(batch, rows)
+    policies = base_rows.size
+    return Swings(
+        ranges=ranges,
+        feasible=feasible.reshape(policies, -1).T,  # rows are policy-major
+        figures={name: summary[name].reshape(policies, -1).T for name in headlines(scenario)},
     )

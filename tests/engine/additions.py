@@ -1,12 +1,15 @@
-"""Builders and comparisons shared by the tests of the additions (MODEL.md sections 12-15:
-inflation, the durable stock, partial coverage, who gains and who loses), all of which go
-through the public API (`service.simulate`, `service.simulate_many`)."""
+"""Builders and comparisons shared by the tests of the additions (MODEL.md sections 12-20:
+inflation, the durable stock, partial coverage, who gains and who loses, homes as buildings),
+all of which go through the public API (`service.simulate`, `service.simulate_many`). The
+comparison with the scalar reference is tests/engine/harness.py."""
 
 from __future__ import annotations
 
 import pytest
 
 from service import ProblemError, simulate
+
+from .. import reference
 
 #: Series that hold money per model period (x k); every other series is a price or a quantity.
 MONEY = (
@@ -21,16 +24,10 @@ MONEY = (
 NOMINAL = ("nominal_consumer_price", "nominal_producer_price")
 COVERAGE = ("covered_price", "uncovered_price", "covered_quantity", "uncovered_quantity")
 STOCK = ("homes_below_free_path", "rent_above_free_path")
-GROUPS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
-TENANTS = GROUPS[:3]
-OWNERS = GROUPS[3:5]
+#: Who gains and who loses (MODEL.md 15 and 20): the seven groups, the tenants' groups (they
+#: sum to the change in consumer surplus) and the owners' (producer surplus); one home, the
+#: scalar reference.
+GROUPS, TENANTS, OWNERS = reference.GROUPS, reference.TENANTS, reference.OWNERS
 FORMS = ("linear", "constant_elasticity")
 
 
