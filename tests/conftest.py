@@ -28,6 +28,16 @@ def floating_point_warnings_fail(monkeypatch):
 
 
 @pytest.fixture(scope="session")
+def compiled_kernels():
+    """The engine's kernels in numba's on-disk cache, for a test that starts the service in
+    another process: it then loads them instead of compiling them, which on a busy machine can
+    outlast its start deadline (when that test runs first, or alone)."""
+    from service.engine.kernel import warm_up
+
+    warm_up()
+
+
+@pytest.fixture(scope="session")
 def app():
     return create_app({"TESTING": True})
 

@@ -16,7 +16,7 @@ ROOT = Path(__file__).resolve().parents[2]
 pytestmark = pytest.mark.slow
 
 
-def test_the_service_survives_a_killed_worker_and_shuts_down_gracefully():
+def test_the_service_survives_a_killed_worker_and_shuts_down_gracefully(compiled_kernels):
     if shutil.which("wrk") is None:
         if os.environ.get("SHOCKPATH_REQUIRE_WRK"):
             pytest.fail("wrk is required here (apt-get install wrk)")

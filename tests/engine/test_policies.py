@@ -1,5 +1,6 @@
-"""service/engine/policies.py: what each policy leaves in the market, as facts that must hold
-in every market (hypothesis over valid requests)."""
+"""Policies (MODEL.md section 5; stated in service/engine/policies.py, applied by the kernel):
+what each policy leaves in the market, as facts that must hold in every market (hypothesis over
+valid requests, through the public API)."""
 
 from __future__ import annotations
 

@@ -1,6 +1,7 @@
-"""service/engine/welfare.py: surplus changes, deadweight loss and discounting, against
-Harberger's triangle, numpy_financial and the facts every market obeys (sources in
-tests/catalogue.py)."""
+"""Welfare (MODEL.md section 6; stated in service/engine/welfare.py, computed by the kernel's
+`_welfare`): surplus changes, deadweight loss, misallocation and discounting, through the public
+API, against Harberger's triangle, Glaeser & Luttmer's misallocation, numpy_financial and the
+facts every market obeys (sources in tests/catalogue.py)."""
 
 from __future__ import annotations
 
@@ -78,12 +79,29 @@ def test_step_discount_schedule_equals_npv_of_each_segment(contract_request):
 
 
 @given(requests())
-def test_deadweight_loss_is_never_negative(request):
+def test_deadweight_loss_is_never_negative_and_misallocation_is_glaeser_luttmers(request):
+    """DWL = int_Q^Q* (Qd^-1 - Qs^-1) dq >= 0 (derived: demand lies above supply between Q and Q*),
+    as the kernel reports it (a negative value beyond rounding is not clamped away). Random
+    rationing of a binding ceiling adds Glaeser & Luttmer's (2003, AER 93(4)) misallocation
+    M = k Q (MV - Pc) / m, checked here against the answer's own series (m = 2 for linear demand,
+    1 + 1/eta for constant elasticity): the kernel floors M at 0, so its sign is checked through
+    MV >= Pc (a ceiling's buyers value the last home at least at the rent), not through M."""
     body = solved(request)
+    market = request["market"]
+    k = market.get("payments_per_period", 1)
+    eta = market["demand"]["price_elasticity"]
+    random = request["welfare"]["rationing"] == "random"
+    # Random rationing is offered under constant elasticity only for eta < -1 (finite M).
+    m = 1.0 + 1.0 / eta if random and market.get("form") == "constant_elasticity" else 2.0
     for path in body["paths"]:
         assert min(path["deadweight_loss"]) >= 0.0
-        assert min(path["misallocation_loss"]) >= 0.0
         assert np.all(np.diff(path["cumulative_deadweight_loss"]) >= 0.0)
+        q, mv, pc = (np.array(path[key]) for key in ("quantity", "marginal_value", "consumer_price"))
+        rationed = np.array(path["binding"]) & (path["kind"] == "price_ceiling") & random
+        assert np.all(mv[rationed] >= pc[rationed] * (1 - 1e-12))
+        expected = np.where(rationed, k * q * (mv - pc) / m, 0.0)
+        tolerance = {"rel": 1e-9, "abs": 1e-12 * k * q.max()}
+        assert path["misallocation_loss"] == pytest.approx(expected.tolist(), **tolerance)
 
 
 @given(requests())

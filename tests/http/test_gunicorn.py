@@ -28,7 +28,7 @@ def _free_port() -> int:
 
 
 @pytest.fixture(scope="module")
-def server(tmp_path_factory):
+def server(tmp_path_factory, compiled_kernels):
     port = _free_port()
     metrics_dir = tmp_path_factory.mktemp("metrics")
     env = {

@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+import copy
 import json
 
+import orjson
+import pytest
+from jsonschema import ValidationError
 from openapi_spec_validator import validate
 
 from service.http.openapi import DOCUMENT_PATH, build_document, render_document
@@ -111,3 +115,92 @@ def test_the_stored_answer_examples_are_what_the_service_answers_now():
     assert EXAMPLES_PATH.read_text(encoding="utf-8") == render_examples(compute_examples()), (
         "service/http/openapi_examples.json is stale: run python -m service.http --write"
     )
+
+
+def _reachable(document, node, seen):
+    """Every schema object reachable from `node` through nesting and local $refs (examples are
+    values, not schemas, and are left out)."""
+    if isinstance(node, list):
+        for item in node:
+            yield from _reachable(document, item, seen)
+    elif isinstance(node, dict):
+        if id(node) in seen:
+            return
+        seen.add(id(node))
+        yield node
+        for key, value in node.items():
+            if key in ("examples", "example"):
+                continue
+            if key == "$ref" and isinstance(value, str) and value.startswith("#/"):
+                target = document
+                for part in value[2:].split("/"):
+                    target = target[part.replace("~1", "/").replace("~0", "~")]
+                yield from _reachable(document, target, seen)
+            else:
+                yield from _reachable(document, value, seen)
+
+
+def test_a_sample_of_a_valid_answer_is_valid(checker):
+    """tests/openapi_check.py validates bodies over 1 MB on a sample that keeps at least
+    SAMPLE_ITEMS + 2 items of every longer list, in order: sound while no response schema asks an
+    array for more items than that or looks at items by position or by content."""
+    from ..openapi_check import SAMPLE_ITEMS
+
+    document = checker.document
+    schemas = [
+        media["schema"]
+        for _, _, operation in _operations(document)
+        for response in operation["responses"].values()
+        for media in response.get("content", {}).values()
+    ]
+    nodes = list(_reachable(document, schemas, set()))
+    assert len(nodes) > 100  # the walk followed the $refs into the components
+    assert not [n for n in nodes if {"prefixItems", "contains", "minContains"} & set(n)]
+    assert max(n.get("minItems", 0) for n in nodes) <= SAMPLE_ITEMS + 2
+
+
+@pytest.fixture(scope="module")
+def large_batch_answer(app):
+    """A batch answer of 2 demo scenarios, its results repeated to 60 (about 2 MB): over the size
+    from which response bodies are validated on a sample."""
+    from service.examples import example_request
+
+    from ..openapi_check import FULL_VALIDATION_BYTES
+
+    scenarios = [example_request("contract-example"), example_request("quillbrook-uncertain-elasticities")]
+    response = app.test_client().post("/v1/paths/batch", json={"scenarios": scenarios[:1] * 2})
+    assert response.status_code == 200
+    body = response.get_json()
+    body["results"] = [copy.deepcopy(result) for _ in range(30) for result in body["results"]]
+    assert len(orjson.dumps(body)) > FULL_VALIDATION_BYTES
+    return body
+
+
+def _validate_batch(checker, body):
+    from ..openapi_check import BASE
+
+    pointer = "#/paths/~1v1~1paths~1batch/post/responses/200/content/application~1json/schema"
+    checker.validate_body({"$ref": BASE + pointer}, orjson.dumps(body))
+
+
+def test_a_large_valid_body_passes_its_sampled_validation(checker, large_batch_answer):
+    _validate_batch(checker, large_batch_answer)
+
+
+@pytest.mark.parametrize("where", [17, 42])
+@pytest.mark.parametrize(
+    "damage",
+    [
+        pytest.param(lambda r: r["paths"][0]["consumer_price"].__setitem__(5, None), id="null-among-numbers"),
+        pytest.param(lambda r: r.pop("summary"), id="missing-field"),
+        pytest.param(lambda r: r.__setitem__("scenario_id", 7), id="mistyped-field"),
+        pytest.param(lambda r: r["paths"][1].__setitem__("binding", "yes"), id="mistyped-series"),
+    ],
+)
+def test_a_sampled_body_still_fails_on_an_item_of_a_new_shape(checker, large_batch_answer, where, damage):
+    """The sample keeps the first item of each shape, so one bad item anywhere is seen."""
+    body = dict(large_batch_answer, results=list(large_batch_answer["results"]))
+    body["results"][where] = copy.deepcopy(body["results"][where])
+    damage(body["results"][where])
+    with pytest.raises(ValidationError):
+        _validate_batch(checker, body)

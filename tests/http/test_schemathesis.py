@@ -1,25 +1,46 @@
 """Generated requests from the live OpenAPI document (schemathesis, an independent client).
 
-Every operation, a fixed seed, bounded examples (over 1,000 cases in all), checked for
-server errors, response schema conformance, documented status codes, content types and
-headers. Valid-looking requests that the model refuses on economic grounds get a documented
-422, so only schemathesis's 'a valid request must succeed' check is left out.
+Every operation, a fixed seed, bounded examples, checked for server errors, response schema
+conformance, documented status codes, content types and headers. Valid-looking requests that
+the model refuses on economic grounds get a documented 422, so only schemathesis's 'a valid
+request must succeed' check is left out.
+
+Three kinds of cases run for each operation: the document's own examples, schemathesis's
+coverage cases (each field of the example at its bounds, of the wrong type, missing, unknown
+fields, other methods and content types: several thousand in all) and a bounded number of
+random ones. What bounds the work, each test only costing less, none leaving a check out:
+
+- a positive case on /v1/bands or /v1/sensitivity draws at most MAX_CASE_DRAWS (the examples ask
+  for 10,000; the largest request allowed has its own test in test_hostile_corpus.py);
+- each chart takes about a second to draw whatever its size, so of the coverage cases that draw
+  one (the bands example again and again with other titles and unit labels) one in
+  CHART_COVERAGE_SHARE runs, chosen by a checksum of the body; every case the service must
+  refuse still runs.
 """
 
 from __future__ import annotations
 
+import zlib
+
+import orjson
 import pytest
 import schemathesis
 from hypothesis import HealthCheck, settings
 from schemathesis.checks import positive_data_acceptance
+from schemathesis.generation import GenerationMode
 
 from service import create_app
 
 APP = create_app({"TESTING": True, "band_threads": 1})
 SCHEMA = schemathesis.openapi.from_wsgi("/openapi.json", APP)
 HEAVY = ("/v1/bands", "/v1/sensitivity")
+CHARTS = ("/v1/charts",)
 # schemathesis's WSGI transport asks for gzip but does not decode it; gzip has its own tests.
 IDENTITY = {"Accept-Encoding": "identity"}
+MAX_CASE_DRAWS = 500
+CHART_COVERAGE_SHARE = 6
+#: Random cases per operation, by test (the coverage cases come on top of these).
+EXAMPLES = {"light": 150, "heavy": 40, "charts": 50}
 
 pytestmark = pytest.mark.slow
 
@@ -30,12 +51,9 @@ def floating_point_warnings_fail():
     overflow by design, and the service must answer them as it does in production."""
 
 
-CALLS: dict[str, int] = {}
-
-
-def _settings(examples: int):
+def _settings(kind: str):
     return settings(
-        max_examples=examples,
+        max_examples=EXAMPLES[kind],
         derandomize=True,
         deadline=None,
         database=None,
@@ -43,24 +61,77 @@ def _settings(examples: int):
     )
 
 
-@SCHEMA.exclude(path=list(HEAVY)).parametrize()
-@_settings(150)
-def test_generated_requests_are_answered_as_documented(case):
-    CALLS[case.operation.label] = CALLS.get(case.operation.label, 0) + 1
+def _has_body(label: str) -> bool:
+    method, path = label.split(" ", 1)
+    return "requestBody" in SCHEMA.raw_schema["paths"][path][method.lower()]
+
+
+@pytest.fixture()
+def cases():
+    """The labels of the cases a generated test ran. Afterwards: every case was of one operation,
+    and one with a request body ran at least its random cases (coverage cases come on top)."""
+    ran: list[str] = []
+    yield ran
+    labels = set(ran)
+    assert len(labels) == 1, labels
+    (label,) = labels
+    if _has_body(label):
+        kind = "charts" if label.endswith(CHARTS) else "heavy" if label.endswith(HEAVY) else "light"
+        assert len(ran) >= EXAMPLES[kind], (label, len(ran))
+
+
+def _at_most_some_draws(context, case):
+    """A positive case of /v1/bands or /v1/sensitivity draws at most MAX_CASE_DRAWS."""
+    body = case.body
+    if (
+        case.meta is not None
+        and case.meta.generation.mode == GenerationMode.POSITIVE
+        and isinstance(body, dict)
+        and type(body.get("draws")) is int
+        and body["draws"] > MAX_CASE_DRAWS
+    ):
+        case.body = dict(body, draws=MAX_CASE_DRAWS)
+    return case
+
+
+def _a_share_of_the_charts_drawn(context, case):
+    """Keeps every case but a share of the positive coverage cases, which each draw a chart."""
+    meta = case.meta
+    if meta is None or meta.phase.name != "coverage" or meta.generation.mode != GenerationMode.POSITIVE:
+        return True
+    checksum = zlib.crc32(orjson.dumps(case.body, option=orjson.OPT_SORT_KEYS, default=str))
+    return checksum % CHART_COVERAGE_SHARE == 0
+
+
+def _run(case, cases):
+    cases.append(case.operation.label)
     case.call_and_validate(headers=IDENTITY, excluded_checks=[positive_data_acceptance])
 
 
+@SCHEMA.exclude(path=[*HEAVY, *CHARTS]).parametrize()
+@_settings("light")
+def test_generated_requests_are_answered_as_documented(case, cases):
+    _run(case, cases)
+
+
+@SCHEMA.hooks.apply(_at_most_some_draws, name="map_case")
 @SCHEMA.include(path=list(HEAVY)).parametrize()
-@_settings(40)
-def test_generated_uncertainty_requests_are_answered_as_documented(case):
-    CALLS[case.operation.label] = CALLS.get(case.operation.label, 0) + 1
-    case.call_and_validate(headers=IDENTITY, excluded_checks=[positive_data_acceptance])
+@_settings("heavy")
+def test_generated_uncertainty_requests_are_answered_as_documented(case, cases):
+    _run(case, cases)
 
 
-def test_over_a_thousand_cases_ran_over_every_operation():
-    """Runs after the generated tests in this module (pytest keeps file order)."""
+@SCHEMA.hooks.apply(_a_share_of_the_charts_drawn, name="filter_case")
+@SCHEMA.include(path=list(CHARTS)).parametrize()
+@_settings("charts")
+def test_generated_chart_requests_are_answered_as_documented(case, cases):
+    _run(case, cases)
+
+
+def test_every_documented_operation_gets_generated_requests():
     documented = {f"{m.upper()} {p}" for p, ops in SCHEMA.raw_schema["paths"].items() for m in ops}
+    generated = {result.ok().label for result in SCHEMA.get_all_operations()}
     # schemathesis does not call the document it was loaded from.
-    assert set(CALLS) == documented - {"GET /openapi.json"}
-    print(f"schemathesis cases: {sum(CALLS.values())} over {len(CALLS)} operations: {CALLS}")
-    assert sum(CALLS.values()) >= 1000, CALLS
+    assert generated == documented - {"GET /openapi.json"}
+    # The heavy and chart tests select operations that exist (the light test takes the rest).
+    assert {f"POST {path}" for path in (*HEAVY, *CHARTS)} <= generated
