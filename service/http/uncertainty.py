@@ -36,7 +36,7 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match"],
 )
 def post_bands() -> Response:
     as_csv = negotiate(TABULAR) == CSV
@@ -73,7 +73,7 @@ def post_bands() -> Response:
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match"],
 )
 def post_sensitivity() -> Response:
     negotiate(JSON_ONLY)

@@ -39,7 +39,15 @@ class ProblemSchema(Schema):
     title = fields.String(required=True)
     status = fields.Integer(required=True)
     detail = fields.String(required=True)
-    errors = fields.List(fields.Nested(FieldErrorSchema), metadata={"description": "Field errors (422)."})
+    errors = fields.List(
+        fields.Nested(FieldErrorSchema), metadata={"description": "Field errors (422), at most 100 listed."}
+    )
+    more_errors = fields.Integer(
+        metadata={"description": "Field errors found beyond the 100 listed (present only when there are)."}
+    )
+    offset = fields.Integer(
+        metadata={"description": "Malformed JSON (400): byte offset (0-based) of the fault in the body as parsed."}
+    )
     period = fields.Integer(metadata={"description": "Period in which the model found the problem."})
     request_id = fields.String(metadata={"description": "Id to quote when reporting a server error."})
 
