@@ -18,7 +18,9 @@ from typing import Any
 import orjson
 
 from . import engine
-from .problems import ProblemError, engine_problem, load_request
+from marshmallow import ValidationError
+
+from .problems import ProblemError, engine_problem, load_request, validation_problem
 from .schemas.paths import OUTPUTS, BatchScenarioSchema, PathsRequestSchema
 
 __all__ = [
@@ -33,7 +35,15 @@ __all__ = [
 ]
 
 _REQUEST = PathsRequestSchema()
-_ID = BatchScenarioSchema(only=("id",))
+_ID = BatchScenarioSchema().fields["id"]
+
+
+def _check_id(value: Any, prefix: str) -> None:
+    """A batch scenario's `id` as BatchScenarioSchema describes it, or ProblemError (422)."""
+    try:
+        _ID.deserialize(value)
+    except ValidationError as error:
+        raise ProblemError(validation_problem({"id": error.messages}, prefix)) from None
 
 
 @contextlib.contextmanager
@@ -212,7 +222,7 @@ def simulate_many(
                 if isinstance(request, dict) and "id" in request:
                     ids[i] = request["id"]
                     request = {k: v for k, v in request.items() if k != "id"}
-                    load_request(_ID, {"id": ids[i]}, prefix.format(i=i))
+                    _check_id(ids[i], prefix.format(i=i))
                 loaded.append(load_scenario(request, prefix.format(i=i)))
                 where.append(i)
             except ProblemError as error:

@@ -146,7 +146,9 @@ def _series(path: dict[str, Any]) -> Iterator[tuple[str, Any]]:
 
 
 def _is_series(value: Any) -> bool:
-    return isinstance(value, np.ndarray) or (isinstance(value, list) and (not value or not isinstance(value[0], str)))
+    return isinstance(value, np.ndarray) or (
+        isinstance(value, list) and (not value or not isinstance(value[0], str))
+    )
 
 
 # --- the vectorised writer -------------------------------------------------------------------
@@ -385,7 +387,9 @@ def _summary_text(items: list[tuple[int | None, dict[str, Any]]], scenario: bool
     names = [n for n in columns if n not in ("name", "kind")]
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\n", quoting=csv.QUOTE_NONNUMERIC)
-    writer.writerow((["scenario", "scenario_id"] if scenario else []) + ["policy", "kind", *names, "cautions"])
+    writer.writerow(
+        (["scenario", "scenario_id"] if scenario else []) + ["policy", "kind", *names, "cautions"]
+    )
     for lead, flat, cautions in rows:
         cells = [_text_cell(flat.get("name", "")), flat.get("kind", "")]
         cells += ["" if flat.get(n) is None else flat[n] for n in names]

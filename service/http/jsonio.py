@@ -90,7 +90,9 @@ def read_body() -> bytes:
     """
     if not _is_json(request.mimetype):
         raise ProblemError(
-            problem(415, "Unsupported Media Type", "Send the body as application/json.", "unsupported-media-type")
+            problem(
+                415, "Unsupported Media Type", "Send the body as application/json.", "unsupported-media-type"
+            )
         )
     encoding = _encoding()
     limit = current_app.config["MAX_CONTENT_LENGTH"]
@@ -185,7 +187,11 @@ def cap_errors(document: dict[str, Any]) -> dict[str, Any]:
     """At most MAX_LISTED_ERRORS field errors; `more_errors` counts the ones left out."""
     errors = document.get("errors")
     if isinstance(errors, list) and len(errors) > MAX_LISTED_ERRORS:
-        document = {**document, "errors": errors[:MAX_LISTED_ERRORS], "more_errors": len(errors) - MAX_LISTED_ERRORS}
+        document = {
+            **document,
+            "errors": errors[:MAX_LISTED_ERRORS],
+            "more_errors": len(errors) - MAX_LISTED_ERRORS,
+        }
     return document
 
 

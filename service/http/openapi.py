@@ -28,6 +28,7 @@ from ..schemas.responses import (
     ExampleListSchema,
     HealthSchema,
     PathsResponseSchema,
+    PathsSummarySchema,
     ProblemSchema,
     SensitivityResponseSchema,
 )
@@ -67,6 +68,7 @@ _SCHEMAS = {
     "PathsRequest": PathsRequestSchema,
     "BatchRequest": BatchRequestSchema,
     "PathsResponse": PathsResponseSchema,
+    "PathsSummary": PathsSummarySchema,
     "BatchResponse": BatchResponseSchema,
     "BandsRequest": BandsRequestSchema,
     "BandsResponse": BandsResponseSchema,
@@ -149,6 +151,8 @@ def _content(kind: str) -> dict[str, Any]:
                 "description": "A PathsRequest or a BandsRequest, as the example's endpoint says.",
             }
         }
+    if " | " in kind:  # one of several schemas, tried in order
+        return {"schema": {"oneOf": [{"$ref": f"#/components/schemas/{k}"} for k in kind.split(" | ")]}}
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 
@@ -232,7 +236,12 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
     return out
 
 
-_NOT_FOUND = {"type": "urn:shockpath:problem:not-found", "title": "Not Found", "status": 404, "detail": "No such resource."}
+_NOT_FOUND = {
+    "type": "urn:shockpath:problem:not-found",
+    "title": "Not Found",
+    "status": 404,
+    "detail": "No such resource.",
+}
 
 
 def build_document() -> dict[str, Any]:

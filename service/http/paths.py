@@ -29,8 +29,9 @@ _BATCH = BatchRequestSchema()
     request="PathsRequest",
     responses={
         "200": {
-            "description": "A path per policy, period 0 (the base point) first.",
-            "content": {"application/json": "PathsResponse", "text/csv": "csv"},
+            "description": 'A path per policy, period 0 (the base point) first; with "output": "summary" '
+            "only the summaries and cautions (PathsSummary).",
+            "content": {"application/json": "PathsResponse | PathsSummary", "text/csv": "csv"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -39,7 +40,33 @@ _BATCH = BatchRequestSchema()
     parameters=["If-None-Match", "layout"],
 )
 def post_paths() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    return _paths(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/paths/csv",
+    operationId="postPathsCsv",
+    summary="POST /v1/paths answered as CSV whatever the Accept header (for generated clients)",
+    request="PathsRequest",
+    responses={
+        "200": {
+            "description": "The paths as CSV (long form by default; `layout=wide`; summaries with "
+            '`"output": "summary"`).',
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match", "layout"],
+)
+def post_paths_csv() -> Response:
+    negotiate((CSV,))
+    return _paths(True)
+
+
+def _paths(as_csv: bool) -> Response:
     layout = csv_layout()
     raw = read_json()
     scenario = load_scenario(raw)
@@ -94,7 +121,33 @@ def post_paths() -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_batch() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    return _batch(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/paths/batch/csv",
+    operationId="postPathsBatchCsv",
+    summary="POST /v1/paths/batch answered as CSV whatever the Accept header (for generated clients)",
+    request="BatchRequest",
+    responses={
+        "200": {
+            "description": "The results as CSV, streamed (long form by default; `layout=wide`; summaries "
+            'with `"output": "summary"`).',
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match", "layout"],
+)
+def post_batch_csv() -> Response:
+    negotiate((CSV,))
+    return _batch(True)
+
+
+def _batch(as_csv: bool) -> Response:
     layout = csv_layout()
     raw = read_json()
     tag = request_tag("/v1/paths/batch", raw, f"csv-{layout}" if as_csv else "json")

@@ -39,7 +39,32 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     parameters=["If-None-Match"],
 )
 def post_bands() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    return _bands(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/bands/csv",
+    operationId="postBandsCsv",
+    summary="POST /v1/bands answered as CSV whatever the Accept header (for generated clients)",
+    request="BandsRequest",
+    responses={
+        "200": {
+            "description": "The bands in long form.",
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match"],
+)
+def post_bands_csv() -> Response:
+    negotiate((CSV,))
+    return _bands(True)
+
+
+def _bands(as_csv: bool) -> Response:
     raw = read_json()
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
 

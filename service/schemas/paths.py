@@ -395,7 +395,9 @@ class PriceCeilingSchema(_PolicyBase):
     )
     base_level = Flag(
         load_default=False,
-        metadata={"description": "true: the ceiling is the base price P0, a freeze (instead of level or growth)."},
+        metadata={
+            "description": "true: the ceiling is the base price P0, a freeze (instead of level or growth)."
+        },
     )
     growth = Real(
         validate=_range(-1.0, limits.MAX_RATE, low_ok=False),

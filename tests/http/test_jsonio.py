@@ -70,7 +70,10 @@ def test_an_unknown_encoding_is_415(client, encoding):
 
 def test_identity_encoding_is_no_encoding(client, contract_request):
     response = client.post(
-        "/v1/paths", data=json.dumps(contract_request), content_type=JSON, headers={"Content-Encoding": "identity"}
+        "/v1/paths",
+        data=json.dumps(contract_request),
+        content_type=JSON,
+        headers={"Content-Encoding": "identity"},
     )
     assert response.status_code == 200
 
@@ -118,7 +121,9 @@ def test_error_documents_list_at_most_100_errors_and_count_the_rest(client, cont
 
 
 def test_a_document_with_few_errors_has_no_count_of_the_rest(client, contract_request):
-    body = _problem(client.post("/v1/paths", data=json.dumps({**contract_request, "x": 1}), content_type=JSON), 422)
+    body = _problem(
+        client.post("/v1/paths", data=json.dumps({**contract_request, "x": 1}), content_type=JSON), 422
+    )
     assert "more_errors" not in body and len(body["errors"]) == 1
 
 
