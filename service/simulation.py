@@ -16,10 +16,9 @@ from collections.abc import Sequence
 from typing import Any
 
 import orjson
-
-from . import engine
 from marshmallow import ValidationError
 
+from . import engine
 from .problems import ProblemError, engine_problem, load_request, validation_problem
 from .schemas.paths import OUTPUTS, BatchScenarioSchema, PathsRequestSchema
 

@@ -28,8 +28,8 @@ from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, Stric
 from .fields import in_range as _range
 
 __all__ = [
-    "POLICY_SCHEMAS",
     "OUTPUTS",
+    "POLICY_SCHEMAS",
     "BatchRequestSchema",
     "BatchScenarioSchema",
     "DemandSchema",

@@ -30,8 +30,10 @@ def generated(tmp_path_factory):
     config.write_text("post_hooks: []\n", encoding="utf-8")
     tool = Path(sys.executable).with_name("openapi-python-client")
     done = subprocess.run(
-        [str(tool), "generate", "--path", str(DOCUMENT_PATH), "--meta", "none"]
-        + ["--output-path", str(folder / PACKAGE), "--config", str(config)],
+        [
+            *(str(tool), "generate", "--path", str(DOCUMENT_PATH), "--meta", "none"),
+            *("--output-path", str(folder / PACKAGE), "--config", str(config)),
+        ],
         capture_output=True,
         text=True,
         timeout=120,
