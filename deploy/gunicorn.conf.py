@@ -29,11 +29,12 @@ keepalive = int(os.environ.get("SHOCKPATH_KEEPALIVE", "5"))
 timeout = int(os.environ.get("SHOCKPATH_TIMEOUT", "60"))
 graceful_timeout = int(os.environ.get("SHOCKPATH_GRACEFUL_TIMEOUT", "30"))
 # Recycle workers now and then so that memory fragmentation cannot accumulate; one at a time
-# (service/http/workers.py): first-generation limits are staggered and a recycle lock keeps
-# two replacements at least SHOCKPATH_RECYCLE_SPACING seconds apart.
+# (service/http/workers.py): first-generation limits are staggered, and a recycle lock lets a
+# worker leave only when the previous leaver's replacement has booted and has been up for
+# SHOCKPATH_RECYCLE_SPACING seconds.
 max_requests = int(os.environ.get("SHOCKPATH_MAX_REQUESTS", "5000"))
 max_requests_jitter = max(0, max_requests // 10)
-recycle_spacing = float(os.environ.get("SHOCKPATH_RECYCLE_SPACING", "5"))
+recycle_spacing = float(os.environ.get("SHOCKPATH_RECYCLE_SPACING", "2"))
 recycle_defer = max(1, max_requests // 20)
 # Request line and headers: small; bodies are limited by the app (SHOCKPATH_MAX_BODY_BYTES).
 limit_request_line = 8190
@@ -94,15 +95,24 @@ def post_fork(server, worker):
     worker.max_requests = staggered_limit(max_requests, worker.age, server.num_workers, jitter)
 
 
-def pre_request(worker, req):
-    """Before each request: a worker about to reach its limit recycles only if no other
-    worker did in the last recycle_spacing seconds (else its limit moves on)."""
+def _recycle_lock(worker):
     from service.http.workers import RecycleLock
 
     lock = getattr(worker, "_shockpath_recycle", None)
     if lock is None:
         lock = worker._shockpath_recycle = RecycleLock(_recycle_file, recycle_spacing)
-    lock.hold_back(worker, recycle_defer)
+    return lock
+
+
+def post_worker_init(worker):
+    """A new worker is up: a recycle under way is over (the next may start after the spacing)."""
+    _recycle_lock(worker).release()
+
+
+def pre_request(worker, req):
+    """Before each request: a worker about to reach its limit recycles only if it gets the
+    recycle lock (else its limit moves on)."""
+    _recycle_lock(worker).hold_back(worker, recycle_defer)
 
 
 def child_exit(server, worker):
