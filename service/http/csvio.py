@@ -232,7 +232,7 @@ class _Writer:
         integer = np.isin(var, [self.variables[n] for n in names if n in _INTEGERS])
         span = int(lengths.max())
         # period and variable side by side: one cell per (variable, period)
-        middle = _cells([b'%d,%s,' % (t, _quoted(n).encode()) for n in names for t in range(span)])
+        middle = _cells([b"%d,%s," % (t, _quoted(n).encode()) for n in names for t in range(span)])
         text = _join(
             [
                 _cells(self.leads)[np.repeat(np.array(self.lead_of), lengths)],
