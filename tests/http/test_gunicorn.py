@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import http.client
+import itertools
 import json
 import os
 import signal
@@ -392,7 +393,7 @@ def test_workers_recycle_one_at_a_time_without_losing_a_request(tmp_path):
     # serves meanwhile, held back by the lock): 10 s see at least two recycles.
     assert len(leaving) >= 2, "10 s of requests at 40-60 per worker should recycle twice or more"
     assert exits >= len(leaving) - 1  # the master counts them (the last may still be exiting)
-    for (left, _), (next_left, _) in zip(leaving, leaving[1:], strict=False):
+    for (left, _), (next_left, _) in itertools.pairwise(leaving):
         assert any(left <= booted <= next_left for booted, _ in booting), (
             "a second worker left before the first one's replacement booted",
             left,
