@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from flask import Response, current_app, g
 
+from ..problems import ProblemError, validation_problem
 from ..uncertainty import bands, sensitivity
 from .conditional import attachment, conditional, request_tag
 from .csvio import bands_csv
@@ -65,7 +66,7 @@ def post_bands_csv() -> Response:
 
 
 def _bands(as_csv: bool) -> Response:
-    raw = read_json()
+    raw = full_output_only(read_json())
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
 
     def produce() -> Response:
@@ -102,7 +103,7 @@ def _bands(as_csv: bool) -> Response:
 )
 def post_sensitivity() -> Response:
     negotiate(JSON_ONLY)
-    raw = read_json()
+    raw = full_output_only(read_json())
 
     def produce() -> Response:
         body = sensitivity(raw)
@@ -111,3 +112,14 @@ def post_sensitivity() -> Response:
         return json_response(body)
 
     return conditional(request_tag("/v1/sensitivity", raw, "json"), produce)
+
+
+def full_output_only(raw):
+    """Bands and sensitivity have no summary form: "output" may only be "full" (422 otherwise)."""
+    if isinstance(raw, dict) and raw.get("output", "full") != "full":
+        raise ProblemError(
+            validation_problem(
+                {"output": ['Only /v1/paths and batches answer "summary"; here it is "full".']}
+            )
+        )
+    return raw

@@ -551,7 +551,7 @@ def _output(**kwargs) -> fields.String:
         validate=validate.OneOf(OUTPUTS),
         metadata={
             "description": '"full" (default): every series; "summary": only the summaries and cautions '
-            "(sweeps). Not part of the scenario id.",
+            "(sweeps; /v1/paths and batches only). Not part of the scenario id.",
             **kwargs,
         },
     )

@@ -182,3 +182,12 @@ def test_a_new_nested_series_reaches_the_csv_without_code_changes():
         f"vs_free_path.extra_rent [{wide_unit('vs_free_path.extra_rent')}]",
     ]
     assert wide[2] == ["cap", "1", "9.5", "-0.5", "12.25"]
+
+
+def test_bands_have_no_summary_form(client):
+    from service.examples import example_request
+
+    request = example_request("quillbrook-uncertain-elasticities") | {"output": "summary", "draws": 100}
+    response = client.post("/v1/bands", json=request)
+    assert response.status_code == 422
+    assert [e["pointer"] for e in response.get_json()["errors"]] == ["/output"]
