@@ -354,7 +354,7 @@ def _wide(items: list[tuple[int | None, dict[str, Any]]], scenario: bool) -> Ite
                 block[:, index[variable]] = values
             leads.append((head + _quoted(path["name"]) + ",").encode())
             blocks.append(block)
-            rows += periods
+            rows += periods * len(names)  # values, so that a block holds about BLOCK_ROWS of them
         if rows >= BLOCK_ROWS:
             yield flush()
     yield flush()
