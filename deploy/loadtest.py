@@ -257,7 +257,16 @@ def repeat(seconds: int, config: str) -> dict:
         with tempfile.TemporaryDirectory() as folder:
             script = wrk_script(Path(folder), [body])
             output = subprocess.run(
-                ["wrk", "-t2", f"-c{CONNECTIONS}", f"-d{seconds}s", "--latency", "-s", str(script), f"http://127.0.0.1:{port}"],
+                [
+                    "wrk",
+                    "-t2",
+                    f"-c{CONNECTIONS}",
+                    f"-d{seconds}s",
+                    "--latency",
+                    "-s",
+                    str(script),
+                    f"http://127.0.0.1:{port}",
+                ],
                 capture_output=True,
                 text=True,
                 timeout=seconds + 60,

@@ -191,3 +191,13 @@ def test_bands_have_no_summary_form(client):
     response = client.post("/v1/bands", json=request)
     assert response.status_code == 422
     assert [e["pointer"] for e in response.get_json()["errors"]] == ["/output"]
+
+
+def test_a_streamed_batch_csv_compresses_to_the_same_text(app, sweep):
+    import gzip
+
+    client = app.test_client()
+    plain = client.post("/v1/paths/batch", json=sweep, headers=CSV)
+    packed = client.post("/v1/paths/batch", json=sweep, headers={**CSV, "Accept-Encoding": "gzip"})
+    assert plain.is_streamed and packed.headers["Content-Encoding"] == "gzip"
+    assert gzip.decompress(packed.get_data()) == plain.get_data()
