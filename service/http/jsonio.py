@@ -43,13 +43,14 @@ MAX_LISTED_ERRORS = 100
 #: Content-Encoding values a request body may carry ("identity" is the same as none).
 ENCODINGS = ("gzip", "x-gzip", "identity")
 
-try:  # the server's own errors while the app reads the body (gunicorn is the deployment server)
-    from gunicorn.http.errors import ParseException as _ServerParseError
-except ImportError:  # pragma: no cover - gunicorn is a dependency
-    _ServerParseError = ValueError
+#: Errors a server raises while the app reads a body that cannot be read to its end, besides
+#: the parse errors of gunicorn's HTTP reader (InvalidChunkSize, ChunkMissingTerminator, ...),
+#: which are recognised by their module so that the app does not import the server.
+_UNREADABLE = (OSError, EOFError, ClientDisconnected)
 
-#: Errors a server raises while the app reads a body that cannot be read to its end.
-_UNREADABLE = (_ServerParseError, OSError, EOFError, ClientDisconnected)
+
+def _unreadable(error: Exception) -> bool:
+    return isinstance(error, _UNREADABLE) or type(error).__module__.startswith("gunicorn.http")
 
 
 def _is_json(mimetype: str) -> bool:
@@ -107,7 +108,9 @@ def read_body() -> bytes:
             data = request.stream.read(limit + 1)
             if request.content_length is not None and len(data) < request.content_length:
                 raise EOFError("body shorter than its Content-Length")
-    except _UNREADABLE as error:
+    except Exception as error:
+        if not _unreadable(error):
+            raise
         raise ProblemError(
             problem(
                 400,
