@@ -201,3 +201,14 @@ def test_a_streamed_batch_csv_compresses_to_the_same_text(app, sweep):
     packed = client.post("/v1/paths/batch", json=sweep, headers={**CSV, "Accept-Encoding": "gzip"})
     assert plain.is_streamed and packed.headers["Content-Encoding"] == "gzip"
     assert gzip.decompress(packed.get_data()) == plain.get_data()
+
+
+@pytest.mark.parametrize("layout", ["long", "wide"])
+def test_a_failed_scenario_is_one_problem_row_under_its_id(client, sweep, layout):
+    sweep["scenarios"][1]["market"]["demand"]["price_elasticity"] = 0.5
+    rows = _rows(client.post(f"/v1/paths/batch?layout={layout}", json=sweep, headers=CSV))
+    failed = [r for r in rows if r["scenario"] == "freeze to 5"]
+    assert len(failed) == 1
+    text = failed[0]["value"] if layout == "long" else failed[0]["policy"]
+    assert "price_elasticity" in text or "elasticity" in text.lower()
+    assert {r["scenario"] for r in rows} == {"freeze to 2", "freeze to 5", "freeze to 8"}
