@@ -2,6 +2,8 @@
 
     .venv/bin/python deploy/loadtest.py --seconds 60            # the long run (deploy/OPERATIONS.md figures)
     .venv/bin/python deploy/loadtest.py --seconds 8 --check     # the short run CI asserts on
+    .venv/bin/python deploy/loadtest.py --repeat --seconds 30   # one request repeated; probes
+                                                                # during two largest CSV batches
 
 Starts gunicorn with deploy/gunicorn.conf.py on a free loopback port, warms it up, drives it
 with wrk (2 threads, 4 connections) for a fixed time, SIGKILLs one worker half-way, and
@@ -60,7 +62,9 @@ def rss_mib(pid: int) -> float:
     return 0.0
 
 
-def start_gunicorn(port: int, metrics_dir: str, **settings: str) -> subprocess.Popen:
+def start_gunicorn(
+    port: int, metrics_dir: str, config: str = "deploy/gunicorn.conf.py", **settings: str
+) -> subprocess.Popen:
     """gunicorn with deploy/gunicorn.conf.py and two workers on 127.0.0.1:port, once ready.
 
     Extra SHOCKPATH_* settings may be given as keyword arguments (benchmark_echo="true")."""
@@ -76,7 +80,7 @@ def start_gunicorn(port: int, metrics_dir: str, **settings: str) -> subprocess.P
         [
             str(Path(sys.executable).with_name("gunicorn")),
             "--config",
-            "deploy/gunicorn.conf.py",
+            config,
             "service:create_app()",
         ],
         cwd=ROOT,
@@ -238,11 +242,92 @@ def graceful_shutdown() -> dict:
     return result
 
 
+def repeat(seconds: int, config: str) -> dict:
+    """One demo request repeated by wrk (2 threads, 4 kept-alive connections) for `seconds`,
+    then /healthz probed every 0.1 s while two of the largest batches are answered as CSV."""
+    from tests.benchmarks.bench_service import typical_request
+
+    if shutil.which("wrk") is None:
+        raise SystemExit("wrk is needed (Debian package wrk)")
+    port = free_port()
+    metrics_dir = tempfile.mkdtemp(prefix="shockpath-repeat-")
+    process = start_gunicorn(port, metrics_dir, config)
+    try:
+        body = demo_bodies()[0]
+        with tempfile.TemporaryDirectory() as folder:
+            script = wrk_script(Path(folder), [body])
+            output = subprocess.run(
+                [
+                    "wrk",
+                    "-t2",
+                    f"-c{CONNECTIONS}",
+                    f"-d{seconds}s",
+                    "--latency",
+                    "-s",
+                    str(script),
+                    f"http://127.0.0.1:{port}",
+                ],
+                capture_output=True,
+                text=True,
+                timeout=seconds + 60,
+            ).stdout
+        load = parse_wrk(output)
+        load["max_ms"] = _max_latency(output)
+        batch = json.dumps({"scenarios": [typical_request(49)] * 1000}).encode()
+        answers: list[tuple[int, int, float]] = []
+
+        def large():
+            conn = http.client.HTTPConnection("127.0.0.1", port, timeout=600)
+            started = time.perf_counter()
+            conn.request(
+                "POST", "/v1/paths/batch", batch, {"Content-Type": "application/json", "Accept": "text/csv"}
+            )
+            response = conn.getresponse()
+            size = len(response.read())
+            answers.append((response.status, size, round(time.perf_counter() - started, 2)))
+
+        threads = [threading.Thread(target=large) for _ in range(2)]
+        for t in threads:
+            t.start()
+        probes: list[float] = []
+        time.sleep(0.3)
+        while any(t.is_alive() for t in threads):
+            started = time.perf_counter()
+            _status, _ = request(port, "GET", "/healthz", timeout=60)
+            probes.append(time.perf_counter() - started)
+            time.sleep(0.1)
+        for t in threads:
+            t.join()
+        return {
+            "load": load,
+            "csv_batches": answers,
+            "healthz_probes": len(probes),
+            "healthz_worst_ms": round(1000 * max(probes, default=0.0), 1),
+        }
+    finally:
+        process.send_signal(signal.SIGTERM)
+        try:
+            process.wait(timeout=40)
+        except subprocess.TimeoutExpired:
+            process.kill()
+        shutil.rmtree(metrics_dir, ignore_errors=True)
+
+
+def _max_latency(text: str) -> float:
+    m = re.search(r"^\s*Latency\s+\S+\s+\S+\s+([\d.]+)(us|ms|s)\b", text, re.M)
+    return float(m.group(1)) * {"us": 1e-3, "ms": 1.0, "s": 1e3}[m.group(2)] if m else float("nan")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser()
     parser.add_argument("--seconds", type=int, default=60)
     parser.add_argument("--check", action="store_true", help="assert the short run's expectations")
+    parser.add_argument("--repeat", action="store_true", help="one repeated request; probes during CSV")
+    parser.add_argument("--config", default="deploy/gunicorn.conf.py", help="gunicorn configuration")
     args = parser.parse_args()
+    if args.repeat:
+        print(json.dumps(repeat(args.seconds, args.config), indent=2))
+        return
     result = run(args.seconds)
     term = graceful_shutdown()
     print(json.dumps({"load": result, "sigterm": term}, indent=2, default=str))

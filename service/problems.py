@@ -13,12 +13,28 @@ from .schemas.pointers import field_errors
 __all__ = ["ProblemError", "engine_problem", "load_request", "problem", "validation_problem"]
 
 PROBLEM_BASE = "urn:shockpath:problem:"
+#: Problem codes of plain HTTP statuses: every problem `type` is a URN of the one scheme
+#: urn:shockpath:problem:<code> (`http-<status>` for a status not listed), never about:blank.
+STATUS_CODES = {
+    400: "bad-request",
+    401: "unauthorized",
+    403: "forbidden",
+    404: "not-found",
+    405: "method-not-allowed",
+    406: "not-acceptable",
+    413: "body-too-large",
+    415: "unsupported-media-type",
+    422: "invalid-request",
+    429: "too-many-requests",
+    500: "internal-error",
+    503: "unavailable",
+}
 
 
 def problem(status: int, title: str, detail: str, code: str | None = None, **extra: Any) -> dict[str, Any]:
-    """A problem document; `code` names our problem type, otherwise about:blank."""
+    """A problem document; `code` names our problem type, otherwise the status's code."""
     body: dict[str, Any] = {
-        "type": PROBLEM_BASE + code if code else "about:blank",
+        "type": PROBLEM_BASE + (code or STATUS_CODES.get(status, f"http-{status}")),
         "title": title,
         "status": status,
         "detail": detail,

@@ -16,14 +16,33 @@ from collections.abc import Sequence
 from typing import Any
 
 import orjson
+from marshmallow import ValidationError
 
 from . import engine
-from .problems import ProblemError, engine_problem, load_request
-from .schemas.paths import PathsRequestSchema
+from .problems import ProblemError, engine_problem, load_request, validation_problem
+from .schemas.paths import OUTPUTS, BatchScenarioSchema, PathsRequestSchema
 
-__all__ = ["compute", "load_scenario", "render", "scenario_id", "simulate", "simulate_many"]
+__all__ = [
+    "SUMMARY_KEYS",
+    "compute",
+    "load_scenario",
+    "render",
+    "requested_output",
+    "scenario_id",
+    "simulate",
+    "simulate_many",
+]
 
 _REQUEST = PathsRequestSchema()
+_ID = BatchScenarioSchema().fields["id"]
+
+
+def _check_id(value: Any, prefix: str) -> None:
+    """A batch scenario's `id` as BatchScenarioSchema describes it, or ProblemError (422)."""
+    try:
+        _ID.deserialize(value)
+    except ValidationError as error:
+        raise ProblemError(validation_problem({"id": error.messages}, prefix)) from None
 
 
 @contextlib.contextmanager
@@ -46,6 +65,20 @@ def _no_cyclic_gc():
 def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
     """Validate one request body; raise ProblemError (422) with pointers under `prefix`."""
     return load_request(_REQUEST, request, prefix)
+
+
+def requested_output(request: Any) -> str:
+    """The `output` a (validated) request asks for: "full" (default) or "summary"."""
+    output = request.get("output", "full") if isinstance(request, dict) else "full"
+    return output if output in OUTPUTS else "full"
+
+
+#: What a summary answer ("output": "summary") keeps of a full one: no series.
+SUMMARY_KEYS = ("scenario_id", "model_version", "reduced_form", "summary", "cautions")
+
+
+def _summary_only(body: dict[str, Any]) -> dict[str, Any]:
+    return {k: body[k] for k in SUMMARY_KEYS if k in body}
 
 
 def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
@@ -156,46 +189,63 @@ def _summary_body(summary: engine.PolicySummary) -> dict[str, Any]:
 
 
 def compute(
-    scenarios: Sequence[engine.Scenario], prefixes: Sequence[str] | None = None, lists: bool = True
+    scenarios: Sequence[engine.Scenario],
+    prefixes: Sequence[str] | None = None,
+    lists: bool = True,
+    output: str = "full",
 ) -> list[dict[str, Any]]:
-    """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order."""
+    """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order;
+    output="summary" keeps only SUMMARY_KEYS of each body."""
     outcomes = engine.solve_scenarios(scenarios, as_lists=lists)
     out: list[dict[str, Any]] = []
     for i, (scenario, outcome) in enumerate(zip(scenarios, outcomes, strict=True)):
         if isinstance(outcome, engine.EngineError):
             out.append(engine_problem(outcome, prefixes[i] if prefixes else ""))
         else:
-            out.append(render(scenario, outcome, scenario_id(scenario), lists))
+            body = render(scenario, outcome, scenario_id(scenario), lists and output == "full")
+            out.append(_summary_only(body) if output == "summary" else body)
     return out
 
 
 def simulate(request: dict[str, Any]) -> dict[str, Any]:
     """Body of POST /v1/paths for one request; raises ProblemError on invalid input."""
     scenario = load_scenario(request)
-    (body,) = compute([scenario])
+    (body,) = compute([scenario], output=requested_output(request))
     if "status" in body:
         raise ProblemError(body)
     return body
 
 
-def simulate_many(requests: Sequence[Any], prefix: str = "", lists: bool = True) -> list[dict[str, Any]]:
+def simulate_many(
+    requests: Sequence[Any], prefix: str = "", lists: bool = True, output: str = "full"
+) -> list[dict[str, Any]]:
     """One body or one problem document per request, in order, from one engine call.
 
     `prefix` formats the pointer prefix of request i (e.g. "/scenarios/{i}"); none by default.
-    lists=False keeps series as numpy arrays (see render).
+    lists=False keeps series as numpy arrays (see render); output="summary" leaves them out.
+    A request's `id` (a batch scenario's own name for itself, BatchScenarioSchema) is
+    checked, left out of the scenario (and its id), and put first in its body or problem.
     """
     loaded: list[engine.Scenario] = []
     where: list[int] = []
     out: list[dict[str, Any] | None] = [None] * len(requests)
+    ids: dict[int, Any] = {}
     with _no_cyclic_gc():
         for i, request in enumerate(requests):
             try:
+                if isinstance(request, dict) and "id" in request:
+                    ids[i] = request["id"]
+                    request = {k: v for k, v in request.items() if k != "id"}
+                    _check_id(ids[i], prefix.format(i=i))
                 loaded.append(load_scenario(request, prefix.format(i=i)))
                 where.append(i)
             except ProblemError as error:
                 out[i] = error.problem
         if loaded:
-            bodies = compute(loaded, [prefix.format(i=i) for i in where], lists)
+            bodies = compute(loaded, [prefix.format(i=i) for i in where], lists, output)
             for i, body in zip(where, bodies, strict=True):
                 out[i] = body
+    for i, ident in ids.items():
+        if isinstance(ident, str):
+            out[i] = {"id": ident, **out[i]}  # type: ignore[dict-item]
     return [b for b in out if b is not None]

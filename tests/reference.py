@@ -510,7 +510,8 @@ def coverage(policy: dict) -> float:
 
 def real_level(policy: dict, p0: float, index: float) -> float:
     """A ceiling's or floor's level in real money of period 0 (section 12)."""
-    level = p0 if policy["level"] == "base" else policy["level"]
+    base = policy.get("base_level") or policy.get("level") == "base"  # two spellings of a freeze
+    level = p0 if base else policy["level"]
     return level if policy.get("indexed") else level / index
 
 

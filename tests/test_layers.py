@@ -58,7 +58,7 @@ ALLOWED = {
     "engine": {"numba", "numpy", "scipy", "limits"},
     "schemas": {"engine", "limits", "marshmallow"},
     "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib"},
-    "http": {"python_api", "engine", "schemas", "limits", "flask", "werkzeug", "orjson", "apispec"}
+    "http": {"python_api", "engine", "schemas", "limits", "flask", "werkzeug", "orjson", "apispec", "numpy"}
     | {"prometheus_client", "marshmallow", "flask_cors", "flask_compress"},
 }
 

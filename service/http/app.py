@@ -60,10 +60,13 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
 
 
 def _register_hooks(app: Flask, settings: Settings, log: logging.Logger) -> None:
-    """Per request: an id and a clock, the key check; then the id header, metrics, one log line."""
+    """Per request: in flight, an id and a clock, the key check; then the id header, metrics, one
+    log line; at teardown (always), no longer in flight."""
 
     @app.before_request
     def _start():
+        metrics.IN_FLIGHT.inc()
+        g.in_flight = True
         g.started = time.perf_counter()
         incoming = request.headers.get("X-Request-ID", "")
         g.request_id = incoming if 0 < len(incoming) <= 128 and incoming.isprintable() else uuid.uuid4().hex
@@ -76,3 +79,8 @@ def _register_hooks(app: Flask, settings: Settings, log: logging.Logger) -> None
         metrics.observe(response.status_code, seconds)
         log_request(log, response.status_code, seconds)
         return response
+
+    @app.teardown_request
+    def _done(_error=None):
+        if g.pop("in_flight", False):
+            metrics.IN_FLIGHT.dec()

@@ -10,6 +10,8 @@ from __future__ import annotations
 import threading
 from collections import OrderedDict
 
+from .metrics import CACHE_LOOKUPS
+
 __all__ = ["AnswerCache"]
 
 
@@ -25,7 +27,8 @@ class AnswerCache:
             value = self._items.get(key)
             if value is not None:
                 self._items.move_to_end(key)
-            return value
+        CACHE_LOOKUPS.labels("miss" if value is None else "hit").inc()
+        return value
 
     def put(self, key: str, value: bytes) -> None:
         if len(value) > self.max_bytes:

@@ -30,6 +30,7 @@ _TYPES = [
 def enable_gzip(app: Flask) -> None:
     app.config.update(
         COMPRESS_ALGORITHM=["gzip"],
+        COMPRESS_ALGORITHM_STREAMING=["gzip"],  # streamed answers (batch CSV) too, chunk by chunk
         COMPRESS_LEVEL=GZIP_LEVEL,
         COMPRESS_MIN_SIZE=GZIP_MIN_BYTES,
         COMPRESS_MIMETYPES=_TYPES,

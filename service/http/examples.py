@@ -21,7 +21,7 @@ blueprint = DocumentedBlueprint("examples", __name__)
     "/v1/examples",
     operationId="listExamples",
     summary="Ready-made demo scenarios (invented markets)",
-    parameters=["If-None-Match", "Accept-Json"],
+    parameters=["If-None-Match"],
     responses={
         "200": {
             "description": "The examples.",
@@ -54,7 +54,7 @@ def list_examples() -> Response:
     operationId="getExample",
     summary="One demo scenario, postable as it is to its endpoint",
     path_parameters=["name"],
-    parameters=["If-None-Match", "Accept-Json"],
+    parameters=["If-None-Match"],
     responses={
         "200": {
             "description": "A request body for the example's endpoint.",
@@ -67,8 +67,45 @@ def list_examples() -> Response:
     },
 )
 def get_example(name: str) -> Response:
+    return _example(name)
+
+
+def _typed(kind: str, request: str):
+    """GET /v1/examples/<kind>/{name}: one demo for /v1/<kind>, typed as its request schema."""
+    return blueprint.operation(
+        "get",
+        f"/v1/examples/{kind}/{{name}}",
+        operationId=f"get{kind.capitalize()}Example",
+        summary=f"One demo scenario for /v1/{kind}, typed as its request (404 if it is for another endpoint)",
+        path_parameters=["name"],
+        parameters=["If-None-Match"],
+        responses={
+            "200": {
+                "description": f"A {request} body.",
+                "content": {"application/json": request},
+                "headers": ["ETag"],
+            },
+            **NOT_MODIFIED,
+            "404": {"description": f"No example for /v1/{kind} by that name.", "problem": True},
+            "406": {"description": "Only application/json can be answered.", "problem": True},
+        },
+    )
+
+
+@_typed("paths", "PathsRequest")
+def get_paths_example(name: str) -> Response:
+    return _example(name, "/v1/paths")
+
+
+@_typed("bands", "BandsRequest")
+def get_bands_example(name: str) -> Response:
+    return _example(name, "/v1/bands")
+
+
+def _example(name: str, endpoint: str | None = None) -> Response:
     negotiate()
     body = example_request(name)
-    if body is None:
-        raise ProblemError(problem(404, "Not Found", f"No example named '{name}'."))
+    if body is None or (endpoint and examples()[name].get("endpoint", "/v1/paths") != endpoint):
+        where = f" for {endpoint}" if endpoint else ""
+        raise ProblemError(problem(404, "Not Found", f"No example named '{name}'{where}."))
     return conditional(request_tag(f"/v1/examples/{name}", body, "json"), lambda: json_response(body))

@@ -94,7 +94,7 @@ def prometheus_metrics() -> Response:
     document={
         "operationId": "openapiDocument",
         "summary": "This document",
-        "parameters": ["If-None-Match", "Accept-Json"],
+        "parameters": ["If-None-Match"],
         "responses": {
             "200": {
                 "description": "OpenAPI 3.1",

@@ -13,7 +13,8 @@ REQUEST_FIELDS = ("method", "path", "status", "duration_ms", "request_id", "scen
 
 
 class JsonFormatter(logging.Formatter):
-    """time, level, logger, message, and the request fields when present."""
+    """time, level, logger, pid (the worker's, or the master's), message, and the request fields
+    when present."""
 
     def format(self, record: logging.LogRecord) -> str:
         out = {
@@ -21,6 +22,7 @@ class JsonFormatter(logging.Formatter):
             + f".{int(record.msecs):03d}Z",
             "level": record.levelname,
             "logger": record.name,
+            "pid": record.process,
             "message": record.getMessage(),
         }
         for name in REQUEST_FIELDS:

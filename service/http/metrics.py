@@ -1,4 +1,5 @@
-"""Prometheus metrics: requests and latency per endpoint and status, and the work done.
+"""Prometheus metrics: requests and latency per endpoint and status, the work done, and the
+workers' own state (requests in flight, answer-cache lookups, resident memory, exits).
 
 With PROMETHEUS_MULTIPROC_DIR set (deploy/gunicorn.conf.py sets it before the app loads),
 each gunicorn worker writes its samples to that directory and a scrape of any worker
@@ -15,12 +16,26 @@ from prometheus_client import (
     REGISTRY,
     CollectorRegistry,
     Counter,
+    Gauge,
     Histogram,
     generate_latest,
     multiprocess,
 )
 
-__all__ = ["DRAWS", "LATENCY", "REQUESTS", "SCENARIOS", "observe", "scrape"]
+__all__ = [
+    "CACHE_LOOKUPS",
+    "DRAWS",
+    "IN_FLIGHT",
+    "LATENCY",
+    "REQUESTS",
+    "RESIDENT_MEMORY",
+    "SCENARIOS",
+    "WORKER_EXITS",
+    "WORKER_STARTS",
+    "observe",
+    "resident_bytes",
+    "scrape",
+]
 
 REQUESTS = Counter(
     "shockpath_http_requests_total", "HTTP requests answered.", ["endpoint", "method", "status"]
@@ -33,6 +48,38 @@ LATENCY = Histogram(
 )
 SCENARIOS = Counter("shockpath_scenarios_computed_total", "Scenarios computed by the engine.", ["endpoint"])
 DRAWS = Counter("shockpath_draws_computed_total", "Draws of uncertain elasticities computed for bands.")
+# Gauges of live processes: summed over live workers, or one sample per live worker (pid label).
+IN_FLIGHT = Gauge(
+    "shockpath_http_requests_in_flight",
+    "Requests being answered now, over all live workers.",
+    multiprocess_mode="livesum",
+)
+RESIDENT_MEMORY = Gauge(
+    "shockpath_worker_resident_memory_bytes",
+    "Resident memory of each live worker (label pid), after its latest request.",
+    multiprocess_mode="liveall",
+)
+CACHE_LOOKUPS = Counter(
+    "shockpath_answer_cache_lookups_total",
+    "Lookups in the workers' answer caches, by result (hit or miss).",
+    ["result"],
+)
+WORKER_STARTS = Counter("shockpath_worker_starts_total", "Workers started (the first ones and replacements).")
+WORKER_EXITS = Counter(
+    "shockpath_worker_exits_total",
+    "Workers that exited (recycled after their request limit, killed, or crashed); counted by the master.",
+)
+
+_PAGE = os.sysconf("SC_PAGE_SIZE") if hasattr(os, "sysconf") else 4096
+
+
+def resident_bytes() -> int:
+    """This process's resident set size in bytes (Linux /proc/self/statm), 0 where unknown."""
+    try:
+        with open("/proc/self/statm", "rb") as f:
+            return int(f.read().split()[1]) * _PAGE
+    except (OSError, ValueError, IndexError):
+        return 0
 
 
 def scrape() -> tuple[bytes, str]:
@@ -50,3 +97,4 @@ def observe(status: int, seconds: float) -> None:
     labels = (endpoint, request.method, str(status))
     REQUESTS.labels(*labels).inc()
     LATENCY.labels(*labels).observe(seconds)
+    RESIDENT_MEMORY.set(resident_bytes())

@@ -28,6 +28,7 @@ from ..schemas.responses import (
     ExampleListSchema,
     HealthSchema,
     PathsResponseSchema,
+    PathsSummarySchema,
     ProblemSchema,
     SensitivityResponseSchema,
 )
@@ -67,6 +68,7 @@ _SCHEMAS = {
     "PathsRequest": PathsRequestSchema,
     "BatchRequest": BatchRequestSchema,
     "PathsResponse": PathsResponseSchema,
+    "PathsSummary": PathsSummarySchema,
     "BatchResponse": BatchResponseSchema,
     "BandsRequest": BandsRequestSchema,
     "BandsResponse": BandsResponseSchema,
@@ -101,32 +103,15 @@ _PARAMETERS = {
         "description": "An ETag from an earlier answer; a match gets 304 without recomputation.",
         "schema": {"type": "string"},
     },
-    "Accept": {
-        "name": "Accept",
-        "in": "header",
+    "layout": {
+        "name": "layout",
+        "in": "query",
         "required": False,
         "description": (
-            "application/json (default) or text/csv (long form, one value per row with its unit); "
-            "anything else is 406."
+            "CSV answers only: long (default; one value per row with its unit) or wide (one row per "
+            "scenario, policy and period, one column per variable, units in the header row)."
         ),
-        "schema": {"type": "string"},
-    },
-    "Accept-Json": {
-        "name": "Accept",
-        "in": "header",
-        "required": False,
-        "description": "application/json; anything else is 406.",
-        "schema": {"type": "string"},
-    },
-    "Accept-Image": {
-        "name": "Accept",
-        "in": "header",
-        "required": False,
-        "description": (
-            "image/svg+xml (default) or image/png when the body has no format, or application/octet-stream "
-            "(the same bytes); else 406."
-        ),
-        "schema": {"type": "string"},
+        "schema": {"type": "string", "enum": ["long", "wide"], "default": "long"},
     },
     "name": {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}},
 }
@@ -157,8 +142,17 @@ def _content(kind: str) -> dict[str, Any]:
             "schema": {"type": "string", "format": "binary", "contentMediaType": "application/octet-stream"}
         }
     if kind == "ExampleRequest":
-        refs = ["PathsRequest", "BandsRequest"]
-        return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{r}"} for r in refs]}}
+        # Any demo, whichever endpoint it is for: typed per kind under /v1/examples/paths/{name}
+        # and /v1/examples/bands/{name}.
+        return {
+            "schema": {
+                "type": "object",
+                "additionalProperties": True,
+                "description": "A PathsRequest or a BandsRequest, as the example's endpoint says.",
+            }
+        }
+    if " | " in kind:  # one of several schemas, tried in order
+        return {"schema": {"oneOf": [{"$ref": f"#/components/schemas/{k}"} for k in kind.split(" | ")]}}
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 
@@ -179,11 +173,16 @@ def _with_examples(content: dict[str, Any], examples: dict[str, Any] | None) -> 
 
 def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, Any]) -> dict[str, Any]:
     if "document" in op:
-        return op["document"]
+        document = dict(op["document"])
+        if "parameters" in document:  # content types say what Accept may ask for: no Accept parameter
+            document["parameters"] = [p for p in document["parameters"] if p in _PARAMETERS]
+        if not op["path"].startswith("/v1/"):
+            document.setdefault("security", [])
+        return document
     problems = answers.get("problems", {})
     mine = answers.get(op["operationId"], {})
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
-    params = [p for p in op.get("parameters", []) + op.get("path_parameters", [])]
+    params = [p for p in op.get("parameters", []) + op.get("path_parameters", []) if p in _PARAMETERS]
     if params:
         out["parameters"] = params
     if "request" in op:
@@ -210,9 +209,11 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
         if "headers" in spec:
             response["headers"] = {h: h for h in spec["headers"]}
         out["responses"][status] = response
-    if op["path"].startswith("/v1/"):
-        # Keys are optional: an empty requirement means the service runs without them.
-        out["security"] = [{}, {"bearer": []}]
+    if not op["path"].startswith("/v1/"):
+        out["security"] = []  # no key ever needed (the document's optional key is for /v1)
+    else:
+        # /v1 takes the document's security: a key is optional (the service may run without
+        # keys), so generated clients accept a client with or without one.
         unauthorized = problems.get("401")
         out["responses"]["401"] = {
             "description": "Keys are configured and the request has no valid 'Authorization: Bearer <key>'.",
@@ -235,7 +236,12 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
     return out
 
 
-_NOT_FOUND = {"type": "about:blank", "title": "Not Found", "status": 404, "detail": "No such resource."}
+_NOT_FOUND = {
+    "type": "urn:shockpath:problem:not-found",
+    "title": "Not Found",
+    "status": 404,
+    "detail": "No such resource.",
+}
 
 
 def build_document() -> dict[str, Any]:
@@ -271,7 +277,10 @@ def build_document() -> dict[str, Any]:
             by_path.setdefault(op["path"], {})[op["method"]] = _operation(op, answers, bodies)
     for path, operations in by_path.items():
         spec.path(path=path, operations=operations)
-    return spec.to_dict()
+    document = spec.to_dict()
+    # Keys are optional: the empty requirement means the service runs without them.
+    document["security"] = [{}, {"bearer": []}]
+    return document
 
 
 def render_document() -> str:

@@ -100,18 +100,36 @@ def request_examples() -> dict[str, dict[str, dict[str, Any]]]:
             },
         },
     }
-    return {
-        "postPaths": {**paths, SHORT: short},
-        "postPathsBatch": {
-            "two-demos-2-periods": {
-                "summary": "Two demos over 2 periods in one call",
-                "value": {"scenarios": [short["value"], _short("ostrand-vale-vouchers")]},
-            }
+    batch = {
+        "two-demos-2-periods": {
+            "summary": "Two demos over 2 periods in one call",
+            "value": {"scenarios": [short["value"], _short("ostrand-vale-vouchers")]},
         },
+        "sweep-summaries": {
+            "summary": "A sweep of the freeze's end, named scenarios, summaries only",
+            "value": {
+                "output": "summary",
+                "scenarios": [
+                    {"id": f"freeze to {end}", **_short("quillbrook-rent-freeze"), "horizon": 6}
+                    | {
+                        "policies": [
+                            {"name": "freeze", "kind": "price_ceiling", "base_level": True, "end": end}
+                        ]
+                    }
+                    for end in (2, 4)
+                ],
+            },
+        },
+    }
+    out = {
+        "postPaths": {**paths, SHORT: short},
+        "postPathsBatch": batch,
         "postBands": {**bands, SHORT_BANDS: short_bands},
         "postSensitivity": sensitivity,
         "postChart": charts,
     }
+    # The CSV operations take the same bodies as the operations they answer as CSV.
+    return out | {f"{op}Csv": out[op] for op in ("postPaths", "postPathsBatch", "postBands")}
 
 
 def _round(value: Any) -> Any:
@@ -216,6 +234,34 @@ def compute_examples() -> dict[str, Any]:
                 }
             },
         },
+        "getPathsExample": {
+            "200": {
+                "application/json": {
+                    "summary": "quillbrook-rent-freeze",
+                    "value": _body(client.get("/v1/examples/paths/quillbrook-rent-freeze")),
+                }
+            },
+            "404": {
+                "application/problem+json": {
+                    "summary": "An example for another endpoint",
+                    "value": _body(client.get("/v1/examples/paths/quillbrook-uncertain-elasticities")),
+                }
+            },
+        },
+        "getBandsExample": {
+            "200": {
+                "application/json": {
+                    "summary": "quillbrook-uncertain-elasticities",
+                    "value": _body(client.get("/v1/examples/bands/quillbrook-uncertain-elasticities")),
+                }
+            },
+            "404": {
+                "application/problem+json": {
+                    "summary": "An example for another endpoint",
+                    "value": _body(client.get("/v1/examples/bands/quillbrook-rent-freeze")),
+                }
+            },
+        },
         "liveness": {"200": {"application/json": {"summary": "", "value": _body(client.get("/healthz"))}}},
         "readiness": {
             "200": {"application/json": {"summary": "", "value": _body(client.get("/readyz"))}},
@@ -226,6 +272,8 @@ def compute_examples() -> dict[str, Any]:
         },
         "problems": problems,
     }
+    for op in ("postPaths", "postPathsBatch", "postBands"):  # the same answers, as CSV only
+        out[f"{op}Csv"] = {"200": {"text/csv": out[op]["200"]["text/csv"]}}
     return out
 
 

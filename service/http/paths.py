@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from flask import Response, current_app, g
+from flask import Response, current_app, g, request
 
-from ..problems import ProblemError, load_request
+from ..problems import ProblemError, load_request, problem, validation_problem
 from ..schemas.paths import BatchRequestSchema
-from ..simulation import compute, load_scenario, scenario_id, simulate_many
+from ..simulation import compute, load_scenario, requested_output, scenario_id, simulate_many
 from .conditional import attachment, conditional, request_tag
-from .csvio import batch_csv, paths_csv
+from .csvio import LAYOUTS, batch_csv, batch_summary_csv, paths_csv, paths_summary_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
@@ -29,32 +29,69 @@ _BATCH = BatchRequestSchema()
     request="PathsRequest",
     responses={
         "200": {
-            "description": "A path per policy, period 0 (the base point) first.",
-            "content": {"application/json": "PathsResponse", "text/csv": "csv"},
+            "description": 'A path per policy, period 0 (the base point) first; with "output": "summary" '
+            "only the summaries and cautions (PathsSummary).",
+            "content": {"application/json": "PathsResponse | PathsSummary", "text/csv": "csv"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match", "layout"],
 )
 def post_paths() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
-    scenario = load_scenario(read_json())
+    return _paths(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/paths/csv",
+    operationId="postPathsCsv",
+    summary="POST /v1/paths answered as CSV whatever the Accept header (for generated clients)",
+    request="PathsRequest",
+    responses={
+        "200": {
+            "description": "The paths as CSV (long form by default; `layout=wide`; summaries with "
+            '`"output": "summary"`).',
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match", "layout"],
+)
+def post_paths_csv() -> Response:
+    negotiate((CSV,))
+    return _paths(True)
+
+
+def _paths(as_csv: bool) -> Response:
+    layout = csv_layout()
+    raw = read_json()
+    scenario = load_scenario(raw)
+    output = requested_output(raw)
     sid = scenario_id(scenario)
     g.scenario_id = sid
-    tag = f"{sid}.csv" if as_csv else sid
+    tag = sid + (".summary" if output == "summary" else "")
+    if as_csv:
+        tag += ".csv" if layout == "long" or output == "summary" else ".wide.csv"
     cache = current_app.extensions["shockpath.cache"]
 
     def produce() -> Response:
         if (cached := cache.get(tag)) is not None:
             response = Response(cached, mimetype=CSV if as_csv else "application/json")
         else:
-            (body,) = compute([scenario], lists=as_csv)
+            (body,) = compute([scenario], lists=False, output=output)
             SCENARIOS.labels("/v1/paths").inc()
             if "status" in body:
                 raise ProblemError(body)
-            response = Response(paths_csv(body), mimetype=CSV) if as_csv else json_response(body)
+            if not as_csv:
+                response = json_response(body)
+            elif output == "summary":
+                response = Response(paths_summary_csv(body), mimetype=CSV)
+            else:
+                response = Response(paths_csv(body, layout), mimetype=CSV)
             cache.put(tag, response.get_data())
         if as_csv:
             attachment(response, f"paths-{sid[:12]}.csv")
@@ -81,21 +118,75 @@ def post_paths() -> Response:
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match", "layout"],
 )
 def post_batch() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    return _batch(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/paths/batch/csv",
+    operationId="postPathsBatchCsv",
+    summary="POST /v1/paths/batch answered as CSV whatever the Accept header (for generated clients)",
+    request="BatchRequest",
+    responses={
+        "200": {
+            "description": "The results as CSV, streamed (long form by default; `layout=wide`; summaries "
+            'with `"output": "summary"`).',
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match", "layout"],
+)
+def post_batch_csv() -> Response:
+    negotiate((CSV,))
+    return _batch(True)
+
+
+def _batch(as_csv: bool) -> Response:
+    layout = csv_layout()
     raw = read_json()
-    tag = request_tag("/v1/paths/batch", raw, "csv" if as_csv else "json")
+    tag = request_tag("/v1/paths/batch", raw, f"csv-{layout}" if as_csv else "json")
 
     def produce() -> Response:
         envelope = load_request(_BATCH, raw)
-        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_csv)
+        output = envelope["output"]
+        _same_output(envelope["scenarios"], output)
+        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=False, output=output)
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
-        if as_csv:
-            return attachment(Response(batch_csv(results), mimetype=CSV), f"batch-{tag[:12]}.csv")
-        return json_response({"results": results})
+        if not as_csv:
+            return json_response({"results": results})
+        if output == "summary":
+            answer = Response(batch_summary_csv(results), mimetype=CSV)
+        else:  # streamed in blocks: the first rows leave before the last are written
+            answer = Response(batch_csv(results, layout), mimetype=CSV)
+        return attachment(answer, f"batch-{tag[:12]}.csv")
 
     response = conditional(tag, produce)
     response.vary.add("Accept")
     return response
+
+
+def csv_layout() -> str:
+    """The CSV layout the `layout` query parameter asks for (long by default); 400 otherwise."""
+    layout = request.args.get("layout", LAYOUTS[0])
+    if layout not in LAYOUTS:
+        raise ProblemError(
+            problem(400, "Bad Request", f"layout must be one of: {', '.join(LAYOUTS)}.", "invalid-parameter")
+        )
+    return layout
+
+
+def _same_output(scenarios: list, output: str) -> None:
+    """A scenario of a batch may repeat the batch's `output`, not contradict it (422)."""
+    errors = {
+        i: {"output": [f"The batch's output is {output!r}; a scenario cannot ask for another."]}
+        for i, s in enumerate(scenarios)
+        if isinstance(s, dict) and "output" in s and s["output"] != output
+    }
+    if errors:
+        raise ProblemError(validation_problem({"scenarios": errors}))

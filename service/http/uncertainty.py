@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from flask import Response, current_app, g
 
+from ..problems import ProblemError, validation_problem
 from ..uncertainty import bands, sensitivity
 from .conditional import attachment, conditional, request_tag
 from .csvio import bands_csv
@@ -36,11 +37,36 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match"],
 )
 def post_bands() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
-    raw = read_json()
+    return _bands(negotiate(TABULAR) == CSV)
+
+
+@blueprint.operation(
+    "post",
+    "/v1/bands/csv",
+    operationId="postBandsCsv",
+    summary="POST /v1/bands answered as CSV whatever the Accept header (for generated clients)",
+    request="BandsRequest",
+    responses={
+        "200": {
+            "description": "The bands in long form.",
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    },
+    parameters=["If-None-Match"],
+)
+def post_bands_csv() -> Response:
+    negotiate((CSV,))
+    return _bands(True)
+
+
+def _bands(as_csv: bool) -> Response:
+    raw = full_output_only(read_json())
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
 
     def produce() -> Response:
@@ -73,11 +99,11 @@ def post_bands() -> Response:
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match", "Accept"],
+    parameters=["If-None-Match"],
 )
 def post_sensitivity() -> Response:
     negotiate(JSON_ONLY)
-    raw = read_json()
+    raw = full_output_only(read_json())
 
     def produce() -> Response:
         body = sensitivity(raw)
@@ -86,3 +112,14 @@ def post_sensitivity() -> Response:
         return json_response(body)
 
     return conditional(request_tag("/v1/sensitivity", raw, "json"), produce)
+
+
+def full_output_only(raw):
+    """Bands and sensitivity have no summary form: "output" may only be "full" (422 otherwise)."""
+    if isinstance(raw, dict) and raw.get("output", "full") != "full":
+        raise ProblemError(
+            validation_problem(
+                {"output": ['Only /v1/paths and batches answer "summary"; here it is "full".']}
+            )
+        )
+    return raw

@@ -219,7 +219,9 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
             "description": f"Validated on its own as {name}; if invalid, its result is a problem.",
         }
     if isinstance(field, NumberOrConstant):
-        return {"oneOf": [self.field2property(field.number), {"type": "string", "const": field.constant}]}
+        # Documented as the number alone: a union of a number and a constant string defeats
+        # client generators; the constant is an older spelling the loader still accepts.
+        return self.field2property(field.number)
     if isinstance(field, NumberOrList):
         return {"oneOf": [self.field2property(field.number), self.field2property(field.items)]}
     return {}

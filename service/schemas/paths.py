@@ -29,8 +29,10 @@ from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, Stric
 from .fields import in_range as _range
 
 __all__ = [
+    "OUTPUTS",
     "POLICY_SCHEMAS",
     "BatchRequestSchema",
+    "BatchScenarioSchema",
     "DemandSchema",
     "MarketSchema",
     "PathsRequestSchema",
@@ -399,7 +401,7 @@ class _PolicyBase(StrictSchema):
     @post_load
     def _build(self, data, **kwargs) -> Policy:
         level = data.pop("level", None)
-        base = level == "base"
+        base = data.pop("base_level", False) or level == "base"  # "base": the older spelling
         return Policy(level=None if base else level, base_level=base, **data)
 
 
@@ -422,7 +424,16 @@ class PriceCeilingSchema(_PolicyBase):
     level = NumberOrConstant(
         "base",
         Real(validate=_range(0.0, limits.MAX_MONEY, low_ok=False)),
-        metadata={"description": 'Ceiling price per unit per price interval, or "base" for P0.'},
+        metadata={
+            "description": "Ceiling price per unit per price interval. (Older requests may send "
+            '"base" here for base_level: true; it is still accepted.)'
+        },
+    )
+    base_level = Flag(
+        load_default=False,
+        metadata={
+            "description": "true: the ceiling is the base price P0, a freeze (instead of level or growth)."
+        },
     )
     growth = Real(
         validate=_range(-1.0, limits.MAX_RATE, low_ok=False),
@@ -461,8 +472,8 @@ class PriceCeilingSchema(_PolicyBase):
 
     @validates_schema
     def _level_or_growth(self, data, **kwargs):
-        if ("level" in data) == ("growth" in data):
-            raise ValidationError("Give exactly one of level or growth.", "level")
+        if ("level" in data) + ("growth" in data) + bool(data.get("base_level")) != 1:
+            raise ValidationError("Give exactly one of level, growth or base_level: true.", "level")
 
     @validates_schema
     def _decontrol_needs_growth(self, data, **kwargs):
@@ -594,6 +605,22 @@ class WelfareSchema(StrictSchema):
 # --- the scenario -------------------------------------------------------------------------
 
 
+#: What an answer carries: every series ("full", the default) or only summaries and cautions.
+OUTPUTS = ("full", "summary")
+
+
+def _output(**kwargs) -> fields.String:
+    return fields.String(
+        load_default=OUTPUTS[0],
+        validate=validate.OneOf(OUTPUTS),
+        metadata={
+            "description": '"full" (default): every series; "summary": only the summaries and cautions '
+            "(sweeps; /v1/paths and batches only). Not part of the scenario id.",
+            **kwargs,
+        },
+    )
+
+
 class PathsRequestSchema(StrictSchema):
     market = fields.Nested(MarketSchema, required=True)
     shocks = fields.List(
@@ -618,6 +645,7 @@ class PathsRequestSchema(StrictSchema):
         validate=validate.Length(1, limits.MAX_POLICIES),
     )
     welfare = fields.Nested(WelfareSchema, load_default=lambda: WelfareSchema().load({}))
+    output = _output()
 
     def _market_of(self, data) -> Market:
         return data["market"]
@@ -706,16 +734,26 @@ class PathsRequestSchema(StrictSchema):
         )
 
 
+class BatchScenarioSchema(PathsRequestSchema):
+    """One scenario of a batch: a /v1/paths body, with the caller's own `id` if it likes."""
+
+    id = fields.String(
+        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
+        metadata={"description": "The caller's id of the scenario, echoed in its result and CSV rows."},
+    )
+
+
 class BatchRequestSchema(StrictSchema):
     """Only the envelope and the batch's total work; each scenario is loaded on its own so that
     errors stay per scenario."""
 
     scenarios = fields.List(
-        AnyObject(PathsRequestSchema),
+        AnyObject(BatchScenarioSchema),
         required=True,
         validate=validate.Length(1, limits.MAX_BATCH_SCENARIOS),
-        metadata={"description": "Scenarios, each a /v1/paths request body."},
+        metadata={"description": "Scenarios, each a /v1/paths request body with an optional id."},
     )
+    output = _output(description='"full" (default) or "summary", for every scenario of the batch.')
 
     @validates_schema
     def _work(self, data, **kwargs):

@@ -48,9 +48,20 @@ class ProblemSchema(Schema):
     title = fields.String(required=True)
     status = fields.Integer(required=True)
     detail = fields.String(required=True)
-    errors = fields.List(fields.Nested(FieldErrorSchema), metadata={"description": "Field errors (422)."})
+    errors = fields.List(
+        fields.Nested(FieldErrorSchema), metadata={"description": "Field errors (422), at most 100 listed."}
+    )
+    more_errors = fields.Integer(
+        metadata={"description": "Field errors found beyond the 100 listed (present only when there are)."}
+    )
+    offset = fields.Integer(
+        metadata={
+            "description": "Malformed JSON (400): byte offset (0-based) of the fault in the body as parsed."
+        }
+    )
     period = fields.Integer(metadata={"description": "Period in which the model found the problem."})
     request_id = fields.String(metadata={"description": "Id to quote when reporting a server error."})
+    id = fields.String(metadata={"description": "Batch: the failed scenario's own id, when it had one."})
 
 
 class ResponseSide(Schema):
@@ -271,7 +282,12 @@ class PolicySummarySchema(Schema):
     )
 
 
+def _caller_id():
+    return fields.String(metadata={"description": "Batch: the scenario's own id, when the request gave one."})
+
+
 class PathsResponseSchema(Schema):
+    id = _caller_id()
     scenario_id = fields.String(
         required=True, metadata={"description": "sha-256 of the normalised request and model version."}
     )
@@ -294,9 +310,22 @@ class PathsResponseSchema(Schema):
     cautions = fields.List(fields.String(), required=True)
 
 
+class PathsSummarySchema(Schema):
+    """The answer to a request with "output": "summary": summaries and cautions, no series."""
+
+    id = _caller_id()
+    scenario_id = fields.String(
+        required=True, metadata={"description": "sha-256 of the normalised request and model version."}
+    )
+    model_version = fields.String(required=True)
+    reduced_form = fields.Dict(keys=fields.String(), values=fields.Nested(ReducedFormSchema), required=True)
+    summary = fields.List(fields.Nested(PolicySummarySchema), required=True)
+    cautions = fields.List(fields.String(), required=True)
+
+
 class BatchResponseSchema(Schema):
     results = fields.List(
-        Either([PathsResponseSchema, ProblemSchema]),
+        Either([PathsResponseSchema, PathsSummarySchema, ProblemSchema]),
         required=True,
         metadata={"description": "One result, or one problem document, per scenario, in order."},
     )

@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import http.client
+import itertools
 import json
 import os
 import signal
 import socket
 import subprocess
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -19,6 +21,8 @@ from service.examples import example_request
 
 ROOT = Path(__file__).resolve().parents[2]
 pytestmark = pytest.mark.slow
+#: Where the module's gunicorn writes its stderr (its own and the app's JSON log lines).
+LOG: dict[str, Path] = {}
 
 
 def _free_port() -> int:
@@ -38,7 +42,8 @@ def server(tmp_path_factory, compiled_kernels):
         "PROMETHEUS_MULTIPROC_DIR": str(metrics_dir),
     }
     gunicorn = Path(sys.executable).with_name("gunicorn")
-    log = (tmp_path_factory.mktemp("gunicorn") / "stderr.log").open("w+b")
+    LOG["path"] = tmp_path_factory.mktemp("gunicorn") / "stderr.log"
+    log = LOG["path"].open("w+b")
     process = subprocess.Popen(
         [str(gunicorn), "--config", "deploy/gunicorn.conf.py", "service:create_app()"],
         cwd=ROOT,
@@ -147,3 +152,250 @@ def test_metrics_aggregate_over_both_workers(server):
     assert len(pids) >= 2, "both workers should have served requests"
     # Whichever worker answers the scrape, it reports the sum over all workers.
     assert [count() for _ in range(6)] == [before + 60] * 6
+
+
+# --- broken uploads: 400, counted as client errors, never a 500 -------------------------------
+
+
+def _raw(port: int, data: bytes, close_write: bool = False) -> bytes:
+    """Send raw bytes; half-close if asked (the body ends early); the answer's bytes."""
+    with socket.create_connection(("127.0.0.1", port), timeout=10) as s:
+        s.sendall(data)
+        if close_write:
+            s.shutdown(socket.SHUT_WR)
+        out = b""
+        while chunk := s.recv(65536):
+            out += chunk
+            if b"\r\n\r\n" in out and b'"detail"' in out and out.rstrip().endswith(b"}"):
+                break
+        return out
+
+
+def _counter(port: int, status: str) -> float:
+    _, text = _get(port, "/metrics")
+    line = f'shockpath_http_requests_total{{endpoint="/v1/paths",method="POST",status="{status}"}}'
+    return sum(float(x.split()[-1]) for x in text.decode().splitlines() if x.startswith(line))
+
+
+_HEAD = b"POST /v1/paths HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
+
+
+@pytest.mark.parametrize(
+    ("data", "close_write"),
+    [
+        (_HEAD + b"Transfer-Encoding: chunked\r\n\r\nzz\r\nabc\r\n0\r\n\r\n", False),  # the issue's
+        (_HEAD + b"Transfer-Encoding: chunked\r\n\r\n5\r\nabcdefgh\r\n0\r\n\r\n", False),  # no terminator
+        (_HEAD + b'Transfer-Encoding: chunked\r\n\r\n10\r\n{"mar', True),  # ends mid-chunk
+        (_HEAD + b'Content-Length: 500\r\n\r\n{"market": ', True),  # shorter than its length
+    ],
+)
+def test_a_broken_upload_is_a_400_problem_not_a_500(server, data, close_write):
+    port, _ = server
+    before = _counter(port, "400"), _counter(port, "500")
+    answer = _raw(port, data, close_write)
+    head, _, body = answer.partition(b"\r\n\r\n")
+    assert head.startswith(b"HTTP/1.1 400"), answer[:300]
+    assert b"application/problem+json" in head
+    assert json.loads(body)["type"] == "urn:shockpath:problem:incomplete-body"
+    assert (_counter(port, "400"), _counter(port, "500")) == (before[0] + 1, before[1])
+
+
+def test_a_client_that_goes_away_mid_body_is_counted_as_a_client_error(server):
+    port, _ = server
+    before = _counter(port, "400"), _counter(port, "500")
+    for data in (
+        _HEAD + b'Transfer-Encoding: chunked\r\n\r\n100\r\n{"market"',
+        _HEAD + b'Content-Length: 900\r\n\r\n{"market": {',
+    ):
+        s = socket.create_connection(("127.0.0.1", port), timeout=10)
+        s.sendall(data)
+        s.close()  # gone: no answer can reach it
+    deadline = time.monotonic() + 10
+    while _counter(port, "400") < before[0] + 2 and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert (_counter(port, "400"), _counter(port, "500")) == (before[0] + 2, before[1])
+    log = LOG["path"].read_text(errors="replace")
+    assert "unhandled error" not in log and "Error handling request" not in log
+
+
+# --- health while every worker is busy ---------------------------------------------------------
+
+
+def _probe(port: int, path: str) -> float:
+    started = time.perf_counter()
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=30)
+    conn.request("GET", path)
+    response = conn.getresponse()
+    response.read()
+    conn.close()
+    assert response.status == 200, path
+    return time.perf_counter() - started
+
+
+def test_health_and_readiness_answer_within_a_second_while_workers_are_busy(server):
+    """Two large CSV batches (one per worker, or both on one) and two clients trickling a body
+    at a byte every half second: probes still answer within a second."""
+    from tests.benchmarks.bench_service import typical_request
+
+    port, _ = server
+    batch = json.dumps({"scenarios": [typical_request(49)] * 300}).encode()
+    statuses: list[int] = []
+
+    def large():
+        status, _, data = _post(
+            port, "/v1/paths/batch", batch, {"Content-Type": "application/json", "Accept": "text/csv"}
+        )
+        statuses.append(status)
+        assert len(data) > 10_000_000
+
+    def trickle(stop: threading.Event):
+        with socket.create_connection(("127.0.0.1", port), timeout=30) as s:
+            s.sendall(_HEAD + b"Content-Length: 1000\r\n\r\n")
+            while not stop.is_set():
+                s.sendall(b" ")
+                stop.wait(0.5)
+
+    stop = threading.Event()
+    slow = [threading.Thread(target=trickle, args=(stop,)) for _ in range(2)]
+    busy = [threading.Thread(target=large) for _ in range(2)]
+    for t in slow + busy:
+        t.start()
+    times = []
+    time.sleep(0.5)
+    while any(t.is_alive() for t in busy):
+        times += [_probe(port, "/healthz"), _probe(port, "/readyz")]
+        time.sleep(0.1)
+    stop.set()
+    for t in slow + busy:
+        t.join(60)
+    assert statuses == [200, 200]
+    assert len(times) >= 6, "the batches ended before the probes could test anything"
+    assert max(times) < 1.0, sorted(times)[-5:]
+
+
+# --- operations: logs and metrics ----------------------------------------------------------------
+
+
+def test_every_log_line_is_json_with_the_pid_of_its_process(server):
+    port, _ = server
+    assert _get(port, "/healthz")[0] == 200
+    lines = [x for x in LOG["path"].read_text().splitlines() if x.strip()]
+    records = [json.loads(x) for x in lines]
+    assert all(isinstance(r["pid"], int) for r in records)
+    booted = {r["pid"] for r in records if r["message"].startswith("Booting worker")}
+    requests = {r["pid"] for r in records if r["message"] == "request"}
+    assert len(booted) >= 2 and requests <= booted  # requests are logged by workers
+
+
+def _samples(port: int, name: str) -> list[tuple[str, float]]:
+    _, text = _get(port, "/metrics")
+    return [
+        (x.split(" ")[0], float(x.split()[-1]))
+        for x in text.decode().splitlines()
+        if x.startswith(name + "{") or x.startswith(name + " ")
+    ]
+
+
+def test_metrics_of_workers_cache_and_requests_in_flight(server):
+    port, _ = server
+    assert sum(v for _, v in _samples(port, "shockpath_http_requests_in_flight")) >= 1  # the scrape
+    memory = _samples(port, "shockpath_worker_resident_memory_bytes")
+    assert all('pid="' in k for k, _ in memory)
+    assert len([v for _, v in memory if v > 20e6]) >= 2  # each worker's (the master's never set: 0)
+    assert sum(v for _, v in _samples(port, "shockpath_worker_starts_total")) >= 2
+
+    def lookups(result):
+        return sum(v for k, v in _samples(port, "shockpath_answer_cache_lookups_total") if result in k)
+
+    hits, misses = lookups("hit"), lookups("miss")
+    request = example_request("contract-example")
+    request["market"]["price"] = 1234.5  # asked by no other test
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=30)  # kept alive: one worker
+    for _ in range(3):
+        conn.request("POST", "/v1/paths", json.dumps(request), {"Content-Type": "application/json"})
+        assert conn.getresponse().read()
+    conn.close()
+    assert (lookups("hit") - hits, lookups("miss") - misses) == (2, 1)
+
+
+# --- recycling one worker at a time ---------------------------------------------------------------
+
+
+def _events(text: str, message: str) -> list[tuple[float, int]]:
+    out = []
+    for line in text.splitlines():
+        record = json.loads(line)
+        if record["message"].startswith(message):
+            stamp = time.mktime(time.strptime(record["time"][:19], "%Y-%m-%dT%H:%M:%S"))
+            out.append((stamp + int(record["time"][20:23]) / 1000, record["pid"]))
+    return out
+
+
+def test_workers_recycle_one_at_a_time_without_losing_a_request(tmp_path):
+    port = _free_port()
+    env = {
+        **os.environ,
+        "SHOCKPATH_BIND": f"127.0.0.1:{port}",
+        "SHOCKPATH_WORKERS": "2",
+        "SHOCKPATH_MAX_REQUESTS": "40",
+        "SHOCKPATH_RECYCLE_SPACING": "0.3",
+        "PROMETHEUS_MULTIPROC_DIR": str(tmp_path / "metrics"),
+    }
+    log_path = tmp_path / "stderr.log"
+    with log_path.open("wb") as log:
+        process = subprocess.Popen(
+            [
+                str(Path(sys.executable).with_name("gunicorn")),
+                "--config",
+                "deploy/gunicorn.conf.py",
+                "service:create_app()",
+            ],
+            cwd=ROOT,
+            env=env,
+            stdout=subprocess.DEVNULL,
+            stderr=log,
+        )
+        try:
+            deadline = time.monotonic() + 30
+            while time.monotonic() < deadline:
+                try:
+                    if _get(port, "/healthz")[0] == 200:
+                        break
+                except OSError:
+                    time.sleep(0.2)
+            failures: list[str] = []
+
+            until = time.monotonic() + 10
+
+            def hammer():
+                while time.monotonic() < until:
+                    try:
+                        if _get(port, "/healthz")[0] != 200:
+                            failures.append("status")
+                    except OSError as error:
+                        failures.append(repr(error))
+
+            threads = [threading.Thread(target=hammer) for _ in range(4)]
+            for t in threads:
+                t.start()
+            for t in threads:
+                t.join(120)
+            time.sleep(1.0)
+            exits = sum(v for _, v in _samples(port, "shockpath_worker_exits_total"))
+        finally:
+            process.send_signal(signal.SIGTERM)
+            process.wait(timeout=30)
+    text = log_path.read_text()
+    leaving = _events(text, "Autorestarting worker")
+    booting = _events(text, "Booting worker")[2:]  # after the first two
+    assert failures == []
+    # A leaver takes a few seconds to finish its connections and be replaced (the other worker
+    # serves meanwhile, held back by the lock): 10 s see at least two recycles.
+    assert len(leaving) >= 2, "10 s of requests at 40-60 per worker should recycle twice or more"
+    assert exits >= len(leaving) - 1  # the master counts them (the last may still be exiting)
+    for (left, _), (next_left, _) in itertools.pairwise(leaving):
+        assert any(left <= booted <= next_left for booted, _ in booting), (
+            "a second worker left before the first one's replacement booted",
+            left,
+            next_left,
+        )

@@ -1,0 +1,165 @@
+"""Request bodies: gzip accepted and inflated under the size limit, unknown encodings 415, parse
+faults at their byte offset, error documents capped, one URN scheme for every problem type."""
+
+from __future__ import annotations
+
+import gzip
+import json
+
+import pytest
+
+from service import create_app, limits
+from service.http.jsonio import MAX_LISTED_ERRORS
+from service.problems import PROBLEM_BASE
+
+JSON = "application/json"
+
+
+def _problem(response, status):
+    assert response.status_code == status, response.get_data(as_text=True)[:300]
+    assert response.mimetype == "application/problem+json"
+    body = response.get_json()
+    assert body["type"].startswith(PROBLEM_BASE)
+    return body
+
+
+def test_a_gzip_body_answers_exactly_as_the_plain_one(client, contract_request):
+    text = json.dumps(contract_request).encode()
+    plain = client.post("/v1/paths", data=text, content_type=JSON)
+    packed = client.post(
+        "/v1/paths", data=gzip.compress(text), content_type=JSON, headers={"Content-Encoding": "gzip"}
+    )
+    assert plain.status_code == packed.status_code == 200
+    assert packed.get_json() == plain.get_json()
+
+
+def test_two_gzip_members_are_one_body(client, contract_request):
+    text = json.dumps(contract_request).encode()
+    data = gzip.compress(text[:40]) + gzip.compress(text[40:])
+    response = client.post("/v1/paths", data=data, content_type=JSON, headers={"Content-Encoding": "gzip"})
+    assert response.status_code == 200
+
+
+def test_a_decompression_bomb_is_413_at_the_inflated_size():
+    app = create_app({"TESTING": True, "max_body_bytes": 100_000})
+    bomb = gzip.compress(b" " * 10_000_000)  # 10 MB of spaces, about 10 kB compressed
+    assert len(bomb) < 100_000
+    response = app.test_client().post(
+        "/v1/paths", data=bomb, content_type=JSON, headers={"Content-Encoding": "gzip"}
+    )
+    body = _problem(response, 413)
+    assert "after decompression" in body["detail"]
+
+
+def test_a_body_that_inflates_to_just_the_limit_is_read():
+    app = create_app({"TESTING": True, "max_body_bytes": 100_000})
+    data = b"[" + b" " * (100_000 - 2) + b"]"
+    response = app.test_client().post(
+        "/v1/paths", data=gzip.compress(data), content_type=JSON, headers={"Content-Encoding": "gzip"}
+    )
+    assert _problem(response, 422)["errors"][0]["pointer"] == ""  # parsed: a list, not an object
+
+
+@pytest.mark.parametrize("encoding", ["br", "deflate", "compress", "gzip, br", "zstd"])
+def test_an_unknown_encoding_is_415(client, encoding):
+    response = client.post("/v1/paths", data=b"{}", content_type=JSON, headers={"Content-Encoding": encoding})
+    body = _problem(response, 415)
+    assert body["type"] == PROBLEM_BASE + "unsupported-encoding"
+    assert response.headers["Accept-Encoding"] == "gzip"
+
+
+def test_identity_encoding_is_no_encoding(client, contract_request):
+    response = client.post(
+        "/v1/paths",
+        data=json.dumps(contract_request),
+        content_type=JSON,
+        headers={"Content-Encoding": "identity"},
+    )
+    assert response.status_code == 200
+
+
+@pytest.mark.parametrize("data", [b"not gzip at all", gzip.compress(b'{"a": 1}')[:-12]])
+def test_a_body_that_is_not_gzip_is_400(client, data):
+    response = client.post("/v1/paths", data=data, content_type=JSON, headers={"Content-Encoding": "gzip"})
+    assert _problem(response, 400)["type"] == PROBLEM_BASE + "malformed-gzip"
+
+
+@pytest.mark.parametrize(
+    ("data", "fault"),
+    [
+        (b'{"horizon": 1, "market": \xff}', b"\xff"),
+        (b'{"name": "caf\xc3\xa9", "x": \xc3}', b"\xc3}"),  # after a valid two-byte character
+        (b'{"horizon": 1,\n "market": x}', b"x"),
+        ('{"name": "café", "x": y}'.encode(), b"y"),  # bytes, not characters: é is two
+        (b'{"horizon": NaN}', b"NaN"),
+    ],
+)
+def test_parse_faults_name_their_byte_offset(client, data, fault):
+    offset = data.index(fault)
+    assert offset > 10  # never "line 1, column 1"
+    body = _problem(client.post("/v1/paths", data=data, content_type=JSON), 400)
+    assert body["offset"] == offset
+    assert f"at byte {offset}" in body["detail"]
+    assert "line 1, column 1" not in body["detail"]
+
+
+def test_invalid_utf8_inside_a_gzip_body_is_at_its_inflated_offset(client):
+    data = b'{"horizon": 3, "policies": "\xfe"}'
+    response = client.post(
+        "/v1/paths", data=gzip.compress(data), content_type=JSON, headers={"Content-Encoding": "gzip"}
+    )
+    assert _problem(response, 400)["offset"] == data.index(b"\xfe")
+
+
+def test_error_documents_list_at_most_100_errors_and_count_the_rest(client, contract_request):
+    extra = {f"unknown_{i}": i for i in range(2000)}
+    response = client.post("/v1/paths", data=json.dumps({**contract_request, **extra}), content_type=JSON)
+    body = _problem(response, 422)
+    assert len(body["errors"]) == MAX_LISTED_ERRORS == 100
+    assert body["more_errors"] == 2000 - 100
+    assert len(response.get_data()) < 20_000
+
+
+def test_a_document_with_few_errors_has_no_count_of_the_rest(client, contract_request):
+    body = _problem(
+        client.post("/v1/paths", data=json.dumps({**contract_request, "x": 1}), content_type=JSON), 422
+    )
+    assert "more_errors" not in body and len(body["errors"]) == 1
+
+
+@pytest.mark.parametrize(
+    ("method", "path", "status", "code"),
+    [
+        ("get", "/no/such/path", 404, "not-found"),
+        ("get", "/v1/paths", 405, "method-not-allowed"),
+        ("get", "/v1/examples/no-such-example", 404, "not-found"),
+    ],
+)
+def test_plain_http_errors_have_urn_types(client, method, path, status, code):
+    body = _problem(getattr(client, method)(path), status)
+    assert body["type"] == PROBLEM_BASE + code
+
+
+def test_a_body_over_the_limit_is_413_with_a_urn_type(client):
+    data = b" " * (limits.MAX_BODY_BYTES + 1)
+    assert _problem(client.post("/v1/paths", data=data, content_type=JSON), 413)["type"] == (
+        PROBLEM_BASE + "body-too-large"
+    )
+
+
+def test_a_non_json_body_is_415_with_a_urn_type(client):
+    body = _problem(client.post("/v1/paths", data=b"{}", content_type="text/plain"), 415)
+    assert body["type"] == PROBLEM_BASE + "unsupported-media-type"
+
+
+def test_an_unexpected_failure_is_500_with_a_urn_type(monkeypatch):
+    app = create_app({"TESTING": False})
+    import service.http.paths as paths
+
+    def boom(*args, **kwargs):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(paths, "load_scenario", boom)
+    body = _problem(app.test_client().post("/v1/paths", data=b"{}", content_type=JSON), 500)
+    assert body["type"] == PROBLEM_BASE + "internal-error"
+    assert "boom" not in json.dumps(body)
