@@ -19,9 +19,18 @@ import orjson
 
 from . import engine
 from .problems import ProblemError, engine_problem, load_request
+from .schemas.normal import normalised
 from .schemas.paths import PathsRequestSchema
 
-__all__ = ["compute", "load_scenario", "render", "scenario_id", "simulate", "simulate_many"]
+__all__ = [
+    "compute",
+    "load_scenario",
+    "normalised_request",
+    "render",
+    "scenario_id",
+    "simulate",
+    "simulate_many",
+]
 
 _REQUEST = PathsRequestSchema()
 
@@ -46,6 +55,12 @@ def _no_cyclic_gc():
 def load_scenario(request: Any, prefix: str = "") -> engine.Scenario:
     """Validate one request body; raise ProblemError (422) with pointers under `prefix`."""
     return load_request(_REQUEST, request, prefix)
+
+
+def normalised_request(request: dict[str, Any]) -> dict[str, Any]:
+    """The answer's `request`: a valid request with its defaults written out, which re-runs
+    as it is to the same answer (schemas.normal)."""
+    return normalised(_REQUEST, request)
 
 
 def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
@@ -160,6 +175,7 @@ def simulate(request: dict[str, Any]) -> dict[str, Any]:
     (body,) = compute([scenario])
     if "status" in body:
         raise ProblemError(body)
+    body["request"] = normalised_request(request)
     return body
 
 
@@ -182,5 +198,7 @@ def simulate_many(requests: Sequence[Any], prefix: str = "", lists: bool = True)
         if loaded:
             bodies = compute(loaded, [prefix.format(i=i) for i in where], lists)
             for i, body in zip(where, bodies, strict=True):
+                if "status" not in body:
+                    body["request"] = normalised_request(requests[i])
                 out[i] = body
     return [b for b in out if b is not None]

@@ -32,6 +32,7 @@ from ..schemas.responses import (
     SensitivityResponseSchema,
 )
 from ..schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema
+from .negotiation import XLSX
 from .openapi_examples import (
     EXAMPLES_PATH,
     compute_examples,
@@ -152,6 +153,8 @@ def _content(kind: str) -> dict[str, Any]:
         return {"schema": {"type": "string"}}
     if kind.startswith("image/"):
         return {"schema": {"type": "string", "format": "binary", "contentMediaType": kind}}
+    if kind == "xlsx":  # an Excel workbook (service.workbook)
+        return {"schema": {"type": "string", "format": "binary", "contentMediaType": XLSX}}
     if kind == "octets":
         return {
             "schema": {"type": "string", "format": "binary", "contentMediaType": "application/octet-stream"}

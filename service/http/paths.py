@@ -6,13 +6,14 @@ from flask import Response, current_app, g
 
 from ..problems import ProblemError, load_request
 from ..schemas.paths import BatchRequestSchema
-from ..simulation import compute, load_scenario, scenario_id, simulate_many
+from ..simulation import compute, load_scenario, normalised_request, scenario_id, simulate_many
+from ..workbook import batch_workbook, paths_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import batch_csv, paths_csv
+from .csvio import batch_csv, neutralise, paths_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
-from .negotiation import CSV, TABULAR, negotiate
+from .negotiation import CSV, TABULAR, XLSX, negotiate
 
 __all__ = ["blueprint"]
 
@@ -30,7 +31,7 @@ _BATCH = BatchRequestSchema()
     responses={
         "200": {
             "description": "A path per policy, period 0 (the base point) first.",
-            "content": {"application/json": "PathsResponse", "text/csv": "csv"},
+            "content": {"application/json": "PathsResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -39,25 +40,31 @@ _BATCH = BatchRequestSchema()
     parameters=["If-None-Match", "Accept"],
 )
 def post_paths() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
-    scenario = load_scenario(read_json())
+    chosen = negotiate(TABULAR)
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
+    raw = read_json()
+    scenario = load_scenario(raw)
     sid = scenario_id(scenario)
     g.scenario_id = sid
-    tag = f"{sid}.csv" if as_csv else sid
+    tag = f"{sid}.csv" if as_csv else f"{sid}.xlsx" if as_xlsx else sid
     cache = current_app.extensions["shockpath.cache"]
 
     def produce() -> Response:
         if (cached := cache.get(tag)) is not None:
-            response = Response(cached, mimetype=CSV if as_csv else "application/json")
+            response = Response(cached, mimetype=chosen)
         else:
-            (body,) = compute([scenario], lists=as_csv)
+            (body,) = compute([scenario], lists=as_csv or as_xlsx)
             SCENARIOS.labels("/v1/paths").inc()
             if "status" in body:
                 raise ProblemError(body)
-            response = Response(paths_csv(body), mimetype=CSV) if as_csv else json_response(body)
+            body["request"] = normalised_request(raw)
+            if as_xlsx:
+                response = Response(paths_workbook(body, neutralise), mimetype=XLSX)
+            else:
+                response = Response(paths_csv(body), mimetype=CSV) if as_csv else json_response(body)
             cache.put(tag, response.get_data())
-        if as_csv:
-            attachment(response, f"paths-{sid[:12]}.csv")
+        if as_csv or as_xlsx:
+            attachment(response, f"paths-{sid[:12]}.{'csv' if as_csv else 'xlsx'}")
         return response
 
     response = conditional(tag, produce)
@@ -75,7 +82,7 @@ def post_paths() -> Response:
         "200": {
             "description": "Results in request order (CSV: one row per value; a failed scenario has one "
             "`problem` row).",
-            "content": {"application/json": "BatchResponse", "text/csv": "csv"},
+            "content": {"application/json": "BatchResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -84,14 +91,19 @@ def post_paths() -> Response:
     parameters=["If-None-Match", "Accept"],
 )
 def post_batch() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    chosen = negotiate(TABULAR)
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     raw = read_json()
-    tag = request_tag("/v1/paths/batch", raw, "csv" if as_csv else "json")
+    tag = request_tag("/v1/paths/batch", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
         envelope = load_request(_BATCH, raw)
-        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_csv)
+        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_csv or as_xlsx)
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
+        if as_xlsx:
+            return attachment(
+                Response(batch_workbook(results, neutralise), mimetype=XLSX), f"batch-{tag[:12]}.xlsx"
+            )
         if as_csv:
             return attachment(Response(batch_csv(results), mimetype=CSV), f"batch-{tag[:12]}.csv")
         return json_response({"results": results})

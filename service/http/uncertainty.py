@@ -9,12 +9,13 @@ from __future__ import annotations
 from flask import Response, current_app, g
 
 from ..uncertainty import bands, sensitivity
+from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import bands_csv
+from .csvio import bands_csv, neutralise
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
-from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
+from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
 
 __all__ = ["blueprint"]
 
@@ -30,7 +31,7 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     responses={
         "200": {
             "description": "Bands per policy and the central path (CSV: the bands in long form).",
-            "content": {"application/json": "BandsResponse", "text/csv": "csv"},
+            "content": {"application/json": "BandsResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -39,9 +40,10 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     parameters=["If-None-Match", "Accept"],
 )
 def post_bands() -> Response:
-    as_csv = negotiate(TABULAR) == CSV
+    chosen = negotiate(TABULAR)
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     raw = read_json()
-    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
+    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
         threads = current_app.extensions["shockpath.settings"].band_threads
@@ -49,6 +51,10 @@ def post_bands() -> Response:
         g.scenario_id = body["scenario_id"]
         DRAWS.inc(body["draws"])
         SCENARIOS.labels("/v1/bands").inc()
+        if as_xlsx:
+            return attachment(
+                Response(bands_workbook(body, neutralise), mimetype=XLSX), f"bands-{tag[:12]}.xlsx"
+            )
         if as_csv:
             return attachment(Response(bands_csv(body), mimetype=CSV), f"bands-{tag[:12]}.csv")
         return json_response(body)
