@@ -372,6 +372,7 @@ def test_the_renters_chart_colours_each_period_by_the_rules_phase_and_sums_them(
     rows = renters_phases(request, body)
     assert [name for name, _, _ in rows] == [p["name"] for p in request["policies"][1:]]
     name, values, phases = rows[0]
+    assert values[1] == 100.0 and values[-1] == -40.0
     assert phases == [0, 1, 1, 1, 1] + [2] * (len(body["periods"]) - 5)
     svg = render_renters(body, request, HOUSING, "svg", "linear").decode()
     horizon = len(body["periods"]) - 1
