@@ -16,6 +16,7 @@ section 12) unless a name says nominal, which is money of the day.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from typing import Any
 
 __all__ = [
@@ -27,6 +28,7 @@ __all__ = [
     "TOTALS",
     "describe",
     "flatten",
+    "input_rows",
     "label",
     "table",
     "unit",
@@ -316,6 +318,51 @@ def flatten(body: dict[str, Any], skip: tuple[str, ...] = ()) -> dict[str, Any]:
         else:
             out[key] = value
     return out
+
+
+def _pointers(value: Any, pointer: str = "") -> Iterable[tuple[str, Any]]:
+    """(JSON Pointer, leaf value) of every leaf of the request; lists of numbers stay one leaf."""
+    if isinstance(value, dict):
+        if not value:
+            yield pointer, "(none)"
+        for k, v in value.items():
+            yield from _pointers(v, f"{pointer}/{str(k).replace('~', '~0').replace('/', '~1')}")
+    elif isinstance(value, list) and any(isinstance(v, (dict, list)) for v in value):
+        for i, v in enumerate(value):
+            yield from _pointers(v, f"{pointer}/{i}")
+    else:
+        yield pointer, value
+
+
+def _input_label(pointer: str, units: dict | None) -> str:
+    parts = pointer.strip("/").split("/")
+    field = parts[-1]
+    section = {"demand": "demand", "supply": "supply", "market": "market"}.get(
+        parts[-2] if len(parts) > 1 else ""
+    )
+    if len(parts) > 2 and parts[0] in ("shocks", "policies"):
+        section = parts[0]
+    elif parts[0] in ("adjustment", "welfare"):
+        section = parts[0]
+    if len(parts) > 1 and parts[-2] == "shifters":
+        plain, trade, _ = INPUTS["shifters"]
+        return f"{plain} {field.replace('_', ' ')} ({trade})"
+    found = INPUTS.get(f"{section}.{field}") or INPUTS.get(field)
+    if found is None:
+        return field.replace("_", " ")
+    plain, trade, hint = found
+    hint = hint.format(**{**DEFAULT_UNITS, **(units or {})})
+    return (
+        f"{plain} ({trade})" + (f" [{hint}]" if hint else "")
+        if trade
+        else plain + (f" [{hint}]" if hint else "")
+    )
+
+
+def input_rows(request: dict[str, Any], units: dict[str, str] | None = None) -> list[tuple[str, str, Any]]:
+    """(JSON Pointer, the field in plain words with its trade term and unit, value) of every
+    leaf of a request (a list of numbers is one leaf)."""
+    return [(pointer, _input_label(pointer, units), value) for pointer, value in _pointers(request)]
 
 
 def table() -> dict[str, Any]:

@@ -116,48 +116,9 @@ def _column(i: int) -> str:
     return get_column_letter(i)
 
 
-def _pointers(value: Any, pointer: str = "") -> Iterable[tuple[str, Any]]:
-    """(JSON Pointer, leaf value) of every leaf of the request; lists of numbers stay one leaf."""
-    if isinstance(value, dict):
-        if not value:
-            yield pointer, "(none)"
-        for k, v in value.items():
-            yield from _pointers(v, f"{pointer}/{str(k).replace('~', '~0').replace('/', '~1')}")
-    elif isinstance(value, list) and any(isinstance(v, (dict, list)) for v in value):
-        for i, v in enumerate(value):
-            yield from _pointers(v, f"{pointer}/{i}")
-    else:
-        yield pointer, value
-
-
-def _input_label(pointer: str, units: dict | None) -> str:
-    parts = pointer.strip("/").split("/")
-    field = parts[-1]
-    section = {"demand": "demand", "supply": "supply", "market": "market"}.get(
-        parts[-2] if len(parts) > 1 else ""
-    )
-    if len(parts) > 2 and parts[0] in ("shocks", "policies"):
-        section = parts[0]
-    elif parts[0] in ("adjustment", "welfare"):
-        section = parts[0]
-    if len(parts) > 1 and parts[-2] == "shifters":
-        plain, trade, _ = labels.INPUTS["shifters"]
-        return f"{plain} {field.replace('_', ' ')} ({trade})"
-    found = labels.INPUTS.get(f"{section}.{field}") or labels.INPUTS.get(field)
-    if found is None:
-        return field.replace("_", " ")
-    plain, trade, hint = found
-    hint = hint.format(**{**labels.DEFAULT_UNITS, **(units or {})})
-    return (
-        f"{plain} ({trade})" + (f" [{hint}]" if hint else "")
-        if trade
-        else plain + (f" [{hint}]" if hint else "")
-    )
-
-
 def _inputs_rows(request: dict, units: dict | None, lead: tuple = ()) -> Iterable[tuple]:
-    for pointer, value in _pointers(request):
-        yield (*lead, pointer, _input_label(pointer, units), value)
+    for pointer, words, value in labels.input_rows(request, units):
+        yield (*lead, pointer, words, value)
 
 
 def _keys(objects: Iterable[dict], skip: tuple[str, ...]) -> list[str]:

@@ -19,6 +19,7 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 from .. import limits
 from ..engine import MODEL_VERSION
 from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
+from ..schemas.briefing import BriefingRequestSchema
 from ..schemas.charts import ChartRequestSchema
 from ..schemas.fields import openapi_attributes
 from ..schemas.paths import BatchRequestSchema, PathsRequestSchema
@@ -74,6 +75,7 @@ _SCHEMAS = {
     "SensitivityRequest": SensitivityRequestSchema,
     "SensitivityResponse": SensitivityResponseSchema,
     "ChartRequest": ChartRequestSchema,
+    "BriefingRequest": BriefingRequestSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
 }

@@ -111,6 +111,22 @@ def request_examples() -> dict[str, dict[str, dict[str, Any]]]:
         "postBands": {**bands, SHORT_BANDS: short_bands},
         "postSensitivity": sensitivity,
         "postChart": charts,
+        "postBriefing": {
+            SHORT: {
+                "summary": "A briefing of a short demo with its own title and units",
+                "value": {
+                    **short["value"],
+                    "title": "Quillbrook: a rent freeze",
+                    "units": {
+                        "currency": "EUR",
+                        "quantity": "homes",
+                        "unit": "home",
+                        "price_interval": "month",
+                        "period": "year",
+                    },
+                },
+            }
+        },
     }
 
 
