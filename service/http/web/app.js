@@ -643,7 +643,17 @@ function discounting(request) {
 function showGroups(body, request) {
   const answer = pathsOf(body);
   const table = $("groups");
-  if (!answer.paths.every((p) => p.distribution)) { table.hidden = true; return; }
+  if (!answer.paths.every((p) => p.distribution)) {
+    const head = document.createElement("tr");
+    head.append(th("Group"), ...answer.paths.map((p) => th(p.name)));
+    table.tHead.replaceChildren(head);
+    const row = document.createElement("tr");
+    row.append(th("Every group", "", "row"), ...answer.paths.map(() => td("not reported under random rationing", "absent")));
+    table.tBodies[0].replaceChildren(row);
+    table.caption.textContent = "Who gains and who loses is not reported under random rationing: the model does not track which households are drawn for a controlled home.";
+    table.hidden = false;
+    return;
+  }
   const factors = discountFactors(request, answer.periods.length);
   const groups = Object.keys(answer.paths[0].distribution);
   const head = document.createElement("tr");
