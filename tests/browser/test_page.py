@@ -70,7 +70,8 @@ def _summary(page) -> dict:
     """figure key -> cells (one per policy) of the summary table."""
     rows = page.eval_on_selector_all(
         "#summary tbody tr",
-        "rows => rows.map(r => [r.dataset.figure, [...r.querySelectorAll('td')].map(c => c.firstChild.textContent)])",
+        "rows => rows.map(r => [r.dataset.figure,"
+        " [...r.querySelectorAll('td')].map(c => c.firstChild.textContent)])",
     )
     return dict(rows)
 
@@ -239,7 +240,8 @@ def test_job_three_uncertain_elasticities_chosen_in_the_form_give_bands_and_a_to
     assert outputs[:2] == ["discounted_deadweight_loss", "final_consumer_price"]
     page.select_option("#tornado-output", "final_consumer_price")
     page.wait_for_function(
-        "document.querySelector('#tornado-figure img')?.dataset.title?.includes('rent paid in the last period')"
+        "document.querySelector('#tornado-figure img')?.dataset.title"
+        "?.includes('rent paid in the last period')"
     )
     svg = page.evaluate("fetch(document.querySelector('#tornado-figure img').src).then(r => r.text())")
     assert "(final consumer price)" in svg and "central" in svg
