@@ -140,6 +140,8 @@ def _figure():
 def _legend_and_footnote(figure, note: str, rows: int, **legend) -> None:
     """A strip at the bottom: the legend (`rows` rows) above the footnote; the axes above both.
     A footnote of more than two lines gets room for each."""
+    # Lines that fit the figure's width at 8 pt (about 200 characters in 1200 px).
+    note = "\n".join(textwrap.fill(line, 200) for line in note.split("\n"))
     footnote_height = max(FOOTNOTE_HEIGHT, FOOTNOTE_HEIGHT / 2 * (note.count("\n") + 1))
     bottom = footnote_height + LEGEND_ROW_HEIGHT * rows
     figure.get_layout_engine().set(rect=(0, bottom, 1, 1 - bottom))
@@ -224,15 +226,16 @@ def available_panels(paths: list[dict]) -> list[str]:
     return [n for n in PANEL_NAMES if _carries(paths, n)]
 
 
-def _panel_title(name: str) -> str:
+def _panel_title(name: str, width: int = 46) -> str:
+    """A panel's title in at most `width` characters a line (the trade's term on its own line)."""
     if name == RENTS_PANEL:
         return "Rents: controlled homes (solid),\nuncontrolled homes (dashed)"
     full = labels.label(name)
-    if len(full) <= 46:
+    if len(full) <= width:
         return full
     plain = labels.label(name, term=False)
-    term = full[len(plain) :].strip()  # "(the trade's term)" on a line of its own
-    return textwrap.fill(plain, 46) + (f"\n{term}" if term else "")
+    term = full[len(plain) :].strip()
+    return textwrap.fill(plain, width) + (f"\n{textwrap.fill(term, width)}" if term else "")
 
 
 def _panel_unit(name: str, units: dict) -> str:
@@ -261,8 +264,9 @@ def _axes_grid(figure, periods, units, panels):
     for ax in cells[len(panels) :]:
         ax.set_axis_off()  # an empty cell: the panel above it carries the period axis
     size = 12 if len(panels) <= 6 else 10
+    width = {1: 90, 2: 60}.get(cols, 36)  # characters of a title line that fit above a panel
     for ax, name in zip(axes, panels, strict=True):
-        ax.set_title(_panel_title(name), fontsize=size, loc="left")
+        ax.set_title(_panel_title(name, width), fontsize=size, loc="left")
         ax.set_ylabel(_panel_unit(name, units), fontsize=9)
         ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # periods are whole numbers
         ax.axvline(0, color="#777777", linewidth=0.8, linestyle=":")
@@ -337,7 +341,7 @@ def render_paths(
             line = _draw_panel(ax, path, name, periods, _style(i))
         handles.append(line)
     labels_ = [p["name"] for p in body["paths"]]
-    heading = title or ("Transition paths by policy" if len(chosen) > 1 else _panel_title(chosen[0]))
+    heading = title or ("Transition paths by policy" if len(chosen) > 1 else _panel_title(chosen[0], 120))
     _finish(figure, heading, footnote(form, body["cautions"], _money_note(chosen)), handles, labels_)
     return _save(figure, fmt)
 

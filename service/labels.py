@@ -344,6 +344,8 @@ def _input_label(pointer: str, units: dict | None) -> str:
         section = parts[0]
     elif parts[0] in ("adjustment", "welfare"):
         section = parts[0]
+    if field == "shifters":
+        return f"{parts[-2].capitalize()} shifters"
     if len(parts) > 1 and parts[-2] == "shifters":
         plain, trade, _ = INPUTS["shifters"]
         return f"{plain} {field.replace('_', ' ')} ({trade})"

@@ -32,7 +32,7 @@ HTML = "text/html"
             "description": "One HTML document, no script and no outside file: the question, the inputs in "
             "plain words, the charts as inline SVG, the summary and who-gains tables, the cautions, the "
             "model version and scenario id. Its print style keeps tables and figures whole on A4 and Letter.",
-            "content": {HTML: "text"},
+            "content": {HTML: "html"},
             "headers": ["ETag"],
         },
         **NOT_MODIFIED,

@@ -155,6 +155,8 @@ def _content(kind: str) -> dict[str, Any]:
         return {"schema": {"type": "string"}}
     if kind.startswith("image/"):
         return {"schema": {"type": "string", "format": "binary", "contentMediaType": kind}}
+    if kind == "html":  # a document (the briefing)
+        return {"schema": {"type": "string", "contentMediaType": "text/html"}}
     if kind == "xlsx":  # an Excel workbook (service.workbook)
         return {"schema": {"type": "string", "format": "binary", "contentMediaType": XLSX}}
     if kind == "octets":

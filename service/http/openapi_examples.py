@@ -240,6 +240,11 @@ def compute_examples() -> dict[str, Any]:
         "postChart": {
             "503": {"application/problem+json": _problem(503, "Charts need the charts extra (matplotlib).")}
         },
+        "postBriefing": {
+            "503": {
+                "application/problem+json": _problem(503, "Briefings need the charts extra (matplotlib).")
+            }
+        },
         "problems": problems,
     }
     return out
