@@ -50,17 +50,16 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
 
 
 def _nested(field: fields.Nested) -> Schema:
-    nested = field.nested
-    if isinstance(nested, Schema):
-        return nested
-    return nested()  # a Schema class
+    return field.schema  # marshmallow builds it once per field and keeps it
 
 
 def _value(field: fields.Field, value: Any) -> Any:
     if value is None:
         return None
-    if isinstance(field, (Real, WholeNumber)) and isinstance(value, (int, float)):
-        return field.deserialize(value)
+    if isinstance(field, Real) and isinstance(value, (int, float)):
+        return float(value)  # as Real reads a valid number
+    if isinstance(field, WholeNumber) and isinstance(value, (int, float)):
+        return int(value)  # a valid whole number, written 12 or 12.0
     if isinstance(field, fields.Nested) and isinstance(value, dict):
         return normalised(_nested(field), value)
     if isinstance(field, Tagged) and isinstance(value, dict):
