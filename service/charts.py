@@ -109,6 +109,21 @@ CAUTION = (
 LOWER_BOUND = "Binding ceilings assume efficient rationing: their deadweight loss is a lower bound."
 
 
+def _plain_text(render):
+    """Draw with mathtext off: names, units and titles are the caller's text, and a "$" in them
+    (a currency) must print as it is rather than start a formula that may not parse."""
+    import functools
+
+    @functools.wraps(render)
+    def drawn(*args, **kwargs):
+        from matplotlib import rc_context
+
+        with rc_context({"text.parse_math": False}):
+            return render(*args, **kwargs)
+
+    return drawn
+
+
 def _compact(value: float, _position=None) -> str:
     """1,234,567 -> 1.23M: money and quantities without an offset label."""
     for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M"), (1e3, "k")):
@@ -320,6 +335,7 @@ def _draw_panel(ax, path: dict, name: str, periods, style: dict):
     return line
 
 
+@_plain_text
 def render_paths(
     body: dict,
     units: dict,
@@ -356,6 +372,7 @@ def _money_note(panels) -> str:
     return f"Money in {labels.REAL}. "
 
 
+@_plain_text
 def render_bands(
     body: dict,
     units: dict,
@@ -439,6 +456,7 @@ def _headline_unit(name: str, units: dict) -> str:
     return ""
 
 
+@_plain_text
 def render_sensitivity(
     body: dict,
     units: dict,
@@ -665,6 +683,7 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     return figure
 
 
+@_plain_text
 def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, title: str | None = None):
     """The who-gains Figure of a /v1/paths body (`request`: its request, for the discount rate):
     one panel per policy, bar i of a panel drawing `gains_and_losses(...)[policy, i]`."""
@@ -720,6 +739,7 @@ def renters_phases(request: dict, body: dict) -> list[tuple[str, list[float], li
     return out
 
 
+@_plain_text
 def render_renters(
     body: dict, request: dict, units: dict, fmt: str, form: str, title: str | None = None
 ) -> bytes:

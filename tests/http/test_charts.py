@@ -383,3 +383,17 @@ def _compact_total(value: float) -> str:
     from service.charts import _compact
 
     return _compact(value)
+
+
+@pytest.mark.parametrize("chart", ["paths", "gains_and_losses"])
+def test_a_dollar_sign_in_units_or_title_prints_as_it_is(client, chart):
+    body = {
+        "chart": chart,
+        "format": "svg",
+        "title": r"Cost in $\frac$ terms",
+        "units": {"currency": "$", "quantity": "homes"},
+        "scenario": scenario("paths"),
+    }
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 200
+    assert r"<!-- Cost in $\frac$ terms -->" in response.get_data(as_text=True)
