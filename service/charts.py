@@ -368,7 +368,7 @@ def _money_note(panels) -> str:
     if nominal and len(nominal) < len(panels):
         return f"Money in {labels.REAL} unless a panel says {labels.NOMINAL}. "
     if nominal:
-        return f"Money of the day ({labels.NOMINAL}). "
+        return "Money of the day: rents as paid, not adjusted for inflation. "
     return f"Money in {labels.REAL}. "
 
 

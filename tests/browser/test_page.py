@@ -359,3 +359,60 @@ def test_random_rationing_says_who_gains_is_not_reported(page, base_url):
     cells = page.eval_on_selector_all("#groups tbody td", "tds => tds.map(t => t.textContent)")
     assert cells and set(cells) == {"not reported under random rationing"}
     assert page.locator("#gains-figure").count() == 0
+
+
+def test_series_and_totals_the_engine_adds_appear_with_their_plain_names(page, base_url):
+    """An answer carrying the second additions' names (MODEL.md sections 16-20), invented values:
+    the page shows them from the one label table, without a change of its own."""
+    from service import simulate
+    from service.examples import example_request
+
+    request = example_request("essvane-freeze-under-inflation")
+    answer = simulate(request)
+    periods = len(answer["periods"])
+    for p, path in enumerate(answer["paths"]):
+        path["vacant_homes"] = [0.0] * periods
+        path["converted_homes"] = [float(p)] * periods
+        path["vs_free_path"] = {"renters": [10.0 * p] * periods, "extra_rent": [0.0] * periods}
+        path["distribution"]["households_drawn_in"] = [0.0] * periods
+    for s in answer["summary"]:
+        s["final_vacant_homes"] = 0.0
+        s["vs_free_path_totals"] = {
+            "renters": 1.0,
+            "renters_discounted": 0.9,
+            "renters_after_end": -2.0,
+            "extra_rent": 0.0,
+            "extra_rent_after_end": 0.0,
+        }
+        s["other_form"] = {
+            "form": "constant_elasticity",
+            "discounted_deadweight_loss": 5.0,
+            "final_consumer_price": 1400.0,
+            "peak_shortage": 3.0,
+        }
+        s["distribution_totals"]["households_drawn_in"] = 0.0
+    _load(page, base_url, "essvane-freeze-under-inflation")
+    page.route(
+        "**/v1/paths",
+        lambda route: (
+            route.fulfill(json=answer)
+            if route.request.headers.get("accept", "").startswith("*/*")
+            else route.continue_()
+        ),
+    )
+    _run(page)
+    page.unroute("**/v1/paths")
+    summary = page.eval_on_selector_all("#summary tbody tr th", "ths => ths.map(t => t.textContent)")
+    for words in (
+        "Homes standing empty, last period",
+        "Renters against the free path, discounted",
+        "Renters against the free path after the rule ends",
+        "The other curve form",
+        "Households drawn in, summed",
+    ):
+        assert any(w.startswith(words) for w in summary), words
+    heads, _ = _years(page, "free market")
+    assert any(h.startswith("Homes standing empty (vacant homes)") for h in heads)
+    assert any(h.startswith("Renters gain (+) or lose (-) against the free market path") for h in heads)
+    assert page.locator("#groups tr[data-group='households_drawn_in']").count() == 1
+    assert page.locator("#renters-figure").count() == 1  # drawn where the answer carries it
