@@ -20,11 +20,15 @@ from typing import Any
 
 import numpy as np
 
+from . import labels
 from .problems import ProblemError, validation_problem
+from .schemas.charts import MAX_PANELS
 
 __all__ = [
+    "DEFAULT_PANELS",
     "DPI",
     "GROUPS",
+    "PANEL_NAMES",
     "SIZE_PX",
     "available",
     "discount_factors",
@@ -33,6 +37,7 @@ __all__ = [
     "render_bands",
     "render_gains_and_losses",
     "render_paths",
+    "render_renters",
     "render_sensitivity",
 ]
 
@@ -47,15 +52,28 @@ LEGEND_ROW_HEIGHT = 0.035
 DPI = 100
 #: Band ribbons of different policies overlap: each policy's ribbon has its own hatching too.
 HATCHES = ("", "//", "\\\\", "..", "xx", "||", "--", "++")
-PANELS = (
-    ("consumer_price", "Consumer price", "{currency} per {unit} per {price_interval}"),
-    ("quantity", "Quantity traded", "{quantity}"),
-    ("shortage", "Shortage", "{quantity}"),
-    ("cumulative_deadweight_loss", "Cumulative deadweight loss", "{currency}"),
+#: The panels drawn when a request names none, in order, each where the answer carries it: the
+#: rent (and in money of the day under inflation), the rents of controlled and uncontrolled
+#: homes (a partial ceiling), the homes let, the homes below the free path (the stock schedule,
+#: MODEL.md section 13), the shortage and the value lost so far.
+DEFAULT_PANELS = (
+    "consumer_price",
+    "nominal_consumer_price",
+    "controlled_and_uncontrolled_rents",
+    "quantity",
+    "homes_below_free_path",
+    "shortage",
+    "cumulative_deadweight_loss",
 )
-#: Under the stock schedule: the homes a path lacks against the free path (MODEL.md section 13),
-#: drawn beside the quantity (the grid becomes 2 x 3).
-HOMES_PANEL = ("homes_below_free_path", "Homes below the free path", "{quantity}")
+#: A panel of two series: the rent of controlled homes (solid) and of the others (dashed).
+RENTS_PANEL = "controlled_and_uncontrolled_rents"
+RENTS = ("covered_price", "uncovered_price")
+#: Every panel a request may name: each per-period series of the label table, and the rents pair.
+PANEL_NAMES = (
+    *(k for k in labels.SERIES if k not in ("price_index", "supply_elasticity")),
+    RENTS_PANEL,
+)
+
 #: The groups of MODEL.md section 15 in the response's `distribution`, with their labels.
 GROUPS = (
     ("tenants_in_controlled_homes", "Tenants in controlled homes"),
@@ -91,6 +109,21 @@ CAUTION = (
 LOWER_BOUND = "Binding ceilings assume efficient rationing: their deadweight loss is a lower bound."
 
 
+def _plain_text(render):
+    """Draw with mathtext off: names, units and titles are the caller's text, and a "$" in them
+    (a currency) must print as it is rather than start a formula that may not parse."""
+    import functools
+
+    @functools.wraps(render)
+    def drawn(*args, **kwargs):
+        from matplotlib import rc_context
+
+        with rc_context({"text.parse_math": False}):
+            return render(*args, **kwargs)
+
+    return drawn
+
+
 def _compact(value: float, _position=None) -> str:
     """1,234,567 -> 1.23M: money and quantities without an offset label."""
     for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M"), (1e3, "k")):
@@ -122,6 +155,8 @@ def _figure():
 def _legend_and_footnote(figure, note: str, rows: int, **legend) -> None:
     """A strip at the bottom: the legend (`rows` rows) above the footnote; the axes above both.
     A footnote of more than two lines gets room for each."""
+    # Lines that fit the figure's width at 8 pt (about 200 characters in 1200 px).
+    note = "\n".join(textwrap.fill(line, 200) for line in note.split("\n"))
     footnote_height = max(FOOTNOTE_HEIGHT, FOOTNOTE_HEIGHT / 2 * (note.count("\n") + 1))
     bottom = footnote_height + LEGEND_ROW_HEIGHT * rows
     figure.get_layout_engine().set(rect=(0, bottom, 1, 1 - bottom))
@@ -167,25 +202,87 @@ def _unit_labels(units: dict) -> dict:
     return {"unit": "unit", "price_interval": "price interval", **units}
 
 
-def _panels(has_stock: bool) -> tuple:
-    """The panels of a paths or bands chart: under the stock schedule the homes below the free
-    path beside the quantity traded."""
-    return (*PANELS[:2], HOMES_PANEL, *PANELS[2:]) if has_stock else PANELS
+def _series(path: dict, name: str):
+    """A path's per-period series by panel name (`object.member` inside an object), or None."""
+    if "." in name:
+        outer, inner = name.split(".", 1)
+        return (path.get(outer) or {}).get(inner)
+    return path.get(name)
 
 
-def _axes_grid(figure, periods, units, panels=PANELS):
-    """One axes per panel, in a 2 x 2 grid (2 x 3 for five or six panels), row by row."""
+def _carries(paths: list[dict], name: str) -> bool:
+    """Whether the answer draws this panel: every path has the series (the rents pair: some path
+    has both; under bands every path, each with its ribbon)."""
+    if name == RENTS_PANEL:
+        return any(all(_series(p, r) is not None for r in RENTS) for p in paths)
+    return bool(paths) and all(_series(p, name) is not None for p in paths)
+
+
+def choose_panels(paths: list[dict], panels: list[str] | None, pointer: str = "/panels") -> list[str]:
+    """The panels to draw: those asked for (each must be in the answer: else 422 at its pointer),
+    or the defaults the answer carries."""
+    if not panels:
+        return [n for n in DEFAULT_PANELS if _carries(paths, n)]
+    if len(panels) > MAX_PANELS:
+        raise ProblemError(validation_problem({"panels": [f"At most {MAX_PANELS} panels."]}))
+    missing = {i: n for i, n in enumerate(panels) if not _carries(paths, n)}
+    if missing:
+        errors = {
+            "panels": {
+                i: [f"'{n}' is not in this answer (it carries: {', '.join(available_panels(paths))})."]
+                for i, n in missing.items()
+            }
+        }
+        raise ProblemError(validation_problem(errors))
+    return list(dict.fromkeys(panels))
+
+
+def available_panels(paths: list[dict]) -> list[str]:
+    return [n for n in PANEL_NAMES if _carries(paths, n)]
+
+
+def _panel_title(name: str, width: int = 46) -> str:
+    """A panel's title in at most `width` characters a line (the trade's term on its own line)."""
+    if name == RENTS_PANEL:
+        return "Rents: controlled homes (solid),\nuncontrolled homes (dashed)"
+    full = labels.label(name)
+    if len(full) <= width:
+        return full
+    plain = labels.label(name, term=False)
+    term = full[len(plain) :].strip()
+    return textwrap.fill(plain, width) + (f"\n{textwrap.fill(term, width)}" if term else "")
+
+
+def _panel_unit(name: str, units: dict) -> str:
+    unit = labels.unit(RENTS[0] if name == RENTS_PANEL else name, units)
+    return textwrap.fill(unit, 38)
+
+
+def _grid_shape(n: int) -> tuple[int, int]:
+    if n <= 3:
+        return 1, n
+    if n == 4:
+        return 2, 2
+    if n <= 6:
+        return 2, 3
+    return 3, 3
+
+
+def _axes_grid(figure, periods, units, panels):
+    """One axes per panel, in a grid (1 x n up to three panels, 2 x 2, 2 x 3, 3 x 3), row by row."""
     from matplotlib.ticker import MaxNLocator
 
-    cols = 2 if len(panels) <= 4 else 3
-    grid = figure.subplots(2, cols, sharex=True, squeeze=False)
+    rows, cols = _grid_shape(len(panels))
+    grid = figure.subplots(rows, cols, sharex=True, squeeze=False)
     cells = list(grid.flat)
     axes = cells[: len(panels)]
     for ax in cells[len(panels) :]:
         ax.set_axis_off()  # an empty cell: the panel above it carries the period axis
-    for ax, (_, title, unit) in zip(axes, panels, strict=True):
-        ax.set_title(title, fontsize=12, loc="left")
-        ax.set_ylabel(unit.format(**_unit_labels(units)))
+    size = 12 if len(panels) <= 6 else 10
+    width = {1: 90, 2: 60}.get(cols, 36)  # characters of a title line that fit above a panel
+    for ax, name in zip(axes, panels, strict=True):
+        ax.set_title(_panel_title(name, width), fontsize=size, loc="left")
+        ax.set_ylabel(_panel_unit(name, units), fontsize=9)
         ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # periods are whole numbers
         ax.axvline(0, color="#777777", linewidth=0.8, linestyle=":")
         ax.annotate(
@@ -201,7 +298,9 @@ def _axes_grid(figure, periods, units, panels=PANELS):
         ax.set_xlim(periods[0], periods[-1])
         _compact_axis(ax.yaxis)
     for col in range(cols):  # the lowest panel of each column
-        lowest = max(i for i in range(col, len(panels), cols))
+        lowest = max(i for i in range(col, len(panels), cols)) if col < len(panels) else None
+        if lowest is None:
+            continue
         axes[lowest].set_xlabel(_period_label(units))
         axes[lowest].xaxis.set_tick_params(labelbottom=True)
     return axes
@@ -222,38 +321,84 @@ def _finish(figure, title: str, note: str, handles, labels) -> None:
     _legend_and_footnote(figure, note, rows, handles=handles, labels=labels, ncols=ncols)
 
 
-def render_paths(body: dict, units: dict, fmt: str, form: str, title: str | None = None) -> bytes:
-    """Small multiples of a /v1/paths body: one line per policy (under the stock schedule a
-    fifth panel, the homes below the free path)."""
+def _draw_panel(ax, path: dict, name: str, periods, style: dict):
+    """One policy's line(s) on one panel; the line that stands for the policy in the legend."""
+    if name == RENTS_PANEL:
+        covered, uncovered = (_series(path, r) for r in RENTS)
+        if covered is None or uncovered is None:  # a path without the split: its one rent
+            (line,) = ax.plot(periods, path["consumer_price"], **{**style, "alpha": 0.35})
+            return line
+        (line,) = ax.plot(periods, covered, **style)
+        ax.plot(periods, uncovered, **{**style, "linestyle": "--", "marker": None})
+        return line
+    (line,) = ax.plot(periods, _series(path, name), **style)
+    return line
+
+
+@_plain_text
+def render_paths(
+    body: dict,
+    units: dict,
+    fmt: str,
+    form: str,
+    title: str | None = None,
+    panels: list[str] | None = None,
+) -> bytes:
+    """Small multiples of a /v1/paths body: one line per policy, one panel per series asked for
+    (`panels`; default DEFAULT_PANELS where the answer carries them); 422 at /panels/i for a
+    panel the answer does not carry."""
+    chosen = choose_panels(body["paths"], panels)
     figure = _figure()
     periods = body["periods"]
-    panels = _panels(all(HOMES_PANEL[0] in p for p in body["paths"]))
-    axes = _axes_grid(figure, periods, units, panels)
+    axes = _axes_grid(figure, periods, units, chosen)
     handles = []
     for i, path in enumerate(body["paths"]):
-        for ax, (series, _, _) in zip(axes, panels, strict=True):
-            (line,) = ax.plot(periods, path[series], label=path["name"], **_style(i))
+        for ax, name in zip(axes, chosen, strict=True):
+            line = _draw_panel(ax, path, name, periods, _style(i))
         handles.append(line)
-    labels = [p["name"] for p in body["paths"]]
-    _finish(figure, title or "Transition paths by policy", footnote(form, body["cautions"]), handles, labels)
+    labels_ = [p["name"] for p in body["paths"]]
+    heading = title or ("Transition paths by policy" if len(chosen) > 1 else _panel_title(chosen[0], 120))
+    _finish(figure, heading, footnote(form, body["cautions"], _money_note(chosen)), handles, labels_)
     return _save(figure, fmt)
 
 
-def render_bands(body: dict, units: dict, fmt: str, form: str, title: str | None = None) -> bytes:
-    """The central path of each policy with shaded percentile ribbons around it."""
+def _money_note(panels) -> str:
+    """Which money the panels are in (every money series is real unless its name says nominal)."""
+    nominal = [p for p in panels if p.startswith("nominal_")]
+    if nominal and len(nominal) < len(panels):
+        return f"Money in {labels.REAL} unless a panel says {labels.NOMINAL}. "
+    if nominal:
+        return "Money of the day: rents as paid, not adjusted for inflation. "
+    return f"Money in {labels.REAL}. "
+
+
+@_plain_text
+def render_bands(
+    body: dict,
+    units: dict,
+    fmt: str,
+    form: str,
+    title: str | None = None,
+    panels: list[str] | None = None,
+) -> bytes:
+    """The central path of each policy with shaded percentile ribbons around it, one panel per
+    series that the bands carry (`panels` as in render_paths)."""
+    # A panel needs its percentiles: only series that every band carries are drawn; the rents
+    # of controlled and uncontrolled homes as two panels (one ribbon each).
+    with_q = [
+        {k: v for k, v in p.items() if k in b["series"]}
+        for p, b in zip(body["central"]["paths"], body["bands"], strict=True)
+    ]
+    chosen = choose_panels(with_q, panels)
+    chosen = list(dict.fromkeys(x for n in chosen for x in (RENTS if n == RENTS_PANEL else (n,))))
     figure = _figure()
     periods = body["periods"]
-    # The homes below the free path where the bands carry them (the stock schedule).
-    stock = all(HOMES_PANEL[0] in b["series"] for b in body["bands"]) and all(
-        HOMES_PANEL[0] in p for p in body["central"]["paths"]
-    )
-    panels = _panels(stock)
-    axes = _axes_grid(figure, periods, units, panels)
+    axes = _axes_grid(figure, periods, units, chosen)
     keys = sorted(body["bands"][0]["series"]["consumer_price"], key=float)
     handles = []
     for i, (band, central) in enumerate(zip(body["bands"], body["central"]["paths"], strict=True)):
         style = _style(i)
-        for ax, (series, _, _) in zip(axes, panels, strict=True):
+        for ax, series in zip(axes, chosen, strict=True):
             by_q = band["series"][series]
             for depth in range(len(keys) // 2):
                 low, high = by_q[keys[depth]], by_q[keys[-1 - depth]]
@@ -273,10 +418,10 @@ def render_bands(body: dict, units: dict, fmt: str, form: str, title: str | None
                         )
             (line,) = ax.plot(periods, central[series], **style)
         handles.append(line)
-    labels = [b["name"] for b in body["bands"]]
+    labels_ = [b["name"] for b in body["bands"]]
     outer = f"{keys[0]}-{keys[-1]}th percentiles" if len(keys) > 1 else "percentile"
     heading = title or f"Central paths with {outer} over {body['draws']:,} draws"
-    _finish(figure, heading, footnote(form, body["cautions"]), handles, labels)
+    _finish(figure, heading, footnote(form, body["cautions"], _money_note(chosen)), handles, labels_)
     return _save(figure, fmt)
 
 
@@ -285,42 +430,109 @@ def _input_label(pointer: str) -> str:
     return " ".join(p.replace("_", " ") for p in parts).replace("shifters ", "shifter: ")
 
 
+def sensitivity_outputs(body: dict) -> list[str]:
+    """The figures a tornado can show: the sensitivity answer's headlines."""
+    return list(body.get("headlines") or ["discounted_deadweight_loss"])
+
+
+def _headline_label(name: str) -> str:
+    key = name[len("total_") :] if name.startswith("total_") else name
+    if key in (k.split(".", 1)[1] for k in labels.TOTALS if k.startswith("distribution_totals.")):
+        return labels.label(f"distribution_totals.{key}", totals=True, term=False)
+    for candidate in (name, f"vs_free_path_totals.{name}"):
+        if candidate in labels.TOTALS:
+            return labels.label(candidate, totals=True)
+    return labels.label(name, totals=True)
+
+
+def _headline_unit(name: str, units: dict) -> str:
+    for candidate in (
+        name,
+        f"vs_free_path_totals.{name}",
+        f"distribution_totals.{name.removeprefix('total_')}",
+    ):
+        if candidate in labels.TOTALS:
+            return labels.unit(candidate, units, totals=True)
+    return ""
+
+
+@_plain_text
 def render_sensitivity(
-    body: dict, units: dict, fmt: str, form: str, policy: str | None, title: str | None = None
+    body: dict,
+    units: dict,
+    fmt: str,
+    form: str,
+    policy: str | None,
+    title: str | None = None,
+    output: str | None = None,
 ) -> bytes:
-    """A tornado chart of one policy's discounted deadweight loss, inputs largest swing on top."""
+    """A tornado chart of one policy's `output` (a headline of the answer; default the discounted
+    deadweight loss), inputs largest swing on top, each bar end labelled with its value; 422 at
+    /output for a figure the answer does not rank."""
     from matplotlib.patches import Patch
 
+    outputs = sensitivity_outputs(body)
+    output = output or "discounted_deadweight_loss"
+    if output not in outputs:
+        raise ProblemError(
+            validation_problem(
+                {"output": [f"Not a headline of this answer; it ranks: {', '.join(outputs)}."]}
+            )
+        )
     names = [p["name"] for p in body["central"]["paths"]]
     chosen = policy if policy in names else None
     if chosen is None:
         swings = {n: 0.0 for n in names}
         for item in body["inputs"]:
             for p in item["policies"]:
-                swings[p["name"]] = max(swings[p["name"]], p["swing"]["discounted_deadweight_loss"] or 0.0)
+                swings[p["name"]] = max(swings[p["name"]], p["swing"].get(output) or 0.0)
         chosen = max(names, key=lambda n: swings[n])
     index = names.index(chosen)
-    central = body["central"]["summary"][index]["discounted_deadweight_loss"]
+    central = _central_figure(body["central"]["summary"][index], output)
     figure = _figure()
     ax = figure.subplots()
-    inputs = list(reversed(body["inputs"]))  # largest swing at the top
-    labels = []
+    # largest swing of this output at the top
+    inputs = sorted(body["inputs"], key=lambda item: item["policies"][index]["swing"].get(output) or 0.0)
+    ylabels = []
+    ends = []
     for row, item in enumerate(inputs):
         p = item["policies"][index]
-        low, high = p["low"]["discounted_deadweight_loss"], p["high"]["discounted_deadweight_loss"]
+        low, high = p["low"].get(output), p["high"].get(output)
         low_note = " (more elastic)" if item["high"] < 0 else ""
-        labels.append(f"{_input_label(item['pointer'])}\n{item['low']:.3g}{low_note} to {item['high']:.3g}")
-        if low is not None:
+        ylabels.append(f"{_input_label(item['pointer'])}\n{item['low']:.3g}{low_note} to {item['high']:.3g}")
+        for value, colour, hatch in ((low, PALETTE[2], "//"), (high, PALETTE[1], "..")):
+            if value is None:
+                continue
             ax.barh(
-                row, low - central, left=central, color=PALETTE[2], hatch="//", edgecolor="white", height=0.6
+                row, value - central, left=central, color=colour, hatch=hatch, edgecolor="white", height=0.6
             )
-        if high is not None:
-            ax.barh(
-                row, high - central, left=central, color=PALETTE[1], hatch="..", edgecolor="white", height=0.6
+            ends.append(value)
+            right = value >= central
+            ax.annotate(
+                _value_label(value),
+                xy=(value, row),
+                xytext=(4 if right else -4, 0),
+                textcoords="offset points",
+                ha="left" if right else "right",
+                va="center",
+                fontsize=9,
             )
     ax.axvline(central, color="#000000", linewidth=1.0)
-    ax.set_yticks(range(len(inputs)), labels)
-    ax.set_xlabel(f"Discounted deadweight loss ({units['currency']})")
+    ax.annotate(
+        f"central {_value_label(central)}",
+        xy=(central, 1),
+        xycoords=("data", "axes fraction"),
+        xytext=(3, 3),
+        textcoords="offset points",
+        fontsize=9,
+    )
+    if ends:  # room for the labels at both ends
+        lo, hi = min([*ends, central]), max([*ends, central])
+        pad = (hi - lo) * 0.18 or abs(central) * 0.1 or 1.0
+        ax.set_xlim(lo - pad, hi + pad)
+    ax.set_yticks(range(len(inputs)), ylabels)
+    unit = _headline_unit(output, units)
+    ax.set_xlabel(f"{_headline_label(output)}" + (f" [{unit}]" if unit else ""))
     _compact_axis(ax.xaxis)
     ax.grid(True, axis="x", color="#dddddd", linewidth=0.6)
     handles = [
@@ -331,12 +543,33 @@ def render_sensitivity(
         ),
         Patch(facecolor=PALETTE[1], hatch="..", label="input at its high"),
     ]
-    figure.suptitle(
-        title or f"What moves the discounted deadweight loss of '{chosen}'", fontsize=15, x=0.01, ha="left"
-    )
+    what = _headline_label(output)
+    figure.suptitle(title or f"What moves '{what}' under '{chosen}'", fontsize=15, x=0.01, ha="left")
     note = footnote(form, body["cautions"], "One input at a time. ")
     _legend_and_footnote(figure, note, 1, handles=handles, ncols=2)
     return _save(figure, fmt)
+
+
+def _value_label(value: float) -> str:
+    """A bar end's value: whole numbers below 100,000 (1,308), else four figures (1.308M)."""
+    if 100 <= abs(value) < 1e5:
+        return f"{value:,.0f}"
+    if abs(value) < 100:
+        return f"{value:.3g}"
+    for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M"), (1e3, "k")):
+        if abs(value) >= size:
+            return f"{value / size:.4g}{suffix}"
+    return f"{value:.4g}"
+
+
+def _central_figure(summary: dict, output: str) -> float:
+    """A headline of the central answer's summary (group totals and free-path totals nested)."""
+    if output in summary:
+        return summary[output]
+    group = output.removeprefix("total_")
+    if group in (summary.get("distribution_totals") or {}):
+        return summary["distribution_totals"][group]
+    return (summary.get("vs_free_path_totals") or {}).get(output, 0.0)
 
 
 def discount_factors(request: dict) -> np.ndarray:
@@ -381,7 +614,7 @@ def _discounting(request: dict, period: str) -> str:
     return f"discounted at {rate * 100:.3g} % per {period}"
 
 
-def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title: str):
+def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title: str, basis: str):
     """The figure: one panel per policy, one horizontal bar per group, gains right of zero."""
     from matplotlib.patches import Patch
 
@@ -434,12 +667,13 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     first.set_yticks(rows_y, [textwrap.fill(label, 18) for _, label in GROUPS])
     first.invert_yaxis()  # the first group on top
     _compact_axis(first.xaxis)
-    period = units.get("period", "period")
-    period = "model period" if period == "period" else period
     for col in range(cols):  # the lowest panel of each column carries the money axis
         lowest = cells[max(i for i in range(col, len(names), cols))]
         lowest.xaxis.set_tick_params(labelbottom=True)
-        lowest.set_xlabel(f"Loss (\u2212) or gain (+), {units['currency']} per {period}", fontsize=10)
+        lowest.set_xlabel(
+            textwrap.fill(f"Gain (+) or loss (\u2212), {basis} [{units['currency']}, {labels.REAL}]", 70),
+            fontsize=10,
+        )
     figure.suptitle(title, fontsize=15, x=0.01, ha="left")
     handles = [
         Patch(facecolor=c, hatch=h, edgecolor="white", label=label)
@@ -449,6 +683,7 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     return figure
 
 
+@_plain_text
 def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, title: str | None = None):
     """The who-gains Figure of a /v1/paths body (`request`: its request, for the discount rate):
     one panel per policy, bar i of a panel drawing `gains_and_losses(...)[policy, i]`."""
@@ -461,7 +696,13 @@ def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, t
         "the groups add up to minus the deadweight loss (the net in each title).",
         footnote(form, body["cautions"]),
     ]
-    return _gains_figure(body, values, units, "\n".join(lines), title or "Who gains and who loses")
+    basis = gains_basis(request, horizon, period)
+    return _gains_figure(body, values, units, "\n".join(lines), title or "Who gains and who loses", basis)
+
+
+def gains_basis(request: dict, horizon: int, period: str = "period") -> str:
+    """The basis of the who-gains bars in words: the total, its periods and its discounting."""
+    return f"total over periods 1 to {horizon}, {_discounting(request, period)}"
 
 
 def render_gains_and_losses(
@@ -470,3 +711,88 @@ def render_gains_and_losses(
     """Who gains and who loses under each policy as SVG or PNG; ProblemError (422) under random
     rationing."""
     return _save(gains_and_losses_figure(body, request, units, form, title), fmt)
+
+
+#: The renters chart's bars: before the rule (grey), while it is active (blue), after its end
+#: (vermillion): the gains during a rule and the losses it leaves after (MODEL.md section 19).
+PHASES = (
+    ("before the rule", "#999999", "xx"),
+    ("while the rule is active", "#0072B2", ""),
+    ("after the rule ends", "#D55E00", "//"),
+)
+
+
+def renters_phases(request: dict, body: dict) -> list[tuple[str, list[float], list[int]]]:
+    """(policy name, vs_free_path.renters, the phase of each period: 0 before, 1 active, 2 after)
+    of every path that carries the series, from the request's start and end of each policy."""
+    out = []
+    policies = {p["name"]: p for p in request.get("policies", [])}
+    horizon = len(body["periods"]) - 1
+    for path in body["paths"]:
+        renters = _series(path, "vs_free_path.renters")
+        if renters is None or path.get("kind") == "none":
+            continue
+        policy = policies.get(path["name"], {})
+        start, end = policy.get("start", 1), policy.get("end") or horizon
+        phases = [0 if t < start else 1 if t <= end else 2 for t in body["periods"]]
+        out.append((path["name"], list(renters), phases))
+    return out
+
+
+@_plain_text
+def render_renters(
+    body: dict, request: dict, units: dict, fmt: str, form: str, title: str | None = None
+) -> bytes:
+    """Renters against the free path (the answer's `vs_free_path.renters`), one panel per policy,
+    one bar per period coloured by the rule's phase, with the sums during and after the rule in
+    the panel's title. 422 (pointer /adjustment) where the answer carries no such series (it
+    needs the stock schedule)."""
+    from matplotlib.patches import Patch
+
+    rows = renters_phases(request, body)
+    if not rows:
+        raise ProblemError(
+            validation_problem(
+                {
+                    "adjustment": [
+                        "Renters against the free path need the stock schedule and a policy other than none."
+                    ]
+                }
+            )
+        )
+    cols = 1 if len(rows) == 1 else 2 if len(rows) <= 4 else 3
+    nrows = -(-len(rows) // cols)
+    figure = _figure()
+    grid = figure.subplots(nrows, cols, sharex=True, sharey=True, squeeze=False)
+    cells = list(grid.flat)
+    for ax in cells[len(rows) :]:
+        ax.set_axis_off()
+    periods = body["periods"]
+    period = units.get("period", "period")
+    for ax, (name, values, phases) in zip(cells, rows, strict=False):
+        colours = [PHASES[k][1] for k in phases]
+        hatches = [PHASES[k][2] for k in phases]
+        ax.bar(periods, values, color=colours, hatch=hatches, edgecolor="white", width=0.8)
+        ax.axhline(0, color="#000000", linewidth=1.0)
+        during = sum(v for v, k in zip(values, phases, strict=True) if k == 1)
+        after = sum(v for v, k in zip(values, phases, strict=True) if k == 2)
+        ax.set_title(f"{name}: during {_signed(during)}, after {_signed(after)}", fontsize=11, loc="left")
+        ax.grid(True, axis="y", color="#dddddd", linewidth=0.6)
+        ax.set_axisbelow(True)
+        _compact_axis(ax.yaxis)
+        ax.set_ylabel(textwrap.fill(labels.unit("vs_free_path.renters", units), 34), fontsize=9)
+    for col in range(min(cols, len(rows))):
+        lowest = cells[max(i for i in range(col, len(rows), cols))]
+        lowest.xaxis.set_tick_params(labelbottom=True)
+        lowest.set_xlabel(_period_label(units))
+    heading = title or "Renters against the free market path: gains while the rule lasts, losses after"
+    figure.suptitle(heading, fontsize=15, x=0.01, ha="left")
+    lines = [
+        "Each bar: renters' gain (+) or loss (\u2212) in that "
+        f"{period} against the same market without any rule (the free path), not discounted; "
+        "sums in each title.",
+        footnote(form, body["cautions"], f"Money in {labels.REAL}. "),
+    ]
+    handles = [Patch(facecolor=c, hatch=h, edgecolor="white", label=lab) for lab, c, h in PHASES]
+    _legend_and_footnote(figure, "\n".join(lines), 1, handles=handles, ncols=3)
+    return _save(figure, fmt)

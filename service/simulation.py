@@ -20,12 +20,14 @@ from marshmallow import ValidationError
 
 from . import engine
 from .problems import ProblemError, engine_problem, load_request, validation_problem
+from .schemas.normal import normalised
 from .schemas.paths import OUTPUTS, BatchScenarioSchema, PathsRequestSchema
 
 __all__ = [
     "SUMMARY_KEYS",
     "compute",
     "load_scenario",
+    "normalised_request",
     "render",
     "requested_output",
     "scenario_id",
@@ -79,6 +81,12 @@ SUMMARY_KEYS = ("scenario_id", "model_version", "reduced_form", "summary", "caut
 
 def _summary_only(body: dict[str, Any]) -> dict[str, Any]:
     return {k: body[k] for k in SUMMARY_KEYS if k in body}
+
+
+def normalised_request(request: dict[str, Any]) -> dict[str, Any]:
+    """The answer's `request`: a valid request with its defaults written out, which re-runs
+    as it is to the same answer (schemas.normal)."""
+    return normalised(_REQUEST, request)
 
 
 def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
@@ -213,6 +221,7 @@ def simulate(request: dict[str, Any]) -> dict[str, Any]:
     (body,) = compute([scenario], output=requested_output(request))
     if "status" in body:
         raise ProblemError(body)
+    body["request"] = normalised_request(request)
     return body
 
 
@@ -244,6 +253,8 @@ def simulate_many(
         if loaded:
             bodies = compute(loaded, [prefix.format(i=i) for i in where], lists, output)
             for i, body in zip(where, bodies, strict=True):
+                if "status" not in body:
+                    body["request"] = normalised_request(requests[i])
                 out[i] = body
     for i, ident in ids.items():
         if isinstance(ident, str):

@@ -20,6 +20,7 @@ from .engine.uncertainty import (
     percentile_bands,
 )
 from .problems import ProblemError, load_request, problem
+from .schemas.normal import normalised
 from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
 from .simulation import compute, scenario_id
 
@@ -162,6 +163,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
         "central": central,
         "bands": out_bands,
         "cautions": cautions,
+        "request": normalised(_BANDS, request),
     }
 
 

@@ -37,26 +37,39 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     scenario = spec["scenario"]
     market = scenario.get("market")
     form = market.get("form", "linear") if isinstance(market, dict) else "linear"
-    if spec["chart"] in ("paths", "gains_and_losses"):
+    title, panels = spec.get("title"), spec.get("panels")
+    if spec["chart"] in ("paths", "gains_and_losses", "renters_vs_free_path"):
         result = simulate_many([scenario])[0]
         if "status" in result:
-            raise ProblemError(result)
+            raise _under("/scenario", ProblemError(result))
         if spec["chart"] == "paths":
-            image = charts.render_paths(result, spec["units"], fmt, form, spec.get("title"))
+            image = charts.render_paths(result, spec["units"], fmt, form, title, panels)
+        elif spec["chart"] == "renters_vs_free_path":
+            image = _scenario_problem(
+                charts.render_renters, result, scenario, spec["units"], fmt, form, title
+            )
         else:
-            image = charts.render_gains_and_losses(
-                result, scenario, spec["units"], fmt, form, spec.get("title")
+            image = _scenario_problem(
+                charts.render_gains_and_losses, result, scenario, spec["units"], fmt, form, title
             )
     elif spec["chart"] == "bands":
         threads = current_app.extensions["shockpath.settings"].band_threads
-        result = bands(scenario, threads=threads)
-        image = charts.render_bands(result, spec["units"], fmt, form, spec.get("title"))
+        result = _scenario_problem(bands, scenario, threads=threads)
+        image = charts.render_bands(result, spec["units"], fmt, form, title, panels)
     else:
-        result = sensitivity(scenario)
+        result = _scenario_problem(sensitivity, scenario)
         image = charts.render_sensitivity(
-            result, spec["units"], fmt, form, spec.get("policy"), spec.get("title")
+            result, spec["units"], fmt, form, spec.get("policy"), title, spec.get("output")
         )
     return image, result["scenario_id"]
+
+
+def _scenario_problem(function, *args, **kwargs):
+    """`function(...)`, its problems' pointers moved under /scenario (they point into it)."""
+    try:
+        return function(*args, **kwargs)
+    except ProblemError as error:
+        raise _under("/scenario", error) from None
 
 
 @blueprint.operation(
@@ -97,10 +110,7 @@ def post_chart() -> Response:
         raise ProblemError(problem(503, "Service Unavailable", "Charts need the charts extra (matplotlib)."))
 
     def produce() -> Response:
-        try:
-            image, g.scenario_id = _draw(spec, fmt)
-        except ProblemError as error:
-            raise _under("/scenario", error) from None
+        image, g.scenario_id = _draw(spec, fmt)
         return Response(image, mimetype=chosen)
 
     response = conditional(request_tag("/v1/charts", raw, chosen), produce)

@@ -14,12 +14,14 @@ from flask import request
 
 from ..problems import ProblemError, problem
 
-__all__ = ["CSV", "JSON", "JSON_ONLY", "TABULAR", "negotiate"]
+__all__ = ["CSV", "JSON", "JSON_ONLY", "TABULAR", "XLSX", "negotiate"]
 
 JSON = "application/json"
 CSV = "text/csv"
+#: An Excel workbook (service.workbook builds it).
+XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 JSON_ONLY = (JSON,)
-TABULAR = (JSON, CSV)
+TABULAR = (JSON, CSV, XLSX)
 
 
 def negotiate(offered: Sequence[str] = JSON_ONLY) -> str:

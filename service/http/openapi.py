@@ -19,6 +19,7 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 from .. import limits
 from ..engine import MODEL_VERSION
 from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
+from ..schemas.briefing import BriefingRequestSchema
 from ..schemas.charts import ChartRequestSchema
 from ..schemas.fields import openapi_attributes
 from ..schemas.paths import BatchRequestSchema, PathsRequestSchema
@@ -33,6 +34,7 @@ from ..schemas.responses import (
     SensitivityResponseSchema,
 )
 from ..schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema
+from .negotiation import XLSX
 from .openapi_examples import (
     EXAMPLES_PATH,
     compute_examples,
@@ -75,6 +77,7 @@ _SCHEMAS = {
     "SensitivityRequest": SensitivityRequestSchema,
     "SensitivityResponse": SensitivityResponseSchema,
     "ChartRequest": ChartRequestSchema,
+    "BriefingRequest": BriefingRequestSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
 }
@@ -137,6 +140,10 @@ def _content(kind: str) -> dict[str, Any]:
         return {"schema": {"type": "string"}}
     if kind.startswith("image/"):
         return {"schema": {"type": "string", "format": "binary", "contentMediaType": kind}}
+    if kind == "html":  # a document (the briefing)
+        return {"schema": {"type": "string", "contentMediaType": "text/html"}}
+    if kind == "xlsx":  # an Excel workbook (service.workbook)
+        return {"schema": {"type": "string", "format": "binary", "contentMediaType": XLSX}}
     if kind == "octets":
         return {
             "schema": {"type": "string", "format": "binary", "contentMediaType": "application/octet-stream"}

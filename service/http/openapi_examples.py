@@ -127,6 +127,22 @@ def request_examples() -> dict[str, dict[str, dict[str, Any]]]:
         "postBands": {**bands, SHORT_BANDS: short_bands},
         "postSensitivity": sensitivity,
         "postChart": charts,
+        "postBriefing": {
+            SHORT: {
+                "summary": "A briefing of a short demo with its own title and units",
+                "value": {
+                    **short["value"],
+                    "title": "Quillbrook: a rent freeze",
+                    "units": {
+                        "currency": "EUR",
+                        "quantity": "homes",
+                        "unit": "home",
+                        "price_interval": "month",
+                        "period": "year",
+                    },
+                },
+            }
+        },
     }
     # The CSV operations take the same bodies as the operations they answer as CSV.
     return out | {f"{op}Csv": out[op] for op in ("postPaths", "postPathsBatch", "postBands")}
@@ -269,6 +285,11 @@ def compute_examples() -> dict[str, Any]:
         },
         "postChart": {
             "503": {"application/problem+json": _problem(503, "Charts need the charts extra (matplotlib).")}
+        },
+        "postBriefing": {
+            "503": {
+                "application/problem+json": _problem(503, "Briefings need the charts extra (matplotlib).")
+            }
         },
         "problems": problems,
     }

@@ -4,8 +4,10 @@ from __future__ import annotations
 
 from importlib import resources
 
+import orjson
 from flask import Response
 
+from .. import labels
 from ..problems import ProblemError, problem
 from .documented import DocumentedBlueprint
 
@@ -14,6 +16,8 @@ __all__ = ["blueprint"]
 blueprint = DocumentedBlueprint("page", __name__)
 
 _PAGE_FILES = {"style.css": "text/css", "app.js": "text/javascript"}
+#: Made from service.labels, the one table of names and units (not a file in web/).
+_LABELS = "labels.json"
 
 
 def _page_file(name: str) -> bytes:
@@ -36,17 +40,20 @@ def page() -> Response:
     "get",
     "/ui/{name}",
     operationId="pageFile",
-    summary="The page's style sheet and script",
+    summary="The page's style sheet, script and label table",
     path_parameters=["name"],
     responses={
         "200": {
-            "description": "CSS or JavaScript.",
-            "content": {"text/css": "text", "text/javascript": "text"},
+            "description": "CSS, JavaScript, or labels.json: the plain names and units of every series, "
+            "total and input (service.labels).",
+            "content": {"text/css": "text", "text/javascript": "text", "application/json": "text"},
         },
         "404": {"description": "No such file.", "problem": True},
     },
 )
 def page_file(name: str) -> Response:
+    if name == _LABELS:
+        return Response(orjson.dumps(labels.table()), mimetype="application/json")
     if name not in _PAGE_FILES:
         raise ProblemError(problem(404, "Not Found", "No such page file."))
     return Response(_page_file(name), mimetype=_PAGE_FILES[name])

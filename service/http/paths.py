@@ -6,13 +6,21 @@ from flask import Response, current_app, g, request
 
 from ..problems import ProblemError, load_request, problem, validation_problem
 from ..schemas.paths import BatchRequestSchema
-from ..simulation import compute, load_scenario, requested_output, scenario_id, simulate_many
+from ..simulation import (
+    compute,
+    load_scenario,
+    normalised_request,
+    requested_output,
+    scenario_id,
+    simulate_many,
+)
+from ..workbook import batch_workbook, paths_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import LAYOUTS, batch_csv, batch_summary_csv, paths_csv, paths_summary_csv
+from .csvio import LAYOUTS, batch_csv, batch_summary_csv, neutralise, paths_csv, paths_summary_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
-from .negotiation import CSV, TABULAR, negotiate
+from .negotiation import CSV, TABULAR, XLSX, negotiate
 
 __all__ = ["blueprint"]
 
@@ -31,7 +39,7 @@ _BATCH = BatchRequestSchema()
         "200": {
             "description": 'A path per policy, period 0 (the base point) first; with "output": "summary" '
             "only the summaries and cautions (PathsSummary).",
-            "content": {"application/json": "PathsResponse | PathsSummary", "text/csv": "csv"},
+            "content": {"application/json": "PathsResponse | PathsSummary", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -40,7 +48,7 @@ _BATCH = BatchRequestSchema()
     parameters=["If-None-Match", "layout"],
 )
 def post_paths() -> Response:
-    return _paths(negotiate(TABULAR) == CSV)
+    return _paths(negotiate(TABULAR))
 
 
 @blueprint.operation(
@@ -62,11 +70,12 @@ def post_paths() -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_paths_csv() -> Response:
-    negotiate((CSV,))
-    return _paths(True)
+    return _paths(negotiate((CSV,)))
 
 
-def _paths(as_csv: bool) -> Response:
+def _paths(chosen: str) -> Response:
+    """The answer in the negotiated format: JSON, CSV (long, wide or summary) or a workbook."""
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     layout = csv_layout()
     raw = read_json()
     scenario = load_scenario(raw)
@@ -76,25 +85,30 @@ def _paths(as_csv: bool) -> Response:
     tag = sid + (".summary" if output == "summary" else "")
     if as_csv:
         tag += ".csv" if layout == "long" or output == "summary" else ".wide.csv"
+    elif as_xlsx:
+        tag += ".xlsx"
     cache = current_app.extensions["shockpath.cache"]
 
     def produce() -> Response:
         if (cached := cache.get(tag)) is not None:
-            response = Response(cached, mimetype=CSV if as_csv else "application/json")
+            response = Response(cached, mimetype=chosen)
         else:
             (body,) = compute([scenario], lists=False, output=output)
             SCENARIOS.labels("/v1/paths").inc()
             if "status" in body:
                 raise ProblemError(body)
-            if not as_csv:
+            body["request"] = normalised_request(raw)
+            if as_xlsx:
+                response = Response(paths_workbook(body, neutralise), mimetype=XLSX)
+            elif not as_csv:
                 response = json_response(body)
             elif output == "summary":
                 response = Response(paths_summary_csv(body), mimetype=CSV)
             else:
                 response = Response(paths_csv(body, layout), mimetype=CSV)
             cache.put(tag, response.get_data())
-        if as_csv:
-            attachment(response, f"paths-{sid[:12]}.csv")
+        if as_csv or as_xlsx:
+            attachment(response, f"paths-{sid[:12]}.{'csv' if as_csv else 'xlsx'}")
         return response
 
     response = conditional(tag, produce)
@@ -112,7 +126,7 @@ def _paths(as_csv: bool) -> Response:
         "200": {
             "description": "Results in request order (CSV: one row per value; a failed scenario has one "
             "`problem` row).",
-            "content": {"application/json": "BatchResponse", "text/csv": "csv"},
+            "content": {"application/json": "BatchResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -121,7 +135,7 @@ def _paths(as_csv: bool) -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_batch() -> Response:
-    return _batch(negotiate(TABULAR) == CSV)
+    return _batch(negotiate(TABULAR))
 
 
 @blueprint.operation(
@@ -143,14 +157,14 @@ def post_batch() -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_batch_csv() -> Response:
-    negotiate((CSV,))
-    return _batch(True)
+    return _batch(negotiate((CSV,)))
 
 
-def _batch(as_csv: bool) -> Response:
+def _batch(chosen: str) -> Response:
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     layout = csv_layout()
     raw = read_json()
-    tag = request_tag("/v1/paths/batch", raw, f"csv-{layout}" if as_csv else "json")
+    tag = request_tag("/v1/paths/batch", raw, f"csv-{layout}" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
         envelope = load_request(_BATCH, raw)
@@ -158,6 +172,10 @@ def _batch(as_csv: bool) -> Response:
         _same_output(envelope["scenarios"], output)
         results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=False, output=output)
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
+        if as_xlsx:
+            return attachment(
+                Response(batch_workbook(results, neutralise), mimetype=XLSX), f"batch-{tag[:12]}.xlsx"
+            )
         if not as_csv:
             return json_response({"results": results})
         if output == "summary":

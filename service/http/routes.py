@@ -3,7 +3,7 @@ built from their operations (openapi.py) and the app registers them (app.py)."""
 
 from __future__ import annotations
 
-from . import charts, examples, health, page, paths, uncertainty
+from . import briefing, charts, examples, health, page, paths, uncertainty
 from .documented import DocumentedBlueprint
 
 __all__ = ["BLUEPRINTS"]
@@ -12,6 +12,7 @@ BLUEPRINTS: tuple[DocumentedBlueprint, ...] = (
     paths.blueprint,
     uncertainty.blueprint,
     charts.blueprint,
+    briefing.blueprint,
     examples.blueprint,
     page.blueprint,
     health.blueprint,

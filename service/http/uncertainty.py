@@ -10,12 +10,13 @@ from flask import Response, current_app, g
 
 from ..problems import ProblemError, validation_problem
 from ..uncertainty import bands, sensitivity
+from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import bands_csv
+from .csvio import bands_csv, neutralise
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
-from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
+from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
 
 __all__ = ["blueprint"]
 
@@ -31,7 +32,7 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     responses={
         "200": {
             "description": "Bands per policy and the central path (CSV: the bands in long form).",
-            "content": {"application/json": "BandsResponse", "text/csv": "csv"},
+            "content": {"application/json": "BandsResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
@@ -40,7 +41,7 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     parameters=["If-None-Match"],
 )
 def post_bands() -> Response:
-    return _bands(negotiate(TABULAR) == CSV)
+    return _bands(negotiate(TABULAR))
 
 
 @blueprint.operation(
@@ -61,13 +62,13 @@ def post_bands() -> Response:
     parameters=["If-None-Match"],
 )
 def post_bands_csv() -> Response:
-    negotiate((CSV,))
-    return _bands(True)
+    return _bands(negotiate((CSV,)))
 
 
-def _bands(as_csv: bool) -> Response:
+def _bands(chosen: str) -> Response:
+    as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     raw = full_output_only(read_json())
-    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
+    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
         threads = current_app.extensions["shockpath.settings"].band_threads
@@ -75,6 +76,10 @@ def _bands(as_csv: bool) -> Response:
         g.scenario_id = body["scenario_id"]
         DRAWS.inc(body["draws"])
         SCENARIOS.labels("/v1/bands").inc()
+        if as_xlsx:
+            return attachment(
+                Response(bands_workbook(body, neutralise), mimetype=XLSX), f"bands-{tag[:12]}.xlsx"
+            )
         if as_csv:
             return attachment(Response(bands_csv(body), mimetype=CSV), f"bands-{tag[:12]}.csv")
         return json_response(body)

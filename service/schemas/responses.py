@@ -20,6 +20,8 @@ from ..engine.results import (
     VS_FREE_PATH_TOTALS,
 )
 from .fields import Either
+from .paths import PathsRequestSchema
+from .uncertainty import BandsRequestSchema
 
 __all__ = [
     "BatchResponseSchema",
@@ -308,6 +310,15 @@ class PathsResponseSchema(Schema):
     paths = fields.List(fields.Nested(PolicyPathSchema), required=True)
     summary = fields.List(fields.Nested(PolicySummarySchema), required=True)
     cautions = fields.List(fields.String(), required=True)
+    request = fields.Nested(
+        PathsRequestSchema,
+        metadata={
+            "description": "The request answered, normalised: every default written out, integers as "
+            "integers, fields in the documented order. Posted as it is to /v1/paths it gives this answer "
+            "again (same scenario_id and ETag). In every /v1/paths answer and batch result; not in the "
+            "`central` answer of bands and sensitivity (their own `request` is at the top)."
+        },
+    )
 
 
 class PathsSummarySchema(Schema):
@@ -424,6 +435,15 @@ class BandsResponseSchema(Schema):
     central = fields.Nested(PathsResponseSchema, required=True)
     bands = fields.List(fields.Nested(PolicyBandSchema), required=True)
     cautions = fields.List(fields.String(), required=True)
+    request = fields.Nested(
+        BandsRequestSchema,
+        required=True,
+        metadata={
+            "description": "The request answered, normalised (draws, seed, percentiles and every other "
+            "default written out; distributions as given): posted as it is to /v1/bands it gives this "
+            "answer again (same scenario_id and ETag)."
+        },
+    )
 
 
 def _figures(**kwargs) -> fields.Dict:

@@ -4,13 +4,14 @@ and who gains and who loses (its bars against numpy_financial present values).""
 from __future__ import annotations
 
 import io
+import re
 import xml.etree.ElementTree as ET
 
 import numpy as np
 import numpy_financial as npf
 import pytest
 
-from service import simulate
+from service import labels, simulate
 from service.charts import SIZE_PX
 from service.examples import example_request
 
@@ -193,7 +194,8 @@ def test_the_gains_and_losses_chart_answers_svg_and_png(client, fmt):
         "Tenants in controlled homes",
         "Households priced or rationed out",
         "Government",
-        "EUR per year",
+        "EUR, today's money (period 0)",
+        "total over periods 1 to",
         "efficient allocation",
         "free market of the same period",
         "discounted at 3.5 % per year",
@@ -261,14 +263,137 @@ def test_random_rationing_answers_422_pointing_at_the_rationing(client):
 def test_the_homes_below_panel_appears_only_under_the_stock_schedule(client):
     stock = additions_scenario()
     with_stock = client.post("/v1/charts", json={"chart": "paths", "format": "svg", "scenario": stock})
-    assert "Homes below the free path" in with_stock.get_data(as_text=True)
+    assert "homes below the free path" in with_stock.get_data(as_text=True)
     for other in ("paths", "bands"):
         text = _svg(client, other)
-        assert "Homes below the free path" not in text and "Quantity traded" in text
+        assert "homes below the free path" not in text and "quantity traded" in text
     # Drawn from the response's own series: the panel's lines are its homes_below_free_path.
     from service.charts import render_paths
 
     body = simulate(stock)
-    assert "Homes below the free path" in render_paths(body, HOUSING, "svg", "linear").decode()
+    assert "homes below the free path" in render_paths(body, HOUSING, "svg", "linear").decode()
     body["paths"][0].pop("homes_below_free_path")  # not every path carries it: no panel
-    assert "Homes below the free path" not in render_paths(body, HOUSING, "svg", "linear").decode()
+    assert "homes below the free path" not in render_paths(body, HOUSING, "svg", "linear").decode()
+
+
+def _axes_count(svg: str) -> int:
+    """Axes that carry a drawing (matplotlib writes each axes as a group with its own id)."""
+    return len(re.findall(r'<g id="axes_\d+">', svg))
+
+
+@pytest.mark.parametrize(
+    "panels",
+    [["consumer_price"], ["quantity", "shortage"], ["consumer_price", "quantity", "deadweight_loss"]],
+)
+def test_panels_draws_exactly_the_panels_asked_for_under_the_title_given(client, panels):
+    title = "Quillbrook: what a freeze does"
+    body = {
+        "chart": "paths",
+        "format": "svg",
+        "panels": panels,
+        "title": title,
+        "scenario": scenario("paths"),
+    }
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 200
+    svg = response.get_data(as_text=True)
+    assert _axes_count(svg) == len(panels)
+    assert f"<!-- {title} -->" in svg
+    for name in panels:
+        assert f"({labels.SERIES[name][1]})" in svg  # each panel's title names its series
+
+
+def test_a_band_chart_takes_panels_too(client):
+    body = {"chart": "bands", "format": "svg", "panels": ["consumer_price"], "scenario": scenario("bands")}
+    svg = client.post("/v1/charts", json=body).get_data(as_text=True)
+    assert _axes_count(svg) == 1
+
+
+def test_a_panel_the_answer_does_not_carry_is_a_422_at_its_pointer(client):
+    body = {"chart": "paths", "panels": ["consumer_price", "vacant_homes"], "scenario": scenario("paths")}
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 422
+    (error,) = response.get_json()["errors"]
+    assert error["pointer"] == "/panels/1" and "not in this answer" in error["message"]
+
+
+def test_controlled_and_uncontrolled_rents_are_a_default_panel_only_where_a_ceiling_is_partial(client):
+    partial = example_request("corrowdale-older-buildings")
+    svg = client.post(
+        "/v1/charts", json={"chart": "paths", "format": "svg", "scenario": partial}
+    ).data.decode()
+    assert "Rents: controlled homes (solid)" in svg
+    whole = _svg(client, "paths")
+    assert "Rents: controlled" not in whole
+
+
+def test_money_is_labelled_real_and_nominal_beside_it_under_inflation(client):
+    request = example_request("essvane-freeze-under-inflation")
+    svg = client.post(
+        "/v1/charts", json={"chart": "paths", "format": "svg", "scenario": request}
+    ).data.decode()
+    assert "money of the day" in svg and "today's money (period 0)" in svg
+    assert "(nominal consumer price)" in svg
+
+
+def test_the_tornado_shows_the_output_chosen_with_a_value_at_each_bar_end(client):
+    request = scenario("sensitivity")
+    answer = client.post("/v1/sensitivity", json=request).get_json()
+    body = {"chart": "sensitivity", "format": "svg", "output": "final_consumer_price", "scenario": request}
+    svg = client.post("/v1/charts", json=body).get_data(as_text=True)
+    assert "(final consumer price)" in svg
+    item = answer["inputs"][0]
+    policy = max(item["policies"], key=lambda p: p["swing"]["final_consumer_price"] or 0)
+    from service.charts import _value_label
+
+    for end in ("low", "high"):
+        assert f"<!-- {_value_label(policy[end]['final_consumer_price'])} -->" in svg
+    bad = client.post("/v1/charts", json={**body, "output": "tallest_building"})
+    assert bad.status_code == 422 and bad.get_json()["errors"][0]["pointer"] == "/output"
+
+
+def test_the_renters_chart_needs_renters_against_the_free_path(client):
+    body = {"chart": "renters_vs_free_path", "scenario": scenario("paths")}
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 422
+    assert response.get_json()["errors"][0]["pointer"] == "/scenario/adjustment"
+
+
+def test_the_renters_chart_colours_each_period_by_the_rules_phase_and_sums_them():
+    from service.charts import render_renters, renters_phases
+
+    request = additions_scenario()
+    request["policies"][1]["end"] = 4
+    body = simulate(request)
+    # A rendering check on an invented series (the engine adds vs_free_path under MODEL.md 19).
+    for p, path in enumerate(body["paths"]):
+        renters = [0.0 if p == 0 else (100.0 if 1 <= t <= 4 else -40.0) for t in body["periods"]]
+        path["vs_free_path"] = {"renters": renters, "extra_rent": [0.0] * len(renters)}
+    rows = renters_phases(request, body)
+    assert [name for name, _, _ in rows] == [p["name"] for p in request["policies"][1:]]
+    name, values, phases = rows[0]
+    assert values[1] == 100.0 and values[-1] == -40.0
+    assert phases == [0, 1, 1, 1, 1] + [2] * (len(body["periods"]) - 5)
+    svg = render_renters(body, request, HOUSING, "svg", "linear").decode()
+    horizon = len(body["periods"]) - 1
+    assert f"<!-- {name}: during +400, after \u2212{_compact_total(40.0 * (horizon - 4))} -->" in svg
+
+
+def _compact_total(value: float) -> str:
+    from service.charts import _compact
+
+    return _compact(value)
+
+
+@pytest.mark.parametrize("chart", ["paths", "gains_and_losses"])
+def test_a_dollar_sign_in_units_or_title_prints_as_it_is(client, chart):
+    body = {
+        "chart": chart,
+        "format": "svg",
+        "title": r"Cost in $\frac$ terms",
+        "units": {"currency": "$", "quantity": "homes"},
+        "scenario": scenario("paths"),
+    }
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 200
+    assert r"<!-- Cost in $\frac$ terms -->" in response.get_data(as_text=True)

@@ -33,7 +33,7 @@ from service import create_app
 
 APP = create_app({"TESTING": True, "band_threads": 1})
 SCHEMA = schemathesis.openapi.from_wsgi("/openapi.json", APP)
-HEAVY = ("/v1/bands", "/v1/sensitivity")
+HEAVY = ("/v1/bands", "/v1/sensitivity", "/v1/briefing")
 CHARTS = ("/v1/charts",)
 # schemathesis's WSGI transport asks for gzip but does not decode it; gzip has its own tests.
 IDENTITY = {"Accept-Encoding": "identity"}

@@ -1,53 +1,54 @@
 // shockpath's page: plain JavaScript, no library, no network beyond this service.
+// Names and units of every series, total and input come from /ui/labels.json (service/labels.py),
+// and the tables iterate over what the answer carries: new series appear without a change here.
 "use strict";
 
 const $ = (id) => document.getElementById(id);
-const state = { request: {}, objectUrls: [], endpoint: "/v1/paths", endpoints: {}, demos: {} };
-const MAIN_VALUE = { price_ceiling: ["level", "growth"], price_floor: ["level"], quantity_cap: ["level"],
-  unit_tax: ["amount"], unit_subsidy: ["amount"], ad_valorem_tax: ["rate"], none: [] };
-const SHOCK_VALUE = { step: ["change"], ramp: ["change", "periods"], growth: ["rate"], path: ["values"] };
-const SCHEDULE_VALUE = { linear: ["periods"], geometric: ["rate", "half_life"], explicit: ["elasticities"], stock: ["rate", "half_life", "depreciation"] };
-const CHOICES = {
-  form: ["linear", "constant_elasticity"], rationing: ["efficient", "random"], kind: Object.keys(MAIN_VALUE),
-  profile: Object.keys(SHOCK_VALUE), schedule: Object.keys(SCHEDULE_VALUE),
-  distribution: ["normal", "uniform", "triangular"],
+const state = {
+  request: {}, labels: null, endpoint: "/v1/paths", demos: {}, titles: {}, answer: null, sensitivity: null,
+  urls: [], rendered: "", pending: null,
 };
 const BAND_KEYS = ["draws", "seed", "percentiles", "supply_correlation"];
-// The rules with money in them take "indexed"; only a price ceiling takes "coverage".
-const INDEXED_KINDS = ["price_ceiling", "price_floor", "unit_tax", "unit_subsidy"];
-const MARKET_KEYS = ["price", "quantity", "payments_per_period", "form", "inflation"];
-// The groups of who gains and who loses, in the response's order, as the table heads them.
-const GROUPS = [["tenants_in_controlled_homes", "Tenants in controlled homes"],
-  ["tenants_in_uncontrolled_homes", "Tenants in uncontrolled homes"],
-  ["households_priced_out", "Households priced or rationed out"],
-  ["owners_of_controlled_homes", "Owners of controlled homes"],
-  ["owners_of_uncontrolled_homes", "Owners of uncontrolled homes"], ["government", "Government"]];
-// The fields the README's first table names get the ids the page has always had.
-const IDS = { "/market/price": "f-price", "/market/quantity": "f-quantity", "/market/demand/price_elasticity": "f-eta",
-  "/market/supply/short_run_elasticity": "f-sr", "/market/supply/long_run_elasticity": "f-lr", "/horizon": "f-horizon" };
-const LABELS = { price: "Price per unit", quantity: "Quantity", payments_per_period: "Payments per period (default 12)",
-  form: "Curve form", price_elasticity: "Price elasticity (below 0)", short_run_elasticity: "Short-run elasticity",
-  long_run_elasticity: "Long-run elasticity", horizon: "Horizon (periods)", schedule: "Adjustment schedule",
-  periods: "Periods", rate: "Rate", half_life: "Half-life (periods)", elasticities: "Elasticities per period (comma-separated)",
-  depreciation: "Depreciation", start: "Start period (optional)", end: "End period (optional)", change: "Change (fraction)",
-  values: "Values per period (comma-separated)", shifter: "Shifter", profile: "Profile", name: "Name", kind: "Kind",
-  level: "Level (a price, or base)", growth: "Growth cap per period", amount: "Amount per unit",
-  coverage: "Coverage (share of homes, default 1)", indexed: "Indexed to inflation",
-  inflation: "Inflation per period (a rate, or comma-separated rates)", rationing: "Rationing of a binding ceiling",
-  discount_rate: "Discount rate (a number, or JSON steps)", draws: "Draws", seed: "Seed",
-  percentiles: "Percentiles (comma-separated)", supply_correlation: "Supply correlation (optional)",
-  mean: "mean", sd: "sd", low: "low", high: "high", mode: "mode", distribution: "distribution" };
-// A note under a field (read with it by screen readers: aria-describedby).
-const HINTS = {
-  inflation: "Prices and welfare stay in real money of period 0 (nominal prices are in the answer); ceilings, floors, growth caps, unit taxes and subsidies are then fixed in money unless indexed.",
-  indexed: "With inflation: the rule moves with prices (a growth cap becomes inflation plus the cap).",
-  coverage: "Share of the homes the ceiling covers, above 0 and up to 1 (e.g. older buildings only); the rest rent freely.",
-  schedule: "linear, geometric and explicit move the supply elasticity; stock models the homes themselves (a share of the gap closed each period by rate or half-life, at most the depreciation share lost per period).",
-  depreciation: "Stock schedule: the largest share of the homes lost in one period, 0 to 1; empty: no such floor.",
+const MAIN_VALUE = { price_ceiling: ["level", "growth"], price_floor: ["level"], quantity_cap: ["level"],
+  unit_tax: ["amount"], unit_subsidy: ["amount"], ad_valorem_tax: ["rate"], none: [] };
+const SHOCK_VALUE = { step: ["change", "start"], ramp: ["change", "periods", "start"], growth: ["rate", "start"], path: ["values"] };
+const SCHEDULE_VALUE = { linear: ["periods"], geometric: ["rate", "half_life"], explicit: ["elasticities"],
+  stock: ["rate", "half_life", "depreciation", "build_limit", "conversion"] };
+const CHOICES = {
+  "market.form": ["linear", "constant_elasticity"], "welfare.rationing": ["efficient", "random"],
+  "policies.kind": Object.keys(MAIN_VALUE), "shocks.profile": Object.keys(SHOCK_VALUE),
+  "adjustment.schedule": Object.keys(SCHEDULE_VALUE), "policies.new_homes": ["", "covered", "exempt"],
 };
+const INDEXED_KINDS = ["price_ceiling", "price_floor", "unit_tax", "unit_subsidy"];
+// Fields written as fractions: they also accept "2.5 %".
+const PERCENT = new Set(["market.inflation", "shocks.change", "shocks.rate", "shocks.values", "policies.growth",
+  "policies.rate", "policies.coverage", "policies.vacancy_decontrol", "adjustment.rate", "adjustment.depreciation",
+  "adjustment.build_limit", "welfare.discount_rate"]);
+const LISTS = new Set(["market.inflation", "shocks.values", "adjustment.elasticities", "percentiles"]);
+const ELASTICITY = /^\/market\/(demand\/price_elasticity|supply\/(short|long)_run_elasticity|(demand|supply)\/shifters\/[^/]+)$/;
+// The fields the README's first table names keep the ids the page has always had.
+const IDS = { "/market/price": "f-price", "/market/quantity": "f-quantity", "/market/demand/price_elasticity": "f-eta",
+  "/market/supply/short_run_elasticity": "f-sr", "/market/supply/long_run_elasticity": "f-lr", "/horizon": "f-horizon",
+  "/market/inflation": "f-inflation", "/adjustment/schedule": "f-schedule" };
+// The year-by-year table's columns unless "every series" is ticked (each where the answer has it).
+const YEAR_COLUMNS = ["price_index", "consumer_price", "nominal_consumer_price", "covered_price", "uncovered_price",
+  "quantity", "homes_below_free_path", "vacant_homes", "converted_homes", "shortage", "vs_free_path.renters",
+  "deadweight_loss", "discounted_deadweight_loss"];
 
 const unescape = (k) => k.replace(/~1/g, "/").replace(/~0/g, "~");
 const escape = (k) => String(k).replace(/~/g, "~0").replace(/\//g, "~1");
+const fmt = new Intl.NumberFormat("en", { maximumFractionDigits: 0 });
+const fmt2 = new Intl.NumberFormat("en", { maximumFractionDigits: 2 });
+const fmt3 = new Intl.NumberFormat("en", { maximumSignificantDigits: 3 });
+
+function number(v) {
+  if (v == null) return "\u2013";
+  if (typeof v !== "number") return String(v);
+  if (v === 0) return "0";
+  const a = Math.abs(v);
+  return a >= 100 ? fmt.format(v) : a >= 1 ? fmt2.format(v) : fmt3.format(v);
+}
+const signed = (v) => (v > 0 ? `+${number(v)}` : number(v));
 
 function getAt(obj, pointer) {
   return pointer.split("/").slice(1).reduce((o, k) => (o == null ? undefined : o[unescape(k)]), obj);
@@ -61,61 +62,120 @@ function setAt(obj, pointer, value) {
   if (value === undefined) delete o[last]; else o[last] = value;
 }
 
-function asNumber(text) {
-  const trimmed = text.trim();
-  if (trimmed === "") return undefined;
-  const n = Number(trimmed);
-  return Number.isFinite(n) ? n : trimmed;  // a non-number goes through, for the server to point at
+// --- names, units and the money basis (labels.json) ---------------------------------------
+
+function units() {
+  return { currency: $("u-currency").value || "money", quantity: $("u-quantity").value || "units",
+    unit: $("u-unit").value || "unit", price_interval: $("u-interval").value || "price interval",
+    period: $("u-period").value || "period" };
 }
 
-// How each kind of input turns its text into a request value (undefined: leave the field out).
-const PARSE = {
-  number: asNumber,
-  text: (t) => (t === "" ? undefined : t),
-  list: (t) => (t.trim() === "" ? undefined : t.split(",").map((x) => asNumber(x) ?? x)),
-  json: (t) => { if (t.trim() === "") return undefined; try { return JSON.parse(t); } catch (e) { return asNumber(t); } },
-  // One number, or a comma-separated list of them (market.inflation).
-  numbers: (t) => {
-    const parts = t.split(",").filter((x) => x.trim() !== "").map((x) => asNumber(x));
-    return parts.length === 0 ? undefined : parts.length === 1 ? parts[0] : parts;
-  },
-  boolean: (t) => (t.trim() === "" ? undefined : t.trim() === "true" ? true : t.trim() === "false" ? false : t),
-};
+const fill = (template) => template.replace(/\{(\w+)\}/g, (_, k) => units()[k] ?? k);
 
-function shown(value, type) {
+function lookup(name, totals) {
+  const table = totals ? state.labels.totals : state.labels.series;
+  const leaf = name.split(".").pop();
+  return table[name] || table[leaf] || state.labels.series[name] || state.labels.totals[name] || null;
+}
+
+function labelOf(name, totals = false) {
+  const found = lookup(name, totals);
+  if (!found) return name.replace(".", ": ").replace(/_/g, " ");
+  return found[1] ? `${found[0]} (${found[1]})` : found[0];
+}
+
+function unitOf(name, totals = false) {
+  const found = lookup(name, totals);
+  return found ? fill(found[2]) : "";
+}
+
+// section.field of a request pointer: market.price, demand.price_elasticity, shocks.change, ...
+function fieldKey(pointer) {
+  const p = pointer.split("/").slice(1).map(unescape);
+  if (p[0] === "market") {
+    if (p[2] === "shifters") return "shifters";
+    if (p[1] === "demand" || p[1] === "supply") return `${p[1]}.${p[2]}`;
+    return `market.${p[1]}`;
+  }
+  if (p[0] === "shocks" || p[0] === "policies") return `${p[0]}.${p[2]}`;
+  if (p[0] === "adjustment" || p[0] === "welfare") return `${p[0]}.${p[1]}`;
+  return p[0];
+}
+
+function inputWords(pointer) {
+  const key = fieldKey(pointer);
+  const found = state.labels.inputs[key] || state.labels.inputs[key.split(".").pop()];
+  const leaf = unescape(pointer.split("/").pop());
+  if (key === "shifters") return { label: `Response to ${leaf.replace(/_/g, " ")} (shifter elasticity)`, hint: found ? found[2] : "" };
+  if (!found) return { label: leaf.replace(/_/g, " "), hint: "" };
+  return { label: found[1] ? `${found[0]} (${found[1]})` : found[0], hint: fill(found[2]) };
+}
+
+// --- reading what the analyst typed --------------------------------------------------------
+
+function asNumber(text, percent) {
+  const t = String(text).trim();
+  if (t === "") return undefined;
+  if (percent && t.endsWith("%")) {
+    const n = Number(t.slice(0, -1).trim());
+    return Number.isFinite(n) ? Number((n / 100).toPrecision(12)) : t;
+  }
+  const n = Number(t);
+  return Number.isFinite(n) ? n : t;  // a non-number goes through, for the server to point at
+}
+
+function parse(pointer, text) {
+  const key = fieldKey(pointer);
+  const percent = PERCENT.has(key);
+  if (["policies.name", "shocks.shifter"].includes(key)) return text === "" ? undefined : text;
+  if (key === "policies.level" && text.trim() === "base") return "base";
+  if (key === "welfare.discount_rate" && text.trim().startsWith("[")) {
+    try { return JSON.parse(text); } catch (e) { return text; }
+  }
+  if (LISTS.has(key)) {
+    const parts = text.split(",").filter((x) => x.trim() !== "").map((x) => asNumber(x, percent));
+    if (parts.length === 0) return undefined;
+    return key === "market.inflation" && parts.length === 1 ? parts[0] : parts;
+  }
+  return asNumber(text, percent);
+}
+
+function shown(value) {
   if (value == null) return "";
-  if ((type === "list" || type === "numbers") && Array.isArray(value)) return value.join(", ");
+  if (Array.isArray(value)) return value.every((v) => typeof v !== "object") ? value.join(", ") : JSON.stringify(value);
   if (typeof value === "object") return JSON.stringify(value);
   return String(value);
 }
 
-function typeOf(key, value) {
-  if (["name", "shifter"].includes(key)) return "text";
-  if (key === "indexed") return "boolean";
-  if (key === "inflation") return "numbers";
-  if (Array.isArray(value) && value.every((v) => typeof v === "number")) return "list";
-  if (["values", "elasticities", "percentiles"].includes(key)) return "list";
-  if (key === "discount_rate" && typeof value === "object") return "json";
-  return "number";
-}
+// --- the form ------------------------------------------------------------------------------
 
 let uid = 0;
-function input(pointer, key, value, label) {
+function field(pointer, value, options = {}) {
   const wrap = document.createElement("div");
   wrap.className = "field";
-  const l = document.createElement("label");
+  const key = fieldKey(pointer);
+  const words = inputWords(pointer);
+  const label = document.createElement("label");
   const id = IDS[pointer] || `f${(uid += 1)}`;
-  l.htmlFor = id;
-  l.textContent = label || LABELS[key] || key.replace(/_/g, " ");
+  label.htmlFor = id;
+  label.textContent = options.label || words.label;
   let control;
-  if (CHOICES[key]) {
+  const choices = key === "shocks.shifter" ? declaredShifters() : CHOICES[key];
+  if (choices) {
     control = document.createElement("select");
-    const options = CHOICES[key].includes(value) || value == null ? CHOICES[key] : [value, ...CHOICES[key]];
-    for (const c of options) { const o = document.createElement("option"); o.value = c; o.textContent = c.replace(/_/g, " "); control.append(o); }
-    control.value = value == null ? CHOICES[key][0] : value;
-    control.addEventListener("change", () => { setAt(state.request, pointer, control.value); restructure(pointer, key); });
-  } else if (key === "indexed" && (value == null || typeof value === "boolean")) {
-    // A checkbox: checked sends true, unchecked leaves the field out (its default, false).
+    const list = choices.includes(value ?? "") ? choices : [value, ...choices];
+    for (const c of list) {
+      const o = document.createElement("option");
+      o.value = c;
+      o.textContent = c === "" ? "(default)" : String(c).replace(/_/g, " ");
+      control.append(o);
+    }
+    control.value = value ?? choices[0];
+    control.addEventListener("change", () => {
+      setAt(state.request, pointer, control.value === "" ? undefined : control.value);
+      restructure(pointer, key);
+    });
+  } else if (key === "policies.indexed") {
     control = document.createElement("input");
     control.type = "checkbox";
     control.checked = value === true;
@@ -123,20 +183,20 @@ function input(pointer, key, value, label) {
     wrap.classList.add("check");
   } else {
     control = document.createElement("input");
-    const type = typeOf(key, value);
-    control.dataset.type = type;
-    control.inputMode = type === "number" ? "decimal" : "text";
-    control.value = shown(value, type);
-    control.addEventListener("input", () => { setAt(state.request, pointer, PARSE[type](control.value)); syncJson(); });
+    control.inputMode = typeof value === "string" && key !== "policies.level" ? "text" : "decimal";
+    control.value = shown(value);
+    control.addEventListener("input", () => { setAt(state.request, pointer, parse(pointer, control.value)); syncJson(); });
+    if (PERCENT.has(key)) control.dataset.percent = "true";
   }
   control.id = id;
   control.dataset.pointer = pointer;
-  wrap.append(l, control);
-  if (HINTS[key]) {
+  wrap.append(label, control);
+  const hintText = options.hint ?? words.hint;
+  if (hintText) {
     const hint = document.createElement("p");
     hint.className = "hint";
     hint.id = `${id}-hint`;
-    hint.textContent = HINTS[key];
+    hint.textContent = hintText;
     control.dataset.hint = hint.id;
     control.setAttribute("aria-describedby", hint.id);
     wrap.append(hint);
@@ -144,18 +204,73 @@ function input(pointer, key, value, label) {
   return wrap;
 }
 
-// A number or, for an uncertain elasticity, its distribution's parameters.
-function valueFields(container, pointer, key, value, label) {
-  if (value && typeof value === "object" && !Array.isArray(value)) {
+// An elasticity: a number, or (uncertain) a distribution with its parameters.
+const DEFAULT_SPREAD = 0.3;
+function elasticityFields(pointer, value, label) {
+  const out = [];
+  const box = document.createElement("div");
+  box.className = "field uncertain";
+  const select = document.createElement("select");
+  select.id = `f${(uid += 1)}`;
+  select.dataset.action = `uncertain:${pointer}`;
+  const choose = document.createElement("label");
+  choose.htmlFor = select.id;
+  choose.textContent = "Known or uncertain?";
+  select.setAttribute("aria-label", `${label || inputWords(pointer).label}: known or uncertain`);
+  for (const [v, text] of [["", "known (one number)"], ["normal", "uncertain: normal"], ["uniform", "uncertain: uniform"], ["triangular", "uncertain: triangular"]]) {
+    const o = document.createElement("option");
+    o.value = v;
+    o.textContent = text;
+    select.append(o);
+  }
+  const uncertain = value && typeof value === "object" && !Array.isArray(value);
+  select.value = uncertain ? value.distribution : "";
+  select.addEventListener("change", () => {
+    const current = getAt(state.request, pointer);
+    const central = current && typeof current === "object" ? centralOf(current) : Number(current) || 0;
+    setAt(state.request, pointer, select.value === "" ? central : distribution(select.value, central));
+    renderForm(state.request);
+    const again = document.querySelector(`[data-action="uncertain:${CSS.escape(pointer)}"]`);
+    if (again) again.focus();
+  });
+  box.append(choose, select);
+  if (uncertain) {
     for (const [k, v] of Object.entries(value)) {
-      container.append(input(`${pointer}/${escape(k)}`, k, v, `${label || LABELS[key] || key}: ${LABELS[k] || k}`));
+      if (k === "distribution") continue;
+      out.push(field(`${pointer}/${k}`, v, { label: `${label || inputWords(pointer).label}: ${k}`, hint: "" }));
     }
   } else {
-    container.append(input(pointer, key, value, label));
+    out.push(field(pointer, value, label ? { label } : {}));
   }
+  return [...out, box];
 }
 
-function item(title, fields, onRemove) {
+function centralOf(d) {
+  if (d.distribution === "normal") return d.mean;
+  if (d.distribution === "triangular") return d.mode;
+  return (d.low + d.high) / 2;
+}
+
+function distribution(kind, v) {
+  const spread = Math.abs(v) * DEFAULT_SPREAD || 0.1;
+  const round = (x) => Number(x.toPrecision(4));
+  const [low, high] = v < 0 ? [round(v - spread), Math.min(round(v + spread), -0.001)] : [Math.max(round(v - spread), 0), round(v + spread)];
+  if (kind === "normal") return { distribution: "normal", mean: v, sd: round(spread / 2) };
+  if (kind === "uniform") return { distribution: "uniform", low, high };
+  return { distribution: "triangular", low, mode: v, high };
+}
+
+function button(text, action, onClick, kind = "remove") {
+  const b = document.createElement("button");
+  b.type = "button";
+  b.className = kind;
+  b.textContent = text;
+  b.dataset.action = action;
+  b.addEventListener("click", onClick);
+  return b;
+}
+
+function item(title, fields, removeText, action, onRemove) {
   const box = document.createElement("div");
   box.className = "item";
   const h = document.createElement("h3");
@@ -164,80 +279,106 @@ function item(title, fields, onRemove) {
   grid.className = "grid";
   grid.append(...fields);
   box.append(h, grid);
-  if (onRemove) {
-    const b = document.createElement("button");
-    b.type = "button";
-    b.className = "remove";
-    b.textContent = `Remove ${title}`;
-    b.addEventListener("click", onRemove);
-    box.append(b);
-  }
+  if (onRemove) box.append(button(removeText, action, onRemove));
   return box;
 }
 
-function keyedFields(pointer, obj, order, labels = {}) {
-  const keys = [...new Set([...order, ...Object.keys(obj)])];
-  const out = document.createElement("div");
-  for (const k of keys) valueFields(out, `${pointer}/${escape(k)}`, k, obj[k], labels[k]);
-  return [...out.children];
-}
-
-function renderForm(request) {
+function renderForm(request, fromJson = false) {
   state.request = request;
-  const market = request.market || {};
+  const market = (request.market = request.market || {});
   const m = $("market-fields");
   m.replaceChildren();
-  for (const k of MARKET_KEYS) valueFields(m, `/market/${k}`, k, market[k]);
+  for (const k of ["price", "quantity", "payments_per_period", "form", "inflation"]) m.append(field(`/market/${k}`, market[k]));
+  market.demand = market.demand || {};
+  market.supply = market.supply || {};
+  m.append(...elasticityFields("/market/demand/price_elasticity", market.demand.price_elasticity));
+  for (const k of ["short_run_elasticity", "long_run_elasticity"]) m.append(...elasticityFields(`/market/supply/${k}`, market.supply[k]));
+  for (const k of Object.keys(market)) {
+    if (!["price", "quantity", "payments_per_period", "form", "inflation", "demand", "supply"].includes(k)) m.append(field(`/market/${escape(k)}`, market[k]));
+  }
+  const shifters = $("shifter-fields");
+  shifters.replaceChildren();
   for (const side of ["demand", "supply"]) {
-    const curve = market[side] || {};
-    const main = side === "demand" ? ["price_elasticity"] : ["short_run_elasticity", "long_run_elasticity"];
-    for (const k of main) valueFields(m, `/market/${side}/${k}`, k, curve[k], `${side === "demand" ? "Demand" : "Supply"} ${(LABELS[k] || k).toLowerCase()}`);
-    for (const [name, v] of Object.entries(curve.shifters || {})) {
-      valueFields(m, `/market/${side}/shifters/${escape(name)}`, name, v, `${side} elasticity to ${name.replace(/_/g, " ")}`);
+    for (const [name, v] of Object.entries(market[side].shifters || {})) {
+      const pointer = `/market/${side}/shifters/${escape(name)}`;
+      const nameField = document.createElement("div");
+      nameField.className = "field";
+      const l = document.createElement("label");
+      const input = document.createElement("input");
+      input.id = `f${(uid += 1)}`;
+      l.htmlFor = input.id;
+      l.textContent = `Name of this ${side} shifter (shocks refer to it)`;
+      input.value = name;
+      input.dataset.rename = pointer;
+      input.addEventListener("change", () => renameShifter(side, name, input.value.trim()));
+      nameField.append(l, input);
+      shifters.append(item(`${side} shifter: ${name.replace(/_/g, " ")}`, [nameField, ...elasticityFields(pointer, v)],
+        `Remove the ${side} shifter ${name}`, `remove-shifter:${side}:${name}`, () => {
+          delete state.request.market[side].shifters[name];
+          renderForm(state.request);
+        }));
     }
   }
-  for (const k of Object.keys(market)) {
-    if (![...MARKET_KEYS, "demand", "supply"].includes(k)) valueFields(m, `/market/${escape(k)}`, k, market[k]);
-  }
+
   const t = $("time-fields");
-  t.replaceChildren();
-  valueFields(t, "/horizon", "horizon", request.horizon);
+  t.replaceChildren(field("/horizon", request.horizon));
   const adjustment = request.adjustment || { schedule: "linear" };
-  // Under the stock schedule the rate is the share of the gap to the desired stock closed per period.
-  const stockLabels = adjustment.schedule === "stock"
-    ? { rate: "Rate (share of the gap closed per period; empty: short-run / long-run elasticity)" } : {};
-  t.append(...keyedFields("/adjustment", adjustment, ["schedule", ...(SCHEDULE_VALUE[adjustment.schedule] || [])], stockLabels));
+  const keys = [...new Set(["schedule", ...(SCHEDULE_VALUE[adjustment.schedule] || []), ...Object.keys(adjustment)])];
+  for (const k of keys) {
+    const pointer = `/adjustment/${k}`;
+    if (request.adjustment == null && k !== "schedule") continue;
+    t.append(field(pointer, adjustment[k]));
+  }
+  couplingNote();
 
   const shocks = $("shock-fields");
   shocks.replaceChildren();
   (request.shocks || []).forEach((s, i) => {
-    const order = ["shifter", "profile", ...(SHOCK_VALUE[s.profile] || []), ...(s.profile === "path" ? [] : ["start"])];
-    shocks.append(item(`shock ${i + 1} (${s.shifter})`, keyedFields(`/shocks/${i}`, s, order)));
+    const keys = [...new Set(["shifter", "profile", ...(SHOCK_VALUE[s.profile] || []), ...Object.keys(s)])];
+    shocks.append(item(`shock ${i + 1}: ${String(s.shifter).replace(/_/g, " ")} (real change)`, keys.map((k) => field(`/shocks/${i}/${k}`, s[k])),
+      `Remove shock ${i + 1}`, `remove-shock:${i}`, () => { state.request.shocks.splice(i, 1); renderForm(state.request); }));
   });
   if (!shocks.children.length) shocks.textContent = "No shocks.";
 
   const policies = $("policy-fields");
   policies.replaceChildren();
   (request.policies || []).forEach((p, i) => {
-    const main = (MAIN_VALUE[p.kind] || []).filter((k) => k in p);
-    const extra = [...(p.kind === "price_ceiling" ? ["coverage"] : []), ...(INDEXED_KINDS.includes(p.kind) ? ["indexed"] : [])];
-    const order = ["name", "kind", ...(main.length ? main : (MAIN_VALUE[p.kind] || []).slice(0, 1)), ...extra, "start", "end"];
-    policies.append(item(`policy ${i + 1}: ${p.name}`, keyedFields(`/policies/${i}`, p, order), () => {
-      state.request.policies.splice(i, 1);
-      renderForm(state.request);
-    }));
+    const ceiling = p.kind === "price_ceiling";
+    const keys = [...new Set(["name", "kind", ...(MAIN_VALUE[p.kind] || []),
+      ...(ceiling ? ["coverage", "new_homes", "vacancy_decontrol"] : []),
+      ...(INDEXED_KINDS.includes(p.kind) ? ["indexed"] : []), "start", "end", ...Object.keys(p)])];
+    policies.append(item(`policy ${i + 1}: ${p.name}`, keys.map((k) => field(`/policies/${i}/${k}`, p[k])),
+      `Remove policy ${i + 1}: ${p.name}`, `remove-policy:${i}`, () => { state.request.policies.splice(i, 1); renderForm(state.request); }));
   });
 
   const welfare = request.welfare || {};
-  const w = $("welfare-fields");
-  w.replaceChildren(...keyedFields("/welfare", welfare, ["rationing", "discount_rate"]));
+  $("welfare-fields").replaceChildren(...[...new Set(["rationing", "discount_rate", ...Object.keys(welfare)])].map((k) => field(`/welfare/${k}`, welfare[k])));
 
   const bands = endpointFor(request) === "/v1/bands";
   $("uncertainty-fieldset").hidden = !bands;
-  const u = $("uncertainty-fields");
-  u.replaceChildren();
-  if (bands) for (const k of BAND_KEYS) valueFields(u, `/${k}`, k, request[k]);
-  syncJson();
+  $("uncertainty-fields").replaceChildren(...(bands ? BAND_KEYS.map((k) => field(`/${k}`, request[k])) : []));
+  if (!fromJson) syncJson();
+  state.rendered = JSON.stringify(request);
+}
+
+function couplingNote() {
+  const note = $("coupling-note");
+  const a = state.request.adjustment;
+  const tied = a && (a.schedule === "geometric" || a.schedule === "stock") && a.rate == null && a.half_life == null;
+  note.hidden = !tied;
+  note.textContent = tied
+    ? "The adjustment rate is left to its default, short-run / long-run supply elasticity: building speed is then tied to the long-run elasticity (a larger long-run elasticity also means slower building). Give a rate or a half-life to set the two apart."
+    : "";
+}
+
+function renameShifter(side, from, to) {
+  if (!to || to === from) return;
+  const shifters = state.request.market[side].shifters;
+  const renamed = {};
+  for (const [k, v] of Object.entries(shifters)) renamed[k === from ? to : k] = v;
+  state.request.market[side].shifters = renamed;
+  for (const s of state.request.shocks || []) if (s.shifter === from) s.shifter = to;
+  renderForm(state.request);
 }
 
 // A choice that changes which fields exist (a policy's kind, a shock's profile, the schedule).
@@ -247,19 +388,16 @@ function restructure(pointer, key) {
   const price = Number(getAt(state.request, "/market/price")) || 100;
   const quantity = Number(getAt(state.request, "/market/quantity")) || 1000;
   const round = (x) => Number(x.toPrecision(3));
-  if (key === "kind") {
-    for (const k of ["level", "growth", "amount", "rate"]) delete obj[k];
-    if (obj.kind !== "price_ceiling") delete obj.coverage;
-    if (!INDEXED_KINDS.includes(obj.kind)) delete obj.indexed;
+  if (key === "policies.kind") {
+    for (const k of ["level", "growth", "amount", "rate", "coverage", "new_homes", "vacancy_decontrol", "indexed"]) delete obj[k];
     Object.assign(obj, { price_ceiling: { level: "base" }, price_floor: { level: round(price * 1.1) },
       quantity_cap: { level: round(quantity * 0.98) }, unit_tax: { amount: round(price * 0.05) },
       unit_subsidy: { amount: round(price * 0.05) }, ad_valorem_tax: { rate: 0.05 }, none: {} }[obj.kind]);
-  } else if (key === "profile") {
+  } else if (key === "shocks.profile") {
     for (const k of ["change", "rate", "values", "periods", "start"]) delete obj[k];
     Object.assign(obj, { step: { change: 0.05 }, ramp: { change: 0.05, periods: 3 }, growth: { rate: 0.02 }, path: { values: [0.05] } }[obj.profile]);
-  } else if (key === "schedule") {
-    for (const k of ["periods", "rate", "half_life", "elasticities", "depreciation"]) delete obj[k];
-    Object.assign(obj, { linear: { periods: 8 }, geometric: {}, explicit: { elasticities: [0.1, 0.5, 1.0] }, stock: {} }[obj.schedule]);
+  } else if (key === "adjustment.schedule") {
+    state.request.adjustment = { schedule: obj.schedule, ...{ linear: { periods: 8 }, geometric: {}, explicit: { elasticities: [0.1, 0.5, 1.0] }, stock: {} }[obj.schedule] };
   }
   renderForm(state.request);
 }
@@ -274,8 +412,37 @@ function addPolicy() {
   $("policy-fields").lastElementChild.querySelector("input").focus();
 }
 
+function declaredShifters() {
+  const m = state.request.market || {};
+  return [...Object.keys(m.demand?.shifters || {}), ...Object.keys(m.supply?.shifters || {})];
+}
+
+function addShock() {
+  const declared = declaredShifters();
+  if (!declared.length) {
+    $("other-errors").textContent = "Add a demand or supply shifter first: a shock moves a shifter.";
+    return;
+  }
+  (state.request.shocks = state.request.shocks || []).push({ shifter: declared[0], profile: "step", change: 0.05, start: 1 });
+  renderForm(state.request);
+  $("shock-fields").lastElementChild.querySelector("select").focus();
+}
+
+function addShifter(side) {
+  const curve = (state.request.market[side] = state.request.market[side] || {});
+  const shifters = (curve.shifters = curve.shifters || {});
+  let n = 1;
+  while (`${side}_shifter_${n}` in shifters) n += 1;
+  shifters[`${side}_shifter_${n}`] = side === "demand" ? 1.0 : -0.5;
+  renderForm(state.request);
+  const rename = document.querySelector(`[data-rename="/market/${side}/shifters/${side}_shifter_${n}"]`);
+  if (rename) rename.focus();
+}
+
 function syncJson() {
   $("request-json").value = JSON.stringify(state.request, null, 2);
+  state.rendered = JSON.stringify(state.request);
+  couplingNote();
 }
 
 function hasDistribution(value) {
@@ -286,22 +453,62 @@ function hasDistribution(value) {
 
 // The request decides the endpoint: distributions or band settings make it a bands request.
 function endpointFor(request) {
-  return BAND_KEYS.some((k) => k in request) || hasDistribution(request.market) ? "/v1/bands" : "/v1/paths";
+  return BAND_KEYS.some((k) => k in request) || hasDistribution(request.market) || hasDistribution(request.adjustment) ? "/v1/bands" : "/v1/paths";
 }
 
-function requestFromForm() {
-  try {
-    return JSON.parse($("request-json").value);
-  } catch (e) {
-    throw new Error(`The whole request is not valid JSON: ${e.message}`);
+// The /v1/paths request of a bands request: every distribution at its central value.
+function centralRequest(request) {
+  const copy = JSON.parse(JSON.stringify(request));
+  for (const k of BAND_KEYS) delete copy[k];
+  const walk = (o) => {
+    for (const [k, v] of Object.entries(o)) {
+      if (v && typeof v === "object" && !Array.isArray(v)) {
+        if ("distribution" in v) o[k] = centralOf(v); else walk(v);
+      }
+    }
+  };
+  walk(copy);
+  return copy;
+}
+
+function sensitivityRequest(request) {
+  const copy = JSON.parse(JSON.stringify(request));
+  for (const k of ["draws", "seed", "percentiles"]) delete copy[k];
+  return copy;
+}
+
+// --- values that look like mistakes are questioned before a run -----------------------------
+
+function questions(request) {
+  const out = [];
+  const check = (pointer, value, test, message) => {
+    if (typeof value === "number" && test(value)) out.push({ pointer, message: message(value) });
+  };
+  const pct = (v) => `${Number((v * 100).toPrecision(4))} %`;
+  const inflation = request.market?.inflation;
+  for (const [i, v] of (Array.isArray(inflation) ? inflation : [inflation]).entries()) {
+    check(Array.isArray(inflation) ? `/market/inflation/${i}` : "/market/inflation", v, (x) => x > 0.5 || x < -0.2,
+      (x) => `inflation of ${pct(x)} a period is implausible (did you mean ${x}% = ${Number((x / 100).toPrecision(6))}?)`);
   }
+  (request.shocks || []).forEach((s, i) => {
+    check(`/shocks/${i}/change`, s.change, (x) => Math.abs(x) > 1, (x) => `a real change of ${pct(x)} (write 0.1 or 10 % for ten percent)`);
+    check(`/shocks/${i}/rate`, s.rate, (x) => Math.abs(x) > 0.2, (x) => `real growth of ${pct(x)} a period (write 0.02 or 2 % for two percent)`);
+  });
+  (request.policies || []).forEach((p, i) => {
+    check(`/policies/${i}/growth`, p.growth, (x) => x > 0.3, (x) => `a cap of ${pct(x)} a period on rent rises (write 0.03 or 3 %)`);
+  });
+  const rate = request.welfare?.discount_rate;
+  check("/welfare/discount_rate", rate, (x) => x > 0.2, (x) => `a real discount rate of ${pct(x)} a period (write 0.03 or 3 %)`);
+  const elasticity = (pointer) => {
+    const v = getAt(request, pointer);
+    check(pointer, v, (x) => Math.abs(x) > 5, (x) => `an elasticity of ${x} is far outside published housing estimates (about -1 to 0 for demand, 0 to 5 for supply)`);
+  };
+  ["/market/demand/price_elasticity", "/market/supply/short_run_elasticity", "/market/supply/long_run_elasticity"].forEach(elasticity);
+  check("/horizon", request.horizon, (x) => x > 200, (x) => `a horizon of ${x} periods`);
+  return out;
 }
 
-function units() {
-  return { currency: $("u-currency").value || "money", quantity: $("u-quantity").value || "units",
-    unit: $("u-unit").value || "unit", price_interval: $("u-interval").value || "price interval",
-    period: $("u-period").value || "period" };
-}
+// --- errors --------------------------------------------------------------------------------
 
 function clearErrors() {
   for (const e of document.querySelectorAll(".error")) e.remove();
@@ -313,21 +520,23 @@ function clearErrors() {
   $("other-errors").replaceChildren();
 }
 
+function markField(pointer, message, n) {
+  const input = document.querySelector(`[data-pointer="${CSS.escape(pointer)}"]`);
+  if (!input || input.disabled) return false;
+  const p = document.createElement("p");
+  p.className = "error";
+  p.id = `error-${n}`;
+  p.textContent = message;
+  input.after(p);
+  input.setAttribute("aria-invalid", "true");
+  input.setAttribute("aria-describedby", input.dataset.hint ? `${p.id} ${input.dataset.hint}` : p.id);
+  return true;
+}
+
 function showProblem(problem) {
   const rest = [];
   (problem.errors || [{ pointer: "", message: problem.detail }]).forEach((err, n) => {
-    const input = document.querySelector(`[data-pointer="${CSS.escape(err.pointer)}"]`);
-    if (input && !input.disabled) {
-      const p = document.createElement("p");
-      p.className = "error";
-      p.id = `error-${n}`;
-      p.textContent = err.message;
-      input.after(p);
-      input.setAttribute("aria-invalid", "true");
-      input.setAttribute("aria-describedby", input.dataset.hint ? `${p.id} ${input.dataset.hint}` : p.id);
-    } else {
-      rest.push(`${err.pointer || "/"}: ${err.message}`);
-    }
+    if (!markField(err.pointer, err.message, n)) rest.push(`${err.pointer || "/"}: ${err.message}`);
   });
   if (rest.length) {
     const list = document.createElement("ul");
@@ -339,149 +548,351 @@ function showProblem(problem) {
   $("status").textContent = `Not run: ${problem.detail}`;
 }
 
-const fmt = new Intl.NumberFormat(undefined, { maximumFractionDigits: 0 });
-const fmt2 = new Intl.NumberFormat(undefined, { maximumFractionDigits: 2 });
+// --- results -------------------------------------------------------------------------------
 
-function showResults(body, text) {
-  // A bands answer carries the central path's summary, and percentiles of each figure.
-  const bands = state.endpoint === "/v1/bands";
-  const summary = bands ? body.central.summary : body.summary;
-  const head = document.querySelector("#summary thead tr");
-  for (const th of head.querySelectorAll(".range, .stock")) th.remove();
-  // Under the stock schedule the summary carries the homes below the free path.
-  const stock = summary.every((s) => "final_homes_below_free_path" in s);
-  if (stock) {
-    for (const text of ["Final homes below the free path", "Peak homes below the free path"]) {
-      const th = document.createElement("th");
-      th.scope = "col";
-      th.className = "stock";
-      th.textContent = text;
-      const unit = document.createElement("span");
-      unit.className = "unit";
-      unit.textContent = units().quantity;
-      th.append(unit);
-      head.append(th);
-    }
+function flatten(obj, skip = ["name", "kind"]) {
+  const out = {};
+  for (const [k, v] of Object.entries(obj)) {
+    if (skip.includes(k)) continue;
+    if (v && typeof v === "object" && !Array.isArray(v)) for (const [i, w] of Object.entries(v)) out[`${k}.${i}`] = w;
+    else out[k] = v;
   }
-  if (bands) {
-    const th = document.createElement("th");
-    th.scope = "col";
-    th.className = "range";
-    const keys = body.percentiles.map(String);
-    th.textContent = `Discounted deadweight loss, ${keys[0]}th to ${keys[keys.length - 1]}th percentile`;
-    const unit = document.createElement("span");
-    unit.className = "unit";
-    unit.textContent = "money, per model period, summed and discounted";
-    th.append(unit);
-    head.append(th);
-  }
-  const tbody = document.querySelector("#summary tbody");
-  tbody.replaceChildren();
-  summary.forEach((s, i) => {
-    const tr = document.createElement("tr");
-    const cells = [s.name, fmt.format(s.discounted_deadweight_loss), fmt.format(s.peak_shortage),
-      fmt2.format(s.final_consumer_price), fmt.format(s.final_quantity), fmt.format(s.total_consumer_surplus_change),
-      fmt.format(s.total_producer_surplus_change), fmt.format(s.total_government_revenue), String(s.binding_periods)];
-    if (stock) cells.push(fmt.format(s.final_homes_below_free_path), fmt.format(s.peak_homes_below_free_path));
-    if (bands) {
-      const q = body.bands[i].summary.discounted_deadweight_loss;
-      const keys = Object.keys(q).sort((a, b) => Number(a) - Number(b));
-      cells.push(`${fmt.format(q[keys[0]])} to ${fmt.format(q[keys[keys.length - 1]])}`);
-    }
-    cells.forEach((c, j) => { const td = document.createElement(j ? "td" : "th"); if (!j) td.scope = "row"; td.textContent = c; tr.append(td); });
-    tbody.append(tr);
-  });
-  $("summary").querySelector("caption").textContent = bands
-    ? `Per policy over the horizon, at the central elasticities, with the spread over ${fmt.format(body.draws)} draws`
-    : "Per policy over the horizon";
-  $("summary").hidden = false;
-  showGroups(summary);
-  const list = $("cautions");
-  list.replaceChildren(...body.cautions.map((c) => { const li = document.createElement("li"); li.textContent = c; return li; }));
-  $("cautions-heading").hidden = false;
-  for (const url of state.objectUrls) URL.revokeObjectURL(url);
-  state.objectUrls = [URL.createObjectURL(new Blob([text], { type: "application/json" }))];
-  $("download-json").href = state.objectUrls[0];
-  $("download-csv").download = bands ? "bands.csv" : "paths.csv";
-  $("downloads").hidden = false;
-  const periods = (bands ? body.central.periods : body.periods).length - 1;
-  $("status").textContent = `Computed ${summary.length} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
+  return out;
 }
 
-// Who gains and who loses: each group's total per policy (the summary's distribution_totals,
-// summed over the horizon, not discounted); null under random rationing.
-function showGroups(summary) {
-  const table = $("groups");
-  if (!summary.every((s) => "distribution_totals" in s)) { table.hidden = true; return; }
-  const u = units();
-  const per = u.period === "period" ? "model period" : u.period;
-  for (const span of table.querySelectorAll("thead .unit")) span.textContent = `${u.currency} per ${per}, summed over the horizon`;
-  const tbody = table.querySelector("tbody");
+function th(text, unit, scope = "col") {
+  const cell = document.createElement("th");
+  cell.scope = scope;
+  cell.textContent = text;
+  if (unit) { const span = document.createElement("span"); span.className = "unit"; span.textContent = unit; cell.append(span); }
+  return cell;
+}
+
+function td(text, cls) {
+  const cell = document.createElement("td");
+  cell.textContent = text;
+  if (cls) cell.className = cls;
+  return cell;
+}
+
+const pathsOf = (body) => (body.central ? body.central : body);
+
+// The band summary's key of a flattened summary key (group totals are total_<group> there).
+function bandFigure(band, key) {
+  const leaf = key.split(".").pop();
+  return band.summary[key] || band.summary[leaf] || (key.startsWith("distribution_totals.") ? band.summary[`total_${leaf}`] : undefined);
+}
+
+// The summary: a row per total the answer carries, a column per policy (never too wide).
+function showSummary(body) {
+  const answer = pathsOf(body);
+  const table = $("summary");
+  const head = document.createElement("tr");
+  head.append(th("Figure"), ...answer.summary.map((s) => th(s.name)));
+  table.tHead.replaceChildren(head);
+  const flats = answer.summary.map((s) => flatten(s));
+  const keys = [...new Set(flats.flatMap((f) => Object.keys(f)))];
+  const tbody = table.tBodies[0];
   tbody.replaceChildren();
-  for (const s of summary) {
+  for (const key of keys) {
     const tr = document.createElement("tr");
-    const th = document.createElement("th");
-    th.scope = "row";
-    th.textContent = s.name;
-    tr.append(th);
-    if (s.distribution_totals == null) {
-      const td = document.createElement("td");
-      td.colSpan = GROUPS.length;
-      td.className = "absent";
-      td.textContent = "not reported under random rationing";
-      tr.append(td);
-    } else {
-      for (const [key] of GROUPS) {
-        const td = document.createElement("td");
-        const v = s.distribution_totals[key];
-        td.textContent = v > 0 ? `+${fmt.format(v)}` : fmt.format(v);
-        td.dataset.group = key;
-        tr.append(td);
+    tr.dataset.figure = key;
+    tr.append(th(labelOf(key, true), unitOf(key, true), "row"));
+    flats.forEach((f, i) => {
+      const cell = td(number(f[key]), "n");
+      const band = body.bands && bandFigure(body.bands[i], key);
+      if (band) {
+        const qs = Object.keys(band).sort((a, b) => Number(a) - Number(b));
+        const range = document.createElement("span");
+        range.className = "range";
+        range.textContent = `${qs[0]}th\u2013${qs[qs.length - 1]}th: ${number(band[qs[0]])} to ${number(band[qs[qs.length - 1]])}`;
+        cell.append(range);
       }
-    }
+      tr.append(cell);
+    });
     tbody.append(tr);
   }
+  table.caption.textContent = body.bands
+    ? `Per policy over ${answer.periods.length - 1} ${units().period}s, at the central values, with the spread over ${fmt.format(body.draws)} draws`
+    : `Per policy over ${answer.periods.length - 1} ${units().period}s`;
   table.hidden = false;
 }
 
-// A chart of this run: the paths (or bands), or who gains and who loses.
-async function drawChart(request, scenarioId, chart = state.endpoint === "/v1/bands" ? "bands" : "paths", image = "chart", figure = "chart-figure") {
+// Discount factors of the request: prod_(u<=t) 1/(1+r_u), 1 in period 0 (steps: a rate through
+// its period, the last one after), as the engine and the who-gains chart weigh the periods.
+function discountFactors(request, periods) {
+  const rate = request.welfare?.discount_rate ?? 0;
+  const rateAt = (t) => {
+    if (!Array.isArray(rate)) return rate;
+    const step = rate.find((s) => t <= s.through_period);
+    return (step || rate[rate.length - 1]).rate;
+  };
+  const out = [1];
+  for (let t = 1; t < periods; t += 1) out.push(out[t - 1] / (1 + rateAt(t)));
+  return out;
+}
+
+function discounting(request) {
+  const rate = request.welfare?.discount_rate ?? 0;
+  const period = units().period;
+  if (Array.isArray(rate)) return `discounted per ${period} at the request's steps`;
+  return rate === 0 ? "not discounted" : `discounted at ${Number((rate * 100).toPrecision(3))} % per ${period}`;
+}
+
+// Who gains and who loses, on the chart's basis: summed over periods 1..T and discounted.
+function showGroups(body, request) {
+  const answer = pathsOf(body);
+  const table = $("groups");
+  if (!answer.paths.every((p) => p.distribution)) {
+    const head = document.createElement("tr");
+    head.append(th("Group"), ...answer.paths.map((p) => th(p.name)));
+    table.tHead.replaceChildren(head);
+    const row = document.createElement("tr");
+    row.append(th("Every group", "", "row"), ...answer.paths.map(() => td("not reported under random rationing", "absent")));
+    table.tBodies[0].replaceChildren(row);
+    table.caption.textContent = "Who gains and who loses is not reported under random rationing: the model does not track which households are drawn for a controlled home.";
+    table.hidden = false;
+    return;
+  }
+  const factors = discountFactors(request, answer.periods.length);
+  const groups = Object.keys(answer.paths[0].distribution);
+  const head = document.createElement("tr");
+  head.append(th("Group"), ...answer.paths.map((p) => th(p.name)));
+  table.tHead.replaceChildren(head);
+  const tbody = table.tBodies[0];
+  tbody.replaceChildren();
+  const sums = answer.paths.map((p) => groups.map((g) => p.distribution[g].reduce((acc, v, t) => acc + v * factors[t], 0)));
+  groups.forEach((g, j) => {
+    const tr = document.createElement("tr");
+    tr.dataset.group = g;
+    tr.append(th(labelOf(`distribution.${g}`), "", "row"), ...sums.map((row) => td(signed(row[j]), "n")));
+    tbody.append(tr);
+  });
+  const net = document.createElement("tr");
+  net.append(th("Net (minus the value lost)", "", "row"), ...sums.map((row) => td(signed(row.reduce((a, b) => a + b, 0)), "n")));
+  tbody.append(net);
+  const u = units();
+  table.caption.textContent = `Who gains (+) and who loses (\u2212): each group against the free market of the same ${u.period}, total over ${u.period}s 1 to ${answer.periods.length - 1}, ${discounting(request)} (the same basis as the chart), assuming efficient allocation; ${u.currency}, ${state.labels.real}`;
+  table.hidden = false;
+}
+
+function showYears(body) {
+  const answer = pathsOf(body);
+  const all = $("all-series").checked;
+  const box = $("year-tables");
+  box.replaceChildren();
+  answer.paths.forEach((path, i) => {
+    const series = { ...(answer.price_index ? { price_index: answer.price_index } : {}), ...flatten(path) };
+    const names = Object.keys(series).filter((k) => Array.isArray(series[k]) && (all || YEAR_COLUMNS.includes(k)));
+    names.sort((a, b) => (all ? 0 : YEAR_COLUMNS.indexOf(a) - YEAR_COLUMNS.indexOf(b)));
+    const details = document.createElement("details");
+    details.open = i === 0;
+    const summary = document.createElement("summary");
+    summary.textContent = `${path.name}: ${answer.periods.length} ${units().period}s`;
+    const scroll = document.createElement("div");
+    scroll.className = "table-scroll";
+    const table = document.createElement("table");
+    table.className = "years";
+    table.dataset.policy = path.name;
+    const head = document.createElement("tr");
+    head.append(th(`Period (${units().period})`), ...names.map((n) => th(labelOf(n), unitOf(n))));
+    table.createTHead().append(head);
+    const tbody = table.createTBody();
+    answer.periods.forEach((t, row) => {
+      const tr = document.createElement("tr");
+      tr.append(th(String(t), "", "row"), ...names.map((n) => td(number(series[n][row]), "n")));
+      tbody.append(tr);
+    });
+    scroll.append(table);
+    details.append(summary, scroll);
+    box.append(details);
+  });
+  $("years").hidden = false;
+}
+
+// --- charts: each with its own title and PNG and SVG downloads ---------------------------------
+
+function scenarioName() {
+  return $("scenario-name").value.trim();
+}
+
+function titled(text) {
+  const name = scenarioName();
+  return name ? `${name}: ${text}` : text;
+}
+
+function download(url, filename) {
+  const a = document.createElement("a");
+  a.href = url;
+  a.download = filename;
+  document.body.append(a);
+  a.click();
+  a.remove();
+}
+
+function blobUrl(blob) {
+  const url = URL.createObjectURL(blob);
+  state.urls.push(url);
+  return url;
+}
+
+const slug = (text) => (text || "scenario").toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-|-$/g, "").slice(0, 60) || "scenario";
+
+async function chartImage(spec, format) {
   const response = await fetch("/v1/charts", {
     method: "POST", headers: { "Content-Type": "application/json" },
-    body: JSON.stringify({ chart, format: "svg", units: units(), scenario: request }),
+    body: JSON.stringify({ ...spec, format, units: units() }),
   });
-  if (!response.ok) { $("status").textContent += " (The chart could not be drawn.)"; return; }
-  const url = URL.createObjectURL(await response.blob());
-  state.objectUrls.push(url);
-  const img = $(image);
-  img.onload = () => { img.dataset.scenario = scenarioId; };
-  img.src = url;
-  $(figure).hidden = false;
+  if (!response.ok) throw new Error((await response.json()).detail);
+  return response.blob();
 }
 
-function describeChart(body) {
-  const stock = body.paths?.every((p) => "homes_below_free_path" in p);
-  const panels = stock ? "Consumer price, quantity, homes below the free path, shortage and cumulative deadweight loss"
-    : "Consumer price, quantity, shortage and cumulative deadweight loss";
-  $("chart").alt = `${panels} over the periods, one line per policy`;
-  $("chart-caption").textContent = stock
-    ? "Period 0 is today's market; each line is one policy. Under the stock schedule homes not built stay missing: the homes below the free path."
-    : "Period 0 is today's market; each line is one policy.";
+// A figure: the chart as SVG, a panel choice where it has panels, and its downloads.
+function figure(id, spec, caption, panels = null, container = $("charts")) {
+  const fig = document.createElement("figure");
+  fig.id = id;
+  const img = document.createElement("img");
+  img.alt = caption;
+  img.width = 1200;
+  img.height = 900;
+  const cap = document.createElement("figcaption");
+  cap.textContent = caption;
+  const row = document.createElement("div");
+  row.className = "row chart-tools";
+  let current = { ...spec };
+  const draw = async () => {
+    try {
+      const url = blobUrl(await chartImage(current, "svg"));
+      await new Promise((resolve) => { img.onload = resolve; img.onerror = resolve; img.src = url; });
+      img.dataset.scenario = $("results").dataset.scenario;
+      img.dataset.title = current.title;
+    } catch (e) {
+      cap.textContent = `${caption} (not drawn: ${e.message})`;
+    }
+  };
+  if (panels && panels.length > 1) {
+    const select = document.createElement("select");
+    select.id = `${id}-panel`;
+    const label = document.createElement("label");
+    label.htmlFor = select.id;
+    label.textContent = "Show";
+    for (const [v, text] of [["", "every panel"], ...panels.map((p) => [p, p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p)])]) {
+      const o = document.createElement("option");
+      o.value = v;
+      o.textContent = text;
+      select.append(o);
+    }
+    select.addEventListener("change", () => {
+      current = select.value
+        ? { ...spec, panels: [select.value], title: titled(select.selectedOptions[0].textContent) }
+        : { ...spec };
+      draw();
+    });
+    row.append(label, select);
+  }
+  for (const format of ["png", "svg"]) {
+    row.append(button(`Download ${format.toUpperCase()}`, `${id}-${format}`, async () => {
+      const blob = await chartImage(current, format);
+      download(blobUrl(blob), `${slug(current.title)}.${format}`);
+    }, "secondary"));
+  }
+  fig.append(img, cap, row);
+  container.append(fig);
+  return draw();
 }
 
-async function csvLink(request) {
-  const response = await fetch(state.endpoint, {
-    method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request),
-  });
-  if (response.ok) {
-    const url = URL.createObjectURL(await response.blob());
-    state.objectUrls.push(url);
-    $("download-csv").href = url;
+// The panels of the paths chart that this answer carries (as the chart service would choose).
+function availablePanels(answer) {
+  const carries = (n) => answer.paths.every((p) => Array.isArray(flatten(p)[n]));
+  const out = ["consumer_price", "nominal_consumer_price"].filter(carries);
+  if (answer.paths.some((p) => p.covered_price && p.uncovered_price)) out.push("controlled_and_uncontrolled_rents");
+  return [...out, ...["quantity", "homes_below_free_path", "vacant_homes", "converted_homes", "shortage", "vs_free_path.renters", "cumulative_deadweight_loss"].filter(carries)];
+}
+
+async function drawCharts(body, request) {
+  $("charts").replaceChildren();
+  const answer = pathsOf(body);
+  const bands = state.endpoint === "/v1/bands";
+  const paths = bands ? centralRequest(request) : request;
+  const jobs = [];
+  const panels = availablePanels(answer);
+  jobs.push(figure("chart-figure", { chart: bands ? "bands" : "paths", scenario: request, title: titled(bands ? "central paths with percentile bands" : "paths by policy") },
+    `${panels.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy. Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
+    panels));
+  if (answer.paths.every((p) => p.distribution)) {
+    jobs.push(figure("gains-figure", { chart: "gains_and_losses", scenario: paths, title: titled("who gains and who loses") },
+      `Who gains and who loses: each group against the free market of the same ${units().period}, total over ${units().period}s 1 to ${answer.periods.length - 1}, ${discounting(request)}; the table below is on the same basis.`));
+  }
+  if (answer.paths.some((p) => p.vs_free_path)) {
+    jobs.push(figure("renters-figure", { chart: "renters_vs_free_path", scenario: paths, title: titled("renters against the free path") },
+      "Renters' gain or loss against the free market path, per period: while the rule lasts and after it ends."));
+  }
+  await Promise.all(jobs);
+}
+
+// --- sensitivity -----------------------------------------------------------------------------
+
+const HEADLINE_WORDS = { discounted_deadweight_loss: "discounted_deadweight_loss", final_consumer_price: "final_consumer_price",
+  peak_shortage: "peak_shortage" };
+
+function headlineLabel(name) {
+  if (HEADLINE_WORDS[name] || state.labels.totals[name]) return labelOf(name, true);
+  if (name.startsWith("total_")) return labelOf(`distribution_totals.${name.slice(6)}`, true);
+  if (state.labels.totals[`vs_free_path_totals.${name}`]) return labelOf(`vs_free_path_totals.${name}`, true);
+  return labelOf(name, true);
+}
+
+async function runSensitivity(request) {
+  const section = $("sensitivity");
+  const sens = sensitivityRequest(request);
+  const response = await fetch("/v1/sensitivity", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(sens) });
+  if (!response.ok) { section.hidden = true; return; }
+  const body = await response.json();
+  state.sensitivity = { body, request: sens };
+  const output = $("tornado-output");
+  const preferred = ["discounted_deadweight_loss", "final_consumer_price", "final_homes_below_free_path", "renters_discounted"];
+  const order = [...preferred.filter((h) => body.headlines.includes(h)), ...body.headlines.filter((h) => !preferred.includes(h))];
+  output.replaceChildren(...order.map((h) => { const o = document.createElement("option"); o.value = h; o.textContent = headlineLabel(h); return o; }));
+  const policy = $("tornado-policy");
+  const names = body.central.paths.map((p) => p.name);
+  policy.replaceChildren(...names.map((n) => { const o = document.createElement("option"); o.value = n; o.textContent = n; return o; }));
+  policy.value = names.find((n, i) => body.central.paths[i].kind !== "none") || names[0];
+  const caution = $("sensitivity-caution");
+  const a = request.adjustment || {};
+  const coupled = (a.schedule === "geometric" || a.schedule === "stock") && a.rate == null && a.half_life == null
+    && hasDistribution(request.market?.supply?.long_run_elasticity);
+  const engineSays = body.cautions.find((c) => /slower building|building speed/i.test(c));
+  caution.hidden = !(coupled || engineSays);
+  caution.textContent = engineSays || (coupled
+    ? "The long-run supply elasticity is uncertain and the adjustment rate is left to its default (short-run / long-run): a larger long-run elasticity then also means slower building, so its swing mixes the two. Give a rate or a half-life to vary them apart."
+    : "");
+  section.hidden = false;
+  await drawTornado();
+}
+
+async function drawTornado() {
+  const { request } = state.sensitivity;
+  const output = $("tornado-output").value;
+  const policy = $("tornado-policy").value;
+  const box = $("tornado-chart");
+  box.replaceChildren();
+  await figure("tornado-figure", { chart: "sensitivity", scenario: request, output, policy, title: titled(`what moves ${headlineLabel(output).split(" (")[0].toLowerCase()} under ${policy}`) },
+    `Each input alone at its low and high, every other input at its central value; bar ends show ${headlineLabel(output)}.`, null, box);
+}
+
+// --- a run -----------------------------------------------------------------------------------
+
+function requestFromForm() {
+  try {
+    return JSON.parse($("request-json").value);
+  } catch (e) {
+    throw new Error(`The whole request is not valid JSON: ${e.message}`);
   }
 }
 
 async function run(event) {
   event.preventDefault();
+  flushJson();
   clearErrors();
   let request;
   try {
@@ -490,36 +901,157 @@ async function run(event) {
     $("other-errors").textContent = e.message;
     return;
   }
+  const asked = questions(request);
+  if (asked.length) {
+    const ok = window.confirm(`These values look implausible:\n\n${asked.map((q) => `\u2022 ${q.message}`).join("\n")}\n\nRun anyway?`);
+    if (!ok) {
+      asked.forEach((q, n) => markField(q.pointer, `Questioned: ${q.message}.`, `q${n}`));
+      $("status").textContent = "Not run: check the values questioned, or confirm them.";
+      return;
+    }
+  }
   // Nothing from an earlier run may stand next to this one's numbers.
   $("status").textContent = "Running...";
-  for (const [figure, image] of [["chart-figure", "chart"], ["gains-figure", "gains-chart"]]) {
-    $(figure).hidden = true;
-    $(image).removeAttribute("src");
-    delete $(image).dataset.scenario;
-  }
-  $("summary").hidden = true;
-  $("groups").hidden = true;
-  $("downloads").hidden = true;
+  for (const id of ["summary", "groups", "downloads", "sensitivity", "years"]) $(id).hidden = true;
+  $("charts").replaceChildren();
+  $("tornado-chart").replaceChildren();
+  for (const url of state.urls) URL.revokeObjectURL(url);
+  state.urls = [];
   state.endpoint = endpointFor(request);
-  const response = await fetch(state.endpoint, {
-    method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request),
-  });
+  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request) });
   const text = await response.text();
   const body = JSON.parse(text);
   if (!response.ok) { showProblem(body); return; }
-  showResults(body, text);
+  state.answer = { body, request };
   $("results").dataset.scenario = body.scenario_id;
   $("results").dataset.endpoint = state.endpoint;
-  const charts = [drawChart(request, body.scenario_id), csvLink(request)];
-  if (state.endpoint === "/v1/paths") {
-    describeChart(body);
-    // The split is drawn where it is reported (efficient rationing).
-    if (body.summary.every((s) => s.distribution_totals != null)) {
-      charts.push(drawChart(request, body.scenario_id, "gains_and_losses", "gains-chart", "gains-figure"));
-    }
-  }
-  await Promise.all(charts);
+  showTables();
+  $("cautions").replaceChildren(...body.cautions.map((c) => { const li = document.createElement("li"); li.textContent = c; return li; }));
+  $("cautions-heading").hidden = false;
+  $("download-json").href = blobUrl(new Blob([text], { type: "application/json" }));
+  $("download-json").download = `${slug(scenarioName())}.json`;
+  $("downloads").hidden = false;
+  const periods = pathsOf(body).periods.length - 1;
+  const policies = pathsOf(body).summary.length;
+  const bands = state.endpoint === "/v1/bands";
+  $("status").textContent = `Computed ${policies} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
+  const jobs = [drawCharts(body, request), csvLink(request)];
+  if (bands) jobs.push(runSensitivity(request));
+  await Promise.all(jobs);
+  $("results").dataset.drawn = body.scenario_id;
 }
+
+function showTables() {
+  if (!state.answer) return;
+  const { body, request } = state.answer;
+  showSummary(body);
+  showGroups(body, request);
+  showYears(body);
+}
+
+async function csvLink(request) {
+  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
+  if (response.ok) {
+    $("download-csv").href = blobUrl(await response.blob());
+    $("download-csv").download = `${slug(scenarioName())}.csv`;
+  }
+}
+
+const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
+
+async function downloadWorkbook() {
+  const { request } = state.answer;
+  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: XLSX }, body: JSON.stringify(request) });
+  if (!response.ok) { $("status").textContent = `No workbook: ${(await response.json()).detail}`; return; }
+  download(blobUrl(await response.blob()), `${slug(scenarioName())}.xlsx`);
+}
+
+async function downloadBriefing() {
+  const { request } = state.answer;
+  const paths = state.endpoint === "/v1/bands" ? centralRequest(request) : request;
+  const body = { ...paths, units: units() };
+  if (scenarioName()) body.title = scenarioName();
+  const response = await fetch("/v1/briefing", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) });
+  if (!response.ok) { $("status").textContent = `No briefing: ${(await response.json()).detail}`; return; }
+  download(blobUrl(await response.blob()), `${slug(scenarioName())}-briefing.html`);
+}
+
+// --- keeping and sharing: a file, or a link with the request in its fragment ----------------
+
+function saveRequest() {
+  flushJson();
+  const blob = new Blob([`${JSON.stringify(state.request, null, 2)}\n`], { type: "application/json" });
+  download(blobUrl(blob), `${slug(scenarioName())}-request.json`);
+}
+
+async function openFile(event) {
+  const file = event.target.files[0];
+  if (!file) return;
+  try {
+    const request = JSON.parse(await file.text());
+    // An answer saved from this page carries its request: open that.
+    const inner = request.request && request.scenario_id ? request.request : request;
+    loadRequest(inner, file.name.replace(/\.json$/i, "").replace(/-request$/, ""));
+    $("status").textContent = `Opened ${file.name}. Change inputs, then run it.`;
+  } catch (e) {
+    $("other-errors").textContent = `${file.name} is not a request: ${e.message}`;
+  }
+  event.target.value = "";
+}
+
+function loadRequest(request, name) {
+  clearErrors();
+  if (name != null) $("scenario-name").value = name;
+  renderForm(request);
+  updatePicker(request);
+}
+
+const toBase64Url = (bytes) => btoa(String.fromCharCode(...bytes)).replace(/\+/g, "-").replace(/\//g, "_").replace(/=+$/, "");
+const fromBase64Url = (text) => Uint8Array.from(atob(text.replace(/-/g, "+").replace(/_/g, "/")), (c) => c.charCodeAt(0));
+
+async function squeeze(text, direction) {
+  const stream = new Blob([text]).stream().pipeThrough(direction === "in" ? new CompressionStream("deflate-raw") : new DecompressionStream("deflate-raw"));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
+}
+
+async function copyLink() {
+  flushJson();
+  const payload = JSON.stringify({ name: scenarioName(), request: state.request });
+  const bytes = await squeeze(payload, "in");
+  let packed = "";
+  for (let i = 0; i < bytes.length; i += 8192) packed += String.fromCharCode(...bytes.subarray(i, i + 8192));
+  const fragment = `#s=${btoa(packed).replace(/\+/g, "-").replace(/\//g, "_").replace(/=+$/, "")}`;
+  const url = `${location.origin}${location.pathname}${fragment}`;
+  history.replaceState(null, "", fragment);
+  let copied = false;
+  try { await navigator.clipboard.writeText(url); copied = true; } catch (e) { copied = false; }
+  const status = $("link-status");
+  status.replaceChildren(copied ? "Link copied: it reopens this scenario. " : "Copy this link: ");
+  const box = document.createElement("input");
+  box.id = "scenario-link";
+  box.readOnly = true;
+  box.value = url;
+  box.size = 40;
+  box.setAttribute("aria-label", "Link to this scenario");
+  status.append(box);
+}
+
+async function fromFragment() {
+  const match = location.hash.match(/^#s=([A-Za-z0-9_-]+)$/);
+  if (!match) return false;
+  try {
+    const text = new TextDecoder().decode(await squeeze(fromBase64Url(match[1]), "out"));
+    const { name, request } = JSON.parse(text);
+    loadRequest(request, name || "");
+    $("status").textContent = "Opened the scenario of the link. Run it to see its paths.";
+    return true;
+  } catch (e) {
+    $("other-errors").textContent = `The link does not hold a scenario (${e.message}).`;
+    return false;
+  }
+}
+
+// --- the demo picker and the JSON box ---------------------------------------------------------
 
 async function loadDemo() {
   const name = $("demo").value;
@@ -527,8 +1059,7 @@ async function loadDemo() {
   const response = await fetch(`/v1/examples/${encodeURIComponent(name)}`);
   const request = await response.json();
   state.demos[name] = JSON.stringify(request);
-  clearErrors();
-  renderForm(request);
+  loadRequest(request, state.titles[name].split(":")[0]);
   $("status").textContent = `Loaded ${name}. Change inputs, then run it.`;
 }
 
@@ -539,34 +1070,80 @@ function updatePicker(request) {
   $("demo").value = match || "";
 }
 
+// The JSON box redraws the form as it is typed (after a pause) and when it loses focus; a redraw
+// never replaces the form under a pointer that is pressing a button (see replayLostClick).
+function fromJson() {
+  clearTimeout(state.pending);
+  state.pending = null;
+  const text = $("request-json").value;
+  let request;
+  try { request = JSON.parse(text); } catch (e) { return; /* shown on run */ }
+  if (JSON.stringify(request) === state.rendered) return;
+  clearErrors();
+  renderForm(request, true);
+  updatePicker(request);
+}
+
+function flushJson() {
+  if (state.pending) fromJson();
+}
+
+// A button pressed while the form is redrawn underneath it (the JSON box lost focus to that
+// press) is pressed again once redrawn: no click is lost.
+let pressed = null;
+function rememberPress(event) {
+  const target = event.target.closest("[data-action], button[id]");
+  pressed = target ? { key: target.dataset.action || `#${target.id}`, element: target } : null;
+}
+
+function replayLostClick(event) {
+  if (!pressed) return;
+  const { key, element } = pressed;
+  pressed = null;
+  if (element.isConnected) return;  // nothing was redrawn: the browser clicks as usual
+  const again = key.startsWith("#") ? $(key.slice(1)) : document.querySelector(`[data-action="${CSS.escape(key)}"]`);
+  if (again && again.isConnected) again.click();
+}
+
 async function start() {
-  const response = await fetch("/v1/examples");
-  const { examples } = await response.json();
+  const [labelsResponse, examplesResponse] = await Promise.all([fetch("/ui/labels.json"), fetch("/v1/examples")]);
+  state.labels = await labelsResponse.json();
+  const { examples } = await examplesResponse.json();
   const select = $("demo");
   const own = document.createElement("option");
   own.value = "";
-  own.textContent = "Your own request (pasted or edited)";
+  own.textContent = "Your own request (pasted, opened or edited)";
   select.append(own);
   for (const e of examples) {
     const option = document.createElement("option");
     option.value = e.name;
     option.textContent = e.endpoint === "/v1/bands" ? `${e.title} (bands)` : e.title;
-    state.endpoints[e.name] = e.endpoint;
+    state.titles[e.name] = e.title;
     select.append(option);
   }
   select.value = examples.length ? examples[0].name : "";
   $("load-demo").addEventListener("click", loadDemo);
   $("add-policy").addEventListener("click", addPolicy);
+  $("add-shock").addEventListener("click", addShock);
+  $("add-demand-shifter").addEventListener("click", () => addShifter("demand"));
+  $("add-supply-shifter").addEventListener("click", () => addShifter("supply"));
   $("scenario-form").addEventListener("submit", run);
-  // Pasting or editing the JSON by hand redraws the form and the picker.
-  $("request-json").addEventListener("change", () => {
-    let request;
-    try { request = JSON.parse($("request-json").value); } catch (e) { return; /* shown on run */ }
-    clearErrors();
-    renderForm(request);
-    updatePicker(request);
-  });
-  await loadDemo();
+  $("save-request").addEventListener("click", saveRequest);
+  $("copy-link").addEventListener("click", copyLink);
+  $("open-file").addEventListener("change", openFile);
+  $("download-workbook").addEventListener("click", downloadWorkbook);
+  $("download-briefing").addEventListener("click", downloadBriefing);
+  $("tornado-output").addEventListener("change", drawTornado);
+  $("tornado-policy").addEventListener("change", drawTornado);
+  $("all-series").addEventListener("change", () => state.answer && showYears(state.answer.body));
+  for (const id of ["u-currency", "u-quantity", "u-unit", "u-interval", "u-period"]) $(id).addEventListener("change", showTables);
+  const json = $("request-json");
+  json.addEventListener("input", () => { clearTimeout(state.pending); state.pending = setTimeout(fromJson, 400); });
+  json.addEventListener("change", fromJson);
+  document.addEventListener("pointerdown", rememberPress, true);
+  document.addEventListener("pointerup", (event) => setTimeout(() => replayLostClick(event), 0), true);
+  window.addEventListener("hashchange", fromFragment);
+  if (!(await fromFragment())) await loadDemo();
 }
 
 start();

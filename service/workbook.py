@@ -1,0 +1,447 @@
+"""Answers as an Excel workbook (.xlsx, written with openpyxl): what an analyst opens in a
+spreadsheet, with the inputs and the totals beside the paths.
+
+Sheets of a /v1/paths answer (`paths_workbook`):
+
+* About: scenario id, model version, the money basis, how to read the sheets;
+* Inputs: every field of the normalised request (`request` of the answer), one row each, by
+  its JSON Pointer and in plain words;
+* Summary: one row per policy, a column per total the answer carries (nested totals as
+  `object.member`), units in the header;
+* one sheet per policy: a row per period, a column per series the path carries (the price
+  index and the supply elasticity first), units in the header, numbers as numbers;
+* Who gains and loses: each group per policy, summed over periods 1..T, both not discounted
+  (the summary's `distribution_totals`) and discounted with the request's rate (the same
+  numbers as the who-gains chart: service.charts.gains_and_losses);
+* Cautions.
+
+A /v1/bands answer (`bands_workbook`) adds the uncertain inputs and the percentiles of each
+summary figure, and its policy sheets put each series' percentiles beside the central path.
+A batch (`batch_workbook`) puts every scenario on the same sheets, a `scenario` column first.
+
+Columns come from what the answer carries (service.labels names them), so series that a newer
+engine adds appear without a change here. Text the caller chose (policy names, shifter names,
+a title) could start a formula: every text cell passes through `text`, the HTTP layer's CSV
+rule (service.http.csvio.neutralise), passed in because this layer may not import it.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+from collections.abc import Callable, Iterable
+from typing import Any
+
+from . import labels
+
+__all__ = ["MAX_ROWS", "WORKBOOK", "bands_workbook", "batch_workbook", "paths_workbook"]
+
+WORKBOOK = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+#: Rows of one worksheet in the file format (Excel's limit), the header included.
+MAX_ROWS = 1_048_576
+_PATH_SKIP = ("name", "kind")
+_BAND_KEYS = ("draws", "seed", "percentiles", "supply_correlation")
+_BAD_SHEET = re.compile(r"[\[\]:*?/\\']")
+
+Text = Callable[[str], str]
+
+
+def _cell(value: Any, text: Text) -> Any:
+    if isinstance(value, bool):
+        return int(value)
+    if isinstance(value, (int, float)) or value is None:
+        return value
+    if isinstance(value, (list, tuple)):
+        return text(", ".join(str(v) for v in value))
+    return text(str(value))
+
+
+class _Book:
+    """A write-only openpyxl workbook with bold, frozen headers and unique sheet names."""
+
+    def __init__(self, text: Text):
+        from openpyxl import Workbook
+
+        self.book = Workbook(write_only=True)
+        self.text = text
+        self.names: set[str] = set()
+
+    def sheet(self, title: str, header: list[str], rows: Iterable[Iterable[Any]], widths=None) -> None:
+        from openpyxl.cell import WriteOnlyCell
+        from openpyxl.styles import Alignment, Font
+
+        # Rows first: a problem found while making them leaves no half-written sheet behind.
+        rows = [[_cell(v, self.text) for v in row] for row in rows]
+        if len(rows) + 1 > MAX_ROWS:
+            from .problems import ProblemError, problem
+
+            raise ProblemError(
+                problem(
+                    422,
+                    "Too large for a workbook",
+                    f"Sheet '{title}' would need {len(rows) + 1:,} rows, more than the file format's "
+                    f"{MAX_ROWS:,}; ask for CSV (Accept: text/csv) or fewer scenarios, policies or periods.",
+                    "too-large-for-a-workbook",
+                )
+            )
+        name = _BAD_SHEET.sub(" ", title).strip()[:31] or "Sheet"
+        base, n = name, 2
+        while name.lower() in self.names:
+            suffix = f" ({n})"
+            name, n = base[: 31 - len(suffix)] + suffix, n + 1
+        self.names.add(name.lower())
+        ws = self.book.create_sheet(name)
+        ws.freeze_panes = "B2"
+        for i, width in enumerate(widths or [], start=1):
+            ws.column_dimensions[_column(i)].width = width
+        head = []
+        for h in header:
+            c = WriteOnlyCell(ws, value=self.text(h))
+            c.font = Font(bold=True)
+            c.alignment = Alignment(wrap_text=True, vertical="top")
+            head.append(c)
+        ws.append(head)
+        for row in rows:
+            ws.append(row)
+
+    def bytes(self) -> bytes:
+        out = io.BytesIO()
+        self.book.save(out)
+        return out.getvalue()
+
+
+def _column(i: int) -> str:
+    from openpyxl.utils import get_column_letter
+
+    return get_column_letter(i)
+
+
+def _inputs_rows(request: dict, units: dict | None, lead: tuple = ()) -> Iterable[tuple]:
+    for pointer, words, value in labels.input_rows(request, units):
+        yield (*lead, pointer, words, value)
+
+
+def _keys(objects: Iterable[dict], skip: tuple[str, ...]) -> list[str]:
+    """Every flattened key of the objects, in first-seen order."""
+    keys: dict[str, None] = {}
+    for o in objects:
+        for k in labels.flatten(o, skip):
+            keys.setdefault(k, None)
+    return list(keys)
+
+
+def _series_keys(path: dict) -> list[str]:
+    return [k for k, v in labels.flatten(path, _PATH_SKIP).items() if isinstance(v, list)]
+
+
+def _about(book: _Book, rows: list[tuple[str, Any]]) -> None:
+    basis = (
+        f"Rents, prices and money are in {labels.REAL} unless a column says {labels.NOMINAL}; "
+        "per-period money is per model period (rent x homes x payments per period)."
+    )
+    book.sheet(
+        "About",
+        ["Item", "Value"],
+        [
+            *rows,
+            ("Money", basis),
+            (
+                "Made by",
+                "shockpath: model estimates from the elasticities given; they inform, and do not "
+                "replace, local market studies and qualified analysts.",
+            ),
+        ],
+        widths=[24, 110],
+    )
+
+
+def _paths_request(body: dict) -> dict | None:
+    """A /v1/paths request of the answer: its own, or that of a bands answer's central path (each
+    uncertain input at its central value, the draws' settings left out)."""
+    request = body.get("request")
+    if request is None or "uncertain_inputs" not in body:
+        return request
+    import copy
+
+    central = {k: v for k, v in copy.deepcopy(request).items() if k not in _BAND_KEYS}
+    for item in body["uncertain_inputs"]:
+        *parents, last = [p.replace("~1", "/").replace("~0", "~") for p in item["pointer"].split("/")[1:]]
+        target = central
+        for p in parents:
+            target = target[p]
+        target[last] = item["central"]
+    return central
+
+
+def _who_gains_rows(body: dict, lead: tuple = (), request: dict | None = None) -> Iterable[tuple]:
+    from .charts import discount_factors
+
+    summary = {s["name"]: s for s in body["summary"]}
+    request = request or body.get("request")
+    factors = None
+    if request is not None and any(p.get("distribution") for p in body["paths"]):
+        factors = discount_factors(request)
+    for path in body["paths"]:
+        distribution = path.get("distribution")
+        if not distribution:
+            yield (*lead, path["name"], "not reported under random rationing", None, None)
+            continue
+        totals = summary[path["name"]].get("distribution_totals") or {}
+        for group, values in distribution.items():
+            discounted = (
+                None if factors is None else float(sum(v * f for v, f in zip(values, factors, strict=False)))
+            )
+            yield (*lead, path["name"], labels.label(f"distribution.{group}"), totals.get(group), discounted)
+
+
+def _who_gains_header(body: dict, units: dict | None, lead: list[str]) -> list[str]:
+    words = {**labels.DEFAULT_UNITS, **(units or {})}
+    horizon = len(body["periods"]) - 1
+    rate = ((body.get("request") or {}).get("welfare") or {}).get("discount_rate", 0.0)
+    rate_text = (
+        f"at {rate * 100:.3g} % per {words['period']}"
+        if isinstance(rate, (int, float))
+        else "at the request's steps"
+    )
+    money = f"{words['currency']}, {labels.REAL}"
+    return [
+        *lead,
+        "Policy",
+        "Group",
+        f"Gain (+) or loss (-), summed over periods 1 to {horizon}, not discounted [{money}]",
+        f"Gain (+) or loss (-), summed over periods 1 to {horizon}, discounted to period 0 "
+        f"{rate_text} [{money}]",
+    ]
+
+
+def _summary_header(keys: list[str], units: dict | None, lead: list[str]) -> list[str]:
+    return [*lead, "Policy", "Kind", *(labels.describe(k, units, totals=True) for k in keys)]
+
+
+def _summary_rows(summary: list[dict], keys: list[str], lead: tuple = ()) -> Iterable[tuple]:
+    for s in summary:
+        flat = labels.flatten(s, _PATH_SKIP)
+        yield (*lead, s["name"], s["kind"], *(flat.get(k) for k in keys))
+
+
+def _path_table(body: dict, path: dict) -> tuple[list[str], list[list[Any]]]:
+    """Columns (name, values) of one policy's sheet: the market's series first, then the path's."""
+    columns: list[tuple[str, list]] = [("period", body["periods"])]
+    for name in ("price_index", "supply_elasticity"):
+        if name in body:
+            columns.append((name, body[name]))
+    flat = labels.flatten(path, _PATH_SKIP)
+    columns += [(k, flat[k]) for k in _series_keys(path)]
+    return [c for c, _ in columns], [list(v) for _, v in columns]
+
+
+def _header(names: list[str], units: dict | None) -> list[str]:
+    words = {**labels.DEFAULT_UNITS, **(units or {})}
+    return [f"Period [{words['period']}]" if n == "period" else labels.describe(n, units) for n in names]
+
+
+def _binding(name: str, values: list) -> list:
+    return [int(v) for v in values] if name == "binding" else values
+
+
+def _cautions(book: _Book, cautions: Iterable[tuple], lead: list[str]) -> None:
+    book.sheet("Cautions", [*lead, "Caution"], cautions, widths=[*([12] * len(lead)), 140])
+
+
+def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) -> bytes:
+    """The .xlsx of a /v1/paths answer (see the module docstring)."""
+    book = _Book(text)
+    _about(
+        book,
+        [
+            ("Scenario id", body["scenario_id"]),
+            ("Model version", body["model_version"]),
+            ("Periods", f"0 (today's market) to {len(body['periods']) - 1}"),
+        ],
+    )
+    book.sheet(
+        "Inputs",
+        ["Field (JSON Pointer)", "In plain words", "Value"],
+        _inputs_rows(body.get("request") or {}, units),
+        widths=[36, 70, 24],
+    )
+    keys = _keys(body["summary"], _PATH_SKIP)
+    book.sheet(
+        "Summary",
+        _summary_header(keys, units, []),
+        _summary_rows(body["summary"], keys),
+        widths=[28, 14, *([22] * len(keys))],
+    )
+    for i, path in enumerate(body["paths"], start=1):
+        names, columns = _path_table(body, path)
+        columns = [_binding(n, c) for n, c in zip(names, columns, strict=True)]
+        book.sheet(
+            f"{i} {path['name']}",
+            _header(names, units),
+            zip(*columns, strict=True),
+            widths=[10, *([20] * (len(names) - 1))],
+        )
+    book.sheet(
+        "Who gains and loses",
+        _who_gains_header(body, units, []),
+        _who_gains_rows(body),
+        widths=[28, 36, 30, 30],
+    )
+    _cautions(book, ((c,) for c in body["cautions"]), [])
+    return book.bytes()
+
+
+def bands_workbook(body: dict[str, Any], text: Text, units: dict | None = None) -> bytes:
+    """The .xlsx of a /v1/bands answer: the central answer's sheets with the percentiles."""
+    central = {**body["central"], "request": body.get("request")}
+    keys_q = list(body["percentiles"])
+    book = _Book(text)
+    _about(
+        book,
+        [
+            ("Scenario id", body["scenario_id"]),
+            ("Model version", body["model_version"]),
+            ("Draws", body["draws"]),
+            ("Seed", body["seed"]),
+            ("Percentiles", ", ".join(f"{q:g}" for q in keys_q)),
+            ("Central path", "every uncertain input at its central value (mean, mode, or midpoint)"),
+        ],
+    )
+    book.sheet(
+        "Inputs",
+        ["Field (JSON Pointer)", "In plain words", "Value"],
+        _inputs_rows(body.get("request") or {}, units),
+        widths=[36, 70, 24],
+    )
+    uncertain_keys = _keys(body["uncertain_inputs"], ())
+    book.sheet(
+        "Uncertain inputs",
+        [k.replace("_", " ") for k in uncertain_keys],
+        ([u.get(k) for k in uncertain_keys] for u in body["uncertain_inputs"]),
+        widths=[36, 14],
+    )
+    keys = _keys(central["summary"], _PATH_SKIP)
+    book.sheet(
+        "Summary (central)",
+        _summary_header(keys, units, []),
+        _summary_rows(central["summary"], keys),
+        widths=[28, 14, *([22] * len(keys))],
+    )
+
+    def percentile_rows():
+        for band in body["bands"]:
+            for figure, by_q in band["summary"].items():
+                yield (
+                    band["name"],
+                    labels.describe(figure, units, totals=True),
+                    *(by_q.get(f"{q:g}") for q in keys_q),
+                )
+            yield (
+                band["name"],
+                "Share of draws in which the rule bites",
+                band["binding_share"],
+                *[None] * (len(keys_q) - 1),
+            )
+            yield (
+                band["name"],
+                "Draws left out (infeasible)",
+                band["infeasible_draws"],
+                *[None] * (len(keys_q) - 1),
+            )
+
+    book.sheet(
+        "Summary percentiles",
+        ["Policy", "Figure", *(f"{q:g}th percentile" for q in keys_q)],
+        percentile_rows(),
+        widths=[28, 60, *([18] * len(keys_q))],
+    )
+    for i, (band, path) in enumerate(zip(body["bands"], central["paths"], strict=True), start=1):
+        names, columns = _path_table(central, path)
+        columns = [_binding(n, c) for n, c in zip(names, columns, strict=True)]
+        header = _header(names, units)
+        header[1:] = [f"{h} - central" for h in header[1:]]
+        for series, by_q in band["series"].items():
+            for q in keys_q:
+                header.append(f"{labels.describe(series, units)} - {q:g}th percentile")
+                columns.append(by_q[f"{q:g}"])
+        book.sheet(
+            f"{i} {band['name']}",
+            header,
+            zip(*columns, strict=True),
+            widths=[10, *([20] * (len(header) - 1))],
+        )
+    book.sheet(
+        "Who gains and loses",
+        _who_gains_header(central, units, []),
+        _who_gains_rows(central, request=_paths_request(body)),
+        widths=[28, 36, 30, 30],
+    )
+    _cautions(book, ((c,) for c in body["cautions"]), [])
+    return book.bytes()
+
+
+def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None = None) -> bytes:
+    """The .xlsx of a batch: every scenario on the same sheets, a `scenario` column first (a
+    scenario without an answer: one row on Scenarios with its problem)."""
+    book = _Book(text)
+    answered = [(i, r) for i, r in enumerate(results) if "status" not in r]
+    _about(
+        book,
+        [
+            ("Scenarios", len(results)),
+            ("Answered", len(answered)),
+            ("Model version", answered[0][1]["model_version"] if answered else ""),
+        ],
+    )
+    book.sheet(
+        "Scenarios",
+        ["Scenario", "Scenario id", "Problem"],
+        (
+            (i, r.get("scenario_id", ""), "" if "status" not in r else r.get("detail", ""))
+            for i, r in enumerate(results)
+        ),
+        widths=[10, 70, 80],
+    )
+    book.sheet(
+        "Inputs",
+        ["Scenario", "Field (JSON Pointer)", "In plain words", "Value"],
+        (row for i, r in answered for row in _inputs_rows(r.get("request") or {}, units, (i,))),
+        widths=[10, 36, 70, 24],
+    )
+    keys = _keys((s for _, r in answered for s in r["summary"]), _PATH_SKIP)
+    book.sheet(
+        "Summary",
+        _summary_header(keys, units, ["Scenario"]),
+        (row for i, r in answered for row in _summary_rows(r["summary"], keys, (i,))),
+        widths=[10, 28, 14, *([22] * len(keys))],
+    )
+    names: dict[str, None] = {"period": None}
+    for _, r in answered:
+        for p in r["paths"]:
+            for n in _path_table(r, p)[0]:
+                names.setdefault(n, None)
+    ordered = list(names)
+
+    def path_rows():
+        for i, r in answered:
+            for p in r["paths"]:
+                own, columns = _path_table(r, p)
+                where = {n: _binding(n, c) for n, c in zip(own, columns, strict=True)}
+                for t in range(len(r["periods"])):
+                    yield (i, p["name"], *((where[n][t] if n in where else None) for n in ordered))
+
+    book.sheet(
+        "Paths",
+        ["Scenario", "Policy", *_header(ordered, units)],
+        path_rows(),
+        widths=[10, 28, 10, *([20] * (len(ordered) - 1))],
+    )
+    if answered:
+        book.sheet(
+            "Who gains and loses",
+            _who_gains_header(answered[0][1], units, ["Scenario"]),
+            (row for i, r in answered for row in _who_gains_rows(r, (i,))),
+            widths=[10, 28, 36, 30, 30],
+        )
+    _cautions(book, ((i, c) for i, r in answered for c in r["cautions"]), ["Scenario"])
+    return book.bytes()

@@ -1,0 +1,119 @@
+"""POST /v1/briefing: one self-contained HTML document of a scenario (no script, nothing from
+elsewhere) with the question, the inputs in words, inline SVG charts, the summary and who-gains
+tables on the chart's basis, the cautions, the model version and the scenario id."""
+
+from __future__ import annotations
+
+import html
+import re
+from html.parser import HTMLParser
+
+import numpy as np
+import pytest
+
+from service import simulate
+from service.charts import discount_factors, gains_and_losses
+from service.examples import example_request
+
+pytest.importorskip("matplotlib")
+
+UNITS = {"currency": "EUR", "quantity": "homes", "unit": "home", "price_interval": "month", "period": "year"}
+
+
+class _Tables(HTMLParser):
+    """The tables of a document as lists of rows of cell texts."""
+
+    def __init__(self):
+        super().__init__()
+        self.tables, self.cell, self.tags = [], None, []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+        if tag == "table":
+            self.tables.append([])
+        elif tag == "tr":
+            self.tables[-1].append([])
+        elif tag in ("td", "th"):
+            self.cell = ""
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self.cell is not None:
+            self.tables[-1][-1].append(self.cell)
+            self.cell = None
+
+    def handle_data(self, data):
+        if self.cell is not None:
+            self.cell += data
+
+
+def _number(text: str) -> float:
+    return float(text.replace(",", "").replace("\u2212", "-"))
+
+
+def test_a_briefing_holds_the_question_inputs_charts_tables_cautions_and_the_ids(client):
+    request = example_request("corrowdale-older-buildings")
+    answer = simulate(request)
+    response = client.post(
+        "/v1/briefing", json={**request, "title": "Corrowdale: older buildings", "units": UNITS}
+    )
+    assert response.status_code == 200 and response.mimetype == "text/html"
+    assert response.headers["ETag"].strip('"')
+    text = response.get_data(as_text=True)
+    assert text.startswith("<!doctype html>") and "<h1>Corrowdale: older buildings</h1>" in text
+    assert "<h2>The question</h2>" in text and "compared with the market left free" in text
+    assert "rents frozen at today&#x27;s rent, on 40 % of the homes" in text
+    assert "real change of 10 %" in text  # shocks are real changes, in words
+    assert text.count("<svg") >= 2 and "<script" not in text.lower()
+    assert not re.search(r'(src|href)="(https?:)?//', text)  # nothing from elsewhere
+    assert answer["scenario_id"] in text and f"model version {answer['model_version']}" in text
+    for caution in answer["cautions"]:
+        assert html.escape(caution) in text
+    tables = _Tables()
+    tables.feed(text)
+    inputs, summary, gains = tables.tables
+    assert any(row[0].startswith("Rent today (base price)") and row[1] == "1,090" for row in inputs)
+    assert summary[0] == ["Figure", *(p["name"] for p in request["policies"])]
+    final = next(r for r in summary if r[0].startswith("Rent paid in the last period"))
+    assert "EUR per home per month, today's money (period 0)" in final[0]
+    assert [_number(c) for c in final[1:]] == pytest.approx(
+        [s["final_consumer_price"] for s in answer["summary"]], abs=0.5
+    )
+    # Who gains and who loses on the chart's basis: the engine's discounted sums, and the net.
+    expected = gains_and_losses(answer, discount_factors(request))
+    rows = gains[1:-1]
+    assert np.allclose([[_number(c) for c in r[1:]] for r in rows], expected.T, atol=0.6)
+    assert [_number(c) for c in gains[-1][1:]] == pytest.approx(expected.sum(axis=1), abs=0.6)
+    assert "discounted at 3 % per year" in text
+
+
+def test_a_briefing_without_a_title_or_units_takes_the_policy_names_and_plain_units(client):
+    request = example_request("quillbrook-rent-freeze")
+    text = client.post("/v1/briefing", json=request).get_data(as_text=True)
+    assert "<h1>Briefing: rent freeze, 2.5% cap, freeze for 5 years</h1>" in text
+    assert "money per unit per price interval" in text
+
+
+def test_bad_input_points_where_it_would_for_paths_and_at_the_briefings_own_fields(client):
+    request = example_request("quillbrook-rent-freeze")
+    bad = client.post("/v1/briefing", json={**request, "horizon": 0, "title": ""})
+    assert bad.status_code == 422
+    assert [e["pointer"] for e in bad.get_json()["errors"]] == ["/title"]
+    bad = client.post("/v1/briefing", json={**request, "horizon": 0})
+    assert [e["pointer"] for e in bad.get_json()["errors"]] == ["/horizon"]
+    bad = client.post("/v1/briefing", json={**request, "units": {"currency": "EUR", "colour": "red"}})
+    assert bad.get_json()["errors"][0]["pointer"] == "/units/colour"
+
+
+def test_under_random_rationing_the_briefing_says_who_gains_is_not_reported(client):
+    request = example_request("quillbrook-rent-freeze")
+    request["welfare"]["rationing"] = "random"
+    text = client.post("/v1/briefing", json=request).get_data(as_text=True)
+    assert "Not reported under random rationing" in text
+    assert text.count("<svg") == 1
+
+
+def test_a_matching_if_none_match_gets_304(client):
+    request = example_request("quillbrook-rent-freeze")
+    first = client.post("/v1/briefing", json=request)
+    again = client.post("/v1/briefing", json=request, headers={"If-None-Match": first.headers["ETag"]})
+    assert again.status_code == 304

@@ -1,0 +1,155 @@
+"""Accept: the workbook media type on /v1/paths, /v1/paths/batch and /v1/bands answers an .xlsx;
+read back with openpyxl, every number equals the JSON answer's (to 15 significant digits: openpyxl
+writes 16, and a spreadsheet keeps 15), and a policy name that would be a formula stays text
+(the CSV's rule)."""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+import pytest
+from openpyxl import load_workbook
+
+from service import labels
+from service.charts import discount_factors, gains_and_losses
+from service.examples import example_request
+from service.workbook import WORKBOOK
+
+ACCEPT = {"Accept": WORKBOOK}
+SAME = 1e-15  # relative: the 15 significant digits a spreadsheet keeps
+
+
+def _book(response):
+    assert response.status_code == 200, response.get_json()
+    assert response.mimetype == WORKBOOK
+    assert response.headers["Content-Disposition"].endswith('.xlsx"')
+    return load_workbook(io.BytesIO(response.data))
+
+
+def _rows(ws):
+    return [list(r) for r in ws.iter_rows(values_only=True)]
+
+
+def _flat_series(path: dict) -> dict:
+    return {k: v for k, v in labels.flatten(path, ("name", "kind")).items() if isinstance(v, list)}
+
+
+def test_a_paths_workbook_carries_inputs_summary_each_policys_periods_who_gains_and_cautions(client):
+    request = example_request("corrowdale-older-buildings")
+    answer = client.post("/v1/paths", json=request).get_json()
+    book = _book(client.post("/v1/paths", json=request, headers=ACCEPT))
+    names = book.sheetnames
+    assert names[:3] == ["About", "Inputs", "Summary"] and names[-2:] == ["Who gains and loses", "Cautions"]
+    about = dict(_rows(book["About"])[1:])
+    assert about["Scenario id"] == answer["scenario_id"]
+    assert about["Model version"] == answer["model_version"]
+    assert "today's money (period 0)" in about["Money"]
+
+    inputs = {row[0]: row[2] for row in _rows(book["Inputs"])[1:]}
+    assert inputs["/horizon"] == request["horizon"]
+    assert inputs["/policies/1/coverage"] == 0.4
+    assert inputs["/welfare/discount_rate"] == 0.03
+    assert inputs["/market/demand/shifters/income"] == 0.8
+
+    summary = _rows(book["Summary"])
+    header, body = summary[0], summary[1:]
+    assert [r[0] for r in body] == [s["name"] for s in answer["summary"]]
+    for row, s in zip(body, answer["summary"], strict=True):
+        flat = labels.flatten(s, ("name", "kind"))
+        assert len(row) - 2 == len(flat)  # every total, one column each
+        for key, value in flat.items():
+            column = header.index(labels.describe(key, totals=True))
+            assert row[column] == (pytest.approx(value, rel=SAME) if isinstance(value, float) else value)
+
+    for i, path in enumerate(answer["paths"], start=1):
+        sheet = next(n for n in names if n.startswith(f"{i} "))
+        rows = _rows(book[sheet])
+        header, data = rows[0], rows[1:]
+        assert [r[0] for r in data] == answer["periods"]
+        series = _flat_series(path)
+        assert len(header) == 2 + len(series)  # period, supply elasticity, then every series
+        for key, values in series.items():
+            column = header.index(labels.describe(key))
+            got = [r[column] for r in data]
+            assert got == ([int(v) for v in values] if key == "binding" else pytest.approx(values, rel=SAME))
+            assert all(isinstance(v, (int, float)) for v in got)  # numbers as numbers
+        # the partial freeze carries the rents of controlled and uncontrolled homes
+        if path["name"].startswith("freeze on older"):
+            assert any(h.startswith("Rent of uncontrolled homes") for h in header)
+
+    gains = _rows(book["Who gains and loses"])
+    assert "not discounted" in gains[0][2] and "at 3 % per period" in gains[0][3]
+    discounted = gains_and_losses(answer, discount_factors(request))
+    for p, (path, s) in enumerate(zip(answer["paths"], answer["summary"], strict=True)):
+        mine = [r for r in gains[1:] if r[0] == path["name"]]
+        assert [r[2] for r in mine] == pytest.approx(list(s["distribution_totals"].values()), rel=SAME)
+        assert np.allclose([r[3] for r in mine], discounted[p], rtol=1e-12, atol=1e-9)
+    cautions = [r[0] for r in _rows(book["Cautions"])[1:]]
+    assert cautions == answer["cautions"]
+
+
+def test_a_policy_name_that_would_be_a_formula_stays_text(client):
+    request = example_request("quillbrook-rent-freeze")
+    request["policies"][1]["name"] = '=HYPERLINK("http://example.invalid","x")'
+    book = _book(client.post("/v1/paths", json=request, headers=ACCEPT))
+    summary = book["Summary"]
+    cell = summary.cell(row=3, column=1)
+    assert cell.data_type == "s" and cell.value == "'" + request["policies"][1]["name"]
+    for ws in book.worksheets:
+        for row in ws.iter_rows():
+            for c in row:
+                assert c.data_type != "f", (ws.title, c.coordinate, c.value)
+
+
+def test_a_batch_workbook_puts_every_scenario_on_the_same_sheets_and_names_a_problem(client):
+    good = example_request("quillbrook-rent-freeze")
+    bad = {**good, "horizon": 0}
+    answer = client.post("/v1/paths/batch", json={"scenarios": [good, bad]}).get_json()["results"]
+    book = _book(client.post("/v1/paths/batch", json={"scenarios": [good, bad]}, headers=ACCEPT))
+    scenarios = _rows(book["Scenarios"])[1:]
+    assert scenarios[0][:2] == [0, answer[0]["scenario_id"]] and scenarios[0][2] in ("", None)
+    assert scenarios[1][0] == 1 and scenarios[1][2] == answer[1]["detail"]
+    paths = _rows(book["Paths"])
+    header, data = paths[0], paths[1:]
+    first = answer[0]
+    assert len(data) == len(first["paths"]) * len(first["periods"])
+    column = header.index(labels.describe("consumer_price"))
+    for path in first["paths"]:
+        assert [r[column] for r in data if r[1] == path["name"]] == pytest.approx(
+            path["consumer_price"], rel=SAME
+        )
+    summary = _rows(book["Summary"])
+    column = summary[0].index(labels.describe("discounted_deadweight_loss", totals=True))
+    expected = [s["discounted_deadweight_loss"] for s in first["summary"]]
+    assert [r[column] for r in summary[1:]] == pytest.approx(expected, rel=SAME)
+
+
+def test_a_bands_workbook_puts_percentiles_beside_the_central_path(client):
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["draws"] = 400
+    answer = client.post("/v1/bands", json=request).get_json()
+    book = _book(client.post("/v1/bands", json=request, headers=ACCEPT))
+    assert dict(_rows(book["About"])[1:])["Scenario id"] == answer["scenario_id"]
+    pointers = [r[0] for r in _rows(book["Uncertain inputs"])[1:]]
+    assert pointers == [u["pointer"] for u in answer["uncertain_inputs"]]
+    band = answer["bands"][0]
+    rows = _rows(book[f"1 {band['name']}"[:31]])
+    header = rows[0]
+    for series, by_q in band["series"].items():
+        for q, values in by_q.items():
+            column = header.index(f"{labels.describe(series)} - {q}th percentile")
+            assert [r[column] for r in rows[1:]] == pytest.approx(values, rel=1e-6)
+    summary = _rows(book["Summary percentiles"])
+    figure = labels.describe("discounted_deadweight_loss", totals=True)
+    first = next(r for r in summary[1:] if r[0] == band["name"] and r[1] == figure)
+    by_q = band["summary"]["discounted_deadweight_loss"]
+    assert first[2:] == pytest.approx([by_q[q] for q in by_q], rel=SAME)
+
+
+@pytest.mark.parametrize("path", ["/v1/paths", "/v1/paths/batch"])
+def test_json_stays_the_default_and_csv_is_still_offered(client, path):
+    request = example_request("quillbrook-rent-freeze")
+    body = request if path == "/v1/paths" else {"scenarios": [request]}
+    assert client.post(path, json=body).mimetype == "application/json"
+    assert client.post(path, json=body, headers={"Accept": "text/csv"}).mimetype == "text/csv"

@@ -1,0 +1,61 @@
+"""The `request` of an answer: the request with its defaults written out, which re-runs as it is
+to the same answer (same scenario_id, so the same ETag)."""
+
+from __future__ import annotations
+
+import pytest
+
+from service import bands, simulate, simulate_many
+from service.examples import examples
+
+DEMOS = examples()
+PATHS_DEMOS = [n for n, e in DEMOS.items() if e.get("endpoint", "/v1/paths") == "/v1/paths"]
+BANDS_DEMOS = [n for n, e in DEMOS.items() if e.get("endpoint") == "/v1/bands"]
+
+
+def _small(request: dict) -> dict:
+    return {**request, "draws": 200}
+
+
+@pytest.mark.parametrize("name", PATHS_DEMOS)
+def test_a_demo_answer_carries_a_request_that_reruns_to_the_same_answer(name):
+    body = simulate(DEMOS[name]["request"])
+    again = simulate(body["request"])
+    assert again["scenario_id"] == body["scenario_id"]
+    assert again["paths"] == body["paths"]
+    assert again["request"] == body["request"]  # normalising twice changes nothing
+
+
+def test_defaults_are_written_out_and_whole_numbers_read_as_the_schema_reads_them():
+    request = DEMOS[PATHS_DEMOS[0]]["request"]
+    lean = {k: v for k, v in request.items() if k != "welfare"}
+    lean["horizon"] = float(lean["horizon"])
+    body = simulate(lean)
+    normal = body["request"]
+    assert normal["welfare"] == {"rationing": "efficient", "discount_rate": 0.0}
+    assert normal["horizon"] == request["horizon"] and isinstance(normal["horizon"], int)
+    assert normal["market"]["form"] in ("linear", "constant_elasticity")
+    assert "payments_per_period" in normal["market"] and "inflation" in normal["market"]
+    for policy in normal["policies"]:
+        assert policy["start"] >= 1
+    assert "request" not in simulate(normal)["request"]
+
+
+def test_the_batch_answers_carry_each_scenarios_request_and_problems_none():
+    good = DEMOS[PATHS_DEMOS[0]]["request"]
+    bad = {**good, "horizon": 0}
+    first, second = simulate_many([good, bad])
+    assert simulate(first["request"])["scenario_id"] == first["scenario_id"]
+    assert "request" not in second and second["status"] == 422
+
+
+@pytest.mark.parametrize("name", BANDS_DEMOS)
+def test_a_bands_answer_carries_its_request_with_draws_seed_and_percentiles(name):
+    body = bands(_small(DEMOS[name]["request"]))
+    normal = body["request"]
+    sent = DEMOS[name]["request"]
+    assert normal["draws"] == 200 and normal["seed"] == sent.get("seed", 0)
+    assert normal["percentiles"] == [float(q) for q in sent.get("percentiles", [5, 50, 95])]
+    assert bands(normal)["scenario_id"] == body["scenario_id"]
+    # the distributions stay distributions
+    assert any(isinstance(v, dict) for v in normal["market"]["demand"].values() if v is not None)
