@@ -13,7 +13,12 @@ __all__ = ["blueprint"]
 
 blueprint = DocumentedBlueprint("page", __name__)
 
-_PAGE_FILES = {"style.css": "text/css", "app.js": "text/javascript"}
+_PAGE_FILES = {
+    "style.css": "text/css",
+    "app.js": "text/javascript",
+    "library.js": "text/javascript",
+    "library.css": "text/css",
+}
 
 
 def _page_file(name: str) -> bytes:

@@ -14,7 +14,7 @@ from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
 from .negotiation import CSV, TABULAR, negotiate
 
-__all__ = ["blueprint"]
+__all__ = ["blueprint", "paths_answer"]
 
 blueprint = DocumentedBlueprint("paths", __name__)
 
@@ -39,8 +39,14 @@ _BATCH = BatchRequestSchema()
     parameters=["If-None-Match", "Accept"],
 )
 def post_paths() -> Response:
+    return paths_answer(read_json())
+
+
+def paths_answer(raw: object) -> Response:
+    """The answer of /v1/paths to a request body: negotiation, ETag, cache and formats (also
+    what GET /v1/scenarios/{id}/paths answers for a stored request)."""
     as_csv = negotiate(TABULAR) == CSV
-    scenario = load_scenario(read_json())
+    scenario = load_scenario(raw)
     sid = scenario_id(scenario)
     g.scenario_id = sid
     tag = f"{sid}.csv" if as_csv else sid

@@ -3,7 +3,7 @@ built from their operations (openapi.py) and the app registers them (app.py)."""
 
 from __future__ import annotations
 
-from . import charts, examples, health, page, paths, uncertainty
+from . import charts, examples, health, library, page, paths, uncertainty
 from .documented import DocumentedBlueprint
 
 __all__ = ["BLUEPRINTS"]
@@ -13,6 +13,7 @@ BLUEPRINTS: tuple[DocumentedBlueprint, ...] = (
     uncertainty.blueprint,
     charts.blueprint,
     examples.blueprint,
+    library.blueprint,
     page.blueprint,
     health.blueprint,
 )

@@ -16,7 +16,7 @@ from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, negotiate
 
-__all__ = ["blueprint"]
+__all__ = ["bands_answer", "blueprint"]
 
 blueprint = DocumentedBlueprint("uncertainty", __name__)
 
@@ -39,8 +39,13 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     parameters=["If-None-Match", "Accept"],
 )
 def post_bands() -> Response:
+    return bands_answer(read_json())
+
+
+def bands_answer(raw: object) -> Response:
+    """The answer of /v1/bands to a request body: negotiation, ETag and formats (also what
+    GET /v1/scenarios/{id}/bands answers for a stored request)."""
     as_csv = negotiate(TABULAR) == CSV
-    raw = read_json()
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "json")
 
     def produce() -> Response:
