@@ -56,7 +56,8 @@ ALLOWED = {
     "limits": set(),
     "engine": {"numba", "numpy", "scipy", "limits"},
     "schemas": {"engine", "limits", "marshmallow"},
-    "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib"},
+    "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib"}
+    | {"sqlalchemy", "alembic"},
     "http": {"python_api", "engine", "schemas", "limits", "flask", "werkzeug", "orjson", "apispec"}
     | {"prometheus_client", "marshmallow", "flask_cors", "flask_compress"},
 }
