@@ -57,9 +57,9 @@ def test_a_shared_scenario_is_read_by_every_key_and_changed_only_by_its_owner(ma
     assert [(r["name"], r["mine"]) for r in listed] == [("B's own", True), ("Briefing", False)]
     assert _change(client, KEY_B, shared).status_code == 403
     assert client.delete(base, headers=bearer(KEY_B)).status_code == 403
-    assert [r["name"] for r in client.get("/v1/scenarios", headers=bearer(KEY_A)).get_json()["scenarios"]] == [
-        "Briefing"
-    ]
+    assert [
+        r["name"] for r in client.get("/v1/scenarios", headers=bearer(KEY_A)).get_json()["scenarios"]
+    ] == ["Briefing"]
     # The owner takes the sharing back: the other key no longer finds it.
     unshared = _change(client, KEY_A, shared)
     assert unshared.status_code == 200 and unshared.get_json()["shared"] is False

@@ -152,7 +152,9 @@ def test_a_change_needs_the_etag_of_the_revision_it_starts_from(library_client):
 
 def test_get_answers_if_none_match_with_304(library_client):
     response = save(library_client)
-    again = library_client.get(response.headers["Location"], headers={"If-None-Match": response.headers["ETag"]})
+    again = library_client.get(
+        response.headers["Location"], headers={"If-None-Match": response.headers["ETag"]}
+    )
     assert again.status_code == 304
 
 
@@ -163,7 +165,10 @@ def test_an_unknown_id_is_404_everywhere(library_client, record_id):
         assert response.status_code == 404, (record_id, path)
         assert response.mimetype == "application/problem+json"
     body = {"name": "x", "request": short(FREEZE)}
-    assert library_client.put(f"/v1/scenarios/{record_id}", json=body, headers={"If-Match": "*"}).status_code == 404
+    assert (
+        library_client.put(f"/v1/scenarios/{record_id}", json=body, headers={"If-Match": "*"}).status_code
+        == 404
+    )
     assert library_client.delete(f"/v1/scenarios/{record_id}").status_code == 404
 
 
@@ -231,7 +236,9 @@ def test_the_request_is_validated_exactly_as_post_paths_validates_it(library_cli
     bands_bad = short(UNCERTAIN, draws=0)
     bands_direct = library_client.post("/v1/bands", json=bands_bad).get_json()
     bands_saved = library_client.post("/v1/scenarios", json={"name": "x", "request": bands_bad}).get_json()
-    assert bands_saved["errors"] == [dict(e, pointer="/request" + e["pointer"]) for e in bands_direct["errors"]]
+    assert bands_saved["errors"] == [
+        dict(e, pointer="/request" + e["pointer"]) for e in bands_direct["errors"]
+    ]
     assert library_client.get("/v1/scenarios").get_json()["scenarios"] == []  # nothing stored
 
 
