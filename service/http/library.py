@@ -256,7 +256,9 @@ def put_scenario(id: str) -> Response:
         "412": PROBLEMS["412"],
         "503": PROBLEMS["503"],
     },
-    parameters=[dict(IF_MATCH, required=False, description=IF_MATCH["description"] + " Optional here.")],
+    parameters=[
+        dict(IF_MATCH, description="Optional here; when sent, the ETag of the current revision (412 if not).")
+    ],
     path_parameters=[ID],
 )
 def delete_scenario(id: str) -> Response:

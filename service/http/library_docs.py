@@ -37,9 +37,9 @@ REVISION = {
 IF_MATCH = {
     "name": "If-Match",
     "in": "header",
-    "required": True,
-    "description": 'The ETag of the revision the change starts from ("<id>.<revision>"); 428 without '
-    "it, 412 when the record has moved on. * overwrites whatever revision is current.",
+    "required": False,
+    "description": 'The ETag of the revision the change starts from ("<id>.<revision>"). PUT needs it: '
+    "428 without it, 412 when the record has moved on. * overwrites whatever revision is current.",
     "schema": {"type": "string"},
 }
 LIST_PARAMETERS = [
