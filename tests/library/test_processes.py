@@ -108,7 +108,7 @@ def _library(database: dict[str, str]) -> Library:
 
 def test_two_workers_writing_one_record_lose_no_update(database, tmp_path):
     with gunicorn(database, tmp_path, workers=2, library_write_delay_ms="30") as (port, _):
-        status, headers, record = _call(port, "POST", "/v1/scenarios", {"name": "shared", "request": REQUEST})
+        status, _headers, record = _call(port, "POST", "/v1/scenarios", {"name": "shared", "request": REQUEST})
         assert status == 201
         path = f"/v1/scenarios/{record['id']}"
         won: list[str] = []
@@ -117,7 +117,7 @@ def test_two_workers_writing_one_record_lose_no_update(database, tmp_path):
         def writer(name: str):
             for n in range(8):
                 while True:
-                    _, headers, current = _call(port, "GET", path)
+                    _, headers, _current = _call(port, "GET", path)
                     note = f"{name}-{n}"
                     body = {"name": "shared", "notes": note, "request": REQUEST}
                     status, _, _ = _call(port, "PUT", path, body, {"If-Match": headers["ETag"]})
@@ -223,9 +223,10 @@ def test_a_restart_keeps_everything(database, tmp_path):
     with gunicorn(database, tmp_path, workers=2) as (port, _):
         saved = []
         for i in range(3):
-            status, headers, record = _call(
+            status, _headers, record = _call(
                 port, "POST", "/v1/scenarios", {"name": f"s{i}", "tags": ["t"], "request": REQUEST}
             )
+            assert status == 201
             saved.append(record)
         body = {"name": "s0", "notes": "second", "request": REQUEST}
         status, _, second = _call(
