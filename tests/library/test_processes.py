@@ -108,7 +108,7 @@ def _library(database: dict[str, str]) -> Library:
 
 def test_two_workers_writing_one_record_lose_no_update(database, tmp_path):
     with gunicorn(database, tmp_path, workers=2, library_write_delay_ms="30") as (port, _):
-        status, _headers, record = _call(port, "POST", "/v1/scenarios", {"name": "shared", "request": REQUEST})
+        status, _, record = _call(port, "POST", "/v1/scenarios", {"name": "shared", "request": REQUEST})
         assert status == 201
         path = f"/v1/scenarios/{record['id']}"
         won: list[str] = []
