@@ -302,3 +302,24 @@ def test_a_restarted_service_keeps_everything(make_client):
     assert restarted.get(f"/v1/scenarios/{record['id']}").get_json() == second_revision
     assert restarted.get(f"/v1/scenarios/{record['id']}?revision=1").get_json()["notes"] == ""
     assert restarted.get(f"/v1/scenarios/{record['id']}/paths").status_code == 200
+
+
+def test_a_dashboard_on_another_origin_may_revise_and_read_the_library_headers(make_client):
+    client = make_client(cors_origins="https://dashboard.example.org")
+    preflight = client._client.options(  # a preflight is not an operation of the document
+        "/v1/scenarios/abc",
+        headers={
+            "Origin": "https://dashboard.example.org",
+            "Access-Control-Request-Method": "PUT",
+            "Access-Control-Request-Headers": "if-match, content-type",
+        },
+    )
+    assert "PUT" in preflight.headers["Access-Control-Allow-Methods"]
+    assert "if-match" in preflight.headers["Access-Control-Allow-Headers"].lower()
+    saved = client.post(
+        "/v1/scenarios",
+        json={"name": "x", "request": short(FREEZE)},
+        headers={"Origin": "https://dashboard.example.org"},
+    )
+    exposed = saved.headers["Access-Control-Expose-Headers"]
+    assert "Location" in exposed and "ETag" in exposed and "Model-Version-Changed" in exposed
