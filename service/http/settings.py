@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import limits
+from ..library.store import DEFAULT_LIBRARY_PATH
 
 __all__ = ["Settings", "SettingsError", "load_settings", "redact_url"]
 
@@ -48,7 +49,7 @@ class Settings:
     #: SQLAlchemy URL of the scenario library's database (postgresql+psycopg://...); none = SQLite.
     database_url: str = ""
     #: The SQLite file of the scenario library when no database_url is set (relative: to the working dir).
-    library_path: str = "shockpath-library.sqlite3"
+    library_path: str = DEFAULT_LIBRARY_PATH
     #: Records each owner may keep in the scenario library.
     library_max_records: int = limits.MAX_RECORDS_PER_OWNER
     #: Revisions each scenario record may reach.

@@ -11,7 +11,7 @@ import os
 import sys
 
 from .migrate import current_revision, head_revision, upgrade
-from .store import _make_engine, database_url
+from .store import DEFAULT_LIBRARY_PATH, _make_engine, database_url
 
 
 def main(argv: list[str]) -> int:
@@ -24,7 +24,7 @@ def main(argv: list[str]) -> int:
         return 0
     url = database_url(
         os.environ.get("SHOCKPATH_DATABASE_URL", ""),
-        os.environ.get("SHOCKPATH_LIBRARY_PATH", "shockpath-library.sqlite3"),
+        os.environ.get("SHOCKPATH_LIBRARY_PATH", DEFAULT_LIBRARY_PATH),
     )
     engine = _make_engine(url)
     try:

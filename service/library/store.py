@@ -46,10 +46,12 @@ from .migrate import upgrade
 from .models import Owner, Record, Revision, Tag
 from .records import Written
 
-__all__ = ["Library", "database_url"]
+__all__ = ["DEFAULT_LIBRARY_PATH", "Library", "database_url"]
 
 log = logging.getLogger("shockpath.library")
 
+#: The SQLite file of an install without a database URL (relative: to the working directory).
+DEFAULT_LIBRARY_PATH = "shockpath-library.sqlite3"
 #: Seconds between attempts to reach (and migrate) a database that was down.
 RETRY_SECONDS = 2.0
 _UNREACHABLE = (OperationalError, InterfaceError, PoolTimeout, OSError)
