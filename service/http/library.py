@@ -52,6 +52,16 @@ _ID = re.compile(r"^[A-Za-z0-9_-]{1,64}$")
 _ENCODINGS = ("", ":gzip")
 
 
+def _answers_record(description: str, *headers: str) -> dict:
+    """The documented success of an operation that answers one record."""
+    return {
+        "description": description,
+        "content": {"application/json": "ScenarioRecord"},
+        "headers": [*headers, "ETag"],
+        "examples": {"application/json": RECORD_EXAMPLE},
+    }
+
+
 def _library() -> Library:
     return current_app.extensions["shockpath.library"]
 
@@ -114,12 +124,7 @@ def _matches() -> Callable[[str], bool]:
     request="ScenarioWrite",
     request_examples=WRITE_EXAMPLES,
     responses={
-        "201": {
-            "description": "Saved as revision 1; Location is the record.",
-            "content": {"application/json": "ScenarioRecord"},
-            "headers": ["Location", "ETag"],
-            "examples": {"application/json": RECORD_EXAMPLE},
-        },
+        "201": _answers_record("Saved as revision 1; Location is the record.", "Location"),
         **problem_responses("400", "406", "413", "415", "422"),
         "503": PROBLEMS["503"],
     },
@@ -181,12 +186,7 @@ def list_scenarios() -> Response:
     operationId="getScenario",
     summary="One record: its latest revision, or revision n with ?revision=n",
     responses={
-        "200": {
-            "description": "The record with its request.",
-            "content": {"application/json": "ScenarioRecord"},
-            "headers": ["ETag"],
-            "examples": {"application/json": RECORD_EXAMPLE},
-        },
+        "200": _answers_record("The record with its request."),
         **NOT_MODIFIED,
         "404": PROBLEMS["404"],
         **problem_responses("406", "422"),
@@ -211,12 +211,7 @@ def get_scenario(id: str) -> Response:
     request="ScenarioWrite",
     request_examples=WRITE_EXAMPLES,
     responses={
-        "200": {
-            "description": "The new revision.",
-            "content": {"application/json": "ScenarioRecord"},
-            "headers": ["ETag"],
-            "examples": {"application/json": RECORD_EXAMPLE},
-        },
+        "200": _answers_record("The new revision."),
         "403": PROBLEMS["403"],
         "404": PROBLEMS["404"],
         "412": PROBLEMS["412"],

@@ -10,7 +10,6 @@ import http.client
 import json
 import os
 import signal
-import socket
 import subprocess
 import sys
 import threading
@@ -19,18 +18,13 @@ from pathlib import Path
 
 import pytest
 
+from deploy.loadtest import free_port, workers
 from service.examples import example_request
 from service.library import Library, database_url
 
 ROOT = Path(__file__).resolve().parents[2]
 REQUEST = dict(copy.deepcopy(example_request("quillbrook-rent-freeze")), horizon=3)
 pytestmark = pytest.mark.slow
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
 
 def _call(port, method, path, body=None, headers=None, timeout=30):
@@ -46,12 +40,12 @@ def _call(port, method, path, body=None, headers=None, timeout=30):
 
 
 @contextlib.contextmanager
-def gunicorn(database: dict[str, str], tmp_path: Path, workers: int = 2, **settings: str):
-    port = _free_port()
+def gunicorn(database: dict[str, str], tmp_path: Path, processes: int = 2, **settings: str):
+    port = free_port()
     env = {
         **os.environ,
         "SHOCKPATH_BIND": f"127.0.0.1:{port}",
-        "SHOCKPATH_WORKERS": str(workers),
+        "SHOCKPATH_WORKERS": str(processes),
         "PROMETHEUS_MULTIPROC_DIR": str(tmp_path / f"metrics-{port}"),
         **{f"SHOCKPATH_{k.upper()}": v for k, v in {**database, **settings}.items()},
     }
@@ -96,18 +90,13 @@ def _wait_ready(port, process, log=None, seconds=60):
     pytest.fail("gunicorn did not become ready: " + text)
 
 
-def _workers(master: subprocess.Popen) -> list[int]:
-    children = Path(f"/proc/{master.pid}/task/{master.pid}/children").read_text().split()
-    return [int(pid) for pid in children]
-
-
 def _library(database: dict[str, str]) -> Library:
     url = database_url(database.get("database_url", ""), database.get("library_path", ""))
     return Library(url, max_records=10**6, max_revisions=10**6)
 
 
 def test_two_workers_writing_one_record_lose_no_update(database, tmp_path):
-    with gunicorn(database, tmp_path, workers=2, library_write_delay_ms="30") as (port, _):
+    with gunicorn(database, tmp_path, processes=2, library_write_delay_ms="30") as (port, _):
         status, _, record = _call(port, "POST", "/v1/scenarios", {"name": "shared", "request": REQUEST})
         assert status == 201
         path = f"/v1/scenarios/{record['id']}"
@@ -142,7 +131,7 @@ def test_two_workers_writing_one_record_lose_no_update(database, tmp_path):
 
 
 def test_two_workers_creating_at_once_keep_the_per_key_limit(database, tmp_path):
-    with gunicorn(database, tmp_path, workers=2, library_max_records="5", library_write_delay_ms="20") as (
+    with gunicorn(database, tmp_path, processes=2, library_max_records="5", library_write_delay_ms="20") as (
         port,
         _,
     ):
@@ -175,7 +164,7 @@ def _killed_mid_write(port, master, method, path, body, headers=None):
         except (OSError, http.client.HTTPException) as error:
             outcome.append(error)
 
-    before = set(_workers(master))
+    before = set(workers(master.pid))
     thread = threading.Thread(target=send)
     thread.start()
     time.sleep(1.0)  # the write has begun and waits 3 s before it commits
@@ -184,13 +173,13 @@ def _killed_mid_write(port, master, method, path, body, headers=None):
     thread.join()
     assert isinstance(outcome[0], Exception), outcome  # the caller was not told it was saved
     deadline = time.monotonic() + 30
-    while not (set(_workers(master)) - before) and time.monotonic() < deadline:
+    while not (set(workers(master.pid)) - before) and time.monotonic() < deadline:
         time.sleep(0.1)
     _wait_ready(port, master)
 
 
 def test_a_worker_killed_mid_write_loses_nothing_and_leaves_nothing_half_written(database, tmp_path):
-    with gunicorn(database, tmp_path, workers=1, library_write_delay_ms="3000") as (port, master):
+    with gunicorn(database, tmp_path, processes=1, library_write_delay_ms="3000") as (port, master):
         status, headers, record = _call(
             port, "POST", "/v1/scenarios", {"name": "kept", "tags": ["a", "b"], "request": REQUEST}
         )
@@ -220,7 +209,7 @@ def test_a_worker_killed_mid_write_loses_nothing_and_leaves_nothing_half_written
 
 
 def test_a_restart_keeps_everything(database, tmp_path):
-    with gunicorn(database, tmp_path, workers=2) as (port, _):
+    with gunicorn(database, tmp_path, processes=2) as (port, _):
         saved = []
         for i in range(3):
             status, _headers, record = _call(
@@ -236,7 +225,7 @@ def test_a_restart_keeps_everything(database, tmp_path):
         before = _call(port, "GET", "/v1/scenarios")[2]
         first = _call(port, "GET", saved[0]["links"]["self"] + "?revision=1")[2]
         answer = _call(port, "GET", saved[1]["links"]["compute"])[2]
-    with gunicorn(database, tmp_path, workers=2) as (port, _):
+    with gunicorn(database, tmp_path, processes=2) as (port, _):
         assert _call(port, "GET", "/v1/scenarios")[2] == before
         assert _call(port, "GET", saved[0]["links"]["self"])[2] == second
         assert _call(port, "GET", saved[0]["links"]["self"] + "?revision=1")[2] == first
