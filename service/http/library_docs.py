@@ -6,6 +6,7 @@ from __future__ import annotations
 from typing import Any
 
 from .. import limits
+from ..engine import MODEL_VERSION
 from ..examples import example_request
 
 __all__ = [
@@ -171,7 +172,7 @@ def _record() -> dict[str, Any]:
         "mine": True,
         "kind": "paths",
         "scenario_id": "8c1f0d2b3a4e5f60718293a4b5c6d7e8f90a1b2c3d4e5f60718293a4b5c6d7e8",
-        "model_version": "see /healthz",
+        "model_version": MODEL_VERSION,
         "created_at": "2026-03-02T09:15:00.000000Z",
         "revised_at": "2026-03-02T09:15:00.000000Z",
         "links": {
