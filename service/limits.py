@@ -62,6 +62,21 @@ MAX_SEED = 2**63 - 1
 MAX_CHART_LABEL_LENGTH = 40
 MAX_CHART_TITLE_LENGTH = 120
 
+# --- the scenario library -------------------------------------------------------------------
+
+MAX_SCENARIO_NAME_LENGTH = 200
+MAX_SCENARIO_NOTES_LENGTH = 10_000
+MAX_SCENARIO_TAGS = 20
+MAX_SCENARIO_TAG_LENGTH = 40
+#: Records one owner (one API key, or the single owner of a keyless install) may keep; the
+#: setting SHOCKPATH_LIBRARY_MAX_RECORDS may lower or raise it.
+MAX_RECORDS_PER_OWNER = 1_000
+#: Revisions one record may reach (SHOCKPATH_LIBRARY_MAX_REVISIONS).
+MAX_REVISIONS_PER_RECORD = 200
+#: Records on one page of GET /v1/scenarios.
+MAX_SCENARIO_PAGE = 100
+DEFAULT_SCENARIO_PAGE = 20
+
 # --- the model -----------------------------------------------------------------------------
 
 #: Largest fractional change a shifter may reach once its shocks are summed (a million-fold

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import copy
 import os
+import tempfile
 
 import pytest
 from hypothesis import HealthCheck, settings
@@ -12,6 +13,12 @@ from service import create_app
 from service.examples import example_request
 
 from .openapi_check import ResponseChecker
+
+# Apps built by the tests (and gunicorn started by them) keep the scenario library in a
+# scratch file, never in the checkout; tests of the library pass their own database.
+os.environ.setdefault(
+    "SHOCKPATH_LIBRARY_PATH", os.path.join(tempfile.mkdtemp(prefix="shockpath-tests-"), "library.sqlite3")
+)
 
 settings.register_profile(
     "ci", max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow]

@@ -57,7 +57,8 @@ ALLOWED = {
     "limits": set(),
     "engine": {"numba", "numpy", "scipy", "limits"},
     "schemas": {"engine", "limits", "marshmallow"},
-    "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib", "openpyxl"},
+    "python_api": {"engine", "schemas", "limits", "marshmallow", "numpy", "orjson", "matplotlib", "openpyxl"}
+    | {"sqlalchemy", "alembic"},
     "http": {"python_api", "engine", "schemas", "limits", "flask", "werkzeug", "orjson", "apispec", "numpy"}
     | {"prometheus_client", "marshmallow", "flask_cors", "flask_compress"},
 }

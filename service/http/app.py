@@ -14,6 +14,7 @@ from typing import Any
 from flask import Flask, g, request
 
 from ..engine import warm_up
+from ..library import Library, database_url
 from . import benchmark, metrics
 from .auth import require_key
 from .cache import AnswerCache
@@ -40,6 +41,7 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.config["TESTING"] = bool(config and config.get("TESTING"))
     app.extensions["shockpath.settings"] = settings
     app.extensions["shockpath.cache"] = AnswerCache(settings.cache_bytes)
+    app.extensions["shockpath.library"] = _library(settings)
     app.extensions["shockpath.openapi"] = build_document()
     app.extensions["shockpath.openapi_tag"] = request_tag(
         "/openapi.json", app.extensions["shockpath.openapi"], "json"
@@ -57,6 +59,18 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     log.info("settings %s", settings.as_log_dict())
     log.info("engine kernels ready in %.2f s", compiled_in)
     return app
+
+
+def _library(settings: Settings) -> Library:
+    """The scenario library, migrated now; a database that is down makes only it answer 503."""
+    library = Library(
+        database_url(settings.database_url, settings.library_path),
+        settings.library_max_records,
+        settings.library_max_revisions,
+        settings.library_write_delay_ms / 1000,
+    )
+    library.start()
+    return library
 
 
 def _register_hooks(app: Flask, settings: Settings, log: logging.Logger) -> None:

@@ -17,7 +17,7 @@ from ..problems import ProblemError, problem
 if TYPE_CHECKING:
     from .settings import Settings
 
-__all__ = ["key_accepted", "needs_key", "require_key"]
+__all__ = ["accepted_key", "key_accepted", "needs_key", "require_key"]
 
 
 def require_key(settings: Settings) -> None:
@@ -36,11 +36,19 @@ def needs_key(path: str, metrics_require_key: bool) -> bool:
 
 
 def key_accepted(header: str | None, keys: tuple[str, ...]) -> bool:
+    return accepted_key(header, keys) is not None
+
+
+def accepted_key(header: str | None, keys: tuple[str, ...]) -> str | None:
+    """The configured key the header presents, or None (every key compared, in constant time).
+
+    The scenario library keeps only a hash of it as the owner of what the key saves."""
     scheme, _, token = (header or "").partition(" ")
     if scheme.lower() != "bearer" or not token.strip():
-        return False
+        return None
     presented = token.strip().encode()
-    accepted = False
+    accepted = None
     for key in keys:
-        accepted |= hmac.compare_digest(presented, key.encode())
+        if hmac.compare_digest(presented, key.encode()):
+            accepted = key
     return accepted

@@ -16,8 +16,18 @@ from .settings import Settings
 
 __all__ = ["ALLOWED_HEADERS", "EXPOSED_HEADERS", "enable_cors"]
 
-ALLOWED_HEADERS = ("Content-Type", "Accept", "Authorization", "If-None-Match", "X-Request-ID")
-EXPOSED_HEADERS = ("ETag", "Content-Disposition", "X-Request-ID", "Content-Encoding")
+ALLOWED_HEADERS = ("Content-Type", "Accept", "Authorization", "If-None-Match", "If-Match", "X-Request-ID")
+EXPOSED_HEADERS = (
+    "ETag",
+    "Content-Disposition",
+    "X-Request-ID",
+    "Content-Encoding",
+    # the scenario library's (service/http/library.py)
+    "Location",
+    "Retry-After",
+    "Scenario-Model-Version",
+    "Model-Version-Changed",
+)
 #: Seconds a browser may keep a preflight's answer.
 PREFLIGHT_MAX_AGE = 600
 
@@ -29,7 +39,7 @@ def enable_cors(app: Flask, settings: Settings) -> None:
     origins = "*" if "*" in settings.cors_origins else list(settings.cors_origins)
     options = {
         "origins": origins,
-        "methods": ["GET", "POST", "OPTIONS"],
+        "methods": ["GET", "POST", "PUT", "DELETE", "OPTIONS"],
         "allow_headers": list(ALLOWED_HEADERS),
         "expose_headers": list(EXPOSED_HEADERS),
         "max_age": PREFLIGHT_MAX_AGE,

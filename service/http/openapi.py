@@ -22,6 +22,7 @@ from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
 from ..schemas.briefing import BriefingRequestSchema
 from ..schemas.charts import ChartRequestSchema
 from ..schemas.fields import openapi_attributes
+from ..schemas.library import ScenarioListSchema, ScenarioRecordSchema, ScenarioWriteSchema
 from ..schemas.paths import BatchRequestSchema, PathsRequestSchema
 from ..schemas.responses import (
     BandsResponseSchema,
@@ -80,6 +81,9 @@ _SCHEMAS = {
     "BriefingRequest": BriefingRequestSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
+    "ScenarioWrite": ScenarioWriteSchema,
+    "ScenarioRecord": ScenarioRecordSchema,
+    "ScenarioList": ScenarioListSchema,
 }
 
 _HEADERS = {
@@ -95,6 +99,16 @@ _HEADERS = {
     "Content-Disposition": {
         "description": 'CSV answers: attachment; filename="<endpoint>-<tag prefix>.csv".',
         "schema": {"type": "string"},
+    },
+    "Location": {"description": "The new record's URL.", "schema": {"type": "string"}},
+    "Scenario-Model-Version": {
+        "description": "The model version the scenario was saved under.",
+        "schema": {"type": "string"},
+    },
+    "Model-Version-Changed": {
+        "description": "true when the running model (the body's model_version) differs from the one the "
+        "scenario was saved under: its numbers may differ from the ones seen when it was saved.",
+        "schema": {"type": "string", "enum": ["true", "false"]},
     },
 }
 
@@ -187,7 +201,7 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
             document.setdefault("security", [])
         return document
     problems = answers.get("problems", {})
-    mine = answers.get(op["operationId"], {})
+    mine = answers.get(op.get("answers_of", op["operationId"]), {})
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
     params = [p for p in op.get("parameters", []) + op.get("path_parameters", []) if p in _PARAMETERS]
     if params:
@@ -196,20 +210,28 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
         out["requestBody"] = {
             "required": True,
             "content": {
-                "application/json": _with_examples(_content(op["request"]), bodies.get(op["operationId"]))
+                "application/json": _with_examples(
+                    _content(op["request"]), bodies.get(op["operationId"]) or op.get("request_examples")
+                )
             },
         }
     for status, spec in op["responses"].items():
         response: dict[str, Any] = {"description": spec["description"]}
         if spec.get("problem"):
-            example = mine.get(status, {}).get("application/problem+json") or problems.get(status)
+            example = (
+                mine.get(status, {}).get("application/problem+json")
+                or problems.get(status)
+                or spec.get("example")
+            )
             response["content"] = {
                 "application/problem+json": _with_examples(_content("Problem"), example and {status: example})
             }
         elif "content" in spec:
             response["content"] = {
                 mime: _with_examples(
-                    _content(kind), (e := mine.get(status, {}).get(mime)) and {_example_name(e): e}
+                    _content(kind),
+                    (e := mine.get(status, {}).get(mime) or spec.get("examples", {}).get(mime))
+                    and {_example_name(e): e},
                 )
                 for mime, kind in spec["content"].items()
             }

@@ -15,7 +15,12 @@ __all__ = ["blueprint"]
 
 blueprint = DocumentedBlueprint("page", __name__)
 
-_PAGE_FILES = {"style.css": "text/css", "app.js": "text/javascript"}
+_PAGE_FILES = {
+    "style.css": "text/css",
+    "app.js": "text/javascript",
+    "library.js": "text/javascript",
+    "library.css": "text/css",
+}
 #: Made from service.labels, the one table of names and units (not a file in web/).
 _LABELS = "labels.json"
 

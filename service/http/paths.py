@@ -22,7 +22,7 @@ from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
 from .negotiation import CSV, TABULAR, XLSX, negotiate
 
-__all__ = ["blueprint"]
+__all__ = ["blueprint", "paths_answer"]
 
 blueprint = DocumentedBlueprint("paths", __name__)
 
@@ -48,7 +48,13 @@ _BATCH = BatchRequestSchema()
     parameters=["If-None-Match", "layout"],
 )
 def post_paths() -> Response:
-    return _paths(negotiate(TABULAR))
+    return _paths(negotiate(TABULAR), read_json())
+
+
+def paths_answer(raw: object) -> Response:
+    """The answer of /v1/paths to a request body: negotiation, ETag, cache and formats (also
+    what GET /v1/scenarios/{id}/paths answers for a stored request)."""
+    return _paths(negotiate(TABULAR), raw)
 
 
 @blueprint.operation(
@@ -70,14 +76,13 @@ def post_paths() -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_paths_csv() -> Response:
-    return _paths(negotiate((CSV,)))
+    return _paths(negotiate((CSV,)), read_json())
 
 
-def _paths(chosen: str) -> Response:
+def _paths(chosen: str, raw: object) -> Response:
     """The answer in the negotiated format: JSON, CSV (long, wide or summary) or a workbook."""
     as_csv, as_xlsx = chosen == CSV, chosen == XLSX
     layout = csv_layout()
-    raw = read_json()
     scenario = load_scenario(raw)
     output = requested_output(raw)
     sid = scenario_id(scenario)

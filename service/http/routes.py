@@ -3,7 +3,7 @@ built from their operations (openapi.py) and the app registers them (app.py)."""
 
 from __future__ import annotations
 
-from . import briefing, charts, examples, health, page, paths, uncertainty
+from . import briefing, charts, examples, health, library, page, paths, uncertainty
 from .documented import DocumentedBlueprint
 
 __all__ = ["BLUEPRINTS"]
@@ -14,6 +14,7 @@ BLUEPRINTS: tuple[DocumentedBlueprint, ...] = (
     charts.blueprint,
     briefing.blueprint,
     examples.blueprint,
+    library.blueprint,
     page.blueprint,
     health.blueprint,
 )

@@ -15,8 +15,9 @@ from pathlib import Path
 from typing import Any
 
 from .. import limits
+from ..library.store import DEFAULT_LIBRARY_PATH
 
-__all__ = ["Settings", "SettingsError", "load_settings"]
+__all__ = ["Settings", "SettingsError", "load_settings", "redact_url"]
 
 PREFIX = "SHOCKPATH_"
 
@@ -45,13 +46,32 @@ class Settings:
     benchmark_echo: bool = False
     #: Origins (scheme://host[:port], comma-separated, or *) whose pages may call the API; none = no CORS.
     cors_origins: tuple[str, ...] = ()
+    #: SQLAlchemy URL of the scenario library's database (postgresql+psycopg://...); none = SQLite.
+    database_url: str = ""
+    #: The SQLite file of the scenario library when no database_url is set (relative: to the working dir).
+    library_path: str = DEFAULT_LIBRARY_PATH
+    #: Records each owner may keep in the scenario library.
+    library_max_records: int = limits.MAX_RECORDS_PER_OWNER
+    #: Revisions each scenario record may reach.
+    library_max_revisions: int = limits.MAX_REVISIONS_PER_RECORD
+    #: Fault injection for tests: milliseconds each library write waits before it commits.
+    library_write_delay_ms: int = 0
 
     def as_log_dict(self) -> dict[str, Any]:
         """The effective settings, keys redacted."""
         out = dataclasses.asdict(self)
         out["api_keys"] = f"{len(self.api_keys)} configured"
+        out["database_url"] = redact_url(self.database_url)
         return out
 
+
+def redact_url(url: str) -> str:
+    """A database URL with its password replaced by ***, for logs."""
+    return re.sub(r"(://[^:/@]*:)[^@]*@", r"\1***@", url)
+
+
+#: Whole-number settings for which 0 means "none".
+_ZERO_ALLOWED = {"cache_bytes", "library_write_delay_ms"}
 
 _LEVELS = {"CRITICAL", "ERROR", "WARNING", "INFO", "DEBUG"}
 
@@ -78,7 +98,7 @@ def _parse(name: str, raw: Any, default: Any) -> Any:
             value = int(raw)
         except (TypeError, ValueError):
             raise SettingsError(f"{_variable(name)} must be a whole number, not {raw!r}") from None
-        if value < 0 or (value == 0 and name != "cache_bytes"):
+        if value < 0 or (value == 0 and name not in _ZERO_ALLOWED):
             raise SettingsError(f"{_variable(name)} must be positive, not {value}")
         return value
     if isinstance(default, tuple):
@@ -123,6 +143,11 @@ def load_settings(
     if bad:
         raise SettingsError(
             f"{_variable('cors_origins')}: {bad[0]!r} is not an origin (scheme://host[:port], no path) or *"
+        )
+    url = values["database_url"]
+    if url and not re.match(r"^(postgresql(\+psycopg)?|sqlite)://", url):
+        raise SettingsError(
+            f"{_variable('database_url')} must be a postgresql+psycopg://... or sqlite:///... URL"
         )
     short = [k for k in values["api_keys"] if len(k) < 16]
     if short:

@@ -18,7 +18,7 @@ from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
 
-__all__ = ["blueprint"]
+__all__ = ["bands_answer", "blueprint"]
 
 blueprint = DocumentedBlueprint("uncertainty", __name__)
 
@@ -41,7 +41,13 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     parameters=["If-None-Match"],
 )
 def post_bands() -> Response:
-    return _bands(negotiate(TABULAR))
+    return _bands(negotiate(TABULAR), read_json())
+
+
+def bands_answer(raw: object) -> Response:
+    """The answer of /v1/bands to a request body: negotiation, ETag and formats (also what
+    GET /v1/scenarios/{id}/bands answers for a stored request)."""
+    return _bands(negotiate(TABULAR), raw)
 
 
 @blueprint.operation(
@@ -62,12 +68,12 @@ def post_bands() -> Response:
     parameters=["If-None-Match"],
 )
 def post_bands_csv() -> Response:
-    return _bands(negotiate((CSV,)))
+    return _bands(negotiate((CSV,)), read_json())
 
 
-def _bands(chosen: str) -> Response:
+def _bands(chosen: str, raw: object) -> Response:
     as_csv, as_xlsx = chosen == CSV, chosen == XLSX
-    raw = full_output_only(read_json())
+    raw = full_output_only(raw)
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:

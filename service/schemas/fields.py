@@ -208,6 +208,9 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
     alternatives = getattr(field, "openapi_alternatives", None)
     if alternatives is not None:
         return {"oneOf": [self.field2property(f) for f in alternatives()]}
+    any_of = getattr(field, "openapi_any_of", None)
+    if any_of is not None:  # a value that may match several schemas at once
+        return {"anyOf": [self.resolve_nested_schema(schema) for schema in any_of]}
     if isinstance(field, Either):
         return {"oneOf": [self.resolve_nested_schema(schema) for schema in field.schemas]}
     if isinstance(field, AnyObject):

@@ -42,7 +42,27 @@ def test_manifests_pass_yamllint():
 
 def test_every_kind_an_operator_needs_is_there():
     kinds = {yaml.safe_load(p.read_text())["kind"] for p in MANIFESTS}
-    assert kinds == {"ConfigMap", "Deployment", "Service", "HorizontalPodAutoscaler", "PodDisruptionBudget"}
+    assert kinds == {
+        "ConfigMap",
+        "Deployment",
+        "Service",
+        "HorizontalPodAutoscaler",
+        "PodDisruptionBudget",
+        "Secret",
+    }
+
+
+def test_the_library_database_url_comes_from_the_secret():
+    deployment = yaml.safe_load((ROOT / "deploy" / "kubernetes" / "deployment.yaml").read_text())
+    secret = yaml.safe_load((ROOT / "deploy" / "kubernetes" / "secret.yaml").read_text())
+    (container,) = deployment["spec"]["template"]["spec"]["containers"]
+    (variable,) = [e for e in container["env"] if e["name"] == "SHOCKPATH_DATABASE_URL"]
+    reference = variable["valueFrom"]["secretKeyRef"]
+    assert reference["name"] == secret["metadata"]["name"] and reference["key"] in secret["stringData"]
+    assert not reference.get("optional", False)
+    assert secret["stringData"]["url"].startswith("postgresql://")
+    config = yaml.safe_load((ROOT / "deploy" / "kubernetes" / "configmap.yaml").read_text())["data"]
+    assert "SHOCKPATH_DATABASE_URL" not in config  # a password never sits in a ConfigMap
 
 
 def test_the_deployment_probes_and_hardening():

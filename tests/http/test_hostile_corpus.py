@@ -306,3 +306,128 @@ def test_the_largest_batch_allowed_is_answered(client):
     results = orjson.loads(response.data)["results"]
     assert len(results) == limits.MAX_BATCH_SCENARIOS
     assert all(r["periods"] == results[0]["periods"] for r in results)
+
+
+# --- the scenario library: the same corpus as a saved scenario's request, and its own -------
+
+
+def _as_scenario(body):
+    """A corpus body as the `request` of POST /v1/scenarios (None when it is not JSON)."""
+    try:
+        request = json.loads(body)
+    except (ValueError, UnicodeDecodeError, RecursionError):
+        return None
+    return json.dumps({"name": "hostile", "request": request})
+
+
+def _under_request(status, pointer):
+    if status == 200:
+        return 201, None
+    if status == 422:
+        return 422, "/request" + (pointer or "")
+    return status, pointer
+
+
+@pytest.mark.parametrize(
+    ("body", "content_type", "status", "pointer"), [c[1:] for c in CASES], ids=[c[0] for c in CASES]
+)
+def test_library_corpus(client, body, content_type, status, pointer):
+    """Every /v1/paths case saved as a scenario: the status /v1/paths gives, the pointer under
+    /request; a body that is not JSON at all is refused as /v1/paths refuses it."""
+    wrapped = _as_scenario(body) if content_type == JSON else None
+    if wrapped is None:
+        _check(client.post("/v1/scenarios", data=body, content_type=content_type), status, pointer)
+    else:
+        expected, where = _under_request(status, pointer)
+        _check(client.post("/v1/scenarios", data=wrapped, content_type=JSON), expected, where)
+
+
+@pytest.mark.parametrize(
+    ("body", "status", "pointer"), [c[1:] for c in BANDS_CASES], ids=[c[0] for c in BANDS_CASES]
+)
+def test_library_bands_corpus(client, body, status, pointer):
+    expected, where = _under_request(status, pointer)
+    _check(client.post("/v1/scenarios", data=_as_scenario(body), content_type=JSON), expected, where)
+
+
+def _scenario(**fields):
+    return json.dumps({"name": "n", "request": BASE, **fields})
+
+
+LIBRARY_CASES = [
+    ("not-an-object", "[]", 422, ""),
+    ("no-name", json.dumps({"request": BASE}), 422, "/name"),
+    ("no-request", json.dumps({"name": "n"}), 422, "/request"),
+    ("request-string", _scenario(request="POST /v1/paths"), 422, "/request"),
+    ("name-object", _scenario(name={"$gt": ""}), 422, "/name"),
+    ("name-sql", _scenario(name="x'); DROP TABLE scenario_records; --"), 201, None),
+    ("name-nul", _scenario(name="a\u0000b"), 422, "/name"),
+    ("name-rtl-override", _scenario(name="abc\u202edef"), 422, "/name"),
+    ("name-too-long", _scenario(name="n" * (limits.MAX_SCENARIO_NAME_LENGTH + 1)), 422, "/name"),
+    ("name-at-limit", _scenario(name="n" * limits.MAX_SCENARIO_NAME_LENGTH), 201, None),
+    ("notes-too-long", _scenario(notes="x" * (limits.MAX_SCENARIO_NOTES_LENGTH + 1)), 422, "/notes"),
+    ("notes-escape", _scenario(notes="\u001b[31mred"), 422, "/notes"),
+    ("tags-object", _scenario(tags={"a": 1}), 422, "/tags"),
+    ("tag-number", _scenario(tags=["ok", 7]), 422, "/tags/1"),
+    ("tag-empty", _scenario(tags=[" "]), 422, "/tags/0"),
+    ("tags-too-many", _scenario(tags=[f"t{i}" for i in range(limits.MAX_SCENARIO_TAGS + 1)]), 422, "/tags"),
+    ("tags-at-limit", _scenario(tags=[f"t{i}" for i in range(limits.MAX_SCENARIO_TAGS)]), 201, None),
+    ("shared-number", _scenario(shared=1), 422, "/shared"),
+    ("id-given", _scenario(id="chosen-by-me"), 422, "/id"),
+    ("revision-given", _scenario(revision=7), 422, "/revision"),
+    ("owner-given", _scenario(owner="someone-else"), 422, "/owner"),
+]
+
+
+@pytest.mark.parametrize(
+    ("body", "status", "pointer"), [c[1:] for c in LIBRARY_CASES], ids=[c[0] for c in LIBRARY_CASES]
+)
+def test_library_write_corpus(client, body, status, pointer):
+    _check(client.post("/v1/scenarios", data=body, content_type=JSON), status, pointer)
+
+
+HOSTILE_URLS = [
+    ("/v1/scenarios/%00", 404),
+    ("/v1/scenarios/..%2F..%2Fetc%2Fpasswd", 404),
+    ("/v1/scenarios/' OR '1'='1", 404),
+    ("/v1/scenarios/" + "a" * 5000, 404),
+    ("/v1/scenarios/%E2%80%AE", 404),
+    ("/v1/scenarios/abc/paths?revision=-1", 422),
+    ("/v1/scenarios?name=%00", 422),
+    ("/v1/scenarios?name=%25%25%25", 200),
+    ("/v1/scenarios?name=' OR 1=1 --", 200),
+    ("/v1/scenarios?tag=%00", 422),
+    ("/v1/scenarios?limit=1e3", 422),
+    ("/v1/scenarios?limit=-1", 422),
+    ("/v1/scenarios?limit=99999999999999999999999", 422),
+    ("/v1/scenarios?cursor=" + "A" * 4000, 422),
+    ("/v1/scenarios?cursor=cy0x", 422),  # base64 of "s-1": ours in form, not in value
+    ("/v1/scenarios?cursor=%FF", 422),
+]
+
+
+@pytest.mark.parametrize(("url", "status"), HOSTILE_URLS, ids=[u for u, _ in HOSTILE_URLS])
+def test_library_hostile_urls(client, url, status):
+    _check(client.get(url), status, None)
+
+
+def test_library_hostile_revision_numbers(client):
+    saved = client.post("/v1/scenarios", data=_scenario(), content_type=JSON).get_json()
+    for revision, status in (
+        ("-1", 422),
+        ("0", 422),
+        ("1.0", 422),
+        ("99999999999999999999", 422),
+        ("2", 404),
+    ):
+        _check(client.get(f"/v1/scenarios/{saved['id']}?revision={revision}"), status, None)
+    # An unreadable If-Match is no If-Match (428); a weak one never matches (412).
+    for tag, status in (
+        ('"' + saved["id"] + ".1", 428),
+        (f'W/"{saved["id"]}.1"', 412),
+        (f'"{saved["id"]}.1"', 200),
+    ):
+        response = client.put(
+            f"/v1/scenarios/{saved['id']}", data=_scenario(), content_type=JSON, headers={"If-Match": tag}
+        )
+        _check(response, status, None)

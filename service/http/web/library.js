@@ -1,0 +1,222 @@
+// The scenario library on the page: save the request in the form, find and open saved ones,
+// and a link that opens a scenario. Talks only to /v1/scenarios of this service. Reads and
+// writes the request through the page's "Whole request (JSON)" textarea (#request-json):
+// setting it and sending a "change" event redraws the form.
+"use strict";
+
+(() => {
+  const el = (tag, attrs = {}, ...children) => {
+    const node = document.createElement(tag);
+    for (const [k, v] of Object.entries(attrs)) {
+      if (k === "text") node.textContent = v;
+      else if (v === true) node.setAttribute(k, "");
+      else if (v !== false && v != null) node.setAttribute(k, v);
+    }
+    node.append(...children);
+    return node;
+  };
+  // pending: a linked scenario not opened yet (the service asked for a key first).
+  const lib = { current: null, cursor: null, query: "", pending: null };
+  const KEY_STORE = "shockpath-library-key";
+
+  function field(id, label, input) {
+    input.id = id;
+    return el("div", { class: "field" }, el("label", { for: id, text: label }), input);
+  }
+
+  function build(root) {
+    root.append(
+      el("h2", { id: "library-heading", text: "Scenario library" }),
+      el("p", { class: "hint", text: "Save the request above under a name, open a saved one, or copy a link that opens it. "
+        + "A scenario is private to the key that saved it unless you share it: then every key of this service may read it, "
+        + "and only yours may change it." }),
+      el("div", { class: "grid" },
+        field("lib-key", "API key (only if this service asks for one)", el("input", { type: "password", autocomplete: "off" }))),
+      el("fieldset", {},
+        el("legend", { text: "Save" }),
+        el("div", { class: "grid" },
+          field("lib-name", "Name", el("input", { maxlength: "200" })),
+          field("lib-tags", "Tags (comma-separated)", el("input", {})),
+          el("div", { class: "field check" },
+            el("input", { type: "checkbox", id: "lib-shared" }),
+            el("label", { for: "lib-shared", text: "Shared: every key may read it" }))),
+        field("lib-notes", "Notes", el("textarea", { rows: "3" })),
+        el("div", { class: "row" },
+          el("button", { type: "button", id: "lib-save", text: "Save as a new scenario" }),
+          el("button", { type: "button", id: "lib-revise", text: "Save changes as a new revision", hidden: true }))),
+      el("p", { id: "lib-status", role: "status" }),
+      el("p", { id: "lib-share", hidden: true },
+        el("label", { for: "lib-link", text: "Link that opens this scenario " }),
+        el("input", { id: "lib-link", readonly: true, size: "60" }),
+        " ",
+        el("button", { type: "button", id: "lib-copy", text: "Copy link" })),
+      el("fieldset", {},
+        el("legend", { text: "Open" }),
+        el("div", { class: "row" },
+          field("lib-search-name", "Name contains", el("input", {})),
+          field("lib-search-tag", "Tag", el("input", {})),
+          el("button", { type: "button", id: "lib-search", text: "Search the library" })),
+        el("ul", { id: "lib-results", class: "lib-results" }),
+        el("button", { type: "button", id: "lib-more", text: "More", hidden: true })),
+    );
+  }
+
+  const $ = (id) => document.getElementById(id);
+  const say = (text) => { $("lib-status").textContent = text; };
+
+  function headers(extra = {}) {
+    const key = $("lib-key").value.trim();
+    return key ? { ...extra, Authorization: `Bearer ${key}` } : extra;
+  }
+
+  async function call(method, path, body, extra = {}) {
+    const init = { method, headers: headers(body ? { "Content-Type": "application/json", ...extra } : extra) };
+    if (body) init.body = JSON.stringify(body);
+    const response = await fetch(path, init);
+    const text = await response.text();
+    return { response, body: text ? JSON.parse(text) : null };
+  }
+
+  function explain(response, body) {
+    if (response.status === 401) return "This service needs an API key: enter yours above.";
+    if (response.status === 404) return "No such scenario, or not one your key may see.";
+    if (response.status === 503) return "The library cannot be reached just now; running scenarios still works. Try again shortly.";
+    if (body && body.errors) return `Not saved: ${body.errors.map((e) => `${e.pointer || "/"}: ${e.message}`).join("; ")}`;
+    return (body && body.detail) || `The service answered ${response.status}.`;
+  }
+
+  function currentRequest() {
+    return JSON.parse($("request-json").value);
+  }
+
+  function setRequest(request) {
+    const area = $("request-json");
+    area.value = JSON.stringify(request, null, 2);
+    area.dispatchEvent(new Event("change"));
+  }
+
+  function writeBody() {
+    return {
+      name: $("lib-name").value,
+      notes: $("lib-notes").value,
+      tags: $("lib-tags").value.split(",").map((t) => t.trim()).filter(Boolean),
+      shared: $("lib-shared").checked,
+      request: currentRequest(),
+    };
+  }
+
+  function show(record) {
+    lib.current = record;
+    $("lib-name").value = record.name;
+    $("lib-notes").value = record.notes;
+    $("lib-tags").value = record.tags.join(", ");
+    $("lib-shared").checked = record.shared;
+    $("lib-revise").hidden = !record.mine;
+    const link = new URL(record.links.page, window.location.href).href;
+    $("lib-link").value = link;
+    $("lib-share").hidden = false;
+    $("library").dataset.scenario = record.id;
+    $("library").dataset.revision = String(record.revision);
+  }
+
+  async function save(revise) {
+    let body;
+    try {
+      body = writeBody();
+    } catch (e) {
+      say(`Not saved: the whole request is not valid JSON (${e.message}).`);
+      return;
+    }
+    const target = revise && lib.current ? `/v1/scenarios/${encodeURIComponent(lib.current.id)}` : "/v1/scenarios";
+    const extra = revise && lib.current ? { "If-Match": `"${lib.current.id}.${lib.current.revision}"` } : {};
+    say("Saving...");
+    const { response, body: answer } = await call(revise ? "PUT" : "POST", target, body, extra);
+    if (response.status === 412) {
+      say("Not saved: someone changed this scenario since you opened it. Open it again to see their revision.");
+      return;
+    }
+    if (!response.ok) { say(explain(response, answer)); return; }
+    show(answer);
+    say(`Saved "${answer.name}" as revision ${answer.revision}.`);
+  }
+
+  async function open(id, revision) {
+    const query = revision ? `?revision=${encodeURIComponent(revision)}` : "";
+    const { response, body } = await call("GET", `/v1/scenarios/${encodeURIComponent(id)}${query}`);
+    lib.pending = response.status === 401 ? { id, revision } : null;
+    if (!response.ok) { say(explain(response, body)); return; }
+    setRequest(body.request);
+    show(body);
+    const version = body.model_version;
+    say(`Opened "${body.name}" (revision ${body.revision} of ${body.latest_revision}, saved under model ${version}). `
+      + "Run it to see its paths.");
+  }
+
+  function listItem(record) {
+    const when = new Date(record.revised_at).toLocaleString();
+    const who = record.mine ? (record.shared ? "yours, shared" : "yours") : "shared with you";
+    const button = el("button", { type: "button", text: "Open" });
+    button.addEventListener("click", () => open(record.id));
+    const tags = record.tags.length ? ` [${record.tags.join(", ")}]` : "";
+    return el("li", { "data-id": record.id }, button, " ",
+      el("strong", { text: record.name }), `${tags}: ${record.kind}, revision ${record.revision}, ${who}, ${when}`);
+  }
+
+  async function search(more) {
+    if (!more) {
+      const params = new URLSearchParams();
+      if ($("lib-search-name").value.trim()) params.set("name", $("lib-search-name").value.trim());
+      if ($("lib-search-tag").value.trim()) params.set("tag", $("lib-search-tag").value.trim());
+      lib.query = params.toString();
+      lib.cursor = null;
+      $("lib-results").replaceChildren();
+    }
+    const params = new URLSearchParams(lib.query);
+    if (lib.cursor) params.set("cursor", lib.cursor);
+    const { response, body } = await call("GET", `/v1/scenarios?${params}`);
+    if (!response.ok) { say(explain(response, body)); return; }
+    $("lib-results").append(...body.scenarios.map(listItem));
+    lib.cursor = body.next_cursor;
+    $("lib-more").hidden = !lib.cursor;
+    const count = $("lib-results").children.length;
+    say(count ? `${count} scenario${count === 1 ? "" : "s"} found${lib.cursor ? " (more below)" : ""}.` : "No scenario found.");
+  }
+
+  // The page loads a demo when it starts; a link's scenario opens after that, so that the
+  // demo does not replace it. A page that loads no demo (a service that wants a key for
+  // /v1/examples too) opens it after a few seconds.
+  function afterPageStart(then) {
+    const started = Date.now();
+    const wait = () => {
+      if ($("request-json") && $("request-json").value.trim()) then();
+      else if (Date.now() - started < 5000) setTimeout(wait, 100);
+      else then();
+    };
+    wait();
+  }
+
+  function start() {
+    const root = $("library");
+    if (!root) return;
+    build(root);
+    $("lib-key").value = sessionStorage.getItem(KEY_STORE) || "";
+    $("lib-key").addEventListener("change", () => {
+      sessionStorage.setItem(KEY_STORE, $("lib-key").value.trim());
+      if (lib.pending) open(lib.pending.id, lib.pending.revision);
+    });
+    $("lib-save").addEventListener("click", () => save(false));
+    $("lib-revise").addEventListener("click", () => save(true));
+    $("lib-search").addEventListener("click", () => search(false));
+    $("lib-more").addEventListener("click", () => search(true));
+    $("lib-copy").addEventListener("click", async () => {
+      try { await navigator.clipboard.writeText($("lib-link").value); say("Link copied."); }
+      catch (e) { $("lib-link").select(); say("Select the link and copy it."); }
+    });
+    const params = new URLSearchParams(window.location.search);
+    const id = params.get("scenario");
+    if (id) afterPageStart(() => open(id, params.get("revision")));
+  }
+
+  if (document.readyState === "loading") document.addEventListener("DOMContentLoaded", start);
+  else start();
+})();

@@ -1,0 +1,133 @@
+"""The scenario library on the page, in headless chromium: save a scenario, restart the
+service, open it by its link and run it; with two keys, a private scenario's link opens only
+for its owner until the owner shares it. Screenshots go to tests/artifacts/."""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import threading
+from pathlib import Path
+
+import pytest
+from werkzeug.serving import make_server
+
+from service import create_app
+from service.examples import example_request
+
+ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
+KEY_A = "page-key-of-analyst-a-0123"
+KEY_B = "page-key-of-analyst-b-4567"
+pytestmark = pytest.mark.slow
+
+
+@contextlib.contextmanager
+def serving(port: int = 0, **settings):
+    app = create_app({"band_threads": 1, **settings})
+    server = make_server("127.0.0.1", port, app, threaded=True)
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    try:
+        yield f"http://127.0.0.1:{server.server_port}", server.server_port
+    finally:
+        server.shutdown()
+        server.server_close()
+        app.extensions["shockpath.library"].close()
+
+
+def _page_ready(page, url):
+    page.goto(url)
+    page.wait_for_function("document.querySelector('#request-json').value.trim().length > 0")
+    page.wait_for_selector("#lib-save")
+
+
+def _save(page, name, tags="", shared=False):
+    page.fill("#lib-name", name)
+    page.fill("#lib-tags", tags)
+    if shared != page.is_checked("#lib-shared"):
+        page.click("#lib-shared")
+    page.click("#lib-save")
+    page.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Saved')")
+    return page.input_value("#lib-link")
+
+
+def _request(page):
+    return json.loads(page.input_value("#request-json"))
+
+
+def test_save_restart_and_reopen_by_link(browser, tmp_path):
+    ARTIFACTS.mkdir(exist_ok=True)
+    database = {"library_path": str(tmp_path / "library.sqlite3")}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(**database) as (base, port):
+            _page_ready(page, base + "/")
+            page.select_option("#demo", "tamsin-reach-permits")
+            page.click("#load-demo")
+            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
+            saved_request = _request(page)
+            link = _save(page, "Tamsin Reach permits, council briefing", "briefing, permits")
+            assert link == f"{base}/?scenario={page.get_attribute('#library', 'data-scenario')}"
+            # Found again by a tag and by part of its name.
+            page.fill("#lib-search-tag", "Permits")
+            page.click("#lib-search")
+            page.wait_for_selector("#lib-results li")
+            assert "council briefing" in page.inner_text("#lib-results")
+        with serving(port, **database) as (base_again, _):  # the service restarted, same address
+            assert base_again == base
+            page.goto(link)
+            page.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Opened')")
+            assert _request(page) == saved_request
+            assert page.input_value("#lib-name") == "Tamsin Reach permits, council briefing"
+            assert page.input_value("#lib-tags") == "briefing, permits"
+            page.click("#run")
+            page.wait_for_function(
+                "document.querySelector('#status').textContent.startsWith('Computed')", timeout=60_000
+            )
+            page.screenshot(path=str(ARTIFACTS / "page-library-reopened.png"), full_page=True)
+    finally:
+        page.close()
+
+
+def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
+    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": f"{KEY_A},{KEY_B}"}
+    owner = browser.new_page()
+    colleague = browser.new_context().new_page()
+    try:
+        with serving(**settings) as (base, _):
+            # With keys on, the page's demos need a key too: the owner pastes a request.
+            owner.goto(base + "/")
+            owner.wait_for_selector("#lib-save")
+            owner.fill("#lib-key", KEY_A)
+            owner.dispatch_event("#lib-key", "change")
+            owner.eval_on_selector(
+                "#request-json",
+                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+                json.dumps(example_request("quillbrook-rent-freeze")),
+            )
+            link = _save(owner, "Draft freeze")
+            colleague.goto(link)
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.includes('API key')"
+            )
+            colleague.fill("#lib-key", KEY_B)
+            colleague.dispatch_event("#lib-key", "change")
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.startsWith('No such')"
+            )
+            # The owner shares it (a new revision); the same link now opens for the colleague.
+            owner.click("#lib-shared")
+            owner.click("#lib-revise")
+            owner.wait_for_function(
+                "document.querySelector('#lib-status').textContent.includes('revision 2')"
+            )
+            colleague.goto(link)
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.startsWith('Opened')"
+            )
+            assert colleague.input_value("#lib-name") == "Draft freeze"
+            assert colleague.is_hidden("#lib-revise")  # only the owner changes it
+            assert _request(colleague) == _request(owner)
+    finally:
+        owner.close()
+        colleague.context.close()

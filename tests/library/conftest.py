@@ -1,0 +1,100 @@
+"""The scenario library's fixtures: every test runs against SQLite (a fresh file) and against
+PostgreSQL.
+
+PostgreSQL is the server at SHOCKPATH_TEST_DATABASE_URL (a database the tests may empty);
+.ci/run installs and starts one and sets it. Without the variable the PostgreSQL cases skip,
+except where SHOCKPATH_REQUIRE_POSTGRES=1 (CI): there they fail, so they cannot silently
+not run.
+"""
+
+from __future__ import annotations
+
+import os
+import socket
+from collections.abc import Callable
+
+import pytest
+from sqlalchemy import MetaData, create_engine, inspect
+
+from service import create_app
+from service.library import database_url
+
+from ..openapi_check import ResponseChecker
+
+KEY_A = "key-of-analyst-a-0123456789"
+KEY_B = "key-of-analyst-b-9876543210"
+
+
+def postgres_url() -> str | None:
+    url = os.environ.get("SHOCKPATH_TEST_DATABASE_URL")
+    if not url:
+        if os.environ.get("SHOCKPATH_REQUIRE_POSTGRES"):
+            pytest.fail("SHOCKPATH_TEST_DATABASE_URL must name a PostgreSQL database here (CI)")
+        pytest.skip("SHOCKPATH_TEST_DATABASE_URL is not set (no PostgreSQL to test against)")
+    return url
+
+
+def empty_postgres(url: str) -> None:
+    """Drop every table (the library's and Alembic's), so the app migrates from nothing."""
+    engine = create_engine(database_url(url, ""))
+    try:
+        with engine.begin() as connection:
+            metadata = MetaData()
+            metadata.reflect(connection)
+            metadata.drop_all(connection)
+    finally:
+        engine.dispose()
+
+
+@pytest.fixture(params=["sqlite", "postgres"])
+def database(request, tmp_path) -> dict[str, str]:
+    """Settings naming an empty database of each kind."""
+    if request.param == "sqlite":
+        return {"library_path": str(tmp_path / "library.sqlite3")}
+    url = postgres_url()
+    empty_postgres(url)
+    return {"database_url": url}
+
+
+@pytest.fixture()
+def make_client(database, checker) -> Callable[..., object]:
+    """make_client(**settings): a test client of an app on `database`, responses checked
+    against the OpenAPI document."""
+    apps = []
+
+    def make(**settings):
+        app = create_app({"TESTING": True, **database, **settings})
+        apps.append(app)
+        return checker.wrap(app.test_client())
+
+    yield make
+    for app in apps:
+        app.extensions["shockpath.library"].close()
+
+
+@pytest.fixture()
+def library_client(make_client):
+    return make_client()
+
+
+@pytest.fixture(scope="session")
+def checker(app):
+    return ResponseChecker(app.extensions["shockpath.openapi"])
+
+
+def closed_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def tables(url: str) -> set[str]:
+    engine = create_engine(url)
+    try:
+        return set(inspect(engine).get_table_names())
+    finally:
+        engine.dispose()
+
+
+def bearer(key: str) -> dict[str, str]:
+    return {"Authorization": f"Bearer {key}"}

@@ -1,0 +1,64 @@
+"""The migrations build exactly the tables the models describe, run by create_app at start-up
+and by `python -m service.library upgrade`; running them again changes nothing."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+from alembic.autogenerate import compare_metadata
+from alembic.runtime.migration import MigrationContext
+from sqlalchemy import create_engine
+
+from service.library import database_url
+from service.library.migrate import head_revision, upgrade
+from service.library.models import Base
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _url(database: dict[str, str]) -> str:
+    return database_url(database.get("database_url", ""), database.get("library_path", ""))
+
+
+def test_the_migrations_build_exactly_the_models_tables(database):
+    engine = create_engine(_url(database))
+    try:
+        upgrade(engine)
+        upgrade(engine)  # a second run finds nothing to do
+        with engine.connect() as connection:
+            context = MigrationContext.configure(connection)
+            assert context.get_current_revision() == head_revision()
+            assert compare_metadata(context, Base.metadata) == []
+    finally:
+        engine.dispose()
+
+
+def test_the_upgrade_command_migrates_the_configured_database(database):
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    env.pop("SHOCKPATH_DATABASE_URL", None)
+    env.update({f"SHOCKPATH_{k.upper()}": v for k, v in database.items()})
+    run = [sys.executable, "-m", "service.library"]
+    upgraded = subprocess.run(
+        [*run, "upgrade"], cwd=ROOT, env=env, capture_output=True, text=True, check=True
+    )
+    assert upgraded.stdout.strip() == head_revision()
+    current = subprocess.run([*run, "current"], cwd=ROOT, env=env, capture_output=True, text=True, check=True)
+    assert current.stdout.strip() == head_revision()
+    usage = subprocess.run([*run, "sideways"], cwd=ROOT, env=env, capture_output=True, text=True)
+    assert usage.returncode == 2 and "upgrade" in usage.stderr
+
+
+def test_the_app_migrates_at_start_up(make_client, database):
+    from .conftest import tables
+
+    make_client()
+    assert {
+        "scenario_records",
+        "scenario_revisions",
+        "scenario_tags",
+        "library_owners",
+        "alembic_version",
+    } <= (tables(_url(database)))
