@@ -203,7 +203,13 @@ def _operation(op: dict[str, Any], answers: dict[str, Any], bodies: dict[str, An
     problems = answers.get("problems", {})
     mine = answers.get(op.get("answers_of", op["operationId"]), {})
     out: dict[str, Any] = {"operationId": op["operationId"], "summary": op["summary"], "responses": {}}
-    params = [p for p in op.get("parameters", []) + op.get("path_parameters", []) if p in _PARAMETERS]
+    # Named parameters are references to components (never Accept: content types say what it may
+    # ask for); inline ones (the library's path parameters) are kept as written.
+    params = [
+        p
+        for p in op.get("parameters", []) + op.get("path_parameters", [])
+        if not isinstance(p, str) or p in _PARAMETERS
+    ]
     if params:
         out["parameters"] = params
     if "request" in op:
