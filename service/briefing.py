@@ -90,7 +90,7 @@ def _policy_words(policy: dict, units: dict) -> str:
     elif kind == "price_ceiling":
         if "growth" in policy:
             text = f"rents may rise at most {_pct(policy['growth'])} per {units['period']}"
-        elif policy.get("level") == "base":
+        elif policy.get("level") == "base" or policy.get("base_level"):
             text = "rents frozen at today's rent"
         else:
             text = f"rents at most {_number(policy['level'])} {money}"
