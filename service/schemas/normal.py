@@ -10,10 +10,9 @@ in the schema's declared order, and returns a new dict in which
   are normalised by the schema their tag names; unknown structure is copied as it is.
 
 Defaults of `None` ("absent") are not written out: such a field means something only when
-given. The result loads to the same scenario, so re-running it gives the same `scenario_id`
-(and ETag): tests/schemas/test_normal.py checks every demo. It is not a canonical form:
-two requests with the same id may normalise to different (equivalent) bodies, e.g. a list of
-inflation rates that repeats its last rate.
+given. Inflation is written as the market reads it (a list that repeats its last rate is cut,
+a list of zeros is 0.0). The result loads to the same scenario, so re-running it gives the
+same `scenario_id` (and ETag): tests/schemas/test_normal.py checks every demo.
 """
 
 from __future__ import annotations
@@ -24,6 +23,7 @@ from marshmallow import Schema, fields
 from marshmallow.utils import missing
 
 from .fields import NumberOrConstant, NumberOrList, Real, Tagged, WholeNumber
+from .paths import _inflation_value as inflation_value
 
 __all__ = ["normalised"]
 
@@ -46,6 +46,12 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
             out[name] = value
     for name, value in body.items():  # nothing should be left, but never drop a field
         out.setdefault(name, value)
+    rates = out.get("inflation")
+    if isinstance(schema.fields.get("inflation"), NumberOrList) and not isinstance(rates, dict):
+        # The market's rule: repeats of the last rate dropped, a list of zeros is 0.0 (the same
+        # scenario, so the same request: answers of one scenario id carry one request).
+        value = inflation_value(rates)
+        out["inflation"] = list(value) if isinstance(value, tuple) else value
     return out
 
 
