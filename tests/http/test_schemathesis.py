@@ -10,7 +10,7 @@ coverage cases (each field of the example at its bounds, of the wrong type, miss
 fields, other methods and content types: several thousand in all) and a bounded number of
 random ones. What bounds the work, each test only costing less, none leaving a check out:
 
-- a positive case on /v1/bands or /v1/sensitivity draws at most MAX_CASE_DRAWS (the examples ask
+- a positive case on the uncertainty operations (HEAVY) draws at most MAX_CASE_DRAWS (the examples ask
   for 10,000; the largest request allowed has its own test in test_hostile_corpus.py);
 - each chart takes about a second to draw whatever its size, so of the coverage cases that draw
   one (the bands example again and again with other titles and unit labels) one in
@@ -33,7 +33,7 @@ from service import create_app
 
 APP = create_app({"TESTING": True, "band_threads": 1})
 SCHEMA = schemathesis.openapi.from_wsgi("/openapi.json", APP)
-HEAVY = ("/v1/bands", "/v1/sensitivity", "/v1/briefing")
+HEAVY = ("/v1/bands", "/v1/bands/csv", "/v1/sensitivity", "/v1/briefing")
 CHARTS = ("/v1/charts",)
 # The scenario library has its own run, on SQLite and PostgreSQL: tests/library/test_schemathesis.py.
 LIBRARY = "^/v1/scenarios"
@@ -83,7 +83,7 @@ def cases():
 
 
 def _at_most_some_draws(context, case):
-    """A positive case of /v1/bands or /v1/sensitivity draws at most MAX_CASE_DRAWS."""
+    """A positive case of an uncertainty operation (HEAVY) draws at most MAX_CASE_DRAWS."""
     body = case.body
     if (
         case.meta is not None
