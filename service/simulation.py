@@ -76,7 +76,7 @@ def requested_output(request: Any) -> str:
 
 
 #: What a summary answer ("output": "summary") keeps of a full one: no series.
-SUMMARY_KEYS = ("scenario_id", "model_version", "reduced_form", "summary", "cautions")
+SUMMARY_KEYS = ("scenario_id", "model_version", "reduced_form", "summary", "cautions", "request")
 
 
 def _summary_only(body: dict[str, Any]) -> dict[str, Any]:
@@ -254,7 +254,8 @@ def simulate_many(
             bodies = compute(loaded, [prefix.format(i=i) for i in where], lists, output)
             for i, body in zip(where, bodies, strict=True):
                 if "status" not in body:
-                    body["request"] = normalised_request(requests[i])
+                    # The request as /v1/paths takes it: the batch's own `id` is not part of it.
+                    body["request"] = normalised_request({k: v for k, v in requests[i].items() if k != "id"})
                 out[i] = body
     for i, ident in ids.items():
         if isinstance(ident, str):

@@ -52,7 +52,30 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
         # scenario, so the same request: answers of one scenario id carry one request).
         value = inflation_value(rates)
         out["inflation"] = list(value) if isinstance(value, tuple) else value
+    if "policies" in schema.fields:
+        _drop_inapplicable_defaults(out, body)
     return out
+
+
+#: Defaults that belong to the stock schedule only: written out there, and left out (as the
+#: schema refuses them, MODEL.md 17-18) where the adjustment is another schedule.
+_STOCK_ONLY = {"policies": ("new_homes",), "adjustment": ("conversion",)}
+
+
+def _drop_inapplicable_defaults(out: dict[str, Any], body: dict[str, Any]) -> None:
+    adjustment = out.get("adjustment")
+    if isinstance(adjustment, dict) and adjustment.get("schedule") == "stock":
+        return
+    sent = body.get("adjustment") if isinstance(body.get("adjustment"), dict) else {}
+    for name in _STOCK_ONLY["adjustment"]:
+        if isinstance(adjustment, dict) and name not in sent:
+            adjustment.pop(name, None)
+    given = body.get("policies") if isinstance(body.get("policies"), list) else []
+    for i, policy in enumerate(out.get("policies") or []):
+        original = given[i] if i < len(given) and isinstance(given[i], dict) else {}
+        for name in _STOCK_ONLY["policies"]:
+            if isinstance(policy, dict) and name not in original:
+                policy.pop(name, None)
 
 
 def _nested(field: fields.Nested) -> Schema:

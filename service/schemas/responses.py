@@ -332,6 +332,10 @@ class PathsSummarySchema(Schema):
     reduced_form = fields.Dict(keys=fields.String(), values=fields.Nested(ReducedFormSchema), required=True)
     summary = fields.List(fields.Nested(PolicySummarySchema), required=True)
     cautions = fields.List(fields.String(), required=True)
+    request = fields.Nested(
+        PathsRequestSchema,
+        metadata={"description": "The request answered, normalised, as in PathsResponse."},
+    )
 
 
 class BatchResponseSchema(Schema):

@@ -36,7 +36,7 @@ def test_a_summary_answer_is_the_full_answer_without_its_series(client, contract
     full = client.post("/v1/paths", json=contract_request).get_json()
     summary = client.post("/v1/paths", json={**contract_request, "output": "summary"})
     body = summary.get_json()
-    assert set(body) == {"scenario_id", "model_version", "reduced_form", "summary", "cautions"}
+    assert set(body) == {"scenario_id", "model_version", "reduced_form", "summary", "cautions", "request"}
     assert body == {k: full[k] for k in body}  # same numbers, same scenario id
     assert summary.headers["ETag"] != f'"{full["scenario_id"]}"'  # another representation
 
