@@ -251,7 +251,7 @@ def briefing_html(body: dict[str, Any], units: dict[str, str] | None = None, tit
     # Who gains and who loses, on the chart's basis.
     parts.append("<h2>Who gains and who loses</h2>")
     if reported:
-        values = charts.gains_and_losses(body, charts.discount_factors(request))
+        values = charts.gains_and_losses(body)
         groups = list(body["paths"][0]["distribution"])
         rows = [
             [

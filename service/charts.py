@@ -82,6 +82,7 @@ GROUPS = (
     ("owners_of_controlled_homes", "Owners of controlled homes"),
     ("owners_of_uncontrolled_homes", "Owners of uncontrolled homes"),
     ("government", "Government"),
+    ("households_drawn_in", "Households drawn in"),
 )
 #: One Okabe-Ito colour and one hatching per group: tenants blue, households out purple,
 #: owners orange, government green; the hatching tells them apart in greyscale.
@@ -92,6 +93,7 @@ GROUP_STYLES = (
     ("#D55E00", "\\\\"),
     ("#E69F00", ".."),
     ("#009E73", "++"),
+    ("#F0E442", "oo"),
 )
 #: The footnote's first line on the who-gains chart.
 EFFICIENT = (
@@ -585,13 +587,17 @@ def discount_factors(request: dict) -> np.ndarray:
     return prepare(batch, MAX_SHIFTER_CHANGE)[-1][0]
 
 
-def gains_and_losses(body: dict, factors: np.ndarray) -> np.ndarray:
-    """(policies, groups) each group's change summed over the horizon, period t weighted by
-    `factors[t]`, from the `distribution` of a /v1/paths body (groups in GROUPS order; money per
-    model period x k). Raises ProblemError (422, pointer /welfare/rationing) where the body
-    reports no distribution (random rationing)."""
+def gains_and_losses(body: dict, factors: np.ndarray | None = None) -> np.ndarray:
+    """(policies, groups) each group's change summed over the horizon (groups in GROUPS order;
+    money per model period x k): by default the engine's own discounted totals (the summary's
+    `distribution_totals_discounted`); with `factors`, the `distribution` series weighted by
+    factors[t]. Raises ProblemError (422, pointer /welfare/rationing) where the body reports no
+    distribution (random rationing)."""
     if any(p["distribution"] is None for p in body["paths"]):
         raise ProblemError(validation_problem({"welfare": {"rationing": [NOT_UNDER_RANDOM]}}))
+    if factors is None:
+        totals = [s["distribution_totals_discounted"] for s in body["summary"]]
+        return np.array([[t[g] for g, _ in GROUPS] for t in totals], dtype=float)
     series = np.array([[p["distribution"][g] for g, _ in GROUPS] for p in body["paths"]], dtype=float)
     return (series * np.asarray(factors, dtype=float)).sum(axis=-1)
 
@@ -687,7 +693,7 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
 def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, title: str | None = None):
     """The who-gains Figure of a /v1/paths body (`request`: its request, for the discount rate):
     one panel per policy, bar i of a panel drawing `gains_and_losses(...)[policy, i]`."""
-    values = gains_and_losses(body, discount_factors(request))
+    values = gains_and_losses(body)
     period = units.get("period", "period")
     horizon = len(body["periods"]) - 1
     lines = [

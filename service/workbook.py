@@ -174,24 +174,23 @@ def _paths_request(body: dict) -> dict | None:
 
 
 def _who_gains_rows(body: dict, lead: tuple = (), request: dict | None = None) -> Iterable[tuple]:
-    from .charts import discount_factors
-
+    """Per policy and group: the total over the horizon and the engine's discounted total."""
     summary = {s["name"]: s for s in body["summary"]}
-    request = request or body.get("request")
-    factors = None
-    if request is not None and any(p.get("distribution") for p in body["paths"]):
-        factors = discount_factors(request)
     for path in body["paths"]:
         distribution = path.get("distribution")
         if not distribution:
             yield (*lead, path["name"], "not reported under random rationing", None, None)
             continue
         totals = summary[path["name"]].get("distribution_totals") or {}
-        for group, values in distribution.items():
-            discounted = (
-                None if factors is None else float(sum(v * f for v, f in zip(values, factors, strict=False)))
+        discounted = summary[path["name"]].get("distribution_totals_discounted") or {}
+        for group in distribution:
+            yield (
+                *lead,
+                path["name"],
+                labels.label(f"distribution.{group}"),
+                totals.get(group),
+                discounted.get(group),
             )
-            yield (*lead, path["name"], labels.label(f"distribution.{group}"), totals.get(group), discounted)
 
 
 def _who_gains_header(body: dict, units: dict | None, lead: list[str]) -> list[str]:

@@ -98,7 +98,7 @@ def _paths(chosen: str, raw: object) -> Response:
         if (cached := cache.get(tag)) is not None:
             response = Response(cached, mimetype=chosen)
         else:
-            (body,) = compute([scenario], lists=False, output=output)
+            (body,) = compute([scenario], lists=as_xlsx, output=output)
             SCENARIOS.labels("/v1/paths").inc()
             if "status" in body:
                 raise ProblemError(body)
@@ -175,7 +175,7 @@ def _batch(chosen: str) -> Response:
         envelope = load_request(_BATCH, raw)
         output = envelope["output"]
         _same_output(envelope["scenarios"], output)
-        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=False, output=output)
+        results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_xlsx, output=output)
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
         if as_xlsx:
             return attachment(

@@ -63,6 +63,11 @@ _STOCK_ONLY = {"policies": ("new_homes",), "adjustment": ("conversion",)}
 
 
 def _drop_inapplicable_defaults(out: dict[str, Any], body: dict[str, Any]) -> None:
+    # A freeze is written as the document spells it: base_level, not the older level "base".
+    for policy in out.get("policies") or []:
+        if isinstance(policy, dict) and policy.get("level") == "base":
+            del policy["level"]
+            policy["base_level"] = True
     adjustment = out.get("adjustment")
     if isinstance(adjustment, dict) and adjustment.get("schedule") == "stock":
         return

@@ -283,6 +283,7 @@ def test_the_corrowdale_demo_answers_its_worked_example(client):
         "owners_of_controlled_homes": -315.4,
         "owners_of_uncontrolled_homes": 171.3,
         "government": 0.0,
+        "households_drawn_in": 0.0,  # MODEL.md 20: a ceiling draws no household in
     }
     assert {g: round(v / 1e6, 1) for g, v in totals.items()} == quoted
     assert round(summary["freeze on older buildings (40%)"]["total_deadweight_loss"] / 1e6, 1) == 21.9

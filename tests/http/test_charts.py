@@ -13,6 +13,7 @@ import pytest
 
 from service import labels, simulate
 from service.charts import SIZE_PX
+from service.engine.results import DISTRIBUTION_GROUPS
 from service.examples import example_request
 
 pytest.importorskip("matplotlib")
@@ -154,14 +155,7 @@ def test_octet_stream_gets_the_same_chart_bytes_for_generated_clients(client):
 
 # --- MODEL.md sections 13-15 on charts: the stock panel and who gains and who loses ---------
 
-GROUP_KEYS = (
-    "tenants_in_controlled_homes",
-    "tenants_in_uncontrolled_homes",
-    "households_priced_out",
-    "owners_of_controlled_homes",
-    "owners_of_uncontrolled_homes",
-    "government",
-)
+GROUP_KEYS = DISTRIBUTION_GROUPS  # MODEL.md 15 and 20: the seven groups
 
 
 def additions_scenario(**welfare) -> dict:

@@ -162,8 +162,14 @@ def test_every_series_of_the_json_answer_is_in_the_csv_with_the_same_numbers(cli
     for t, value in zip(body["periods"], body["price_index"], strict=True):
         assert got[("", t, "price_index")] == value
     for path in body["paths"]:
-        series = {k: v for k, v in path.items() if k not in ("name", "kind", "binding", "distribution")}
+        series = {
+            k: v
+            for k, v in path.items()
+            if k not in ("name", "kind", "binding", "distribution", "vs_free_path")
+        }
         series.update(path["distribution"])
+        # Nested objects other than the distribution are flattened as object.member.
+        series.update({f"vs_free_path.{k}": v for k, v in path.get("vs_free_path", {}).items()})
         for variable, values in series.items():
             for t, value in enumerate(values):
                 assert got[(path["name"], t, variable)] == value, (path["name"], variable, t)

@@ -7,6 +7,7 @@ import io
 
 import pytest
 
+from service.engine.results import DISTRIBUTION_GROUPS
 from service.examples import example_request
 
 
@@ -92,7 +93,9 @@ def test_a_batch_answers_csv_with_a_row_per_value_and_a_problem_row_per_failed_s
     assert list(rows[0]) == ["scenario", "scenario_id", "policy", "period", "variable", "value", "unit"]
     first = body["results"][0]
     # 17 series and the six groups of who gains and who loses per path and period.
-    assert sum(r["scenario"] == "0" for r in rows) == len(first["paths"]) * (17 + 6) * len(first["periods"])
+    assert sum(r["scenario"] == "0" for r in rows) == len(first["paths"]) * (
+        17 + len(DISTRIBUTION_GROUPS)
+    ) * len(first["periods"])
     assert all(r["scenario_id"] == first["scenario_id"] for r in rows if r["scenario"] == "0")
     (problem,) = [r for r in rows if r["scenario"] == "1"]
     assert problem["variable"] == "problem" and problem["value"] == body["results"][1]["detail"]

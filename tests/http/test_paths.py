@@ -9,6 +9,7 @@ import io
 import json
 
 from service import limits, simulate
+from service.engine.results import DISTRIBUTION_GROUPS
 from service.examples import examples
 
 
@@ -53,7 +54,7 @@ def test_csv_is_the_same_paths_in_long_form(client, contract_request):
     assert response.headers["ETag"] == f'"{body["scenario_id"]}.csv"'
     rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
     assert list(rows[0]) == ["policy", "period", "variable", "value", "unit"]
-    assert len(rows) == len(body["paths"]) * (17 + 6) * 13  # 17 series and the six groups
+    assert len(rows) == len(body["paths"]) * (17 + len(DISTRIBUTION_GROUPS)) * 13  # 17 series and the groups
     by_key = {(r["policy"], int(r["period"]), r["variable"]): float(r["value"]) for r in rows}
     for path in body["paths"]:
         for t in body["periods"]:
