@@ -278,7 +278,7 @@ def main() -> None:
             times.append(time.perf_counter() - start)
             assert status == 200
         batch_rate = batch_size / float(np.median(times))
-        bands = run_bands(args.draws, 2)
+        bands = run_bands(args.draws, 2, False)
         # One bands request through the server too, so the workers' peaks include it.
         server.request("POST", "/v1/bands", json.dumps(bands_scenario(args.draws)).encode())
         peaks = [_peak_rss_mib(pid) for pid in server.workers()]
