@@ -77,12 +77,7 @@ def start_gunicorn(
         **{f"SHOCKPATH_{k.upper()}": v for k, v in settings.items()},
     }
     process = subprocess.Popen(
-        [
-            str(Path(sys.executable).with_name("gunicorn")),
-            "--config",
-            config,
-            "service:create_app()",
-        ],
+        gunicorn_command(config),
         cwd=ROOT,
         env=env,
         stdout=subprocess.DEVNULL,
@@ -107,6 +102,25 @@ def demo_bodies() -> list[bytes]:
         json.dumps(e["request"]).encode()
         for e in examples().values()
         if e.get("endpoint", "/v1/paths") == "/v1/paths"
+    ]
+
+
+def gunicorn_command(config: str = "deploy/gunicorn.conf.py") -> list[str]:
+    """gunicorn of this interpreter's environment serving the app factory with `config`."""
+    return [str(Path(sys.executable).with_name("gunicorn")), "--config", config, "service:create_app()"]
+
+
+def wrk_command(script: Path, port: int, seconds: int) -> list[str]:
+    """wrk with two threads, CONNECTIONS connections and latency figures, driven by `script`."""
+    return [
+        "wrk",
+        "-t2",
+        f"-c{CONNECTIONS}",
+        f"-d{seconds}s",
+        "--latency",
+        "-s",
+        str(script),
+        f"http://127.0.0.1:{port}",
     ]
 
 
@@ -164,16 +178,7 @@ def run(seconds: int) -> dict:
         with tempfile.TemporaryDirectory() as folder:
             script = wrk_script(Path(folder), bodies)
             wrk = subprocess.Popen(
-                [
-                    "wrk",
-                    "-t2",
-                    f"-c{CONNECTIONS}",
-                    f"-d{seconds}s",
-                    "--latency",
-                    "-s",
-                    str(script),
-                    f"http://127.0.0.1:{port}",
-                ],
+                wrk_command(script, port, seconds),
                 stdout=subprocess.PIPE,
                 text=True,
             )
@@ -257,16 +262,7 @@ def repeat(seconds: int, config: str) -> dict:
         with tempfile.TemporaryDirectory() as folder:
             script = wrk_script(Path(folder), [body])
             output = subprocess.run(
-                [
-                    "wrk",
-                    "-t2",
-                    f"-c{CONNECTIONS}",
-                    f"-d{seconds}s",
-                    "--latency",
-                    "-s",
-                    str(script),
-                    f"http://127.0.0.1:{port}",
-                ],
+                wrk_command(script, port, seconds),
                 capture_output=True,
                 text=True,
                 timeout=seconds + 60,

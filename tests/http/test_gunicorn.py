@@ -16,6 +16,7 @@ from pathlib import Path
 
 import pytest
 
+from deploy.loadtest import gunicorn_command
 from service import simulate
 from service.examples import example_request
 
@@ -344,12 +345,7 @@ def test_workers_recycle_one_at_a_time_without_losing_a_request(tmp_path):
     log_path = tmp_path / "stderr.log"
     with log_path.open("wb") as log:
         process = subprocess.Popen(
-            [
-                str(Path(sys.executable).with_name("gunicorn")),
-                "--config",
-                "deploy/gunicorn.conf.py",
-                "service:create_app()",
-            ],
+            gunicorn_command(),
             cwd=ROOT,
             env=env,
             stdout=subprocess.DEVNULL,

@@ -11,14 +11,13 @@ import json
 import os
 import signal
 import subprocess
-import sys
 import threading
 import time
 from pathlib import Path
 
 import pytest
 
-from deploy.loadtest import free_port, workers
+from deploy.loadtest import free_port, gunicorn_command, workers
 from service.examples import example_request
 from service.library import Library, database_url
 
@@ -51,12 +50,7 @@ def gunicorn(database: dict[str, str], tmp_path: Path, processes: int = 2, **set
     }
     log = (tmp_path / f"gunicorn-{port}.log").open("w+b")
     process = subprocess.Popen(
-        [
-            str(Path(sys.executable).with_name("gunicorn")),
-            "--config",
-            "deploy/gunicorn.conf.py",
-            "service:create_app()",
-        ],
+        gunicorn_command(),
         cwd=ROOT,
         env=env,
         stdout=subprocess.DEVNULL,
