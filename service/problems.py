@@ -10,7 +10,15 @@ from marshmallow import Schema, ValidationError
 from .schemas.compiled import compile_loader, load_fast
 from .schemas.pointers import field_errors
 
-__all__ = ["ProblemError", "engine_problem", "load_request", "problem", "validation_problem"]
+__all__ = [
+    "Problem",
+    "ProblemError",
+    "engine_problem",
+    "is_problem",
+    "load_request",
+    "problem",
+    "validation_problem",
+]
 
 PROBLEM_BASE = "urn:shockpath:problem:"
 #: Problem codes of plain HTTP statuses: every problem `type` is a URN of the one scheme
@@ -31,14 +39,33 @@ STATUS_CODES = {
 }
 
 
-def problem(status: int, title: str, detail: str, code: str | None = None, **extra: Any) -> dict[str, Any]:
+class Problem(dict):
+    """An RFC 9457 problem document: a dict (written as JSON as it is) whose type says that it is
+    one. Where a list holds answers and problems side by side (a batch, compute's output), a
+    problem is told from an answer by `is_problem`, never by probing for a key."""
+
+    __slots__ = ()
+
+    @property
+    def status(self) -> int:
+        return int(self["status"])
+
+
+def is_problem(value: Any) -> bool:
+    """True for a problem document (Problem), false for an answer."""
+    return isinstance(value, Problem)
+
+
+def problem(status: int, title: str, detail: str, code: str | None = None, **extra: Any) -> Problem:
     """A problem document; `code` names our problem type, otherwise the status's code."""
-    body: dict[str, Any] = {
-        "type": PROBLEM_BASE + (code or STATUS_CODES.get(status, f"http-{status}")),
-        "title": title,
-        "status": status,
-        "detail": detail,
-    }
+    body = Problem(
+        {
+            "type": PROBLEM_BASE + (code or STATUS_CODES.get(status, f"http-{status}")),
+            "title": title,
+            "status": status,
+            "detail": detail,
+        }
+    )
     body.update(extra)
     return body
 
@@ -48,12 +75,12 @@ class ProblemError(Exception):
 
     def __init__(self, document: dict[str, Any], headers: dict[str, str] | None = None):
         super().__init__(document.get("detail", ""))
-        self.problem = document
+        self.problem = document if isinstance(document, Problem) else Problem(document)
         self.status = int(document["status"])
         self.headers = headers or {}
 
 
-def validation_problem(messages: Any, prefix: str = "") -> dict[str, Any]:
+def validation_problem(messages: Any, prefix: str = "") -> Problem:
     errors = field_errors(messages, prefix)
     first = errors[0] if errors else {"pointer": "", "message": "invalid"}
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
@@ -66,7 +93,7 @@ def validation_problem(messages: Any, prefix: str = "") -> dict[str, Any]:
     )
 
 
-def engine_problem(error, prefix: str = "") -> dict[str, Any]:
+def engine_problem(error, prefix: str = "") -> Problem:
     """Problem document of an engine error (422: the inputs are the cause)."""
     pointer = prefix + error.pointer
     extra: dict[str, Any] = {"errors": [{"pointer": pointer, "message": error.message}]}

@@ -19,7 +19,7 @@ import orjson
 from marshmallow import ValidationError
 
 from . import engine
-from .problems import ProblemError, engine_problem, load_request, validation_problem
+from .problems import ProblemError, engine_problem, is_problem, load_request, validation_problem
 from .schemas.normal import normalised
 from .schemas.paths import OUTPUTS, BatchScenarioSchema, PathsRequestSchema
 
@@ -202,7 +202,7 @@ def compute(
     lists: bool = True,
     output: str = "full",
 ) -> list[dict[str, Any]]:
-    """Bodies (or problem documents, marked by their `status`) of valid scenarios, in order;
+    """Bodies (or Problem documents, told apart by is_problem) of valid scenarios, in order;
     output="summary" keeps only SUMMARY_KEYS of each body."""
     outcomes = engine.solve_scenarios(scenarios, as_lists=lists)
     out: list[dict[str, Any]] = []
@@ -219,7 +219,7 @@ def simulate(request: dict[str, Any]) -> dict[str, Any]:
     """Body of POST /v1/paths for one request; raises ProblemError on invalid input."""
     scenario = load_scenario(request)
     (body,) = compute([scenario], output=requested_output(request))
-    if "status" in body:
+    if is_problem(body):
         raise ProblemError(body)
     body["request"] = normalised_request(request)
     return body
@@ -253,11 +253,12 @@ def simulate_many(
         if loaded:
             bodies = compute(loaded, [prefix.format(i=i) for i in where], lists, output)
             for i, body in zip(where, bodies, strict=True):
-                if "status" not in body:
+                if not is_problem(body):
                     # The request as /v1/paths takes it: the batch's own `id` is not part of it.
                     body["request"] = normalised_request({k: v for k, v in requests[i].items() if k != "id"})
                 out[i] = body
     for i, ident in ids.items():
         if isinstance(ident, str):
-            out[i] = {"id": ident, **out[i]}  # type: ignore[dict-item]
+            item = out[i]
+            out[i] = type(item)({"id": ident, **item})  # a problem stays a Problem
     return [b for b in out if b is not None]

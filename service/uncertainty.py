@@ -19,7 +19,7 @@ from .engine.uncertainty import (
     one_at_a_time,
     percentile_bands,
 )
-from .problems import ProblemError, load_request, problem
+from .problems import Problem, ProblemError, is_problem, load_request, problem
 from .schemas.normal import normalised
 from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
 from .simulation import compute, scenario_id
@@ -51,8 +51,8 @@ def _describe(item) -> dict[str, Any]:
 def _central_answer(req: UncertainRequest) -> dict[str, Any]:
     """The /v1/paths answer at the central values (ProblemError if there is none)."""
     (body,) = compute([req.scenario])
-    if "status" in body:
-        body = dict(body, detail="At the central values: " + body["detail"])
+    if is_problem(body):
+        body = Problem(body, detail="At the central values: " + body["detail"])
         raise ProblemError(body)
     return body
 

@@ -33,6 +33,7 @@ from collections.abc import Callable, Iterable
 from typing import Any
 
 from . import labels
+from .problems import is_problem
 
 __all__ = ["MAX_ROWS", "WORKBOOK", "bands_workbook", "batch_workbook", "paths_workbook"]
 
@@ -383,7 +384,7 @@ def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None
     """The .xlsx of a batch: every scenario on the same sheets, a `scenario` column first (a
     scenario without an answer: one row on Scenarios with its problem)."""
     book = _Book(text)
-    answered = [(i, r) for i, r in enumerate(results) if "status" not in r]
+    answered = [(i, r) for i, r in enumerate(results) if not is_problem(r)]
     _about(
         book,
         [
@@ -396,7 +397,7 @@ def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None
         "Scenarios",
         ["Scenario", "Scenario id", "Problem"],
         (
-            (i, r.get("scenario_id", ""), "" if "status" not in r else r.get("detail", ""))
+            (i, r.get("scenario_id", ""), "" if not is_problem(r) else r.get("detail", ""))
             for i, r in enumerate(results)
         ),
         widths=[10, 70, 80],

@@ -6,7 +6,7 @@ from __future__ import annotations
 from flask import Response, current_app, g
 
 from .. import charts
-from ..problems import ProblemError, load_request, problem
+from ..problems import ProblemError, is_problem, load_request, problem
 from ..schemas.charts import ChartRequestSchema
 from ..simulation import simulate_many
 from ..uncertainty import bands, sensitivity
@@ -40,7 +40,7 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
     title, panels = spec.get("title"), spec.get("panels")
     if spec["chart"] in ("paths", "gains_and_losses", "renters_vs_free_path"):
         result = simulate_many([scenario])[0]
-        if "status" in result:
+        if is_problem(result):
             raise _under("/scenario", ProblemError(result))
         if spec["chart"] == "paths":
             image = charts.render_paths(result, spec["units"], fmt, form, title, panels)

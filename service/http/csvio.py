@@ -52,6 +52,7 @@ import numpy as np
 import orjson
 
 from ..engine.results import DISTRIBUTION_GROUPS
+from ..problems import is_problem
 
 __all__ = [
     "BLOCK_ROWS",
@@ -281,7 +282,7 @@ def batch_csv(results: list[dict[str, Any]], layout: str = "long") -> Iterator[b
     writer = _Writer()
     for i, result in enumerate(results):
         scenario = _scenario_cell(i, result)
-        if "status" in result:
+        if is_problem(result):
             yield writer.flush()
             detail = _quoted(str(result.get("detail", "")))
             yield f'{scenario},"","","","problem",{detail},""\n'.encode()
@@ -297,7 +298,7 @@ def _wide(items: list[tuple[int | None, dict[str, Any]]], scenario: bool) -> Ite
     answer (empty where an answer has none)."""
     columns: dict[str, None] = {}
     for _, body in items:
-        if "status" in body:
+        if is_problem(body):
             continue
         if "price_index" in body:
             columns["price_index"] = None
@@ -339,7 +340,7 @@ def _wide(items: list[tuple[int | None, dict[str, Any]]], scenario: bool) -> Ite
         head = ""
         if scenario:
             head = _scenario_cell(i, body) + ","
-            if "status" in body:
+            if is_problem(body):
                 yield flush()
                 detail = _quoted("problem: " + str(body.get("detail", "")))
                 yield (head + '"",' + detail + "," + "," * len(names) + "\n").encode()
@@ -378,7 +379,7 @@ def _summary_text(items: list[tuple[int | None, dict[str, Any]]], scenario: bool
     columns: dict[str, None] = {}
     for i, body in items:
         lead: list[Any] = [_cell_text(i, body), body.get("scenario_id", "")] if scenario else []
-        if "status" in body:
+        if is_problem(body):
             rows.append((lead, {}, "problem: " + str(body.get("detail", ""))))
             continue
         cautions = " | ".join(str(c) for c in body.get("cautions", ()))

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from flask import Response, current_app, g, request
 
-from ..problems import ProblemError, load_request, problem, validation_problem
+from ..problems import ProblemError, is_problem, load_request, problem, validation_problem
 from ..schemas.paths import BatchRequestSchema
 from ..simulation import (
     compute,
@@ -100,7 +100,7 @@ def _paths(chosen: str, raw: object) -> Response:
         else:
             (body,) = compute([scenario], lists=as_xlsx, output=output)
             SCENARIOS.labels("/v1/paths").inc()
-            if "status" in body:
+            if is_problem(body):
                 raise ProblemError(body)
             body["request"] = normalised_request(raw)
             if as_xlsx:

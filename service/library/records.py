@@ -17,7 +17,7 @@ from typing import Any
 import orjson
 
 from .. import engine
-from ..problems import ProblemError, load_request
+from ..problems import ProblemError, is_problem, load_request
 from ..schemas.library import ScenarioWriteSchema
 from ..schemas.paths import PathsRequestSchema
 from ..schemas.uncertainty import BandsRequestSchema
@@ -92,7 +92,7 @@ def validate_write(body: Any) -> Written:
     # What the engine refuses (a tax past the choke price, ...) is refused here as that
     # endpoint would refuse it; for bands, at the central values, as /v1/bands checks first.
     (answer,) = compute([scenario], ["/request"], lists=False)
-    if "status" in answer:
+    if is_problem(answer):
         raise ProblemError(answer)
     return Written(
         name=data["name"],

@@ -9,6 +9,8 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from service import ProblemError, simulate, simulate_many
+from service.examples import example_request
+from service.problems import is_problem
 
 from ..strategies import requests
 from .builders import solved
@@ -79,7 +81,9 @@ def test_a_batch_equals_its_scenarios_one_at_a_time(batch):
             alone = simulate(request)
         except ProblemError as error:
             assert body == error.problem
+            assert is_problem(body)  # a problem is told from an answer by its type
             continue
+        assert not is_problem(body)
         for key in alone:
             assert body[key] == alone[key], key
 
@@ -94,3 +98,14 @@ def test_every_number_is_finite(request):
                     assert np.all(np.isfinite(series)), group
             elif name not in ("name", "kind", "binding", "distribution"):
                 assert np.all(np.isfinite(values)), name
+
+
+def test_a_batch_problem_keeps_its_type_and_its_callers_id():
+    """A refused scenario in a batch is a Problem (its `id` first), an answer is not."""
+    good = {"id": "kept", **example_request("vellmar-bay-transfer-tax")}
+    bad = {"id": "refused", **example_request("vellmar-bay-transfer-tax")}
+    bad["market"] = {**bad["market"], "price": -1.0}
+    answer, refused = simulate_many([good, bad], prefix="/scenarios/{i}")
+    assert not is_problem(answer) and answer["id"] == "kept"
+    assert is_problem(refused) and refused["id"] == "refused" and refused["status"] == 422
+    assert refused["errors"][0]["pointer"] == "/scenarios/1/market/price"
