@@ -137,43 +137,35 @@ def _canonical(value: Any) -> Any:
     return out
 
 
-def render(
-    scenario: engine.Scenario, result: engine.ScenarioResult, sid: str, lists: bool = True
-) -> dict[str, Any]:
-    """The /v1/paths response body of one computed scenario.
-
-    With lists=False the series stay numpy arrays (for orjson's OPT_SERIALIZE_NUMPY, which
-    writes the same bytes without building millions of Python floats).
-    """
-
-    def out(a):
-        return a.tolist() if lists and not isinstance(a, list) else a
-
+def render(scenario: engine.Scenario, result: engine.ScenarioResult, sid: str) -> dict[str, Any]:
+    """The /v1/paths response body of one computed scenario, its series as the engine gave
+    them: Python lists (solve_scenarios(as_lists=True)) or numpy arrays (for orjson's
+    OPT_SERIALIZE_NUMPY, which writes the same bytes without building millions of floats)."""
     body: dict[str, Any] = {
         "scenario_id": sid,
         "model_version": engine.MODEL_VERSION,
         "periods": list(range(result.horizon + 1)),
-        "supply_elasticity": out(result.supply_elasticity),
+        "supply_elasticity": result.supply_elasticity,
     }
     if result.price_index is not None:
-        body["price_index"] = out(result.price_index)
+        body["price_index"] = result.price_index
     body["reduced_form"] = result.reduced_form
-    body["paths"] = [_path_body(p, out) for p in result.paths]
+    body["paths"] = [_path_body(p) for p in result.paths]
     body["summary"] = [_summary_body(s) for s in result.summary]
     body["cautions"] = list(result.cautions)
     return body
 
 
-def _path_body(path: engine.PolicyPath, out) -> dict[str, Any]:
+def _path_body(path: engine.PolicyPath) -> dict[str, Any]:
     distribution = path.distribution
     body = {
         "name": path.name,
         "kind": path.kind,
-        **{k: out(v) for k, v in path.series.items()},
-        "distribution": None if distribution is None else {k: out(v) for k, v in distribution.items()},
+        **path.series,
+        "distribution": None if distribution is None else dict(distribution),
     }
     if path.vs_free_path is not None:
-        body["vs_free_path"] = {k: out(v) for k, v in path.vs_free_path.items()}
+        body["vs_free_path"] = dict(path.vs_free_path)
     return body
 
 
@@ -204,13 +196,13 @@ def compute(
 ) -> list[dict[str, Any]]:
     """Bodies (or Problem documents, told apart by is_problem) of valid scenarios, in order;
     output="summary" keeps only SUMMARY_KEYS of each body."""
-    outcomes = engine.solve_scenarios(scenarios, as_lists=lists)
+    outcomes = engine.solve_scenarios(scenarios, as_lists=lists and output == "full")
     out: list[dict[str, Any]] = []
     for i, (scenario, outcome) in enumerate(zip(scenarios, outcomes, strict=True)):
         if isinstance(outcome, engine.EngineError):
             out.append(engine_problem(outcome, prefixes[i] if prefixes else ""))
         else:
-            body = render(scenario, outcome, scenario_id(scenario), lists and output == "full")
+            body = render(scenario, outcome, scenario_id(scenario))
             out.append(_summary_only(body) if output == "summary" else body)
     return out
 

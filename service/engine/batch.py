@@ -21,6 +21,9 @@ from .shocks import PROFILE_CODES, shifter_paths, shock_paths
 
 __all__ = ["PolicyRows", "ScenarioBatch", "impact_elasticity", "pack", "policy_kind_code"]
 
+#: A policy's end when it has none: later than any period.
+_NO_END = np.iinfo(np.int64).max
+
 
 @dataclass(frozen=True)
 class ScenarioBatch:
@@ -246,13 +249,12 @@ def pack(scenarios: Sequence[Scenario]) -> tuple[ScenarioBatch, PolicyRows]:
         impact_elasticity=impact_elasticity(stock, schedule_rate, short_run, long_run),
     )
     flat = [(i, p) for i, s in enumerate(scenarios) for p in s.policies]
-    big = np.iinfo(np.int64).max
     rows = PolicyRows(
         scenario=np.array([i for i, _ in flat], dtype=np.int64),
         kind=np.array([policy_kind_code(p.kind, p.growth) for _, p in flat], dtype=np.int64),
         value=np.array([_policy_value(p, scenarios[i].market.price) for i, p in flat], dtype=float),
         start=np.array([p.start for _, p in flat], dtype=np.int64),
-        end=np.array([big if p.end is None else p.end for _, p in flat], dtype=np.int64),
+        end=np.array([_NO_END if p.end is None else p.end for _, p in flat], dtype=np.int64),
         indexed=np.array([p.indexed for _, p in flat], dtype=bool),
         coverage=np.array([p.coverage for _, p in flat], dtype=float),
         exempt_new=np.array([p.new_homes == "exempt" for _, p in flat], dtype=bool),

@@ -50,6 +50,7 @@ int_Q^Q* Qs^-1 (per segment under partial coverage); the integrals are closed fo
 
 from __future__ import annotations
 
+import functools
 import math
 from collections import namedtuple
 
@@ -1548,44 +1549,55 @@ def policy_paths(
     count = rows.scenario.shape[0]
     periods = m.eps.shape[1]
     wanted = SERIES_NAMES if series is None else series
-    column = np.full(len(SERIES_NAMES), -1, dtype=np.int64)
-    for j, name in enumerate(wanted):
-        column[SERIES_INDEX[name]] = j
+    kept, column = _kept_cells(wanted)
     out = np.empty((count, len(wanted), periods))
     flags = np.empty((count, len(FLAG_NAMES), periods), dtype=np.bool_)
     summary = np.empty((count, len(SUMMARY_NAMES)))
     if band is None:
-        band_slot = np.full((1, len(SERIES_NAMES)), -1, dtype=np.int64)
-        band_out, band_rows, band_start = np.empty((1, 1, 1), dtype=np.float32), 0, 0
+        band_out, band_rows, band_start = _NO_BAND_OUT, 0, 0
+        banded, counts, band_slot = _band_cells(((),))
     else:
         layout, band_out, band_rows, band_start = band
-        band_slot = np.full((len(layout), len(SERIES_NAMES)), -1, dtype=np.int64)
-        slot = 0
-        for policy, names in enumerate(layout):
-            for name in names:
-                band_slot[policy, SERIES_INDEX[name]] = slot
-                slot += 1
-    banded = np.full((band_slot.shape[0], len(SERIES_NAMES)), -1, dtype=np.int64)
-    counts = np.zeros(band_slot.shape[0], dtype=np.int64)
-    for policy in range(band_slot.shape[0]):
-        cells = np.flatnonzero(band_slot[policy] >= 0)
-        banded[policy, : cells.size] = cells
-        counts[policy] = cells.size
+        banded, counts, band_slot = _band_cells(tuple(tuple(names) for names in layout))
     outputs = Outputs(
-        np.flatnonzero(column >= 0),
-        column,
-        out,
-        flags,
-        summary,
-        banded,
-        counts,
-        band_slot,
-        band_out,
-        band_rows,
-        band_start,
+        kept, column, out, flags, summary, banded, counts, band_slot, band_out, band_rows, band_start
     )
     _policy_rows(m, rows, free, free if free_other is None else free_other, free_other is not None, outputs)
     return out, flags, summary
+
+
+#: The band target of a pass without bands (never written: no row has banded cells).
+_NO_BAND_OUT = np.empty((1, 1, 1), dtype=np.float32)
+
+
+@functools.lru_cache(maxsize=64)
+def _kept_cells(wanted: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """The cells kept as series (ascending) and each cell's column in `out` (-1: not kept),
+    worked out once per tuple of series names (the arrays are shared: never written)."""
+    column = np.full(len(SERIES_NAMES), -1, dtype=np.int64)
+    for j, name in enumerate(wanted):
+        column[SERIES_INDEX[name]] = j
+    return np.flatnonzero(column >= 0), column
+
+
+@functools.lru_cache(maxsize=64)
+def _band_cells(layout: tuple[tuple[str, ...], ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Per policy of a band layout: its banded cells (padded with -1), how many, and each
+    cell's slot in the band target (-1: not banded); slots run policy after policy. Worked out
+    once per layout (the arrays are shared: never written)."""
+    band_slot = np.full((len(layout), len(SERIES_NAMES)), -1, dtype=np.int64)
+    slot = 0
+    for policy, names in enumerate(layout):
+        for name in names:
+            band_slot[policy, SERIES_INDEX[name]] = slot
+            slot += 1
+    banded = np.full(band_slot.shape, -1, dtype=np.int64)
+    counts = np.zeros(len(layout), dtype=np.int64)
+    for policy in range(len(layout)):
+        cells = np.flatnonzero(band_slot[policy] >= 0)
+        banded[policy, : cells.size] = cells
+        counts[policy] = cells.size
+    return banded, counts, band_slot
 
 
 # --- inputs of the period pass: shock paths, supply elasticity over time, discounting -------

@@ -61,17 +61,23 @@ class PathArrays:
         """(n,) True where a scenario-level problem (shocks, schedule, linear range) stops it."""
         return _inputs_failed(self.shift_out_of_range, self.schedule_undefined, self.linear_out_of_range)
 
-    def row_failed(self, rows: PolicyRows) -> np.ndarray:
-        """(R,) True where a policy row has no answer: its own problem or its scenario's."""
+    def row_failed(self, rows: PolicyRows, scenario_failed: np.ndarray | None = None) -> np.ndarray:
+        """(R,) True where a policy row has no answer: its own problem or its scenario's
+        (`scenario_failed`: scenario_inputs_failed, where already known)."""
         own = self.policy_infeasible.any(axis=1) | self.unbounded_willingness | self.non_finite
-        return own | self.scenario_inputs_failed()[rows.scenario]
+        if scenario_failed is None:
+            scenario_failed = self.scenario_inputs_failed()
+        return own | scenario_failed[rows.scenario]
 
     def scenario_failed(self, rows: PolicyRows) -> np.ndarray:
         """(n,) True where any problem makes the scenario's answer unusable (any of its rows)."""
         failed = self.scenario_inputs_failed()
-        row_failed = np.zeros_like(failed)
-        np.logical_or.at(row_failed, rows.scenario, self.row_failed(rows))
-        return failed | row_failed
+        return failed | any_per_scenario(self.row_failed(rows, failed), rows.scenario, failed.shape[0])
+
+
+def any_per_scenario(row_mask: np.ndarray, scenario: np.ndarray, n: int) -> np.ndarray:
+    """(n,) True where some row of the scenario is True; `scenario` (R,) is each row's."""
+    return np.bincount(scenario[row_mask], minlength=n) > 0
 
 
 def _inputs_failed(shift_out_of_range, schedule_undefined, linear_out_of_range) -> np.ndarray:

@@ -24,7 +24,7 @@ from .errors import (
     NonFiniteResultError,
 )
 from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
-from .paths import PathArrays, solve
+from .paths import PathArrays, any_per_scenario, solve
 from .policies import is_ceiling
 from .reduced_form import short_and_long_run
 from .scenario import Scenario
@@ -253,9 +253,7 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
         & ~batch.constant_elasticity[s_of]
         & (batch.demand_elasticity[s_of] >= -1.0)
     )
-    ok = arrays.alternate_feasible.copy()
-    np.logical_and.at(ok, s_of, row_ok)
-    return ok
+    return arrays.alternate_feasible & ~any_per_scenario(~row_ok, s_of, batch.size)
 
 
 def solve_scenarios(

@@ -17,7 +17,8 @@ same `scenario_id` (and ETag): tests/schemas/test_normal.py checks every demo.
 
 from __future__ import annotations
 
-from typing import Any
+from collections.abc import Callable
+from typing import Any, NamedTuple
 
 from marshmallow import Schema, fields
 from marshmallow.utils import missing
@@ -30,31 +31,69 @@ __all__ = ["normalised"]
 
 def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
     """`body` (accepted by `schema`) with the defaults filled in, in the schema's field order."""
+    plan = _plan(schema)
     out: dict[str, Any] = {}
-    for name, field in schema.fields.items():
+    for name, convert, fill in plan.fields:
         if name in body:
-            out[name] = _value(field, body[name])
-            continue
-        default = field.load_default
-        if default is missing or default is None:
-            continue
-        if isinstance(field, fields.Nested):
-            out[name] = normalised(_nested(field), {})
-            continue
-        value = default() if callable(default) else default
-        if value is not None:
-            out[name] = value
-    for name, value in body.items():  # nothing should be left, but never drop a field
-        out.setdefault(name, value)
-    rates = out.get("inflation")
-    if isinstance(schema.fields.get("inflation"), NumberOrList) and not isinstance(rates, dict):
-        # The market's rule: repeats of the last rate dropped, a list of zeros is 0.0 (the same
-        # scenario, so the same request: answers of one scenario id carry one request).
-        value = inflation_value(rates)
-        out["inflation"] = list(value) if isinstance(value, tuple) else value
-    if "policies" in schema.fields:
+            out[name] = convert(body[name])
+        elif fill is not None:
+            value = fill()
+            if value is not None:
+                out[name] = value
+    if len(out) != len(body) or not out.keys() >= body.keys():
+        for name, value in body.items():  # nothing should be left, but never drop a field
+            out.setdefault(name, value)
+    if plan.inflation:
+        rates = out.get("inflation")
+        if not isinstance(rates, dict):
+            # The market's rule: repeats of the last rate dropped, a list of zeros is 0.0 (the
+            # same scenario, so the same request: answers of one scenario id carry one request).
+            value = inflation_value(rates)
+            out["inflation"] = list(value) if isinstance(value, tuple) else value
+    if plan.policies:
         _drop_inapplicable_defaults(out, body)
     return out
+
+
+class _Plan(NamedTuple):
+    """How one schema is normalised, worked out once from its declared fields: per field its
+    name, the converter of a value sent (_converter) and the maker of its default (None: no
+    default is written out); whether it reads inflation as a market does; whether it holds
+    policies."""
+
+    fields: tuple[tuple[str, Callable[[Any], Any], Callable[[], Any] | None], ...]
+    inflation: bool
+    policies: bool
+
+
+#: Plans by schema instance (the schema kept alive beside its id).
+_PLANS: dict[int, tuple[Schema, _Plan]] = {}
+
+
+def _plan(schema: Schema) -> _Plan:
+    found = _PLANS.get(id(schema))
+    if found is not None and found[0] is schema:
+        return found[1]
+    plan = _Plan(
+        tuple((name, _converter(field), _default_maker(field)) for name, field in schema.fields.items()),
+        isinstance(schema.fields.get("inflation"), NumberOrList),
+        "policies" in schema.fields,
+    )
+    _PLANS[id(schema)] = (schema, plan)
+    return plan
+
+
+def _default_maker(field: fields.Field) -> Callable[[], Any] | None:
+    """What a left-out field is written as: its default (a nested object normalised from {});
+    None where nothing is written (no default, or a default of None: "absent")."""
+    default = field.load_default
+    if default is missing or default is None:
+        return None
+    if isinstance(field, fields.Nested):
+        return lambda: normalised(_nested(field), {})
+    if callable(default):
+        return default
+    return lambda: default
 
 
 #: Defaults that belong to the stock schedule only: written out there, and left out (as the
@@ -87,31 +126,108 @@ def _nested(field: fields.Nested) -> Schema:
     return field.schema  # marshmallow builds it once per field and keeps it
 
 
-def _value(field: fields.Field, value: Any) -> Any:
-    if value is None:
-        return None
-    if isinstance(field, Real) and isinstance(value, (int, float)):
-        return float(value)  # as Real reads a valid number
-    if isinstance(field, WholeNumber) and isinstance(value, (int, float)):
-        return int(value)  # a valid whole number, written 12 or 12.0
-    if isinstance(field, fields.Nested) and isinstance(value, dict):
-        return normalised(_nested(field), value)
-    if isinstance(field, Tagged) and isinstance(value, dict):
+def _is_number(value: Any) -> bool:
+    return isinstance(value, (int, float))
+
+
+def _is_dict(value: Any) -> bool:
+    return isinstance(value, dict)
+
+
+def _is_list(value: Any) -> bool:
+    return isinstance(value, list)
+
+
+def _not_dict(value: Any) -> bool:
+    return not isinstance(value, dict)
+
+
+def _always(value: Any) -> bool:
+    return True
+
+
+#: A converter's rule: whether it applies to a value, and what it writes the value as.
+_Rule = tuple[Callable[[Any], bool], Callable[[Any], Any]]
+
+#: Converters by field instance (the field kept alive beside its id).
+_CONVERTERS: dict[int, tuple[fields.Field, Callable[[Any], Any]]] = {}
+
+
+def _converter(field: fields.Field) -> Callable[[Any], Any]:
+    """The function that writes a value sent for `field` as the schema reads it.
+
+    The rules, tried in this order, the first whose field type and value type both match
+    applies (a value that matches none is copied as it is; None stays None):
+    a number for Real is a float, for WholeNumber an int; an object for Nested is normalised by
+    its schema, for Tagged by the schema its tag names (an unknown tag: copied); a list is
+    converted item by item, a dict value by value; NumberOrList converts by its number or its
+    items; NumberOrConstant keeps its constant (a string); an uncertain input (a number or a
+    distribution, schemas.uncertainty) converts by its tagged or its number part. Which rules
+    can apply depends on the field alone, so they are picked once per field.
+    """
+    found = _CONVERTERS.get(id(field))
+    if found is not None and found[0] is field:
+        return found[1]
+    rules: list[_Rule] = []
+    if isinstance(field, Real):
+        rules.append((_is_number, float))
+    if isinstance(field, WholeNumber):
+        rules.append((_is_number, int))
+    if isinstance(field, fields.Nested):
+        rules.append((_is_dict, lambda v: normalised(_nested(field), v)))
+    if isinstance(field, Tagged):
+        rules.append((_is_dict, _tagged(field)))
+    if isinstance(field, fields.List):
+        inner = _converter(field.inner)
+        rules.append((_is_list, lambda v: [inner(x) for x in v]))
+    if isinstance(field, fields.Dict):
+        value_field = field.value_field
+        if value_field is None:
+            rules.append((_is_dict, dict))
+        else:
+            each = _converter(value_field)
+            rules.append((_is_dict, lambda v: {k: each(x) for k, x in v.items()}))
+    if isinstance(field, NumberOrList):
+        items, number = _converter(field.items), _converter(field.number)
+        rules.append((_always, lambda v: items(v) if isinstance(v, list) else number(v)))
+    if isinstance(field, NumberOrConstant):
+        number = _converter(field.number)
+        rules.append((_always, lambda v: v if isinstance(v, str) else number(v)))
+    number_part, tagged_part = getattr(field, "number", None), getattr(field, "tagged", None)
+    if isinstance(tagged_part, Tagged):
+        rules.append((_is_dict, _converter(tagged_part)))
+    if isinstance(number_part, fields.Field):
+        rules.append((_not_dict, _converter(number_part)))
+    convert = _from_rules(tuple(rules))
+    _CONVERTERS[id(field)] = (field, convert)
+    return convert
+
+
+def _tagged(field: Tagged) -> Callable[[Any], Any]:
+    def convert(value: dict[str, Any]) -> Any:
         schema = field.schemas.get(value.get(field.tag))
         return normalised(schema, value) if schema is not None else dict(value)
-    if isinstance(field, fields.List) and isinstance(value, list):
-        return [_value(field.inner, v) for v in value]
-    if isinstance(field, fields.Dict) and isinstance(value, dict):
-        inner = field.value_field
-        return {k: _value(inner, v) if inner is not None else v for k, v in value.items()}
-    if isinstance(field, NumberOrList):
-        return _value(field.items if isinstance(value, list) else field.number, value)
-    if isinstance(field, NumberOrConstant):
-        return value if isinstance(value, str) else _value(field.number, value)
-    # An uncertain input (a number or a distribution): schemas.uncertainty.UncertainElasticity.
-    number, tagged = getattr(field, "number", None), getattr(field, "tagged", None)
-    if isinstance(tagged, Tagged) and isinstance(value, dict):
-        return _value(tagged, value)
-    if isinstance(number, fields.Field) and not isinstance(value, dict):
-        return _value(number, value)
-    return value
+
+    return convert
+
+
+def _from_rules(
+    rules: tuple[tuple[Callable[[Any], bool], Callable[[Any], Any]], ...],
+) -> Callable[[Any], Any]:
+    if not rules:
+        return lambda value: value
+    if len(rules) == 1:
+        ((applies, convert),) = rules
+        if applies is _always:
+            return lambda value: None if value is None else convert(value)
+        return lambda value: convert(value) if value is not None and applies(value) else value
+
+    def first_rule(value: Any) -> Any:
+        if value is None:
+            return None
+        for applies, convert in rules:
+            if applies(value):
+                return convert(value)
+        return value
+
+    return first_rule
