@@ -48,13 +48,11 @@ def short_and_long_run(
 ) -> tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]:
     """((price, quantity) at the impact elasticity, (price, quantity) at eps_LR), each
     (scenarios, shifters): the short- and long-run rows of every scenario of a batch."""
-    at = [
-        reduced_form(
-            batch.demand_elasticity,
-            elasticity,
-            batch.demand_shifter_elasticity,
-            batch.supply_shifter_elasticity,
-        )
-        for elasticity in (batch.impact_elasticity, batch.long_run_elasticity)
-    ]
-    return at[0], at[1]
+    n = batch.size
+    price, quantity = reduced_form(  # both rows at once: scenarios stacked twice
+        np.concatenate((batch.demand_elasticity, batch.demand_elasticity)),
+        np.concatenate((batch.impact_elasticity, batch.long_run_elasticity)),
+        np.concatenate((batch.demand_shifter_elasticity, batch.demand_shifter_elasticity)),
+        np.concatenate((batch.supply_shifter_elasticity, batch.supply_shifter_elasticity)),
+    )
+    return (price[:n], quantity[:n]), (price[n:], quantity[n:])

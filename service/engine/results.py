@@ -62,6 +62,11 @@ CONVERSION_SERIES = ("converted_homes",)
 VS_FREE_PATH_SERIES = {"renters": "renters_vs_free_path", "extra_rent": "extra_rent_vs_free_path"}
 #: The series the misallocation caution reads (MODEL.md 20), in the order cautions takes them.
 _MISALLOCATION = ("misallocation_loss", "consumer_price", "quantity")
+
+#: Per group of who gains and who loses: its name and the summary index of its total, and of
+#: its discounted total.
+_GROUP_TOTAL_FIGURES = tuple((name, SUMMARY_INDEX["total_" + name]) for name in GROUP_NAMES)
+_GROUP_DISCOUNTED_FIGURES = tuple((name, SUMMARY_INDEX["discounted_" + name]) for name in GROUP_NAMES)
 #: Their totals in the summary: answer key -> kernel summary figure.
 VS_FREE_PATH_TOTALS = {
     "renters": "vs_free_path_renters",
@@ -388,9 +393,7 @@ def assemble(
                     total_consumer_surplus_change=f[code["total_consumer_surplus_change"]],
                     total_producer_surplus_change=f[code["total_producer_surplus_change"]],
                     total_government_revenue=f[code["total_government_revenue"]],
-                    distribution_totals=None
-                    if random
-                    else {name: f[code["total_" + name]] for name in DISTRIBUTION_GROUPS},
+                    distribution_totals=None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
                     final_homes_below_free_path=f[code["final_homes_below_free_path"]] if stock else None,
                     peak_homes_below_free_path=f[code["peak_homes_below_free_path"]] if stock else None,
                     vs_free_path_totals={key: f[code[name]] for key, name in VS_FREE_PATH_TOTALS.items()}
@@ -408,7 +411,7 @@ def assemble(
                     else None,
                     distribution_totals_discounted=None
                     if random
-                    else {name: f[code["discounted_" + name]] for name in DISTRIBUTION_GROUPS},
+                    else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
                 )
             )
         rf = {
