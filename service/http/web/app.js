@@ -26,6 +26,10 @@ const PERCENT = new Set(["market.inflation", "shocks.change", "shocks.rate", "sh
   "adjustment.build_limit", "welfare.discount_rate"]);
 const LISTS = new Set(["market.inflation", "shocks.values", "adjustment.elasticities", "percentiles"]);
 const ELASTICITY = /^\/market\/(demand\/price_elasticity|supply\/(short|long)_run_elasticity|(demand|supply)\/shifters\/[^/]+)$/;
+// Inputs other than the elasticities that a bands request may draw (the uncertain schemas): each
+// gets the "known or uncertain?" choice once it has a value; the fractions among them stay <= 1.
+const UNCERTAIN_TOO = /^\/(market\/inflation|adjustment\/(rate|depreciation|conversion)|policies\/\d+\/vacancy_decontrol)$/;
+const AT_MOST_ONE = /^\/(adjustment\/(rate|depreciation)|policies\/\d+\/vacancy_decontrol)$/;
 // The fields the README's first table names keep the ids the page has always had.
 const IDS = { "/market/price": "f-price", "/market/quantity": "f-quantity", "/market/demand/price_elasticity": "f-eta",
   "/market/supply/short_run_elasticity": "f-sr", "/market/supply/long_run_elasticity": "f-lr", "/horizon": "f-horizon",
@@ -228,7 +232,8 @@ function elasticityFields(pointer, value, label) {
   select.addEventListener("change", () => {
     const current = getAt(state.request, pointer);
     const central = current && typeof current === "object" ? centralOf(current) : Number(current) || 0;
-    setAt(state.request, pointer, select.value === "" ? central : distribution(select.value, central));
+    const cap = AT_MOST_ONE.test(pointer) ? 1 : Infinity;
+    setAt(state.request, pointer, select.value === "" ? central : distribution(select.value, central, cap));
     renderForm(state.request);
     const again = document.querySelector(`[data-action="uncertain:${CSS.escape(pointer)}"]`);
     if (again) again.focus();
@@ -245,16 +250,24 @@ function elasticityFields(pointer, value, label) {
   return [...out, box];
 }
 
+// A field that may be drawn: the "known or uncertain?" choice where the value is one number or
+// a distribution; otherwise the plain field.
+function valueFields(pointer, value) {
+  const drawn = value && typeof value === "object" && !Array.isArray(value);
+  if (UNCERTAIN_TOO.test(pointer) && (typeof value === "number" || drawn)) return elasticityFields(pointer, value);
+  return [field(pointer, value)];
+}
+
 function centralOf(d) {
   if (d.distribution === "normal") return d.mean;
   if (d.distribution === "triangular") return d.mode;
   return (d.low + d.high) / 2;
 }
 
-function distribution(kind, v) {
+function distribution(kind, v, cap = Infinity) {
   const spread = Math.abs(v) * DEFAULT_SPREAD || 0.1;
   const round = (x) => Number(x.toPrecision(4));
-  const [low, high] = v < 0 ? [round(v - spread), Math.min(round(v + spread), -0.001)] : [Math.max(round(v - spread), 0), round(v + spread)];
+  const [low, high] = v < 0 ? [round(v - spread), Math.min(round(v + spread), -0.001)] : [Math.max(round(v - spread), 0), Math.min(round(v + spread), cap)];
   if (kind === "normal") return { distribution: "normal", mean: v, sd: round(spread / 2) };
   if (kind === "uniform") return { distribution: "uniform", low, high };
   return { distribution: "triangular", low, mode: v, high };
@@ -288,7 +301,7 @@ function renderForm(request, fromJson = false) {
   const market = (request.market = request.market || {});
   const m = $("market-fields");
   m.replaceChildren();
-  for (const k of ["price", "quantity", "payments_per_period", "form", "inflation"]) m.append(field(`/market/${k}`, market[k]));
+  for (const k of ["price", "quantity", "payments_per_period", "form", "inflation"]) m.append(...valueFields(`/market/${k}`, market[k]));
   market.demand = market.demand || {};
   market.supply = market.supply || {};
   m.append(...elasticityFields("/market/demand/price_elasticity", market.demand.price_elasticity));
@@ -327,7 +340,7 @@ function renderForm(request, fromJson = false) {
   for (const k of keys) {
     const pointer = `/adjustment/${k}`;
     if (request.adjustment == null && k !== "schedule") continue;
-    t.append(field(pointer, adjustment[k]));
+    t.append(...valueFields(pointer, adjustment[k]));
   }
   couplingNote();
 
@@ -347,7 +360,7 @@ function renderForm(request, fromJson = false) {
     const keys = [...new Set(["name", "kind", ...(MAIN_VALUE[p.kind] || []),
       ...(ceiling ? ["coverage", "new_homes", "vacancy_decontrol"] : []),
       ...(INDEXED_KINDS.includes(p.kind) ? ["indexed"] : []), "start", "end", ...Object.keys(p)])];
-    policies.append(item(`policy ${i + 1}: ${p.name}`, keys.map((k) => field(`/policies/${i}/${k}`, p[k])),
+    policies.append(item(`policy ${i + 1}: ${p.name}`, keys.flatMap((k) => valueFields(`/policies/${i}/${k}`, p[k])),
       `Remove policy ${i + 1}: ${p.name}`, `remove-policy:${i}`, () => { state.request.policies.splice(i, 1); renderForm(state.request); }));
   });
 
@@ -453,7 +466,8 @@ function hasDistribution(value) {
 
 // The request decides the endpoint: distributions or band settings make it a bands request.
 function endpointFor(request) {
-  return BAND_KEYS.some((k) => k in request) || hasDistribution(request.market) || hasDistribution(request.adjustment) ? "/v1/bands" : "/v1/paths";
+  return BAND_KEYS.some((k) => k in request) || hasDistribution(request.market) || hasDistribution(request.adjustment)
+    || (request.policies || []).some(hasDistribution) ? "/v1/bands" : "/v1/paths";
 }
 
 // The /v1/paths request of a bands request: every distribution at its central value.

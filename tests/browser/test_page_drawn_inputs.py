@@ -1,0 +1,49 @@
+"""The page draws more than elasticities: the inputs that the bands schemas accept as
+distributions (inflation, the adjustment's rate, depreciation and conversion, a growth cap's
+vacancy decontrol) get the same "known or uncertain?" choice, and drawing them makes the request
+a bands request (MODEL.md 17-18 for conversion and vacancy decontrol)."""
+
+from __future__ import annotations
+
+import pytest
+
+from .test_page import _load, _request, _run, base_url  # noqa: F401 (base_url is a fixture)
+
+pytestmark = pytest.mark.slow
+
+
+def test_conversion_and_vacancy_decontrol_drawn_in_the_form_give_bands(page, base_url):  # noqa: F811
+    _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
+    assert page.get_attribute("#results", "data-endpoint") in (None, "/v1/paths")
+    page.select_option("select[data-action='uncertain:/adjustment/conversion']", "uniform")
+    page.select_option("select[data-action='uncertain:/policies/2/vacancy_decontrol']", "triangular")
+    request = _request(page)
+    # Centred on the demo's values (kappa 0.02, tau 0.1) with the page's default spread of 30 %.
+    assert request["adjustment"]["conversion"] == {"distribution": "uniform", "low": 0.014, "high": 0.026}
+    assert request["policies"][2]["vacancy_decontrol"] == {
+        "distribution": "triangular",
+        "low": 0.07,
+        "mode": 0.1,
+        "high": 0.13,
+    }
+    # A ceiling without decontrol offers no draw for it (the field is empty, not a number).
+    assert page.locator("select[data-action='uncertain:/policies/1/vacancy_decontrol']").count() == 0
+    assert page.is_visible("#uncertainty-fieldset")
+    page.fill("input[data-pointer='/draws']", "200")
+    _run(page)
+    assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
+    assert page.locator("#summary td .range").count() > 0
+    answer = page.evaluate("fetch(document.querySelector('#download-json').href).then(r => r.json())")
+    drawn = {item["pointer"] for item in answer["uncertain_inputs"]}
+    assert {"/adjustment/conversion", "/policies/2/vacancy_decontrol"} <= drawn
+
+
+def test_a_drawn_fraction_stays_at_most_one_and_known_again_returns_the_central_value(page, base_url):  # noqa: F811
+    _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
+    pointer = "/policies/2/vacancy_decontrol"
+    page.fill(f"input[data-pointer='{pointer}']", "0.9")
+    page.select_option(f"select[data-action='uncertain:{pointer}']", "uniform")
+    drawn = _request(page)["policies"][2]["vacancy_decontrol"]
+    assert drawn == {"distribution": "uniform", "low": 0.63, "high": 1}  # 0.9 + 30 % capped at 1
+    page.select_option(f"select[data-action='uncertain:{pointer}']", "")
+    assert _request(page)["policies"][2]["vacancy_decontrol"] == pytest.approx(0.815)
