@@ -419,6 +419,26 @@ class Library:
             session.execute(update(Owner).where(Owner.owner == owner).values(records=Owner.records - 1))
             self._pause(session)
 
+    def transfer(self, from_owner: str, to_owner: str) -> int:
+        """Give every record of `from_owner` to `to_owner` (a key rotated out: its records stay
+        with the key that replaces it); the number moved. One transaction: all or nothing, and
+        the owners' counts move with the records (the new owner may then hold more than
+        max_records: nothing stored is dropped, it only cannot save more until it deletes)."""
+        if from_owner == to_owner:
+            return 0
+        with self._transaction() as session:
+            moved = session.execute(
+                update(Record).where(Record.owner == from_owner).values(owner=to_owner)
+            ).rowcount
+            if moved:
+                session.execute(sql_delete(Owner).where(Owner.owner == from_owner))
+                counted = session.execute(
+                    update(Owner).where(Owner.owner == to_owner).values(records=Owner.records + moved)
+                ).rowcount
+                if not counted:
+                    session.add(Owner(owner=to_owner, records=moved))
+            return moved
+
     def count(self) -> dict[str, int]:
         """Rows per table (tests check that nothing half-written is left)."""
         with self._transaction() as session:
