@@ -18,6 +18,7 @@ from typing import Any
 
 from . import charts, labels
 from .simulation import simulate
+from .uncertainty import bands, central_request, is_bands_request
 
 __all__ = ["briefing", "briefing_html"]
 
@@ -172,8 +173,15 @@ def _head(name: str, unit: str) -> str:
     return _e(name) + (f'<span class="unit">{_e(unit)}</span>' if unit else "")
 
 
-def briefing_html(body: dict[str, Any], units: dict[str, str] | None = None, title: str | None = None) -> str:
-    """The briefing of a /v1/paths answer (it carries its `request`)."""
+def briefing_html(
+    body: dict[str, Any],
+    units: dict[str, str] | None = None,
+    title: str | None = None,
+    ranges: dict[str, Any] | None = None,
+) -> str:
+    """The briefing of a /v1/paths answer (it carries its `request`); with `ranges` (the
+    /v1/bands answer whose central scenario `body` answers), also how uncertain the figures are:
+    the uncertain inputs, the percentile ribbons and the range of each headline figure."""
     units = {**labels.DEFAULT_UNITS, **(units or {})}
     request = body["request"]
     form = request["market"].get("form", "linear")
@@ -277,11 +285,21 @@ def briefing_html(body: dict[str, Any], units: dict[str, str] | None = None, tit
             "<p>Not reported under random rationing: the model does not track which households are drawn.</p>"
         )
 
-    parts.append("<h2>Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in body["cautions"]) + "</ul>")
+    cautions = body["cautions"]
+    if ranges is not None:
+        parts += _ranges_section(ranges, request, units, form, heading)
+        cautions = list(dict.fromkeys([*ranges["cautions"], *cautions]))
+    parts.append("<h2>Cautions</h2><ul>" + "".join(f"<li>{_e(c)}</li>" for c in cautions) + "</ul>")
+    bands_id = (
+        ""
+        if ranges is None
+        else f"; the ranges are the /v1/bands answer <code>{_e(ranges['scenario_id'])}</code> (seed "
+        f"{_e(ranges['seed'])})"
+    )
     parts.append(
         f"<footer>shockpath model version {_e(body['model_version'])}; scenario id "
         f"<code>{_e(body['scenario_id'])}</code> (posting the request in this briefing's inputs to "
-        "/v1/paths gives the same numbers).</footer>"
+        f"/v1/paths gives the same numbers){bands_id}.</footer>"
     )
     return (
         '<!doctype html>\n<html lang="en"><head><meta charset="utf-8">'
@@ -291,6 +309,78 @@ def briefing_html(body: dict[str, Any], units: dict[str, str] | None = None, tit
     )
 
 
-def briefing(request: dict[str, Any], units: dict[str, str] | None = None, title: str | None = None) -> str:
-    """The briefing of a /v1/paths request (ProblemError on invalid input, as simulate)."""
-    return briefing_html(simulate(request), units, title)
+#: The headline figures whose ranges the briefing tabulates (each where the bands carry it).
+RANGE_FIGURES = ("discounted_deadweight_loss", "peak_shortage", "final_consumer_price", "final_quantity")
+
+
+def _distribution_words(item: dict[str, Any]) -> str:
+    parameters = ", ".join(
+        f"{k} {_number(v)}" for k, v in item.items() if k not in ("pointer", "distribution", "central")
+    )
+    return f"{item['distribution']} ({parameters}), central value {_number(item['central'])}"
+
+
+def _ranges_section(
+    ranges: dict[str, Any], request: dict[str, Any], units: dict[str, str], form: str, heading: str
+) -> list[str]:
+    """How uncertain: the inputs drawn, the percentile ribbons, the range of each headline."""
+    words = {pointer: text for pointer, text, _ in labels.input_rows(request, units)}
+    drawn = [
+        f"<li>{_e(words.get(item['pointer'], item['pointer']))}: {_e(_distribution_words(item))}</li>"
+        for item in ranges["uncertain_inputs"]
+    ]
+    keys = [f"{q:g}" for q in ranges["percentiles"]]
+    low, high = keys[0], keys[-1]
+    middle = "50" if "50" in keys else None
+    parts = [
+        "<h2>How uncertain</h2>",
+        f"<p>The figures above use the central value of each uncertain input. The model was also run "
+        f"{ranges['draws']:,} times with the inputs drawn as follows (seed {_e(ranges['seed'])}):</p>"
+        f"<ul>{''.join(drawn)}</ul>",
+    ]
+    ribbons = charts.render_bands(ranges, units, "svg", form, f"{heading}: ranges over the draws")
+    parts.append(
+        f"<figure>{_svg(ribbons, 'c4')}<figcaption>Each line is a policy's central path; the shading runs "
+        f"from the {low}th to the {high}th percentile of the draws, period by period (a band is not the "
+        "path of any one draw).</figcaption></figure>"
+    )
+    names = [band["name"] for band in ranges["bands"]]
+    rows = []
+    for figure in RANGE_FIGURES:
+        cells = []
+        for band in ranges["bands"]:
+            by_q = band["summary"].get(figure)
+            if by_q is None:
+                cells.append(_number(None))
+                continue
+            text = f"{_number(by_q[low])} to {_number(by_q[high])}"
+            if middle is not None:
+                text += f" (median {_number(by_q[middle])})"
+            cells.append(_e(text))
+        rows.append(
+            [_head(labels.label(figure, totals=True), labels.unit(figure, units, totals=True)), *cells]
+        )
+    parts.append(
+        _table(
+            f"Range of each headline figure over the draws: {low}th to {high}th percentile",
+            ["Figure", *(_e(n) for n in names)],
+            rows,
+        )
+    )
+    return parts
+
+
+def briefing(
+    request: dict[str, Any],
+    units: dict[str, str] | None = None,
+    title: str | None = None,
+    threads: int = 1,
+) -> str:
+    """The briefing of a /v1/paths request, or of a /v1/bands request (its central answer and
+    how uncertain it is; `threads` as for bands); ProblemError on invalid input, as the
+    endpoint of the request's kind."""
+    if not is_bands_request(request):
+        return briefing_html(simulate(request), units, title)
+    ranges = bands(request, threads=threads)
+    central = simulate(central_request(request, ranges["uncertain_inputs"]))
+    return briefing_html(central, units, title, ranges)

@@ -7,6 +7,7 @@ through the same vectorised engine as /v1/paths.
 
 from __future__ import annotations
 
+import copy
 from typing import Any
 
 import numpy as np
@@ -24,7 +25,10 @@ from .schemas.normal import normalised
 from .schemas.uncertainty import BandsRequestSchema, SensitivityRequestSchema, UncertainRequest
 from .simulation import compute, scenario_id
 
-__all__ = ["bands", "headlines", "sensitivity"]
+__all__ = ["BAND_KEYS", "bands", "central_request", "headlines", "is_bands_request", "sensitivity"]
+
+#: The settings only a bands request has.
+BAND_KEYS = ("draws", "seed", "percentiles", "supply_correlation")
 
 _BANDS = BandsRequestSchema()
 _SENSITIVITY = SensitivityRequestSchema()
@@ -41,6 +45,38 @@ def _answer_id(endpoint: str, req: UncertainRequest) -> str:
         percentiles=req.percentiles,
         supply_correlation=req.supply_correlation,
     )
+
+
+def _has_distribution(value: Any) -> bool:
+    if isinstance(value, dict):
+        return "distribution" in value or any(_has_distribution(v) for v in value.values())
+    if isinstance(value, list):
+        return any(_has_distribution(v) for v in value)
+    return False
+
+
+def is_bands_request(request: Any) -> bool:
+    """The endpoint rule (the page's, the library's, the briefing's): a request with draws, seed,
+    percentiles or supply_correlation, or with a distribution object anywhere, is a /v1/bands
+    request; any other is a /v1/paths request."""
+    return isinstance(request, dict) and (any(k in request for k in BAND_KEYS) or _has_distribution(request))
+
+
+def central_request(request: dict[str, Any], uncertain_inputs: list[dict[str, Any]]) -> dict[str, Any]:
+    """The /v1/paths request of a (valid) bands request at its central values: every uncertain
+    input (the answer's `uncertain_inputs`: JSON Pointer and central value) replaced by its
+    central value, the band settings left out. It is the scenario of the answer's `central`."""
+    out = copy.deepcopy({k: v for k, v in request.items() if k not in BAND_KEYS})
+    for item in uncertain_inputs:
+        *parents, leaf = [p.replace("~1", "/").replace("~0", "~") for p in item["pointer"].split("/")[1:]]
+        target: Any = out
+        for part in parents:
+            target = target[int(part)] if isinstance(target, list) else target[part]
+        if isinstance(target, list):
+            target[int(leaf)] = item["central"]
+        else:
+            target[leaf] = item["central"]
+    return out
 
 
 def _describe(item) -> dict[str, Any]:

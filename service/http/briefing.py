@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from flask import Response, g
+from flask import Response, current_app, g
 
 from .. import charts
 from ..briefing import briefing
@@ -26,12 +26,14 @@ HTML = "text/html"
     "/v1/briefing",
     operationId="postBriefing",
     summary="A printable briefing of one scenario as a self-contained HTML document",
-    request="BriefingRequest",
+    request="BriefingRequest | BandsBriefingRequest",
     responses={
         "200": {
             "description": "One HTML document, no script and no outside file: the question, the inputs in "
             "plain words, the charts as inline SVG, the summary and who-gains tables, the cautions, the "
-            "model version and scenario id. Its print style keeps tables and figures whole on A4 and Letter.",
+            "model version and scenario id. Of a bands request: its central answer, and how uncertain it "
+            "is (the inputs drawn, percentile ribbons, the range of each headline figure). Its print "
+            "style keeps tables and figures whole on A4 and Letter.",
             "content": {HTML: "html"},
             "headers": ["ETag"],
         },
@@ -54,7 +56,8 @@ def post_briefing() -> Response:
         )
 
     def produce() -> Response:
-        text = briefing(scenario, options["units"], options.get("title"))
+        threads = current_app.extensions["shockpath.settings"].band_threads
+        text = briefing(scenario, options["units"], options.get("title"), threads)
         g.scenario_id = text.rsplit("scenario id <code>", 1)[1][:64]
         return Response(text, mimetype=HTML)
 

@@ -19,7 +19,7 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 from .. import limits
 from ..engine import MODEL_VERSION
 from ..limits import MAX_DRAW_CELLS, MAX_DRAWS
-from ..schemas.briefing import BriefingRequestSchema
+from ..schemas.briefing import BandsBriefingRequestSchema, BriefingRequestSchema
 from ..schemas.charts import ChartRequestSchema
 from ..schemas.fields import openapi_attributes
 from ..schemas.library import ScenarioListSchema, ScenarioRecordSchema, ScenarioWriteSchema
@@ -79,6 +79,7 @@ _SCHEMAS = {
     "SensitivityResponse": SensitivityResponseSchema,
     "ChartRequest": ChartRequestSchema,
     "BriefingRequest": BriefingRequestSchema,
+    "BandsBriefingRequest": BandsBriefingRequestSchema,
     "ExampleList": ExampleListSchema,
     "Health": HealthSchema,
     "ScenarioWrite": ScenarioWriteSchema,
@@ -172,8 +173,8 @@ def _content(kind: str) -> dict[str, Any]:
                 "description": "A PathsRequest or a BandsRequest, as the example's endpoint says.",
             }
         }
-    if " | " in kind:  # one of several schemas, tried in order
-        return {"schema": {"oneOf": [{"$ref": f"#/components/schemas/{k}"} for k in kind.split(" | ")]}}
+    if " | " in kind:  # any of several schemas (a body may be valid under more than one)
+        return {"schema": {"anyOf": [{"$ref": f"#/components/schemas/{k}"} for k in kind.split(" | ")]}}
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 

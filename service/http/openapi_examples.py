@@ -141,7 +141,11 @@ def request_examples() -> dict[str, dict[str, dict[str, Any]]]:
                         "period": "year",
                     },
                 },
-            }
+            },
+            SHORT_BANDS: {
+                "summary": "A briefing of the uncertain demo with few draws: its central answer and ranges",
+                "value": {**short_bands["value"], "title": "Quillbrook: how sure are we?"},
+            },
         },
     }
     # The CSV operations take the same bodies as the operations they answer as CSV.

@@ -22,11 +22,10 @@ from ..schemas.library import ScenarioWriteSchema
 from ..schemas.paths import PathsRequestSchema
 from ..schemas.uncertainty import BandsRequestSchema
 from ..simulation import compute, scenario_id
+from ..uncertainty import BAND_KEYS, is_bands_request
 from ..uncertainty import _answer_id as bands_answer_id
 
 __all__ = ["BAND_KEYS", "Written", "kind_of", "normalise", "owner_hash", "validate_write"]
-
-BAND_KEYS = ("draws", "seed", "percentiles", "supply_correlation")
 
 _WRITE = ScenarioWriteSchema()
 _PATHS = PathsRequestSchema()
@@ -45,17 +44,9 @@ def owner_hash(key: str) -> str:
     return hashlib.sha256(_OWNER_PREFIX + key.encode()).hexdigest()
 
 
-def _has_distribution(value: Any) -> bool:
-    if isinstance(value, dict):
-        return "distribution" in value or any(_has_distribution(v) for v in value.values())
-    if isinstance(value, list):
-        return any(_has_distribution(v) for v in value)
-    return False
-
-
 def kind_of(request: dict[str, Any]) -> str:
-    """ "bands" or "paths": the endpoint the request is for (the page's rule)."""
-    return "bands" if any(k in request for k in BAND_KEYS) or _has_distribution(request) else "paths"
+    """ "bands" or "paths": the endpoint the request is for (uncertainty.is_bands_request)."""
+    return "bands" if is_bands_request(request) else "paths"
 
 
 def normalise(request: dict[str, Any]) -> str:

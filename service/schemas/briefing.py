@@ -1,8 +1,9 @@
-"""The /v1/briefing request: a /v1/paths request plus an optional title and units.
+"""The /v1/briefing request: a /v1/paths or a /v1/bands request plus an optional title and units.
 
-`BriefingRequestSchema` documents the whole body (the OpenAPI document); the service loads the
-two options with `BriefingOptionsSchema` and the rest as a /v1/paths request, so every error of
-the scenario points where it would for /v1/paths.
+`BriefingRequestSchema` and `BandsBriefingRequestSchema` document the whole body (the OpenAPI
+document: one of the two); the service loads the two options with `BriefingOptionsSchema` and the
+rest as the request of its kind (uncertainty.is_bands_request), so every error of the scenario
+points where it would for /v1/paths or /v1/bands.
 """
 
 from __future__ import annotations
@@ -13,8 +14,9 @@ from .. import limits
 from .charts import UnitsSchema
 from .fields import StrictSchema
 from .paths import PathsRequestSchema
+from .uncertainty import BandsRequestSchema
 
-__all__ = ["OPTIONS", "BriefingOptionsSchema", "BriefingRequestSchema"]
+__all__ = ["OPTIONS", "BandsBriefingRequestSchema", "BriefingOptionsSchema", "BriefingRequestSchema"]
 
 #: The fields a briefing adds to a /v1/paths request.
 OPTIONS = ("title", "units")
@@ -38,3 +40,11 @@ class BriefingRequestSchema(PathsRequestSchema):
     units = fields.Nested(
         UnitsSchema, metadata={"description": "Unit words for labels: currency, homes, ..."}
     )
+
+
+class BandsBriefingRequestSchema(BandsRequestSchema):
+    """Documentation only: a /v1/bands request with `title` and `units` (the briefing of its
+    central answer, with how uncertain it is)."""
+
+    title = BriefingRequestSchema._declared_fields["title"]
+    units = BriefingRequestSchema._declared_fields["units"]

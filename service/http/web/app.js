@@ -981,9 +981,8 @@ async function downloadWorkbook() {
 }
 
 async function downloadBriefing() {
-  const { request } = state.answer;
-  const paths = state.endpoint === "/v1/bands" ? centralRequest(request) : request;
-  const body = { ...paths, units: units() };
+  // A bands request is briefed as it is: its central answer and how uncertain it is.
+  const body = { ...state.answer.request, units: units() };
   if (scenarioName()) body.title = scenarioName();
   const response = await fetch("/v1/briefing", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) });
   if (!response.ok) { $("status").textContent = `No briefing: ${(await response.json()).detail}`; return; }
