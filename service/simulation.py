@@ -193,16 +193,18 @@ def compute(
     prefixes: Sequence[str] | None = None,
     lists: bool = True,
     output: str = "full",
+    ids: Sequence[str] | None = None,
 ) -> list[dict[str, Any]]:
     """Bodies (or Problem documents, told apart by is_problem) of valid scenarios, in order;
-    output="summary" keeps only SUMMARY_KEYS of each body."""
+    output="summary" keeps only SUMMARY_KEYS of each body. `ids`: their scenario_ids where the
+    caller has them already (else each is hashed here)."""
     outcomes = engine.solve_scenarios(scenarios, as_lists=lists and output == "full")
     out: list[dict[str, Any]] = []
     for i, (scenario, outcome) in enumerate(zip(scenarios, outcomes, strict=True)):
         if isinstance(outcome, engine.EngineError):
             out.append(engine_problem(outcome, prefixes[i] if prefixes else ""))
         else:
-            body = render(scenario, outcome, scenario_id(scenario))
+            body = render(scenario, outcome, scenario_id(scenario) if ids is None else ids[i])
             out.append(_summary_only(body) if output == "summary" else body)
     return out
 

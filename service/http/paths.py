@@ -98,7 +98,7 @@ def _paths(chosen: str, raw: object) -> Response:
         if (cached := cache.get(tag)) is not None:
             response = Response(cached, mimetype=chosen)
         else:
-            (body,) = compute([scenario], lists=as_xlsx, output=output)
+            (body,) = compute([scenario], lists=as_xlsx, output=output, ids=[sid])
             SCENARIOS.labels("/v1/paths").inc()
             if is_problem(body):
                 raise ProblemError(body)
