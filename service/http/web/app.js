@@ -926,6 +926,7 @@ async function run(event) {
   }
   // Nothing from an earlier run may stand next to this one's numbers.
   $("status").textContent = "Running...";
+  delete $("results").dataset.drawn;  // set again once this run's charts are drawn
   for (const id of ["summary", "groups", "downloads", "sensitivity", "years"]) $(id).hidden = true;
   $("charts").replaceChildren();
   $("tornado-chart").replaceChildren();
