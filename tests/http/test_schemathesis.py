@@ -151,10 +151,19 @@ def test_generated_requests_are_answered_as_documented(case, cases):
 
 
 @SCHEMA.hooks.apply(_at_most_some_draws, name="map_case")
-@SCHEMA.hooks.apply(_a_share_of_the_twins_body_coverage, name="filter_case")
-@SCHEMA.include(path=list(HEAVY)).parametrize()
+@SCHEMA.include(path=[path for path in HEAVY if path not in TWINS]).parametrize()
 @_settings("heavy")
 def test_generated_uncertainty_requests_are_answered_as_documented(case, cases):
+    _run(case, cases)
+
+
+# The band CSV twin has its own test: a filter hook on the test above made schemathesis fail to
+# build a /v1/sensitivity strategy when other tests had run first in the same process.
+@SCHEMA.hooks.apply(_at_most_some_draws, name="map_case")
+@SCHEMA.hooks.apply(_a_share_of_the_twins_body_coverage, name="filter_case")
+@SCHEMA.include(path=[path for path in HEAVY if path in TWINS]).parametrize()
+@_settings("heavy")
+def test_generated_band_csv_requests_are_answered_as_documented(case, cases):
     _run(case, cases)
 
 
