@@ -21,8 +21,9 @@ from scipy.integrate import quad
 from scipy.optimize import brentq
 
 from . import reference
+from .engine.additions import FORMS
 from .strategies import building_requests
-from .test_reference_model import FORMS, assert_groups_sum, assert_same_rows, scenario
+from .test_reference_model import assert_groups_sum, assert_same_rows, scenario
 
 STOCK = {"schedule": "stock", "rate": 0.3, "depreciation": 0.01}
 

@@ -19,11 +19,11 @@ from hypothesis import strategies as st
 from scipy.integrate import quad
 
 from . import reference
-from .strategies import floats, requests
+from .engine.additions import EVERY_KIND, FORMS, POLICIES_WITH_MONEY
+from .strategies import extended_requests, floats, requests
 
 CORE = ("pc", "pp", "q", "qd", "qs", "shortage", "excess")
 MONEY = ("dcs", "dps", "g", "dwl", "mis")
-FORMS = ("linear", "constant_elasticity")
 
 
 def market(form="linear", eta=-0.5, sr=0.3, lr=1.5, k=1, p0=1000.0, q0=10000.0, inflation=None):
@@ -152,17 +152,8 @@ def test_nominal_growth_cap_identity_on_random_markets(request, pi, indexed):
 def test_indexed_levels_and_amounts_equal_them_without_inflation(form):
     """MODEL.md section 12 (exact identity stated there): an indexed level (and an indexed tax
     or subsidy) gives the paths of the same level without inflation, bit for bit."""
-    policies = [
-        {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0, "indexed": True},
-        {"name": "freeze", "kind": "price_ceiling", "level": "base", "indexed": True, "coverage": 0.7},
-        {"name": "floor", "kind": "price_floor", "level": 1150.0, "indexed": True},
-        {"name": "tax", "kind": "unit_tax", "amount": 60.0, "indexed": True},
-        {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "indexed": True},
-        {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.08},
-        {"name": "permits", "kind": "quantity_cap", "level": 10100.0},
-    ]
-    with_inflation = reference.paths(scenario(policies, form, inflation=[0.04, 0.02, 0.07]))
-    without = reference.paths(scenario(policies, form))
+    with_inflation = reference.paths(scenario(POLICIES_WITH_MONEY, form, inflation=[0.04, 0.02, 0.07]))
+    without = reference.paths(scenario(POLICIES_WITH_MONEY, form))
     for name, rows in without.items():
         assert_same_rows(with_inflation[name], rows)
     assert any(r.binding for r in without["ceiling"]) and any(r.binding for r in without["floor"])
@@ -475,20 +466,6 @@ def assert_groups_sum(request, out):
                 assert all(v == 0.0 for v in d.values()), where
 
 
-EVERY_KIND = [
-    {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0},
-    {"name": "freeze", "kind": "price_ceiling", "level": "base", "end": 5},
-    {"name": "cap", "kind": "price_ceiling", "growth": 0.01, "start": 2},
-    {"name": "partial", "kind": "price_ceiling", "level": 1040.0, "coverage": 0.6},
-    {"name": "partial cap", "kind": "price_ceiling", "growth": 0.0, "coverage": 0.3, "start": 2, "end": 6},
-    {"name": "floor", "kind": "price_floor", "level": 1200.0},
-    {"name": "tax", "kind": "unit_tax", "amount": 60.0},
-    {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.06},
-    {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "end": 4},
-    {"name": "permits", "kind": "quantity_cap", "level": 10050.0},
-]
-
-
 @pytest.mark.parametrize("form", FORMS)
 @pytest.mark.parametrize("adjustment", [None, {"schedule": "stock", "rate": 0.3, "depreciation": 0.02}])
 @pytest.mark.parametrize("eta", [-0.5, -1.6])
@@ -556,27 +533,6 @@ def test_groups_against_surplus_as_areas_over_price(form):
                 assert tenants == pytest.approx(-area(c.qd, p_star, r.pc), rel=1e-8)
             checked += 1
     assert checked >= 40
-
-
-@st.composite
-def extended_requests(draw):
-    """Random markets of both forms with the new fields: inflation, stock, partial coverage."""
-    request = draw(requests(rationing="efficient"))
-    request["market"]["inflation"] = draw(
-        st.one_of(st.just(0.0), floats(-0.03, 0.1), st.lists(floats(-0.03, 0.1), min_size=1, max_size=4))
-    )
-    if draw(st.booleans()):
-        adjustment = {"schedule": "stock", "rate": draw(floats(0.05, 1.0))}
-        if draw(st.booleans()):
-            adjustment["depreciation"] = draw(floats(0.0, 0.1))
-        request["adjustment"] = adjustment
-    s = draw(floats(0.05, 1.0))
-    for policy in request["policies"]:
-        if policy["kind"] == "price_ceiling":
-            policy["coverage"] = s
-        if policy["kind"] in ("price_ceiling", "price_floor", "unit_tax", "unit_subsidy"):
-            policy["indexed"] = draw(st.booleans())
-    return request
 
 
 @given(extended_requests())

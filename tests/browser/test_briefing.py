@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from service import create_app, simulate
+from service import simulate
 from service.examples import example_request
 
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
@@ -30,11 +30,21 @@ def poppler():
         pytest.skip("poppler-utils is not installed")
 
 
-def _briefing(request: dict, title: str) -> str:
-    client = create_app({"TESTING": True}).test_client()
-    response = client.post("/v1/briefing", json={**request, "title": title, "units": UNITS})
-    assert response.status_code == 200
-    return response.get_data(as_text=True)
+@pytest.fixture(scope="module")
+def briefing(app):
+    """briefing(name, title): the briefing of a demo as /v1/briefing writes it, drawn once and
+    printed on both page sizes (its charts take seconds to draw)."""
+    drawn: dict[tuple[str, str], str] = {}
+
+    def draw(name: str, title: str) -> str:
+        if (name, title) not in drawn:
+            body = {**example_request(name), "title": title, "units": UNITS}
+            response = app.test_client().post("/v1/briefing", json=body)
+            assert response.status_code == 200
+            drawn[name, title] = response.get_data(as_text=True)
+        return drawn[name, title]
+
+    return draw
 
 
 def _words(pdf: Path) -> list[tuple[int, float, float, float, float, str]]:
@@ -54,11 +64,11 @@ def _words(pdf: Path) -> list[tuple[int, float, float, float, float, str]]:
 
 @pytest.mark.parametrize("name", ["corrowdale-older-buildings", "essvane-freeze-under-inflation"])
 @pytest.mark.parametrize("size", ["A4", "Letter"])
-def test_the_briefing_prints_whole_on_a4_and_letter(page, poppler, tmp_path, name, size):
+def test_the_briefing_prints_whole_on_a4_and_letter(page, poppler, briefing, tmp_path, name, size):
     request = example_request(name)
     answer = simulate(request)
     title = f"{name.split('-')[0].capitalize()} briefing"
-    page.set_content(_briefing(request, title))
+    page.set_content(briefing(name, title))
     pdf = tmp_path / f"{name}-{size}.pdf"
     page.pdf(path=str(pdf), format=size, print_background=True)
     info = subprocess.run(["pdfinfo", str(pdf)], check=True, capture_output=True, text=True).stdout

@@ -29,6 +29,30 @@ STOCK = ("homes_below_free_path", "rent_above_free_path")
 #: scalar reference.
 GROUPS, TENANTS, OWNERS = reference.GROUPS, reference.TENANTS, reference.OWNERS
 FORMS = ("linear", "constant_elasticity")
+#: One policy of every kind (and partial coverage, a freeze, a cap) on the market of scenario()
+#: (P0 = 1000, Q0 = 10,000): each binds under scenario()'s demand step.
+EVERY_KIND = [
+    {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0},
+    {"name": "freeze", "kind": "price_ceiling", "level": "base", "end": 5},
+    {"name": "cap", "kind": "price_ceiling", "growth": 0.01, "start": 2},
+    {"name": "partial", "kind": "price_ceiling", "level": 1040.0, "coverage": 0.6},
+    {"name": "partial cap", "kind": "price_ceiling", "growth": 0.0, "coverage": 0.3, "start": 2, "end": 6},
+    {"name": "floor", "kind": "price_floor", "level": 1200.0},
+    {"name": "tax", "kind": "unit_tax", "amount": 60.0},
+    {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.06},
+    {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "end": 4},
+    {"name": "permits", "kind": "quantity_cap", "level": 10050.0},
+]
+#: Every rule with money in it, indexed (MODEL.md 12), with the two kinds that have none.
+POLICIES_WITH_MONEY = [
+    {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0, "indexed": True},
+    {"name": "freeze", "kind": "price_ceiling", "level": "base", "indexed": True, "coverage": 0.7},
+    {"name": "floor", "kind": "price_floor", "level": 1150.0, "indexed": True},
+    {"name": "tax", "kind": "unit_tax", "amount": 60.0, "indexed": True},
+    {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "indexed": True},
+    {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.08},
+    {"name": "permits", "kind": "quantity_cap", "level": 10100.0},
+]
 
 
 def market(

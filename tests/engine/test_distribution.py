@@ -15,20 +15,18 @@ from hypothesis import assume, given
 from service import simulate
 
 from ..strategies import extended_requests, requests
-from .additions import FORMS, GROUPS, OWNERS, TENANTS, path, scales, scenario, solved_or_none, summary
-
-EVERY_KIND = [
-    {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0},
-    {"name": "freeze", "kind": "price_ceiling", "level": "base", "end": 5},
-    {"name": "cap", "kind": "price_ceiling", "growth": 0.01, "start": 2},
-    {"name": "partial", "kind": "price_ceiling", "level": 1040.0, "coverage": 0.6},
-    {"name": "partial cap", "kind": "price_ceiling", "growth": 0.0, "coverage": 0.3, "start": 2, "end": 6},
-    {"name": "floor", "kind": "price_floor", "level": 1200.0},
-    {"name": "tax", "kind": "unit_tax", "amount": 60.0},
-    {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.06},
-    {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "end": 4},
-    {"name": "permits", "kind": "quantity_cap", "level": 10050.0},
-]
+from .additions import (
+    EVERY_KIND,
+    FORMS,
+    GROUPS,
+    OWNERS,
+    TENANTS,
+    path,
+    scales,
+    scenario,
+    solved_or_none,
+    summary,
+)
 
 
 def assert_groups_add_up(body, request):

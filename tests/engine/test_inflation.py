@@ -18,7 +18,16 @@ from service import simulate
 
 from .. import reference
 from ..strategies import floats, requests
-from .additions import FORMS, NOMINAL, assert_same_paths, path, scales, scenario, solved_or_none
+from .additions import (
+    FORMS,
+    NOMINAL,
+    POLICIES_WITH_MONEY,
+    assert_same_paths,
+    path,
+    scales,
+    scenario,
+    solved_or_none,
+)
 
 SHOCKS = [
     {"shifter": "income", "profile": "step", "change": 0.12, "start": 2},
@@ -71,17 +80,6 @@ def test_the_growth_cap_identity_holds_on_random_markets(request, pi, indexed):
     a, b = solved_or_none(nominal), solved_or_none(deflated)
     assume(a is not None and b is not None)
     assert_same_paths(a, b, *scales(request), rel=1e-8)
-
-
-POLICIES_WITH_MONEY = [
-    {"name": "ceiling", "kind": "price_ceiling", "level": 1040.0, "indexed": True},
-    {"name": "freeze", "kind": "price_ceiling", "level": "base", "indexed": True, "coverage": 0.7},
-    {"name": "floor", "kind": "price_floor", "level": 1150.0, "indexed": True},
-    {"name": "tax", "kind": "unit_tax", "amount": 60.0, "indexed": True},
-    {"name": "subsidy", "kind": "unit_subsidy", "amount": 60.0, "indexed": True},
-    {"name": "vat", "kind": "ad_valorem_tax", "rate": 0.08},
-    {"name": "permits", "kind": "quantity_cap", "level": 10100.0},
-]
 
 
 @pytest.mark.parametrize("form", FORMS)

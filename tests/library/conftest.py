@@ -19,8 +19,6 @@ from sqlalchemy import MetaData, create_engine, inspect
 from service import create_app
 from service.library import database_url
 
-from ..openapi_check import ResponseChecker
-
 KEY_A = "key-of-analyst-a-0123456789"
 KEY_B = "key-of-analyst-b-9876543210"
 
@@ -75,11 +73,6 @@ def make_client(database, checker) -> Callable[..., object]:
 @pytest.fixture()
 def library_client(make_client):
     return make_client()
-
-
-@pytest.fixture(scope="session")
-def checker(app):
-    return ResponseChecker(app.extensions["shockpath.openapi"])
 
 
 def closed_port() -> int:

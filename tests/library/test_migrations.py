@@ -36,19 +36,35 @@ def test_the_migrations_build_exactly_the_models_tables(database):
         engine.dispose()
 
 
-def test_the_upgrade_command_migrates_the_configured_database(database):
+#: The library's command line (`python -m service.library`), run from the checkout.
+COMMAND = [sys.executable, "-m", "service.library"]
+
+
+def _command_env(database: dict[str, str]) -> dict[str, str]:
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
     env.pop("SHOCKPATH_DATABASE_URL", None)
     env.update({f"SHOCKPATH_{k.upper()}": v for k, v in database.items()})
-    run = [sys.executable, "-m", "service.library"]
+    return env
+
+
+def test_the_upgrade_command_migrates_the_configured_database(database):
+    env = _command_env(database)
     upgraded = subprocess.run(
-        [*run, "upgrade"], cwd=ROOT, env=env, capture_output=True, text=True, check=True
+        [*COMMAND, "upgrade"], cwd=ROOT, env=env, capture_output=True, text=True, check=True
     )
     assert upgraded.stdout.strip() == head_revision()
-    current = subprocess.run([*run, "current"], cwd=ROOT, env=env, capture_output=True, text=True, check=True)
+    current = subprocess.run(
+        [*COMMAND, "current"], cwd=ROOT, env=env, capture_output=True, text=True, check=True
+    )
     assert current.stdout.strip() == head_revision()
-    usage = subprocess.run([*run, "sideways"], cwd=ROOT, env=env, capture_output=True, text=True)
+
+
+def test_an_unknown_command_is_a_usage_error_naming_the_commands(tmp_path):
+    """Refused before any database is opened (so once, not once per database)."""
+    env = _command_env({"library_path": str(tmp_path / "never-opened.sqlite3")})
+    usage = subprocess.run([*COMMAND, "sideways"], cwd=ROOT, env=env, capture_output=True, text=True)
     assert usage.returncode == 2 and "upgrade" in usage.stderr
+    assert not (tmp_path / "never-opened.sqlite3").exists()
 
 
 def test_the_app_migrates_at_start_up(make_client, database):
