@@ -1160,4 +1160,9 @@ async function start() {
   if (!(await fromFragment())) await loadDemo();
 }
 
-start();
+// Whether or not a demo could be loaded (a service that wants a key for /v1/examples too loads
+// none), the page says when it has started: the library opens a linked scenario after that.
+start().finally(() => {
+  window.shockpathStarted = true;
+  document.dispatchEvent(new Event("shockpath:started"));
+});

@@ -182,17 +182,11 @@
     say(count ? `${count} scenario${count === 1 ? "" : "s"} found${lib.cursor ? " (more below)" : ""}.` : "No scenario found.");
   }
 
-  // The page loads a demo when it starts; a link's scenario opens after that, so that the
-  // demo does not replace it. A page that loads no demo (a service that wants a key for
-  // /v1/examples too) opens it after a few seconds.
+  // The page loads a demo when it starts; a link's scenario opens after that (app.js says
+  // when it has started, with or without a demo), so that the demo does not replace it.
   function afterPageStart(then) {
-    const started = Date.now();
-    const wait = () => {
-      if ($("request-json") && $("request-json").value.trim()) then();
-      else if (Date.now() - started < 5000) setTimeout(wait, 100);
-      else then();
-    };
-    wait();
+    if (window.shockpathStarted) then();
+    else document.addEventListener("shockpath:started", () => then(), { once: true });
   }
 
   function start() {
