@@ -213,8 +213,9 @@ class _Numbers:
             _slots(out, self.width)[at] = _slots(source, self.width)[self.starts]
 
 
-def _lengths(arrays: list[np.ndarray]) -> np.ndarray:
-    return np.fromiter(map(len, arrays), np.int64, len(arrays))
+def _lengths(items: list[Any]) -> np.ndarray:
+    """len() of each item (texts, series, blocks) as an array."""
+    return np.fromiter(map(len, items), np.int64, len(items))
 
 
 def _positions(lengths: np.ndarray) -> np.ndarray:
@@ -222,15 +223,12 @@ def _positions(lengths: np.ndarray) -> np.ndarray:
     return np.arange(int(lengths.sum())) - np.repeat(np.cumsum(lengths) - lengths, lengths)
 
 
-def _text_lengths(texts: list[bytes]) -> np.ndarray:
-    return np.fromiter(map(len, texts), np.int64, len(texts))
-
-
 class _Writer:
-    """Collects blocks of long-form rows and writes them in vectorised blocks.
+    """Collects long-form rows and writes them in vectorised blocks.
 
-    A block is (lead, variable, values): `values` a 1-D array over periods 0..n-1. Each row is
-    lead + period + variable + value + unit, every text cell quoted. The rows of a flush are
+    Rows come by lead (the cells before the period: scenario, scenario id, policy), each with
+    its series (variable, values over periods 0..n-1). Each row is lead + period + variable +
+    value + unit, every text cell quoted. The rows of a flush are
     laid out at once: a row's length is the sum of its cells' lengths, their cumulative sum
     places every cell, and the cells are written into one buffer, the numbers first
     (_Numbers.put), then each lead, period, variable and unit text into all its rows at once
@@ -280,10 +278,10 @@ class _Writer:
         period = _positions(lengths)
         integer = np.isin(var, [i for n, i in self.variables.items() if n in _INTEGERS])
         numbers = _Numbers(np.concatenate(self.values, dtype=np.float64), integer)
-        lead_length = _text_lengths(self.leads)[lead]
-        period_length = _text_lengths(self.periods)[period]
-        name_length = _text_lengths(self.names)[var]
-        row = lead_length + period_length + name_length + numbers.lengths + _text_lengths(self.units)[var]
+        lead_length = _lengths(self.leads)[lead]
+        period_length = _lengths(self.periods)[period]
+        name_length = _lengths(self.names)[var]
+        row = lead_length + period_length + name_length + numbers.lengths + _lengths(self.units)[var]
         ends = np.cumsum(row)
         start, total = ends - row, int(ends[-1])
         out = np.empty(total + numbers.width, np.uint8)
@@ -375,7 +373,7 @@ def _wide(items: list[tuple[int | None, dict[str, Any]]], scenario: bool) -> Ite
         n, width = values.shape
         numbers = _Numbers(values, np.broadcast_to(integer, values.shape).ravel())
         lead, period = np.repeat(np.arange(len(leads)), lengths), _positions(lengths)
-        lead_length, period_length = _text_lengths(leads)[lead], _text_lengths(period_texts)[period]
+        lead_length, period_length = _lengths(leads)[lead], _lengths(period_texts)[period]
         cells = numbers.lengths.reshape(n, width) + 1  # each number and its separator
         row = lead_length + period_length + cells.sum(axis=1)
         ends = np.cumsum(row)
