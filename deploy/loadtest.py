@@ -271,6 +271,30 @@ def download(port: int, path: str, body: bytes, accept: str) -> tuple[int, int, 
     return response.status, size, round(time.perf_counter() - started, 2)
 
 
+def in_process_figures() -> dict:
+    """Seconds to the last byte of the largest batch through Flask's test client (no server,
+    no socket), best of two: JSON, long CSV, wide CSV."""
+    from service import create_app
+
+    client = create_app().test_client()
+    batch = largest_batch()
+    out = {}
+    for label, path, accept in [
+        ("json", "/v1/paths/batch", "application/json"),
+        ("csv_long", "/v1/paths/batch", "text/csv"),
+        ("csv_wide", "/v1/paths/batch?layout=wide", "text/csv"),
+    ]:
+        headers = {"Content-Type": "application/json", "Accept": accept}
+        times = []
+        for _ in range(2):
+            started = time.perf_counter()
+            response = client.post(path, data=batch, headers=headers, buffered=False)
+            size = sum(len(piece) for piece in response.response)
+            times.append(time.perf_counter() - started)
+        out[label] = {"status": response.status_code, "bytes": size, "seconds": round(min(times), 2)}
+    return out
+
+
 def csv_figures(port: int) -> dict:
     """Seconds to the last byte of the largest batch as JSON, long CSV and wide CSV, one at a
     time (best of two); then /healthz and /readyz probed every 0.1 s while two of the largest
@@ -312,7 +336,7 @@ def csv_figures(port: int) -> dict:
 
 def repeat(seconds: int, config: str) -> dict:
     """One demo request repeated by wrk (2 threads, 4 kept-alive connections) for `seconds`,
-    then the largest batch's figures (csv_figures)."""
+    then the largest batch's figures over gunicorn (csv_figures) and in process."""
     if shutil.which("wrk") is None:
         raise SystemExit("wrk is needed (Debian package wrk)")
     port = free_port()
@@ -331,7 +355,12 @@ def repeat(seconds: int, config: str) -> dict:
                     timeout=seconds + 60,
                 ).stdout
             load.update(parse_wrk(output), max_ms=_max_latency(output), load_average_after=os.getloadavg())
-        return {"load": load, **csv_figures(port), "load_average_at_end": os.getloadavg()}
+        return {
+            "load": load,
+            **csv_figures(port),
+            "largest_batch_in_process": in_process_figures(),
+            "load_average_at_end": os.getloadavg(),
+        }
     finally:
         process.send_signal(signal.SIGTERM)
         try:
