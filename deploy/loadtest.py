@@ -248,6 +248,14 @@ def graceful_shutdown() -> dict:
     return result
 
 
+#: The largest batch's formats measured: (label, path, Accept).
+LARGEST_BATCH_FORMATS = [
+    ("json", "/v1/paths/batch", "application/json"),
+    ("csv_long", "/v1/paths/batch", "text/csv"),
+    ("csv_wide", "/v1/paths/batch?layout=wide", "text/csv"),
+]
+
+
 def largest_batch() -> bytes:
     """The largest batch the limits allow, as the benchmarks build it: MAX_BATCH_SCENARIOS
     copies of the typical request (4 policies) over 49 years, MAX_POLICY_PERIODS in all."""
@@ -279,11 +287,7 @@ def in_process_figures() -> dict:
     client = create_app().test_client()
     batch = largest_batch()
     out = {}
-    for label, path, accept in [
-        ("json", "/v1/paths/batch", "application/json"),
-        ("csv_long", "/v1/paths/batch", "text/csv"),
-        ("csv_wide", "/v1/paths/batch?layout=wide", "text/csv"),
-    ]:
+    for label, path, accept in LARGEST_BATCH_FORMATS:
         headers = {"Content-Type": "application/json", "Accept": accept}
         times = []
         for _ in range(2):
@@ -301,11 +305,7 @@ def csv_figures(port: int) -> dict:
     batches are answered as long-form CSV side by side."""
     batch = largest_batch()
     alone = {}
-    for label, path, accept in [
-        ("json", "/v1/paths/batch", "application/json"),
-        ("csv_long", "/v1/paths/batch", "text/csv"),
-        ("csv_wide", "/v1/paths/batch?layout=wide", "text/csv"),
-    ]:
+    for label, path, accept in LARGEST_BATCH_FORMATS:
         runs = [download(port, path, batch, accept) for _ in range(2)]
         alone[label] = {"status": runs[0][0], "bytes": runs[0][1], "seconds": min(r[2] for r in runs)}
     answers: list[tuple[int, int, float]] = []
