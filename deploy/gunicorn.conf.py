@@ -83,6 +83,14 @@ if os.environ.get("SHOCKPATH_NUMBA_CACHE_DIR"):
 _recycle_file = os.path.join(worker_tmp_dir or tempfile.gettempdir(), f"shockpath-recycle-{os.getpid()}")
 
 
+def pre_fork(server, worker):
+    """In the master, before each fork: the collector's permanent generation takes what the
+    master holds (service/http/workers.py), so workers' full collections stay short."""
+    from service.http.workers import freeze_before_fork
+
+    freeze_before_fork()
+
+
 def post_fork(server, worker):
     """In the new worker: its staggered request limit, and one more start in the metrics."""
     from service.http import metrics
@@ -113,6 +121,14 @@ def pre_request(worker, req):
     """Before each request: a worker about to reach its limit recycles only if it gets the
     recycle lock (else its limit moves on)."""
     _recycle_lock(worker).hold_back(worker, recycle_defer)
+
+
+def worker_exit(server, worker):
+    """In a worker that has answered its last request: leave at once, not object by object,
+    so that gunicorn forks its replacement within milliseconds (service/http/workers.py)."""
+    from service.http.workers import leave_at_once
+
+    leave_at_once(worker)
 
 
 def child_exit(server, worker):

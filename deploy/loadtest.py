@@ -2,8 +2,9 @@
 
     .venv/bin/python deploy/loadtest.py --seconds 60            # the long run (deploy/OPERATIONS.md figures)
     .venv/bin/python deploy/loadtest.py --seconds 8 --check     # the short run CI asserts on
-    .venv/bin/python deploy/loadtest.py --repeat --seconds 30   # one request repeated; probes
-                                                                # during two largest CSV batches
+    .venv/bin/python deploy/loadtest.py --repeat --seconds 30   # one request repeated; then the
+                                                                # largest batch's CSV figures
+    .venv/bin/python deploy/loadtest.py --repeat --seconds 0    # the CSV figures alone
 
 Starts gunicorn with deploy/gunicorn.conf.py on a free loopback port, warms it up, drives it
 with wrk (2 threads, 4 connections) for a fixed time, SIGKILLs one worker half-way, and
@@ -247,58 +248,118 @@ def graceful_shutdown() -> dict:
     return result
 
 
-def repeat(seconds: int, config: str) -> dict:
-    """One demo request repeated by wrk (2 threads, 4 kept-alive connections) for `seconds`,
-    then /healthz probed every 0.1 s while two of the largest batches are answered as CSV."""
+#: The largest batch's formats measured: (label, path, Accept).
+LARGEST_BATCH_FORMATS = [
+    ("json", "/v1/paths/batch", "application/json"),
+    ("csv_long", "/v1/paths/batch", "text/csv"),
+    ("csv_wide", "/v1/paths/batch?layout=wide", "text/csv"),
+]
+
+
+def largest_batch() -> bytes:
+    """The largest batch the limits allow, as the benchmarks build it: MAX_BATCH_SCENARIOS
+    copies of the typical request (4 policies) over 49 years, MAX_POLICY_PERIODS in all."""
+    from service import limits
     from tests.benchmarks.bench_service import typical_request
 
+    return json.dumps({"scenarios": [typical_request(49)] * limits.MAX_BATCH_SCENARIOS}).encode()
+
+
+def download(port: int, path: str, body: bytes, accept: str) -> tuple[int, int, float]:
+    """POST and read the answer to its last byte in 1 MB pieces, keeping none of it:
+    (status, bytes, seconds to the last byte)."""
+    started = time.perf_counter()
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=600)
+    conn.request("POST", path, body, {"Content-Type": "application/json", "Accept": accept})
+    response = conn.getresponse()
+    size = 0
+    while piece := response.read(1 << 20):
+        size += len(piece)
+    conn.close()
+    return response.status, size, round(time.perf_counter() - started, 2)
+
+
+def in_process_figures() -> dict:
+    """Seconds to the last byte of the largest batch through Flask's test client (no server,
+    no socket), best of two: JSON, long CSV, wide CSV."""
+    from service import create_app
+
+    client = create_app().test_client()
+    batch = largest_batch()
+    out = {}
+    for label, path, accept in LARGEST_BATCH_FORMATS:
+        headers = {"Content-Type": "application/json", "Accept": accept}
+        times = []
+        for _ in range(2):
+            started = time.perf_counter()
+            response = client.post(path, data=batch, headers=headers, buffered=False)
+            size = sum(len(piece) for piece in response.response)
+            times.append(time.perf_counter() - started)
+        out[label] = {"status": response.status_code, "bytes": size, "seconds": round(min(times), 2)}
+    return out
+
+
+def csv_figures(port: int) -> dict:
+    """Seconds to the last byte of the largest batch as JSON, long CSV and wide CSV, one at a
+    time (best of two); then /healthz and /readyz probed every 0.1 s while two of the largest
+    batches are answered as long-form CSV side by side."""
+    batch = largest_batch()
+    alone = {}
+    for label, path, accept in LARGEST_BATCH_FORMATS:
+        runs = [download(port, path, batch, accept) for _ in range(2)]
+        alone[label] = {"status": runs[0][0], "bytes": runs[0][1], "seconds": min(r[2] for r in runs)}
+    answers: list[tuple[int, int, float]] = []
+
+    def large():
+        answers.append(download(port, "/v1/paths/batch", batch, "text/csv"))
+
+    threads = [threading.Thread(target=large) for _ in range(2)]
+    for t in threads:
+        t.start()
+    probes: dict[str, list[float]] = {"/healthz": [], "/readyz": []}
+    time.sleep(0.3)
+    while any(t.is_alive() for t in threads):
+        for path, times in probes.items():
+            started = time.perf_counter()
+            status, _ = request(port, "GET", path, timeout=60)
+            times.append(time.perf_counter() - started if status == 200 else float("inf"))
+        time.sleep(0.1)
+    for t in threads:
+        t.join()
+    return {
+        "largest_batch_alone": alone,
+        "two_largest_csv_batches": answers,
+        "probes": {path: len(times) for path, times in probes.items()},
+        "worst_ms": {path: round(1000 * max(times, default=0.0), 1) for path, times in probes.items()},
+    }
+
+
+def repeat(seconds: int, config: str) -> dict:
+    """One demo request repeated by wrk (2 threads, 4 kept-alive connections) for `seconds`,
+    then the largest batch's figures over gunicorn (csv_figures) and in process."""
     if shutil.which("wrk") is None:
         raise SystemExit("wrk is needed (Debian package wrk)")
     port = free_port()
     metrics_dir = tempfile.mkdtemp(prefix="shockpath-repeat-")
     process = start_gunicorn(port, metrics_dir, config)
     try:
-        body = demo_bodies()[0]
-        with tempfile.TemporaryDirectory() as folder:
-            script = wrk_script(Path(folder), [body])
-            output = subprocess.run(
-                wrk_command(script, port, seconds),
-                capture_output=True,
-                text=True,
-                timeout=seconds + 60,
-            ).stdout
-        load = parse_wrk(output)
-        load["max_ms"] = _max_latency(output)
-        batch = json.dumps({"scenarios": [typical_request(49)] * 1000}).encode()
-        answers: list[tuple[int, int, float]] = []
-
-        def large():
-            conn = http.client.HTTPConnection("127.0.0.1", port, timeout=600)
-            started = time.perf_counter()
-            conn.request(
-                "POST", "/v1/paths/batch", batch, {"Content-Type": "application/json", "Accept": "text/csv"}
-            )
-            response = conn.getresponse()
-            size = len(response.read())
-            answers.append((response.status, size, round(time.perf_counter() - started, 2)))
-
-        threads = [threading.Thread(target=large) for _ in range(2)]
-        for t in threads:
-            t.start()
-        probes: list[float] = []
-        time.sleep(0.3)
-        while any(t.is_alive() for t in threads):
-            started = time.perf_counter()
-            _status, _ = request(port, "GET", "/healthz", timeout=60)
-            probes.append(time.perf_counter() - started)
-            time.sleep(0.1)
-        for t in threads:
-            t.join()
+        load: dict = {"load_average_before": os.getloadavg()}
+        if seconds > 0:
+            body = demo_bodies()[0]
+            with tempfile.TemporaryDirectory() as folder:
+                script = wrk_script(Path(folder), [body])
+                output = subprocess.run(
+                    wrk_command(script, port, seconds),
+                    capture_output=True,
+                    text=True,
+                    timeout=seconds + 60,
+                ).stdout
+            load.update(parse_wrk(output), max_ms=_max_latency(output), load_average_after=os.getloadavg())
         return {
             "load": load,
-            "csv_batches": answers,
-            "healthz_probes": len(probes),
-            "healthz_worst_ms": round(1000 * max(probes, default=0.0), 1),
+            **csv_figures(port),
+            "largest_batch_in_process": in_process_figures(),
+            "load_average_at_end": os.getloadavg(),
         }
     finally:
         process.send_signal(signal.SIGTERM)

@@ -6,10 +6,27 @@ from __future__ import annotations
 import copy
 import csv
 import io
+import math
+from decimal import Decimal
 
+import numpy as np
+import orjson
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
-from service.http.csvio import UNITS, neutralise
+from service import simulate_many
+from service.http.csvio import (
+    BLOCK_ROWS,
+    LAYOUTS,
+    UNITS,
+    batch_csv,
+    neutralise,
+    paths_csv,
+    unit_of,
+    wide_unit,
+)
+from service.problems import is_problem
 
 from ..engine.additions import GROUPS
 
@@ -193,3 +210,173 @@ def test_without_inflation_there_is_no_price_index_row(client, contract_request)
     rows = _rows(client.post("/v1/paths", json=contract_request, headers={"Accept": "text/csv"}))
     assert not any(r["variable"] in ("price_index", "nominal_consumer_price") for r in rows)
     assert all(r["policy"] for r in rows)
+
+
+# --- the vectorised writer writes what a row-by-row writer writes ------------------------------
+#
+# The writer lays rows out by arithmetic and copies cells in bulk (service/http/csvio.py,
+# "Speed"). Its bytes are checked here against the format written out plainly, one row and one
+# value at a time: text cells quoted and neutralised, numbers as orjson writes one float (the
+# shortest text that reads back as the same float), binding as 1 or 0, a missing value empty.
+
+
+def _text(text: str) -> str:
+    return '"' + neutralise(text).replace("\x00", "").replace('"', '""') + '"'
+
+
+def _number(value, variable: str) -> str:
+    value = float(value)
+    if math.isnan(value):
+        return ""
+    return str(int(value)) if variable == "binding" else orjson.dumps(value).decode()
+
+
+def _series_of(path: dict):
+    """(variable, values) of a path as the module docstring lists them."""
+    for key, value in path.items():
+        if isinstance(value, dict):
+            for member, values in value.items():
+                yield (member if key == "distribution" else f"{key}.{member}"), values
+        elif isinstance(value, list | np.ndarray) and not isinstance(value, str):
+            if len(value) == 0 or not isinstance(value[0], str):
+                yield key, value
+
+
+def _groups(body: dict) -> list[tuple[str, list]]:
+    """(policy cell, series) in the order rows are written: the price index, then each path."""
+    groups = [('""', [("price_index", body["price_index"])])] if "price_index" in body else []
+    return groups + [(_text(p["name"]), list(_series_of(p))) for p in body["paths"]]
+
+
+def _leads(results: list[dict], batch: bool):
+    """(scenario and scenario id cells or "", the result or its problem row) of each result."""
+    for i, body in enumerate(results):
+        if not batch:
+            yield "", body
+            continue
+        scenario = _text(body["id"]) if "id" in body else str(i)
+        yield (scenario + ",", body) if is_problem(body) else (f'{scenario},"{body["scenario_id"]}",', body)
+
+
+def reference_long(results: list[dict], batch: bool) -> bytes:
+    head = ["scenario", "scenario_id"] if batch else []
+    lines = [",".join(_text(h) for h in [*head, "policy", "period", "variable", "value", "unit"])]
+    for lead, body in _leads(results, batch):
+        if is_problem(body):
+            lines.append(f'{lead}"","","","problem",{_text(str(body.get("detail", "")))},""')
+            continue
+        for policy, series in _groups(body):
+            for variable, values in series:
+                for t, value in enumerate(values):
+                    cells = [str(t), _text(variable), _number(value, variable), _text(unit_of(variable))]
+                    lines.append(lead + policy + "," + ",".join(cells))
+    return ("\n".join(lines) + "\n").encode()
+
+
+def reference_wide(results: list[dict], batch: bool) -> bytes:
+    names: dict[str, None] = {}
+    for body in results:
+        if not is_problem(body):
+            names.update((v, None) for _, series in _groups(body) for v, _ in series)
+    head = ["scenario", "scenario_id"] if batch else []
+    header = [*head, "policy", "period", *(f"{n} [{wide_unit(n)}]" for n in names)]
+    lines = [",".join(_text(h) for h in header)]
+    for lead, body in _leads(results, batch):
+        if is_problem(body):
+            lines.append(f'{lead}"",{_text("problem: " + str(body.get("detail", "")))},' + "," * len(names))
+            continue
+        index = dict(_groups(body)[0][1]) if "price_index" in body else {}
+        for path in body["paths"]:
+            series = {**index, **dict(_series_of(path))}
+            for t in range(len(body["periods"])):
+                cells = [_number(series[n][t], n) if n in series else "" for n in names]
+                lines.append(f"{lead}{_text(path['name'])},{t}," + ",".join(cells))
+    return ("\n".join(lines) + "\n").encode()
+
+
+def _demo_requests() -> list[dict]:
+    from service.examples import examples
+
+    return [e["request"] for e in examples().values() if e.get("endpoint", "/v1/paths") == "/v1/paths"]
+
+
+@pytest.mark.parametrize("layout", LAYOUTS)
+def test_every_demo_is_written_byte_for_byte_as_row_by_row(layout):
+    demos = _demo_requests()
+    assert len(demos) >= 5
+    for request, lists, arrays in zip(
+        demos, simulate_many(demos), simulate_many(demos, lists=False), strict=True
+    ):
+        assert not is_problem(lists), request
+        want = (reference_long if layout == "long" else reference_wide)([lists], batch=False)
+        assert paths_csv(arrays, layout) == want
+        assert paths_csv(lists, layout) == want  # series as lists, as the Python API gives them
+
+
+@pytest.fixture
+def awkward_batch(additions, contract_request):
+    """Demos with ids a spreadsheet would run or that carry quotes and NULs, two scenarios the
+    engine refuses (a negative price; a horizon that is not a number), horizons 1 to 120, and a
+    policy name that starts a formula."""
+    ids = ["=HYPERLINK(1)", "plain", 'say "hi"', "-1", "\tx", "n\x00ul", "@a,b", "+"]
+    scenarios = []
+    for k, request in enumerate([*_demo_requests(), additions, contract_request]):
+        request = copy.deepcopy(request)
+        request["id"] = ids[k % len(ids)] + str(k)
+        scenarios.append(request)
+    broken = copy.deepcopy(contract_request)
+    broken["market"]["price"] = -5
+    broken["id"] = "broken"
+    scenarios.insert(2, broken)
+    not_a_number = copy.deepcopy(contract_request)
+    not_a_number["horizon"] = "ten"
+    scenarios.append(not_a_number)
+    for horizon in (1, 2, 120):
+        request = copy.deepcopy(contract_request)
+        request["horizon"] = horizon
+        request["policies"][0]["name"] = "=" + "long name " * 7
+        scenarios.append(request)
+    return scenarios
+
+
+@pytest.mark.parametrize("block_rows", [37, BLOCK_ROWS])
+@pytest.mark.parametrize("layout", LAYOUTS)
+def test_a_batch_with_ids_and_problems_is_written_byte_for_byte_as_row_by_row(
+    awkward_batch, layout, block_rows, monkeypatch
+):
+    monkeypatch.setattr("service.http.csvio.BLOCK_ROWS", block_rows)  # blocks end anywhere
+    arrays = simulate_many(awkward_batch, prefix="/scenarios/{i}", lists=False)
+    lists = simulate_many(awkward_batch, prefix="/scenarios/{i}")
+    assert sum(map(is_problem, lists)) == 2 and "price_index" in lists[-6]
+    want = (reference_long if layout == "long" else reference_wide)(lists, batch=True)
+    chunks = list(batch_csv(arrays, layout))
+    assert b"".join(chunks) == want
+    assert len(chunks) > 3 if block_rows < 100 else True
+
+
+finite = st.floats(allow_nan=False, allow_infinity=False)
+
+
+@given(
+    values=st.lists(finite | st.just(math.nan), min_size=1, max_size=40),
+    binding=st.lists(st.booleans(), min_size=40, max_size=40),
+)
+def test_every_number_reads_back_as_the_same_float_in_the_fewest_digits(values, binding):
+    """Python's repr of a float is the shortest text that reads back as the same float
+    (Python 3.1 "What's New": David Gay's algorithm); each cell has exactly its digits, a
+    missing value (NaN) is an empty cell, and binding is 1 or 0."""
+    n = len(values)
+    path = {"name": "p", "kind": "none", "consumer_price": np.array(values), "binding": np.array(binding[:n])}
+    body = {"periods": list(range(n)), "paths": [path]}
+    rows = list(csv.DictReader(io.StringIO(paths_csv(body).decode(), newline="")))
+    prices = [r["value"] for r in rows if r["variable"] == "consumer_price"]
+    for cell, value in zip(prices, values, strict=True):
+        if math.isnan(value):
+            assert cell == ""
+        else:
+            assert float(cell) == value and math.copysign(1, float(cell)) == math.copysign(1, value)
+            assert Decimal(cell) == Decimal(repr(value))
+    assert [r["value"] for r in rows if r["variable"] == "binding"] == [str(int(b)) for b in binding[:n]]
+    wide = list(csv.reader(io.StringIO(paths_csv(body, "wide").decode(), newline="")))
+    assert [row[2] for row in wide[1:]] == prices
+    assert paths_csv(body) == reference_long([body], batch=False)

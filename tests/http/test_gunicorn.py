@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from deploy.loadtest import gunicorn_command
+from deploy.loadtest import download, gunicorn_command, largest_batch
 from service import simulate
 from service.examples import example_request
 
@@ -234,20 +234,19 @@ def _probe(port: int, path: str) -> float:
 
 
 def test_health_and_readiness_answer_within_a_second_while_workers_are_busy(server):
-    """Two large CSV batches (one per worker, or both on one) and two clients trickling a body
-    at a byte every half second: probes still answer within a second."""
-    from tests.benchmarks.bench_service import typical_request
+    """Two of the largest batches the limits allow (1,000 scenarios x 4 policies x 50 periods,
+    about 700 MB of long-form CSV each; one per worker, or both on one) and two clients
+    trickling a body at a byte every half second: probes still answer within a second."""
+    from service import limits
 
     port, _ = server
-    batch = json.dumps({"scenarios": [typical_request(49)] * 300}).encode()
-    statuses: list[int] = []
+    batch = largest_batch()
+    scenarios = json.loads(batch)["scenarios"]
+    assert len(scenarios) * len(scenarios[0]["policies"]) * 50 == limits.MAX_POLICY_PERIODS
+    answers: list[tuple[int, int, float]] = []
 
     def large():
-        status, _, data = _post(
-            port, "/v1/paths/batch", batch, {"Content-Type": "application/json", "Accept": "text/csv"}
-        )
-        statuses.append(status)
-        assert len(data) > 10_000_000
+        answers.append(download(port, "/v1/paths/batch", batch, "text/csv"))
 
     def trickle(stop: threading.Event):
         with socket.create_connection(("127.0.0.1", port), timeout=30) as s:
@@ -269,7 +268,8 @@ def test_health_and_readiness_answer_within_a_second_while_workers_are_busy(serv
     stop.set()
     for t in slow + busy:
         t.join(60)
-    assert statuses == [200, 200]
+    assert [status for status, _, _ in answers] == [200, 200]
+    assert all(size > 600_000_000 for _, size, _ in answers), answers
     assert len(times) >= 6, "the batches ended before the probes could test anything"
     assert max(times) < 1.0, sorted(times)[-5:]
 

@@ -1,11 +1,17 @@
 """Workers recycle one at a time: staggered first limits, and a lock that lets a worker leave only
-when the previous leaver's replacement is up (service/http/workers.py); gunicorn itself in
-test_gunicorn.py."""
+when the previous leaver's replacement is up; a leaving worker ends at once, and a worker's
+garbage collector leaves alone what the master held when it forked (service/http/workers.py);
+gunicorn itself in test_gunicorn.py."""
 
 from __future__ import annotations
 
+import gc
 import multiprocessing
+import subprocess
+import sys
 from types import SimpleNamespace
+
+import pytest
 
 from service.http.workers import RecycleLock, staggered_limit
 
@@ -64,3 +70,72 @@ def test_of_many_processes_claiming_at_once_exactly_one_wins(tmp_path):
     for p in processes:
         p.join(30)
     assert sum(results[:]) == 1
+
+
+# --- leaving at once, and a collector that does not walk what the master holds ----------------
+
+#: A worker's last moments as gunicorn runs them (its exit raised, worker_exit in the `finally`),
+#: in a fresh interpreter, where an ordinary exit runs atexit handlers: one shows whether the
+#: interpreter was torn down.
+_LAST_MOMENTS = """
+import atexit, logging, sys
+from types import SimpleNamespace
+from service.http.workers import leave_at_once
+
+folder, how = sys.argv[1], sys.argv[2]
+logging.getLogger("leaving").addHandler(logging.FileHandler(folder + "/log"))
+atexit.register(lambda: open(folder + "/torn-down", "w").close())
+
+class Library:
+    def close(self):
+        open(folder + "/library-closed", "w").close()
+
+worker = SimpleNamespace(wsgi=SimpleNamespace(extensions={"shockpath.library": Library()}))
+try:
+    logging.getLogger("leaving").warning("last line")
+    if how == "error":
+        raise RuntimeError("unexpected")
+    sys.exit(None if how == "none" else int(how) if how.isdigit() else how)
+finally:
+    leave_at_once(worker)
+"""
+
+
+def _last_moments(folder, how: str) -> int:
+    command = [sys.executable, "-c", _LAST_MOMENTS, str(folder), how]
+    return subprocess.run(command, capture_output=True, timeout=60).returncode
+
+
+@pytest.mark.parametrize(("how", "status"), [("none", 0), ("0", 0), ("3", 3), ("boot failed", 1)])
+def test_a_leaving_worker_ends_at_once_with_its_exit_status_and_its_logs_flushed(tmp_path, how, status):
+    # gunicorn's master halts when a worker exits with its boot-error status (3): it must see it.
+    assert _last_moments(tmp_path, how) == status
+    assert (tmp_path / "log").read_text() == "last line\n"
+    assert (tmp_path / "library-closed").exists()
+    assert not (tmp_path / "torn-down").exists()  # no teardown object by object
+
+
+def test_a_worker_that_fails_unexpectedly_exits_the_ordinary_way(tmp_path):
+    assert _last_moments(tmp_path, "error") == 1
+    assert (tmp_path / "torn-down").exists() and not (tmp_path / "library-closed").exists()
+
+
+def _objects_to_walk(queue) -> None:
+    queue.put((len(gc.get_objects()), gc.get_freeze_count()))
+
+
+def test_a_forked_worker_collector_does_not_walk_what_the_master_holds():
+    from service.http.workers import freeze_before_fork
+
+    held = [{"i": i} for i in range(100_000)]  # what a preloaded app holds, in miniature
+    context = multiprocessing.get_context("fork")
+    queue = context.Queue()
+    try:
+        freeze_before_fork()
+        process = context.Process(target=_objects_to_walk, args=(queue,))
+        process.start()
+        walked, frozen = queue.get(timeout=30)
+        process.join(30)
+    finally:
+        gc.unfreeze()
+    assert frozen >= len(held) and walked < 10_000
