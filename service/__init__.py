@@ -6,6 +6,7 @@ simulate_many(requests)   one body or problem document per request, one engine c
 bands(request)            the body of POST /v1/bands
 sensitivity(request)      the body of POST /v1/sensitivity
 ProblemError              raised by simulate, bands, sensitivity; `.problem` is the RFC 9457 document
+is_problem(item)          True for a problem document of simulate_many (a Problem), False for a body
 
 Each name is imported when first used (PEP 562), so `import service.engine` loads numpy and
 scipy only, and `from service import simulate` loads neither Flask nor prometheus_client.
@@ -16,10 +17,21 @@ from __future__ import annotations
 import importlib
 from typing import Any
 
-__all__ = ["ProblemError", "bands", "create_app", "sensitivity", "simulate", "simulate_many"]
+__all__ = [
+    "Problem",
+    "ProblemError",
+    "bands",
+    "create_app",
+    "is_problem",
+    "sensitivity",
+    "simulate",
+    "simulate_many",
+]
 
 _HOMES = {
+    "Problem": "service.problems",
     "ProblemError": "service.problems",
+    "is_problem": "service.problems",
     "bands": "service.uncertainty",
     "create_app": "service.http.app",
     "sensitivity": "service.uncertainty",
