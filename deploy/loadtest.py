@@ -111,6 +111,17 @@ def gunicorn_command(config: str = "deploy/gunicorn.conf.py") -> list[str]:
     return [str(Path(sys.executable).with_name("gunicorn")), "--config", config, "service:create_app()"]
 
 
+def stop_gunicorn(process: subprocess.Popen, seconds: float = 30) -> None:
+    """Stop gunicorn as an orchestrator does: SIGTERM (a graceful shutdown), then SIGKILL if it
+    has not ended within `seconds`."""
+    process.send_signal(signal.SIGTERM)
+    try:
+        process.wait(timeout=seconds)
+    except subprocess.TimeoutExpired:
+        process.kill()
+        process.wait()
+
+
 def wrk_command(script: Path, port: int, seconds: int) -> list[str]:
     """wrk with two threads, CONNECTIONS connections and latency figures, driven by `script`."""
     return [
@@ -214,11 +225,7 @@ def run(seconds: int) -> dict:
         )
         return result
     finally:
-        process.send_signal(signal.SIGTERM)
-        try:
-            process.wait(timeout=40)
-        except subprocess.TimeoutExpired:
-            process.kill()
+        stop_gunicorn(process, 40)
         shutil.rmtree(metrics_dir, ignore_errors=True)
 
 
@@ -362,11 +369,7 @@ def repeat(seconds: int, config: str) -> dict:
             "load_average_at_end": os.getloadavg(),
         }
     finally:
-        process.send_signal(signal.SIGTERM)
-        try:
-            process.wait(timeout=40)
-        except subprocess.TimeoutExpired:
-            process.kill()
+        stop_gunicorn(process, 40)
         shutil.rmtree(metrics_dir, ignore_errors=True)
 
 

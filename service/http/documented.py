@@ -35,6 +35,20 @@ def problem_responses(*codes: str) -> dict[str, Any]:
     return {code: {"description": _PROBLEMS[code], "problem": True} for code in codes}
 
 
+def csv_twin_responses(description: str) -> dict[str, Any]:
+    """The responses of a compute operation's CSV twin (POST .../csv, answered as CSV whatever
+    the Accept header): the CSV with its ETag and file name, 304, and the body's problems."""
+    return {
+        "200": {
+            "description": description,
+            "content": {"text/csv": "csv"},
+            "headers": ["ETag", "Content-Disposition"],
+        },
+        **NOT_MODIFIED,
+        **problem_responses("400", "406", "413", "415", "422"),
+    }
+
+
 class DocumentedBlueprint(Blueprint):
     """A Blueprint that records, for each route, the operation the OpenAPI document shows.
 

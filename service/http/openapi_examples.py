@@ -162,6 +162,18 @@ def _round(value: Any) -> Any:
     return value
 
 
+def _example_answers(
+    client, base: str, found: str, missing: str, why: str = "An example for another endpoint"
+) -> dict[str, Any]:
+    """A GET of one example: the 200 of `found` and the 404 of `missing` (under `base`)."""
+    return {
+        "200": {"application/json": {"summary": found, "value": _body(client.get(f"{base}/{found}"))}},
+        "404": {
+            "application/problem+json": {"summary": why, "value": _body(client.get(f"{base}/{missing}"))}
+        },
+    }
+
+
 def _problem(status: int, detail: str) -> dict[str, Any]:
     return {"summary": detail, "value": problem(status, "Service Unavailable", detail)}
 
@@ -240,48 +252,15 @@ def compute_examples() -> dict[str, Any]:
         "listExamples": {
             "200": {"application/json": {"summary": "", "value": _body(client.get("/v1/examples"))}}
         },
-        "getExample": {
-            "200": {
-                "application/json": {
-                    "summary": "quillbrook-rent-freeze",
-                    "value": _body(client.get("/v1/examples/quillbrook-rent-freeze")),
-                }
-            },
-            "404": {
-                "application/problem+json": {
-                    "summary": "No such example",
-                    "value": _body(client.get("/v1/examples/atlantis")),
-                }
-            },
-        },
-        "getPathsExample": {
-            "200": {
-                "application/json": {
-                    "summary": "quillbrook-rent-freeze",
-                    "value": _body(client.get("/v1/examples/paths/quillbrook-rent-freeze")),
-                }
-            },
-            "404": {
-                "application/problem+json": {
-                    "summary": "An example for another endpoint",
-                    "value": _body(client.get("/v1/examples/paths/quillbrook-uncertain-elasticities")),
-                }
-            },
-        },
-        "getBandsExample": {
-            "200": {
-                "application/json": {
-                    "summary": "quillbrook-uncertain-elasticities",
-                    "value": _body(client.get("/v1/examples/bands/quillbrook-uncertain-elasticities")),
-                }
-            },
-            "404": {
-                "application/problem+json": {
-                    "summary": "An example for another endpoint",
-                    "value": _body(client.get("/v1/examples/bands/quillbrook-rent-freeze")),
-                }
-            },
-        },
+        "getExample": _example_answers(
+            client, "/v1/examples", "quillbrook-rent-freeze", "atlantis", "No such example"
+        ),
+        "getPathsExample": _example_answers(
+            client, "/v1/examples/paths", "quillbrook-rent-freeze", "quillbrook-uncertain-elasticities"
+        ),
+        "getBandsExample": _example_answers(
+            client, "/v1/examples/bands", "quillbrook-uncertain-elasticities", "quillbrook-rent-freeze"
+        ),
         "liveness": {"200": {"application/json": {"summary": "", "value": _body(client.get("/healthz"))}}},
         "readiness": {
             "200": {"application/json": {"summary": "", "value": _body(client.get("/readyz"))}},

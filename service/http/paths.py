@@ -17,7 +17,7 @@ from ..simulation import (
 from ..workbook import batch_workbook, paths_workbook
 from .conditional import attachment, conditional, request_tag
 from .csvio import LAYOUTS, batch_csv, batch_summary_csv, neutralise, paths_csv, paths_summary_csv
-from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
+from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import SCENARIOS
 from .negotiation import CSV, TABULAR, XLSX, negotiate
@@ -63,16 +63,9 @@ def paths_answer(raw: object) -> Response:
     operationId="postPathsCsv",
     summary="POST /v1/paths answered as CSV whatever the Accept header (for generated clients)",
     request="PathsRequest",
-    responses={
-        "200": {
-            "description": "The paths as CSV (long form by default; `layout=wide`; summaries with "
-            '`"output": "summary"`).',
-            "content": {"text/csv": "csv"},
-            "headers": ["ETag", "Content-Disposition"],
-        },
-        **NOT_MODIFIED,
-        **problem_responses("400", "406", "413", "415", "422"),
-    },
+    responses=csv_twin_responses(
+        'The paths as CSV (long form by default; `layout=wide`; summaries with `"output": "summary"`).'
+    ),
     parameters=["If-None-Match", "layout"],
 )
 def post_paths_csv() -> Response:
@@ -149,16 +142,10 @@ def post_batch() -> Response:
     operationId="postPathsBatchCsv",
     summary="POST /v1/paths/batch answered as CSV whatever the Accept header (for generated clients)",
     request="BatchRequest",
-    responses={
-        "200": {
-            "description": "The results as CSV, streamed (long form by default; `layout=wide`; summaries "
-            'with `"output": "summary"`).',
-            "content": {"text/csv": "csv"},
-            "headers": ["ETag", "Content-Disposition"],
-        },
-        **NOT_MODIFIED,
-        **problem_responses("400", "406", "413", "415", "422"),
-    },
+    responses=csv_twin_responses(
+        "The results as CSV, streamed (long form by default; `layout=wide`; summaries "
+        'with `"output": "summary"`).'
+    ),
     parameters=["If-None-Match", "layout"],
 )
 def post_batch_csv() -> Response:

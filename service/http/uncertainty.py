@@ -13,7 +13,7 @@ from ..uncertainty import bands, sensitivity
 from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
 from .csvio import bands_csv, neutralise
-from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
+from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
@@ -56,15 +56,7 @@ def bands_answer(raw: object) -> Response:
     operationId="postBandsCsv",
     summary="POST /v1/bands answered as CSV whatever the Accept header (for generated clients)",
     request="BandsRequest",
-    responses={
-        "200": {
-            "description": "The bands in long form.",
-            "content": {"text/csv": "csv"},
-            "headers": ["ETag", "Content-Disposition"],
-        },
-        **NOT_MODIFIED,
-        **problem_responses("400", "406", "413", "415", "422"),
-    },
+    responses=csv_twin_responses("The bands in long form."),
     parameters=["If-None-Match"],
 )
 def post_bands_csv() -> Response:

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from deploy.loadtest import download, gunicorn_command, largest_batch
+from deploy.loadtest import download, gunicorn_command, largest_batch, stop_gunicorn
 from service import simulate
 from service.examples import example_request
 
@@ -69,12 +69,7 @@ def server(tmp_path_factory, compiled_kernels):
         log.seek(0)
         pytest.fail("gunicorn did not become ready: " + log.read().decode(errors="replace")[-2000:])
     yield port, metrics_dir
-    process.send_signal(signal.SIGTERM)
-    try:
-        process.wait(timeout=30)
-    except subprocess.TimeoutExpired:
-        process.kill()
-        process.wait()
+    stop_gunicorn(process)
     log.close()
 
 

@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 
-from deploy.loadtest import free_port, gunicorn_command, workers
+from deploy.loadtest import free_port, gunicorn_command, stop_gunicorn, workers
 from service.examples import example_request
 from service.library import Library, database_url
 
@@ -60,12 +60,7 @@ def gunicorn(database: dict[str, str], tmp_path: Path, processes: int = 2, **set
         _wait_ready(port, process, log)
         yield port, process
     finally:
-        process.send_signal(signal.SIGTERM)
-        try:
-            process.wait(timeout=30)
-        except subprocess.TimeoutExpired:
-            process.kill()
-            process.wait()
+        stop_gunicorn(process)
         log.close()
 
 
