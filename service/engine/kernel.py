@@ -11,8 +11,11 @@ walks each row's periods in order (`_walk_row`) and computes, per period: the pe
 (`_period_curves`), the row's own free-market point, the policy's outcome (one small function
 per kind: `_ceiling`, `_floor`, `_wedge`, `_quantity_cap`, and `_controlled_groups` for a
 ceiling whose controlled homes keep their own stock), the welfare change and who gains and
-who loses (`_welfare`, `_group_welfare`), renters against the free path (`_vs_free_path`),
-and the running sums. No scipy and no Python objects inside: problems come back as flags.
+who loses (`_welfare`, `_group_welfare`) and renters against the free path (`_vs_free_path`),
+and writes each period's cell into a buffer of the row (periods x series). Then the row's summary is
+summed over that buffer in period order (`_row_totals`, with the finite check) and its kept
+and banded series are copied out (`_emit`). No scipy and no Python objects inside: problems
+come back as flags.
 
 Curves of period t (MODEL.md sections 3 and 16; shifts D, S in the linear form, ln A, ln B in
 constant elasticity; p = (P - P0)/P0):
@@ -1227,24 +1230,16 @@ def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -
 # --- every policy row -----------------------------------------------------------------------
 
 
-#: Where a row's cells go: `out` (kept series, T+1) gets cell[kept[k]] in row column[kept[k]];
-#: band_out[slots[j], t, draw] gets cell[j] for j in `banded`; `checked` lists the cells whose
-#: values must be finite (the sixteen core series, the kept and the banded ones).
+#: Where a row's series go once its periods are walked: `out` (kept series, T+1) gets the
+#: cells `kept`, cell j in row column[j]; band_out[slots[j], t, draw] (float32) gets the cells
+#: `banded`; `checked` lists the cells whose values must be finite (the sixteen core series,
+#: the kept and the banded ones).
 Target = namedtuple("Target", "kept column out checked banded slots band_out draw")
 
 
 @njit(**_JIT)
-def _write(cell, target, t):
-    """A period's cell into the kept series and the band's slots."""
-    for j in target.kept:
-        target.out[target.column[j], t] = cell[j]
-    for j in target.banded:
-        target.band_out[target.slots[j], t, target.draw] = cell[j]
-
-
-@njit(**_JIT)
-def _start_row(cell, p0, q0, share, total):
-    """Period 0 (the base point) and empty running totals."""
+def _start_row(cell, p0, q0, share):
+    """Period 0: the base point."""
     for j in range(cell.shape[0]):
         cell[j] = 0.0
     for name in (_S.consumer_price, _S.producer_price, _S.marginal_value, _S.marginal_cost):
@@ -1256,11 +1251,6 @@ def _start_row(cell, p0, q0, share, total):
     cell[_S.covered_quantity] = share * q0
     cell[_S.uncovered_quantity] = (1.0 - share) * q0
     cell[_S.homes_standing] = q0
-    for j in range(total.shape[0]):
-        total[j] = 0.0
-    total[_T.peak_shortage_period] = -1.0
-    total[_T.final_consumer_price] = p0
-    total[_T.final_quantity] = q0
 
 
 @njit(**_JIT)
@@ -1301,50 +1291,10 @@ def _fill_cell(cell, o, w, p_star, q_star, free_price, free_quantity, index, cum
 
 
 @njit(**_JIT)
-def _add_to_totals(total, cell, checked, t, binding, factor, after_end):
-    """Running totals and peaks of a period (money summed in period order)."""
-    for j in checked:
-        if not math.isfinite(cell[j]):
-            total[_T.non_finite] = 1.0
-    if cell[_S.shortage] > total[_T.peak_shortage]:
-        total[_T.peak_shortage] = cell[_S.shortage]
-        total[_T.peak_shortage_period] = t
-    if binding:
-        total[_T.binding_periods] += 1.0
-    total[_T.total_consumer_surplus_change] += cell[_S.consumer_surplus_change]
-    total[_T.total_producer_surplus_change] += cell[_S.producer_surplus_change]
-    total[_T.total_government_revenue] += cell[_S.government_revenue]
-    for g in range(_GROUP_SERIES.shape[0]):
-        total[_GROUP_TOTALS[g]] += cell[_GROUP_SERIES[g]]
-        total[_GROUP_DISCOUNTED[g]] += cell[_GROUP_SERIES[g]] * factor
-    if cell[_S.homes_below_free_path] > total[_T.peak_homes_below_free_path]:
-        total[_T.peak_homes_below_free_path] = cell[_S.homes_below_free_path]
-    renters, extra = cell[_S.renters_vs_free_path], cell[_S.extra_rent_vs_free_path]
-    total[_T.vs_free_path_renters] += renters
-    total[_T.vs_free_path_renters_discounted] += renters * factor
-    total[_T.vs_free_path_extra_rent] += extra
-    if after_end:
-        total[_T.vs_free_path_renters_after_end] += renters
-        total[_T.vs_free_path_extra_rent_after_end] += extra
-    total[_T.total_converted_homes] += cell[_S.converted_homes]
-
-
-@njit(**_JIT)
-def _close_totals(total, cell):
-    """Figures of the horizon's last period."""
-    total[_T.final_homes_below_free_path] = cell[_S.homes_below_free_path]
-    total[_T.total_deadweight_loss] = cell[_S.cumulative_deadweight_loss]
-    total[_T.discounted_deadweight_loss] = cell[_S.discounted_deadweight_loss]
-    total[_T.final_consumer_price] = cell[_S.consumer_price]
-    total[_T.final_quantity] = cell[_S.quantity]
-    total[_T.final_vacant_homes] = cell[_S.vacant_homes]
-
-
-@njit(**_JIT)
-def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
+def _walk_row(m, rows, r, ce, free, cells, flags):
     """One policy row's periods in order, in the form `ce`, against the free path `free`
-    (n, 2+, T+1) of that form: series into `target` (kept series and band slots), flags
-    (3, T+1), totals into `total`."""
+    (n, 2+, T+1) of that form: period t's series into cells[t] (T+1, series; 0 after the
+    scenario's horizon) and its flags into `flags` (3, T+1)."""
     i = rows.scenario[r]
     p0, q0, eta, k_pay = m.price[i], m.quantity[i], m.demand_elasticity[i], m.payments_per_period[i]
     code, v, share = rows.kind[r], rows.value[r], rows.coverage[r]
@@ -1361,8 +1311,7 @@ def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
     random = m.random_rationing[i]
     m_divisor = 1.0 + 1.0 / eta if random and ce else 2.0
 
-    _start_row(cell, p0, q0, share, total)
-    _write(cell, target, 0)
+    _start_row(cells[0], p0, q0, share)
     for j in range(3):
         flags[j, 0] = False
     stock_prev = q0  # homes standing at the end of the period before
@@ -1373,9 +1322,10 @@ def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
     in_groups = prev_bound = False
     controlled = others = Group(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, math.inf)
     for t in range(1, m.eps.shape[1]):
+        cell = cells[t]
         if t > m.horizon[i]:
-            for j in range(target.out.shape[0]):
-                target.out[j, t] = 0.0
+            for j in range(cell.shape[0]):
+                cell[j] = 0.0
             for j in range(3):
                 flags[j, t] = False
             continue
@@ -1449,13 +1399,9 @@ def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
             cell[_S.extra_rent_vs_free_path] = extra
         else:
             cell[_S.renters_vs_free_path] = cell[_S.extra_rent_vs_free_path] = 0.0
-        _write(cell, target, t)
         flags[_BINDING, t] = o.binding
         flags[_RATIONED, t] = o.rationed
         flags[_INFEASIBLE, t] = infeasible
-        _add_to_totals(total, cell, target.checked, t, o.binding, factor, t > end)
-        if t == m.horizon[i]:
-            _close_totals(total, cell)
         stock_prev = standing
         if in_groups:
             controlled_prev, others_prev = o.covered_q, o.uncovered_q
@@ -1463,6 +1409,96 @@ def _walk_row(m, rows, r, ce, free, target, flags, total, cell):
         prev_bound = o.binding
         if p_star > 0.0 and math.isfinite(p_star):
             guess = p_star
+
+
+# --- a walked row's summary and where its series go -----------------------------------------
+
+
+@njit(**_JIT)
+def _all_finite(cells, checked, last):
+    """Whether every `checked` cell of periods 1..last is finite."""
+    for t in range(1, last + 1):
+        for j in checked:
+            if not math.isfinite(cells[t, j]):
+                return False
+    return True
+
+
+@njit(**_JIT)
+def _sum_over(cells, j, first, last):
+    """sum_(t = first..last) cells[t, j], in period order (0 for an empty range)."""
+    total = 0.0
+    for t in range(first, last + 1):
+        total += cells[t, j]
+    return total
+
+
+@njit(**_JIT)
+def _discounted_sum(cells, j, factor, last):
+    """sum_(t = 1..last) cells[t, j] f_t, in period order (f_t: the discount factor)."""
+    total = 0.0
+    for t in range(1, last + 1):
+        total += cells[t, j] * factor[t]
+    return total
+
+
+@njit(**_JIT)
+def _row_totals(cells, flags, last, end, factor, checked, total):
+    """A walked row's summary over its periods 1..last (the horizon; `end` the rule's last
+    active period), money summed in period order: totals of welfare and of each group (plain
+    and discounted), peaks, periods bound, renters against the free path (in all and after
+    the rule ends), homes converted, whether every checked value is finite, and the figures of
+    the last period (for last = 0, the base point)."""
+    for k in range(total.shape[0]):
+        total[k] = 0.0
+    total[_T.non_finite] = 0.0 if _all_finite(cells, checked, last) else 1.0
+    peak, peak_at, peak_below, bound = 0.0, -1.0, 0.0, 0.0
+    for t in range(1, last + 1):
+        if cells[t, _S.shortage] > peak:
+            peak, peak_at = cells[t, _S.shortage], float(t)
+        if cells[t, _S.homes_below_free_path] > peak_below:
+            peak_below = cells[t, _S.homes_below_free_path]
+        if flags[_BINDING, t]:
+            bound += 1.0
+    total[_T.peak_shortage] = peak
+    total[_T.peak_shortage_period] = peak_at
+    total[_T.peak_homes_below_free_path] = peak_below
+    total[_T.binding_periods] = bound
+    total[_T.total_consumer_surplus_change] = _sum_over(cells, _S.consumer_surplus_change, 1, last)
+    total[_T.total_producer_surplus_change] = _sum_over(cells, _S.producer_surplus_change, 1, last)
+    total[_T.total_government_revenue] = _sum_over(cells, _S.government_revenue, 1, last)
+    for g in range(_GROUP_SERIES.shape[0]):
+        total[_GROUP_TOTALS[g]] = _sum_over(cells, _GROUP_SERIES[g], 1, last)
+        total[_GROUP_DISCOUNTED[g]] = _discounted_sum(cells, _GROUP_SERIES[g], factor, last)
+    after_end = min(end, last) + 1
+    renters, extra = _S.renters_vs_free_path, _S.extra_rent_vs_free_path
+    total[_T.vs_free_path_renters] = _sum_over(cells, renters, 1, last)
+    total[_T.vs_free_path_renters_discounted] = _discounted_sum(cells, renters, factor, last)
+    total[_T.vs_free_path_extra_rent] = _sum_over(cells, extra, 1, last)
+    total[_T.vs_free_path_renters_after_end] = _sum_over(cells, renters, after_end, last)
+    total[_T.vs_free_path_extra_rent_after_end] = _sum_over(cells, extra, after_end, last)
+    total[_T.total_converted_homes] = _sum_over(cells, _S.converted_homes, 1, last)
+    final = cells[last]
+    total[_T.final_homes_below_free_path] = final[_S.homes_below_free_path]
+    total[_T.total_deadweight_loss] = final[_S.cumulative_deadweight_loss]
+    total[_T.discounted_deadweight_loss] = final[_S.discounted_deadweight_loss]
+    total[_T.final_consumer_price] = final[_S.consumer_price]
+    total[_T.final_quantity] = final[_S.quantity]
+    total[_T.final_vacant_homes] = final[_S.vacant_homes]
+
+
+@njit(**_JIT)
+def _emit(cells, last, target):
+    """A walked row's kept series into target.out (every period) and its banded ones into the
+    band's slots (periods 0..last), each series written in one contiguous run."""
+    for j in target.kept:
+        series = target.out[target.column[j]]
+        for t in range(cells.shape[0]):
+            series[t] = cells[t, j]
+    for j in target.banded:
+        slot = target.slots[j]
+        for t in range(last + 1):
+            target.band_out[slot, t, target.draw] = cells[t, j]
 
 
 #: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
@@ -1480,11 +1516,10 @@ def _policy_rows(m, rows, free, free_other, other, x):
     only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
     kept, column, out, flags, summary = x.kept, x.column, x.out, x.flags, x.summary
     band_rows, band_slot, band_out = x.band_rows, x.band_slot, x.band_out
-    cell = np.empty(len(SERIES_NAMES))
     periods = m.eps.shape[1]
+    cells = np.empty((periods, len(SERIES_NAMES)))
     nothing = np.empty(0, dtype=np.int64)
     core = np.arange(16)
-    scratch_out = np.empty((0, periods))
     scratch_flags = np.empty((3, periods), dtype=np.bool_)
     scratch_total = np.empty(summary.shape[1])
     every_banded = x.banded.ravel()
@@ -1492,6 +1527,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
         ce = m.constant_elasticity[i]
+        last, end, factor = m.horizon[i], rows.end[r], m.discount_factor[i]
         if band_rows > 0:
             policy = r // band_rows
             target = Target(
@@ -1506,12 +1542,14 @@ def _policy_rows(m, rows, free, free_other, other, x):
             )
         else:
             target = Target(kept, column, out[r], checked, nothing, band_slot[0], band_out, 0)
-        _walk_row(m, rows, r, ce, free, target, flags[r], summary[r], cell)
+        _walk_row(m, rows, r, ce, free, cells, flags[r])
+        _row_totals(cells, flags[r], last, end, factor, checked, summary[r])
+        _emit(cells, last, target)
         if other:
-            quiet = Target(nothing, column, scratch_out, core, nothing, band_slot[0], band_out, 0)
-            _walk_row(m, rows, r, not ce, free_other, quiet, scratch_flags, scratch_total, cell)
+            _walk_row(m, rows, r, not ce, free_other, cells, scratch_flags)
+            _row_totals(cells, scratch_flags, last, end, factor, core, scratch_total)
             feasible = scratch_total[_T.non_finite] == 0.0
-            for t in range(m.horizon[i] + 1):
+            for t in range(last + 1):
                 if scratch_flags[_INFEASIBLE, t]:
                     feasible = False
             summary[r, _T.other_discounted_deadweight_loss] = scratch_total[_T.discounted_deadweight_loss]
