@@ -1416,7 +1416,15 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
 
 @njit(**_JIT)
 def _all_finite(cells, checked, last):
-    """Whether every `checked` cell of periods 1..last is finite."""
+    """Whether every `checked` cell of periods 1..last is finite: first every cell of those
+    periods at once (one contiguous block, a loop the compiler vectorises), and only where
+    that finds a value that is not finite, the checked cells one by one."""
+    block = cells[1 : last + 1].reshape(-1)
+    everything = True
+    for k in range(block.shape[0]):
+        everything &= math.isfinite(block[k])
+    if everything:
+        return True
     for t in range(1, last + 1):
         for j in checked:
             if not math.isfinite(cells[t, j]):

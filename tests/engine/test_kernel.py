@@ -235,3 +235,77 @@ def test_python_and_the_kernel_share_every_code():
     assert [getattr(kernel._T, name) for name in kernel.SUMMARY_NAMES] == list(
         range(len(kernel.SUMMARY_NAMES))
     )
+
+
+def _walked_row(seed: int, periods: int = 12) -> np.ndarray:
+    """A row's cells as _walk_row leaves them (periods x series), random but finite."""
+    rng = np.random.default_rng(seed)
+    return rng.normal(size=(periods, len(kernel.SERIES_NAMES))) * 100.0
+
+
+def _totals(cells, last, end, checked, binding=None):
+    flags = np.zeros((3, cells.shape[0]), dtype=bool)
+    if binding is not None:
+        flags[0] = binding
+    factor = 1.0 / 1.035 ** np.arange(cells.shape[0])
+    total = np.full(len(kernel.SUMMARY_NAMES), np.nan)
+    kernel._row_totals(cells, flags, last, end, factor, np.asarray(checked, dtype=np.int64), total)
+    return dict(zip(kernel.SUMMARY_NAMES, total, strict=True)), factor
+
+
+@pytest.mark.parametrize(("last", "end"), [(11, 4), (9, 9), (11, np.iinfo(np.int64).max), (0, 3)])
+def test_a_rows_totals_are_its_periods_summed_in_order(last, end):
+    """The summary is read off the walked cells: sums from 0 in period order (Python's sum adds
+    left to right, so the figures are equal, not just close), peaks with the first period that
+    reaches them, the periods bound, and the last period's figures."""
+    cells = _walked_row(last)
+    binding = np.arange(cells.shape[0]) % 3 == 1
+    total, factor = _totals(cells, last, end, range(16), binding)
+    s = kernel.SERIES_INDEX
+    periods = range(1, last + 1)
+    after = [t for t in periods if t > end]
+    for name in (
+        "consumer_surplus_change",
+        "producer_surplus_change",
+        "government_revenue",
+        *kernel.GROUP_NAMES,
+    ):
+        assert total["total_" + name] == sum(cells[t, s[name]] for t in periods)
+    for name in kernel.GROUP_NAMES:
+        assert total["discounted_" + name] == sum(cells[t, s[name]] * factor[t] for t in periods)
+    renters, extra = s["renters_vs_free_path"], s["extra_rent_vs_free_path"]
+    assert total["vs_free_path_renters"] == sum(cells[t, renters] for t in periods)
+    assert total["vs_free_path_renters_discounted"] == sum(cells[t, renters] * factor[t] for t in periods)
+    assert total["vs_free_path_renters_after_end"] == sum(cells[t, renters] for t in after)
+    assert total["vs_free_path_extra_rent_after_end"] == sum(cells[t, extra] for t in after)
+    assert total["total_converted_homes"] == sum(cells[t, s["converted_homes"]] for t in periods)
+    shortages = [cells[t, s["shortage"]] for t in periods]
+    peak = max([0.0, *shortages])
+    assert total["peak_shortage"] == peak
+    assert total["peak_shortage_period"] == (1 + shortages.index(peak) if peak > 0.0 else -1)
+    assert total["peak_homes_below_free_path"] == max(
+        [0.0, *(cells[t, s["homes_below_free_path"]] for t in periods)]
+    )
+    assert total["binding_periods"] == sum(binding[1 : last + 1])
+    assert total["final_consumer_price"] == cells[last, s["consumer_price"]]
+    assert total["total_deadweight_loss"] == cells[last, s["cumulative_deadweight_loss"]]
+    assert total["non_finite"] == 0.0
+
+
+@pytest.mark.parametrize("bad", [math.nan, math.inf, -math.inf])
+def test_a_value_that_is_not_finite_fails_the_row_only_where_it_is_checked(bad):
+    """Checked: the cells the row reports (kept or banded) and the sixteen core series, in the
+    periods 1..horizon; the base point (period 0) and periods past the horizon are not."""
+    checked = [0, 5, 20]
+    for period, cell, fails in [
+        (3, 5, True),
+        (1, 20, True),
+        (8, 0, True),
+        (3, 6, False),
+        (0, 5, False),
+        (9, 5, False),
+    ]:
+        cells = _walked_row(period)
+        cells[period, cell] = bad
+        total, _ = _totals(cells, 8, 4, checked)
+        assert total["non_finite"] == (1.0 if fails else 0.0), (period, cell)
