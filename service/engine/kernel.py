@@ -1737,9 +1737,26 @@ def _elasticity_path(x, i, out):
 
 
 @njit(**_JIT)
-def _shifts(x, i, max_change, out):
+def _safe_changes(change, max_change):
+    """Each shifter's summed change g kept in range (g, or max_change above it, or 0 at or
+    below -1) and ln(1 + g) of that, per row of `change` (n or 1, m, T+1): a row shared by
+    every scenario (a batch without shocks of its own, the draws of a band) is done once."""
+    safe = np.empty(change.shape)
+    log_safe = np.empty(change.shape)
+    for row in range(change.shape[0]):
+        for j in range(change.shape[1]):
+            for t in range(change.shape[2]):
+                g = change[row, j, t]
+                safe[row, j, t] = min(g, max_change) if g > -1.0 else 0.0
+                log_safe[row, j, t] = math.log1p(safe[row, j, t])
+    return safe, log_safe
+
+
+@njit(**_JIT)
+def _shifts(x, i, max_change, safe, log_safe, out):
     """D = sum_j eta_j g_j and ln A = sum_j eta_j ln(1 + g_j) (and S, ln B with eps_j), shifter by
-    shifter; a summed change <= -1 or above max_change marks the shifter out of range."""
+    shifter, from the changes kept in range (_safe_changes); a summed change <= -1 or above
+    max_change marks the shifter out of range."""
     row = min(i, x.change.shape[0] - 1)
     m = x.demand_shifter.shape[1]
     periods = out.eps.shape[1]
@@ -1755,31 +1772,34 @@ def _shifts(x, i, max_change, out):
             g = x.change[row, j, t]
             if t <= x.horizon[i] and (g <= -1.0 or g > max_change):
                 out.shift_bad[i, j] = True
-            safe = min(g, max_change) if g > -1.0 else 0.0
-            log_safe = math.log1p(safe)
-            out.linear[i, 0, t] += x.demand_shifter[i, j] * safe
-            out.constant[i, 0, t] += x.demand_shifter[i, j] * log_safe
-            out.linear[i, 1, t] += x.supply_shifter[i, j] * safe
-            out.constant[i, 1, t] += x.supply_shifter[i, j] * log_safe
+            out.linear[i, 0, t] += x.demand_shifter[i, j] * safe[row, j, t]
+            out.constant[i, 0, t] += x.demand_shifter[i, j] * log_safe[row, j, t]
+            out.linear[i, 1, t] += x.supply_shifter[i, j] * safe[row, j, t]
+            out.constant[i, 1, t] += x.supply_shifter[i, j] * log_safe[row, j, t]
 
 
 @njit(**_JIT)
-def _discount_factors(x, i, out):
-    """Discount factor of period s: prod_(u<=s) 1 / (1 + r_u)."""
-    rates = x.discount_rate[min(i, x.discount_rate.shape[0] - 1)]
-    out.factor[i, 0] = 1.0
+def _discount_factors(rates, factor):
+    """Discount factors of periods 0..T from the rates per period (column 0 unused):
+    f_s = prod_(u<=s) 1 / (1 + r_u), accumulated in logs."""
+    factor[0] = 1.0
     log_factor = 0.0
-    for t in range(1, out.factor.shape[1]):
+    for t in range(1, factor.shape[0]):
         log_factor -= math.log1p(rates[t])
-        out.factor[i, t] = math.exp(log_factor)
+        factor[t] = math.exp(log_factor)
 
 
 @njit(**_JIT)
 def _prepare_kernel(x, max_change, out):
+    safe, log_safe = _safe_changes(x.change, max_change)
+    shared = x.discount_rate.shape[0] == 1  # one rate path for every scenario: computed once
     for i in range(out.eps.shape[0]):
         out.undefined[i] = not _elasticity_path(x, i, out)
-        _shifts(x, i, max_change, out)
-        _discount_factors(x, i, out)
+        _shifts(x, i, max_change, safe, log_safe, out)
+        if shared and i > 0:
+            out.factor[i] = out.factor[0]
+        else:
+            _discount_factors(x.discount_rate[min(i, x.discount_rate.shape[0] - 1)], out.factor[i])
 
 
 def prepare(batch, max_change: float) -> Prepared:
