@@ -490,25 +490,41 @@ def percentile_bands(
     summary_q: list[dict[str, np.ndarray]] = [{} for _ in range(p)]
     offsets = layout.offsets
 
-    def band(policy: int) -> None:
-        # Order statistics selected in compiled code (O(draws) each) over the feasible draws.
-        keep = np.flatnonzero(feasible[policy])
+    # Order statistics selected in compiled code (O(draws) each) over the feasible draws, in
+    # tasks of about equal size (each policy's rows in `threads` parts, and the summary
+    # figures) so that two threads share the work evenly whatever the number of policies.
+    keeps = [np.flatnonzero(feasible[policy]) for policy in range(p)]
+    slots = [slice(offsets[policy], offsets[policy] + len(layout.kept[policy])) for policy in range(p)]
+    blocks = [kept[slot].reshape(-1, draws) for slot in slots]
+    found = [np.empty((block.shape[0], len(q))) for block in blocks]
+    parts = max(threads, 1)
+    tasks = [(policy, part) for policy in range(p) for part in range(parts)]
+
+    def select(task: tuple[int, int]) -> None:
+        policy, part = task
+        rows = blocks[policy].shape[0]
+        lo, hi = rows * part // parts, rows * (part + 1) // parts
+        found[policy][lo:hi] = kernel.percentiles(blocks[policy][lo:hi], keeps[policy], q)
+
+    def summary_figures(policy: int) -> np.ndarray:
+        return kernel.percentiles(kept_summary[policy], keeps[policy], q)
+
+    if threads > 1:
+        with ThreadPoolExecutor(threads) as pool:
+            list(pool.map(select, tasks))
+            figures_q = list(pool.map(summary_figures, range(p)))
+    else:
+        for task in tasks:
+            select(task)
+        figures_q = [summary_figures(policy) for policy in range(p)]
+    for policy in range(p):
         names = layout.kept[policy]
-        block_of = kept[offsets[policy] : offsets[policy] + len(names)].reshape(-1, draws)
-        by_slot = kernel.percentiles(block_of, keep, q).reshape(len(names), periods, len(q))
+        by_slot = found[policy].reshape(len(names), periods, len(q))
         out = {name: by_slot[s].T for s, name in enumerate(names)}
         if index is not None:  # a fixed index: percentiles of x I_t are those of x, times I_t
             out["nominal_consumer_price"] = out["consumer_price"] * index[None, :]
         series_q[policy] = {name: out[name] for name in layout.series[policy]}
-        figures_q = kernel.percentiles(kept_summary[policy], keep, q)
-        summary_q[policy] = {name: figures_q[f] for f, name in enumerate(figures)}
-
-    if threads > 1:
-        with ThreadPoolExecutor(threads) as pool:
-            list(pool.map(band, range(p)))
-    else:
-        for policy in range(p):
-            band(policy)
+        summary_q[policy] = {name: figures_q[policy][f] for f, name in enumerate(figures)}
     count = np.where(none_feasible, 0, feasible.sum(axis=1))
     share = np.where(count > 0, (binds & feasible).sum(axis=1) / np.maximum(count, 1), 0.0)
     return BandArrays(
