@@ -167,9 +167,15 @@ SERIES_NAMES = (
     "households_drawn_in",
     "homes_standing",
 )
-SERIES_INDEX = {name: i for i, name in enumerate(SERIES_NAMES)}
-#: The same indices as named constants for the compiled code (`_S.quantity`, ...).
-_S = namedtuple("SeriesIndex", SERIES_NAMES)(*range(len(SERIES_NAMES)))
+
+
+def _positions(typename: str, names: tuple[str, ...]):
+    """{name: position} of a tuple of names, and the same positions as a named tuple: named
+    constants for the compiled code (`_S.quantity`, `_T.peak_shortage`), never bare numbers."""
+    return {name: i for i, name in enumerate(names)}, namedtuple(typename, names)(*range(len(names)))
+
+
+SERIES_INDEX, _S = _positions("SeriesIndex", SERIES_NAMES)
 
 FLAG_NAMES = ("binding", "rationed", "infeasible")
 _BINDING, _RATIONED, _INFEASIBLE = 0, 1, 2
@@ -203,8 +209,7 @@ SUMMARY_NAMES = (
     "other_feasible",
     *("discounted_" + name for name in GROUP_NAMES),
 )
-SUMMARY_INDEX = {name: i for i, name in enumerate(SUMMARY_NAMES)}
-_T = namedtuple("SummaryIndex", SUMMARY_NAMES)(*range(len(SUMMARY_NAMES)))
+SUMMARY_INDEX, _T = _positions("SummaryIndex", SUMMARY_NAMES)
 _GROUP_SERIES = np.array([SERIES_INDEX[name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_TOTALS = np.array([SUMMARY_INDEX["total_" + name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_DISCOUNTED = np.array([SUMMARY_INDEX["discounted_" + name] for name in GROUP_NAMES], dtype=np.int64)
@@ -446,6 +451,14 @@ def _excess_log(x, c, alpha, beta, scale, gap):
 
 
 @njit(**_JIT)
+def _narrowed(x, g, lo, hi):
+    """The bracket (lo, hi) of the root of a decreasing G, narrowed by G(x) = g != 0."""
+    if g > 0.0:
+        return x, hi
+    return lo, x
+
+
+@njit(**_JIT)
 def _newton_from(x, lo, hi, c, alpha, beta, scale, gap):
     """Newton's method in log price from a good first guess x, kept inside the expected
     bracket (lo, hi) by bisection. Returns NaN unless a Newton step itself converged (a root,
@@ -454,10 +467,7 @@ def _newton_from(x, lo, hi, c, alpha, beta, scale, gap):
         g, slope = _excess_log(x, c, alpha, beta, scale, gap)
         if g == 0.0:
             return x
-        if g > 0.0:
-            lo = x
-        else:
-            hi = x
+        lo, hi = _narrowed(x, g, lo, hi)
         step = -g / slope if slope < 0.0 and math.isfinite(g) else math.nan
         candidate = x + step
         tolerance = 4.0 * _ULP * max(1.0, abs(x))
@@ -504,10 +514,7 @@ def _log_root(lo, hi, c, alpha, beta, scale, gap):
         g, slope = _excess_log(x, c, alpha, beta, scale, gap)
         if g == 0.0:
             return x
-        if g > 0.0:
-            lo = x
-        else:
-            hi = x
+        lo, hi = _narrowed(x, g, lo, hi)
         step = -g / slope if slope < 0.0 else math.nan
         candidate = x + step
         if not (lo < candidate < hi):
