@@ -130,10 +130,12 @@ def _read_size(content_length: int | None, limit: int) -> int:
     """Bytes to ask the stream for: the declared length (already checked against the limit),
     or one byte past the limit when there is none, to tell an over-long body.
 
-    The stream (werkzeug's, over the server's) gives a buffer of the size asked for, so
-    asking for limit + 1 on every request made an 8 MiB buffer for a body of a few hundred
-    bytes (about 50 us a request here). A body cannot run past its Content-Length: the
-    server frames it by that length, so asking for exactly that much misses nothing.
+    werkzeug's stream makes a buffer of the size asked for, and over a server stream that
+    has `readinto` (werkzeug's test client, servers built on io streams) a zero-filled one
+    too: asking for limit + 1 made an 8 MiB buffer for a body of a few hundred bytes, about
+    2 ms a request there (measured; about 1 us over gunicorn's stream, which has no
+    `readinto`). A body cannot run past its Content-Length: the server frames it by that
+    length, so asking for exactly that much misses nothing.
     """
     return limit + 1 if content_length is None else content_length
 
