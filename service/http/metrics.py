@@ -9,6 +9,7 @@ aggregates all of them (prometheus-client's multiprocess mode).
 from __future__ import annotations
 
 import os
+import threading
 
 from flask import request
 from prometheus_client import (
@@ -90,12 +91,18 @@ def resident_bytes() -> int:
         return 0
 
 
+_STATM_OPENING = threading.Lock()
+
+
 def _statm() -> int:
-    """The descriptor of this process's statm file, (re)opened after a fork."""
+    """The descriptor of this process's statm file, (re)opened after a fork (under a lock, so
+    that the threads of a new worker open it once)."""
     global _STATM
     pid = os.getpid()
     if _STATM is None or _STATM[0] != pid:
-        _STATM = (pid, os.open(f"/proc/{pid}/statm", os.O_RDONLY | os.O_CLOEXEC))
+        with _STATM_OPENING:
+            if _STATM is None or _STATM[0] != pid:
+                _STATM = (pid, os.open(f"/proc/{pid}/statm", os.O_RDONLY | os.O_CLOEXEC))
     return _STATM[1]
 
 
