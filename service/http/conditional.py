@@ -38,6 +38,8 @@ def matches(tag: str) -> str | None:
     `*` matches a GET only: a POST's answer is made for its body, and the check runs before the
     body is validated, so a star must not turn an invalid body into a 304.
     """
+    if not request.environ.get("HTTP_IF_NONE_MATCH"):  # no condition: nothing to parse
+        return None
     condition = request.if_none_match
     if condition.star_tag:
         return tag if request.method in ("GET", "HEAD") else None

@@ -105,7 +105,7 @@ def read_body() -> bytes:
             # server's (de-chunked) input directly, one byte past the limit.
             data = request.environ["wsgi.input"].read(limit + 1)
         else:
-            data = request.stream.read(limit + 1)
+            data = request.stream.read(_read_size(request.content_length, limit))
             if request.content_length is not None and len(data) < request.content_length:
                 raise EOFError("body shorter than its Content-Length")
     except Exception as error:
@@ -124,6 +124,20 @@ def read_body() -> bytes:
     if len(data) > limit:
         raise _too_large(limit)
     return _gunzip(data, limit) if encoding == "gzip" else data
+
+
+def _read_size(content_length: int | None, limit: int) -> int:
+    """Bytes to ask the stream for: the declared length (already checked against the limit),
+    or one byte past the limit when there is none, to tell an over-long body.
+
+    werkzeug's stream makes a buffer of the size asked for, and over a server stream that
+    has `readinto` (werkzeug's test client, servers built on io streams) a zero-filled one
+    too: asking for limit + 1 made an 8 MiB buffer for a body of a few hundred bytes, about
+    2 ms a request there (measured; about 1 us over gunicorn's stream, which has no
+    `readinto`). A body cannot run past its Content-Length: the server frames it by that
+    length, so asking for exactly that much misses nothing.
+    """
+    return limit + 1 if content_length is None else content_length
 
 
 def _gunzip(data: bytes, limit: int) -> bytes:

@@ -9,6 +9,7 @@ aggregates all of them (prometheus-client's multiprocess mode).
 from __future__ import annotations
 
 import os
+import threading
 
 from flask import request
 from prometheus_client import (
@@ -73,13 +74,36 @@ WORKER_EXITS = Counter(
 _PAGE = os.sysconf("SC_PAGE_SIZE") if hasattr(os, "sysconf") else 4096
 
 
+#: (pid, descriptor) of this process's /proc/<pid>/statm, opened once per process (a worker
+#: forked from the master opens its own: /proc/self is resolved when the file is opened).
+_STATM: tuple[int, int] | None = None
+
+
 def resident_bytes() -> int:
-    """This process's resident set size in bytes (Linux /proc/self/statm), 0 where unknown."""
+    """This process's resident set size in bytes (Linux /proc/self/statm), 0 where unknown.
+
+    Read after every request, so the file stays open and is read from its start with one
+    pread call: opening, reading and closing it each time took about 30 us a request.
+    """
     try:
-        with open("/proc/self/statm", "rb") as f:
-            return int(f.read().split()[1]) * _PAGE
+        return int(os.pread(_statm(), 64, 0).split()[1]) * _PAGE
     except (OSError, ValueError, IndexError):
         return 0
+
+
+_STATM_OPENING = threading.Lock()
+
+
+def _statm() -> int:
+    """The descriptor of this process's statm file, (re)opened after a fork (under a lock, so
+    that the threads of a new worker open it once)."""
+    global _STATM
+    pid = os.getpid()
+    if _STATM is None or _STATM[0] != pid:
+        with _STATM_OPENING:
+            if _STATM is None or _STATM[0] != pid:
+                _STATM = (pid, os.open(f"/proc/{pid}/statm", os.O_RDONLY | os.O_CLOEXEC))
+    return _STATM[1]
 
 
 def scrape() -> tuple[bytes, str]:

@@ -29,6 +29,8 @@ def negotiate(offered: Sequence[str] = JSON_ONLY) -> str:
 
     Raises ProblemError 406 when the header accepts none of them.
     """
+    if not request.environ.get("HTTP_ACCEPT"):  # no header: nothing to parse (most API calls)
+        return offered[0]
     if not request.accept_mimetypes:
         return offered[0]
     best = request.accept_mimetypes.best_match(offered)

@@ -183,6 +183,8 @@ def _batch(chosen: str) -> Response:
 
 def csv_layout() -> str:
     """The CSV layout the `layout` query parameter asks for (long by default); 400 otherwise."""
+    if not request.environ.get("QUERY_STRING"):  # no query: nothing to parse
+        return LAYOUTS[0]
     layout = request.args.get("layout", LAYOUTS[0])
     if layout not in LAYOUTS:
         raise ProblemError(

@@ -270,7 +270,9 @@ def _schema_loader(schema: Schema, cache: dict[int, Loader | None]) -> Loader:
     for name, field in schema.load_fields.items():
         member = field.data_key if field.data_key is not None else name
         attribute = field.attribute or name
-        members.append((member, attribute, _field_loader(field, cache), field.required, field.load_default))
+        default = field.load_default
+        factory = default if callable(default) else None  # decided once, not per request
+        members.append((member, attribute, _field_loader(field, cache), field.required, default, factory))
     allowed = frozenset(m[0] for m in members)
     validators, post = _hooks(schema)
 
@@ -280,13 +282,15 @@ def _schema_loader(schema: Schema, cache: dict[int, Loader | None]) -> Loader:
         if not allowed.issuperset(value):
             raise _REJECT
         data: dict[str, Any] = {}
-        for member, attribute, loader, required, default in members:
+        for member, attribute, loader, required, default, factory in members:
             if member in value:
                 data[attribute] = loader(value[member])
             elif required:
                 raise _REJECT
+            elif factory is not None:
+                data[attribute] = factory()
             elif default is not missing:
-                data[attribute] = default() if callable(default) else default
+                data[attribute] = default
         out: Any = data
         try:
             for hook, original in validators:

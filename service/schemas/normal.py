@@ -33,15 +33,17 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
     """`body` (accepted by `schema`) with the defaults filled in, in the schema's field order."""
     plan = _plan(schema)
     out: dict[str, Any] = {}
-    for name, convert, fill in plan.fields:
+    for name, convert, fill, constant in plan.fields:
         if name in body:
             out[name] = convert(body[name])
+        elif constant is not _NO_CONSTANT:
+            out[name] = constant
         elif fill is not None:
             value = fill()
             if value is not None:
                 out[name] = value
-    if len(out) != len(body) or not out.keys() >= body.keys():
-        for name, value in body.items():  # nothing should be left, but never drop a field
+    if not out.keys() >= body.keys():  # nothing should be left, but never drop a field
+        for name, value in body.items():
             out.setdefault(name, value)
     if plan.inflation:
         rates = out.get("inflation")
@@ -57,11 +59,12 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
 
 class _Plan(NamedTuple):
     """How one schema is normalised, worked out once from its declared fields: per field its
-    name, the converter of a value sent (_converter) and the maker of its default (None: no
-    default is written out); whether it reads inflation as a market does; whether it holds
-    policies."""
+    name, the converter of a value sent (_converter), the maker of its default (None: no
+    default is written out) and, where that default is one fixed value, the value itself
+    (written without a call; _NO_CONSTANT otherwise); whether it reads inflation as a market
+    does; whether it holds policies."""
 
-    fields: tuple[tuple[str, Callable[[Any], Any], Callable[[], Any] | None], ...]
+    fields: tuple[tuple[str, Callable[[Any], Any], Callable[[], Any] | None, Any], ...]
     inflation: bool
     policies: bool
 
@@ -75,7 +78,10 @@ def _plan(schema: Schema) -> _Plan:
     if found is not None and found[0] is schema:
         return found[1]
     plan = _Plan(
-        tuple((name, _converter(field), _default_maker(field)) for name, field in schema.fields.items()),
+        tuple(
+            (name, _converter(field), _default_maker(field), _constant_default(field))
+            for name, field in schema.fields.items()
+        ),
         isinstance(schema.fields.get("inflation"), NumberOrList),
         "policies" in schema.fields,
     )
@@ -94,6 +100,19 @@ def _default_maker(field: fields.Field) -> Callable[[], Any] | None:
     if callable(default):
         return default
     return lambda: default
+
+
+#: What _constant_default gives for a default that is not one fixed value.
+_NO_CONSTANT = object()
+
+
+def _constant_default(field: fields.Field) -> Any:
+    """The default written for a left-out field when it is one fixed value (the very object
+    _default_maker's function would return each time), else _NO_CONSTANT."""
+    default = field.load_default
+    if default is missing or default is None or isinstance(field, fields.Nested) or callable(default):
+        return _NO_CONSTANT
+    return default
 
 
 #: Defaults that belong to the stock schedule only: written out there, and left out (as the
@@ -216,6 +235,10 @@ def _from_rules(
 ) -> Callable[[Any], Any]:
     if not rules:
         return lambda value: value
+    if rules in (((_is_number, float),), ((_is_number, int),)):
+        # A number field (most fields): the one rule without the calls of the general form.
+        as_number = rules[0][1]
+        return lambda value: as_number(value) if isinstance(value, (int, float)) else value
     if len(rules) == 1:
         ((applies, convert),) = rules
         if applies is _always:

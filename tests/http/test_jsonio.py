@@ -163,3 +163,46 @@ def test_an_unexpected_failure_is_500_with_a_urn_type(monkeypatch):
     body = _problem(app.test_client().post("/v1/paths", data=b"{}", content_type=JSON), 500)
     assert body["type"] == PROBLEM_BASE + "internal-error"
     assert "boom" not in json.dumps(body)
+
+
+class _ServerBody:
+    """A server's request body as gunicorn hands it to the app (read only, no readinto),
+    recording the sizes it is asked for."""
+
+    def __init__(self, data: bytes):
+        self.data, self.asked = data, []
+
+    def read(self, size=-1):
+        self.asked.append(size)
+        out, self.data = (self.data, b"") if size < 0 else (self.data[:size], self.data[size:])
+        return out
+
+
+def test_a_body_with_a_content_length_is_read_at_that_length_not_at_the_limit():
+    from werkzeug.test import EnvironBuilder
+
+    from service.http.jsonio import read_json
+
+    app = create_app({"TESTING": True})
+    text = b'{"horizon": 3}'
+    environ = EnvironBuilder(path="/v1/paths", method="POST", data=text, content_type=JSON).get_environ()
+    body = _ServerBody(text)
+    environ.update({"wsgi.input": body, "wsgi.input_terminated": True})
+    with app.request_context(environ):
+        assert read_json() == {"horizon": 3}
+    assert body.asked and max(body.asked) == len(text) < limits.MAX_BODY_BYTES
+
+
+def test_a_body_shorter_than_its_content_length_is_400_incomplete():
+    from werkzeug.test import EnvironBuilder
+
+    from service.http.jsonio import read_json
+    from service.problems import ProblemError
+
+    app = create_app({"TESTING": True})
+    environ = EnvironBuilder(path="/v1/paths", method="POST", data=b"{}", content_type=JSON).get_environ()
+    short = {"wsgi.input": _ServerBody(b'{"hor'), "wsgi.input_terminated": True, "CONTENT_LENGTH": "14"}
+    environ.update(short)
+    with app.request_context(environ), pytest.raises(ProblemError) as raised:
+        read_json()
+    assert raised.value.status == 400 and raised.value.problem["type"].endswith("incomplete-body")

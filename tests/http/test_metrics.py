@@ -19,3 +19,41 @@ def test_metrics_count_requests_per_endpoint_and_status_and_the_work_done(client
     computed = 'shockpath_scenarios_computed_total{endpoint="/v1/paths"}'
     assert value(after, computed) - value(before, computed) == 1
     assert "shockpath_http_request_duration_seconds_bucket" in after
+
+
+def test_resident_memory_is_this_process_s_resident_set_read_from_one_open_descriptor():
+    import os
+
+    from service.http import metrics
+
+    first = metrics.resident_bytes()
+    with open("/proc/self/statm", "rb") as f:
+        pages = int(f.read().split()[1])
+    # Resident memory moves a little between the two reads, never by anything like a megabyte.
+    assert abs(first - pages * metrics._PAGE) < 1 << 20
+    descriptors = len(os.listdir("/proc/self/fd"))
+    for _ in range(50):
+        assert metrics.resident_bytes() > 0
+    assert len(os.listdir("/proc/self/fd")) == descriptors  # no descriptor opened per call
+
+
+def test_a_forked_worker_reads_its_own_resident_memory_not_the_master_s():
+    import os
+
+    from service.http import metrics
+
+    metrics.resident_bytes()  # the parent ("master") has its descriptor open
+    read_end, write_end = os.pipe()
+    pid = os.fork()
+    if pid == 0:  # the child, as a gunicorn worker forked from a preloaded master
+        try:
+            metrics.resident_bytes()
+            os.write(write_end, f"{metrics._STATM[0]} {os.getpid()}".encode())
+        finally:
+            os._exit(0)
+    os.close(write_end)
+    os.waitpid(pid, 0)
+    with os.fdopen(read_end, "rb") as f:
+        read_for, child = f.read().split()
+    assert read_for == child and int(child) == pid
+    assert metrics._STATM[0] == os.getpid()  # the parent's own descriptor is untouched

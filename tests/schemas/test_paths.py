@@ -115,3 +115,17 @@ def test_the_callers_request_is_not_modified():
     before = copy.deepcopy(request)
     simulate(request)
     assert request == before
+
+
+def test_a_request_without_welfare_is_the_request_with_empty_welfare_and_shares_one_frozen_default():
+    from service.engine import Welfare
+    from service.simulation import load_scenario, scenario_id
+
+    request = validation_base()
+    request.pop("welfare", None)
+    left_out, also_left_out = load_scenario(request), load_scenario(copy.deepcopy(request))
+    empty = load_scenario({**request, "welfare": {}})
+    assert left_out.welfare == empty.welfare == Welfare()  # efficient rationing, no discounting
+    assert scenario_id(left_out) == scenario_id(empty)
+    # One frozen value for every request that leaves welfare out, not a schema built per request.
+    assert left_out.welfare is also_left_out.welfare
