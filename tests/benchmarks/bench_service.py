@@ -7,7 +7,9 @@
    reference of tests/reference.py (brentq roots, quad welfare, a Python loop) on a sample.
 2. HTTP: requests per second and p50/p99 latency of POST /v1/paths (a demo scenario, 20
    periods, 4 policies) under the production gunicorn configuration, against a bare endpoint
-   of the same app that only parses and echoes the body, both driven by wrk.
+   of the same app that only parses and echoes the body, both driven by wrk; and the
+   workers' CPU time per request of each, which the way wrk's connections fall on the
+   workers does not move (the request rate's ratio swings with it on a two-core machine).
 3. Batch: scenarios per second through POST /v1/paths/batch at the largest batch, over HTTP.
 4. Bands: 100,000 draws x 40 periods x 3 policies (tests/benchmarks/bench_bands.py).
 5. Memory: peak resident memory of each gunicorn worker after the runs above.
@@ -165,6 +167,26 @@ class Server:
         children = Path(f"/proc/{self.process.pid}/task/{self.process.pid}/children").read_text().split()
         return [int(c) for c in children]
 
+    def worker_cpu_seconds(self) -> float:
+        """CPU seconds the workers have used so far: the running workers' own (every thread)
+        and, through the master's counts of reaped children, those of workers already
+        recycled, so a difference over a run counts every request's worker."""
+        ticks = os.sysconf("SC_CLK_TCK")
+
+        def fields(pid: int) -> list[str]:
+            text = Path(f"/proc/{pid}/stat").read_text()
+            return text[text.rindex(")") + 2 :].split()  # after the command name
+
+        master = fields(self.process.pid)
+        total = int(master[13]) + int(master[14])  # cutime, cstime: reaped children
+        for pid in self.workers():
+            try:
+                worker = fields(pid)
+            except FileNotFoundError:  # left between the listing and the read
+                continue
+            total += int(worker[11]) + int(worker[12])  # utime, stime
+        return total / ticks
+
     def stop(self) -> None:
         self.process.send_signal(signal.SIGTERM)
         self.process.wait(timeout=60)
@@ -229,13 +251,25 @@ def wrk(port: int, path: str, body: bytes, seconds: int, distinct: bool = False)
         return value * {"us": 1e-3, "ms": 1.0, "s": 1e3}[unit]
 
     rps = float(re.search(r"Requests/sec:\s+([\d.]+)", out).group(1))
+    count = int(re.search(r"(\d+) requests in", out).group(1))
     non_2xx = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", out)
     return {
         "rps": rps,
         "p50_ms": latency("50"),
         "p99_ms": latency("99"),
         "non_2xx": int(non_2xx.group(1)) if non_2xx else 0,
+        "requests": count,
     }
+
+
+def wrk_with_cpu(server: Server, path: str, body: bytes, seconds: int, distinct: bool = False) -> dict:
+    """wrk's figures and the workers' CPU milliseconds per request over the run: unlike the
+    request rate, not moved by how wrk's four connections happen to fall on the workers (one
+    worker may take all of them and leave the other idle)."""
+    before = server.worker_cpu_seconds()
+    figures = wrk(server.port, path, body, seconds, distinct)
+    used = server.worker_cpu_seconds() - before
+    return {**figures, "cpu_ms": 1e3 * used / max(figures["requests"], 1)}
 
 
 def main() -> None:
@@ -269,8 +303,8 @@ def main() -> None:
     server = Server()
     try:
         paths = wrk(server.port, "/v1/paths", body, args.seconds)
-        distinct = wrk(server.port, "/v1/paths", templated.encode(), args.seconds, distinct=True)
-        echo = wrk(server.port, "/benchmark/echo", body, args.seconds)
+        distinct = wrk_with_cpu(server, "/v1/paths", templated.encode(), args.seconds, distinct=True)
+        echo = wrk_with_cpu(server, "/benchmark/echo", body, args.seconds)
         times = []
         for _ in range(5):
             start = time.perf_counter()
@@ -315,6 +349,12 @@ def main() -> None:
             distinct["rps"],
             echo["rps"],
             ">= 0.4",
+        ),
+        (
+            "   worker CPU per request, ms: bare echo / new scenario",
+            echo["cpu_ms"],
+            distinct["cpu_ms"],
+            "",
         ),
         ("   p50 latency, ms", distinct["p50_ms"], echo["p50_ms"], ""),
         ("   p99 latency, ms", distinct["p99_ms"], echo["p99_ms"], ""),
