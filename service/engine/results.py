@@ -298,6 +298,14 @@ def reported_series(batch: ScenarioBatch, rows: PolicyRows) -> tuple[str, ...]:
     return names
 
 
+def _first_periods(series, end: int):
+    """Periods 0..end-1 of a row's kept series (kept x periods): one view of a numpy block, or
+    the Python lists themselves where nothing is cut (as_lists: made for this answer alone)."""
+    if isinstance(series, np.ndarray):
+        return series[:, :end]
+    return series if len(series[0]) == end else [values[:end] for values in series]
+
+
 def assemble(
     scenarios: Sequence[Scenario],
     batch: ScenarioBatch,
@@ -351,25 +359,22 @@ def assemble(
         other_form = "linear" if scenario.market.form == "constant_elasticity" else "constant_elasticity"
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
-            values = block[r]
+            values = _first_periods(block[r], end)
             path = {
-                name: binding[r][:end] if name == "binding" else values[position[name]][:end]
-                for name in SERIES
+                name: binding[r][:end] if name == "binding" else values[position[name]] for name in SERIES
             }
             if inflated:
                 path["nominal_consumer_price"] = nominal[r][0][:end]
                 path["nominal_producer_price"] = nominal[r][1][:end]
             if partial[r]:
                 for name in COVERAGE_SERIES:
-                    path[name] = values[position[name]][:end]
+                    path[name] = values[position[name]]
             vs_free_path = None
             if stock:
                 for name in STOCK_SERIES + (CONVERSION_SERIES if converting else ()):
-                    path[name] = values[position[name]][:end]
-                vs_free_path = {
-                    key: values[position[name]][:end] for key, name in VS_FREE_PATH_SERIES.items()
-                }
-            groups = None if random else {name: values[position[name]][:end] for name in DISTRIBUTION_GROUPS}
+                    path[name] = values[position[name]]
+                vs_free_path = {key: values[position[name]] for key, name in VS_FREE_PATH_SERIES.items()}
+            groups = None if random else {name: values[position[name]] for name in DISTRIBUTION_GROUPS}
             paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
             peak_period = int(f[code["peak_shortage_period"]])
