@@ -159,12 +159,42 @@ def _figure():
 PAD_PX = 6
 
 
+def _margins(ax, renderer) -> tuple[float, float, float, float]:
+    """What is drawn outside one axes, in pixels left, right, above and below it: its titles,
+    tick labels and annotations (measured where they stand against the axes' box, which does not
+    depend on the box's size), then its axis labels beyond the tick labels (measured by size:
+    they are placed only when drawn)."""
+    box = ax.get_window_extent(renderer)
+    low, high = box.x0 - 0.5, box.x1 + 0.5
+    ticks = [t for t in ax.xaxis.get_ticklabels() if low <= _anchor(t)[0] <= high]
+    low, high = box.y0 - 0.5, box.y1 + 0.5
+    ticks += [t for t in ax.yaxis.get_ticklabels() if low <= _anchor(t)[1] <= high]
+    titles = (ax.title, ax._left_title, ax._right_title)  # matplotlib's three title positions
+    left = right = above = below = 0.0
+    for text in (*ticks, *ax.texts, *titles):
+        if text.get_visible() and text.get_text():
+            extent = text.get_window_extent(renderer)
+            left, right = max(left, box.x0 - extent.x0), max(right, extent.x1 - box.x1)
+            above, below = max(above, extent.y1 - box.y1), max(below, box.y0 - extent.y0)
+    points = ax.get_figure(root=True).dpi / 72
+    if ax.xaxis.label.get_text():
+        below += ax.xaxis.labelpad * points + ax.xaxis.label.get_window_extent(renderer).height
+    if ax.yaxis.label.get_text():
+        left += ax.yaxis.labelpad * points + ax.yaxis.label.get_window_extent(renderer).width
+    return left, right, above, below
+
+
+def _anchor(text) -> tuple[float, float]:
+    """Where a text is anchored, in pixels: a tick label beyond the axes' limits is not drawn."""
+    return tuple(text.get_transform().transform(text.get_position()))
+
+
 def _place(figure, heading, bottom: float) -> None:
     """Sets every axes' position once, from what is drawn around it, between the `heading` (the
     figure's title, a Text at the top) and `bottom` (a fraction of the figure's height: the
     legend and the footnote below).
 
-    What constrained layout did, in one pass: each grid row is as high as its tallest title
+    What constrained layout did, in one pass: each grid row is as high as its tallest titles
     above and its deepest tick labels and axis label below, each column as wide as its widest
     tick labels and axis label on the left (and what overhangs on the right), measured once on
     the finished axes; the cells share what is left equally. A layout engine measures again,
@@ -180,12 +210,9 @@ def _place(figure, heading, bottom: float) -> None:
             continue
         spec = ax.get_subplotspec()
         r, c = spec.rowspan.start, spec.colspan.start
-        box = ax.get_window_extent(renderer)
-        tight = ax.get_tightbbox(renderer, for_layout_only=True)
-        left[c] = max(left[c], box.x0 - tight.x0)
-        right[c] = max(right[c], tight.x1 - box.x1)
-        above[r] = max(above[r], tight.y1 - box.y1)
-        below[r] = max(below[r], box.y0 - tight.y0)
+        l_, r_, a_, b_ = _margins(ax, renderer)
+        left[c], right[c] = max(left[c], l_), max(right[c], r_)
+        above[r], below[r] = max(above[r], a_), max(below[r], b_)
     top = PAD_PX + heading.get_window_extent(renderer).height
     cell_w = (width - sum(left) - sum(right) - PAD_PX * (cols + 1)) / cols
     cell_h = (height * (1 - bottom) - top - sum(above) - sum(below) - PAD_PX * (rows + 1)) / rows
