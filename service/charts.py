@@ -608,7 +608,8 @@ def render_sensitivity(
         ax.set_xlim(lo - pad, hi + pad)
     ax.set_yticks(range(len(inputs)), ylabels)
     unit = _headline_unit(output, units)
-    ax.set_xlabel(f"{_headline_label(output)}" + (f" [{unit}]" if unit else ""))
+    # Wrapped to the axes' width: a headline's unit can be a long phrase.
+    ax.set_xlabel(textwrap.fill(f"{_headline_label(output)}" + (f" [{unit}]" if unit else ""), 110))
     _compact_axis(ax.xaxis)
     ax.grid(True, axis="x", color="#dddddd", linewidth=0.6)
     handles = [
@@ -744,14 +745,18 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
             )
     first = cells[0]
     first.set_xlim(-reach, reach)
-    first.set_yticks(rows_y, [textwrap.fill(label, 18) for _, label in GROUPS])
+    # Two lines a group where a panel has the height for them, else one (no label over the next).
+    first.set_yticks(rows_y, [textwrap.fill(label, 18 if rows <= 2 else 34) for _, label in GROUPS])
     first.invert_yaxis()  # the first group on top
     _compact_axis(first.xaxis)
     for col in range(cols):  # the lowest panel of each column carries the money axis
         lowest = cells[max(i for i in range(col, len(names), cols))]
         lowest.xaxis.set_tick_params(labelbottom=True)
         lowest.set_xlabel(
-            textwrap.fill(f"Gain (+) or loss (\u2212), {basis} [{units['currency']}, {labels.REAL}]", 70),
+            textwrap.fill(
+                f"Gain (+) or loss (\u2212), {basis} [{units['currency']}, {labels.REAL}]",
+                {1: 110, 2: 70}.get(cols, 48),  # characters that fit under one panel at 10 pt
+            ),
             fontsize=10,
         )
     handles = [
