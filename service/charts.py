@@ -753,10 +753,9 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
         lowest = cells[max(i for i in range(col, len(names), cols))]
         lowest.xaxis.set_tick_params(labelbottom=True)
         lowest.set_xlabel(
-            textwrap.fill(
-                f"Gain (+) or loss (\u2212), {basis} [{units['currency']}, {labels.REAL}]",
-                {1: 110, 2: 70}.get(cols, 48),  # characters that fit under one panel at 10 pt
-            ),
+            # wrapped to what fits under one panel at 10 pt, the unit whole on the last line
+            textwrap.fill(f"Gain (+) or loss (\u2212), {basis}", {1: 110, 2: 70}.get(cols, 48))
+            + f"\n[{units['currency']}, {labels.REAL}]",
             fontsize=10,
         )
     handles = [
