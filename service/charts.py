@@ -5,6 +5,9 @@ Object-oriented matplotlib only (Figure and its canvases, never pyplot): no glob
 any worker. Readable in greyscale (line styles and markers as well as colours), with the
 colour-blind-safe palette of Okabe & Ito (2008), "Color Universal Design". Each chart carries a
 title and a one-line footnote with the model form and the caution that results are estimates.
+Each figure is laid out once, when it is drawn in full (`_place`: rows and columns sized from
+the titles, tick labels and axis labels around each axes), rather than by a layout engine,
+which measures again and draws the figure an extra time on every save.
 
 Who gains and who loses (MODEL.md section 15) draws each group's per-period change of the
 response's `distribution`, summed over periods 1..T with the engine's discount factors
