@@ -22,7 +22,7 @@ def test_the_service_survives_a_killed_worker_and_shuts_down_gracefully(compiled
             pytest.fail("wrk is required here (apt-get install wrk)")
         pytest.skip("wrk is not installed (Debian package wrk)")
     result = subprocess.run(
-        [sys.executable, "deploy/loadtest.py", "--seconds", "6", "--check"],
+        [sys.executable, "deploy/loadtest.py", "--seconds", "4", "--check"],
         cwd=ROOT,
         capture_output=True,
         text=True,

@@ -25,6 +25,7 @@ random ones. What bounds the work, each test only costing less, none leaving a c
 
 from __future__ import annotations
 
+import os
 import zlib
 
 import orjson
@@ -52,8 +53,15 @@ IDENTITY = {"Accept-Encoding": "identity"}
 MAX_CASE_DRAWS = 500
 CHART_COVERAGE_SHARE = 6
 TWIN_COVERAGE_SHARE = 4
-#: Random cases per operation, by test (the coverage cases come on top of these).
-EXAMPLES = {"light": 150, "heavy": 40, "charts": 50}
+#: Random cases per operation, by test (the coverage cases, which try every field at its bounds,
+#: of the wrong type, missing and so on, come on top of these and all run): as many as the
+#: suite's hypothesis profile gives a property (`ci`, 60); under HYPOTHESIS_PROFILE=thorough
+#: several times more.
+EXAMPLES = (
+    {"light": 300, "heavy": 100, "charts": 100}
+    if os.environ.get("HYPOTHESIS_PROFILE") == "thorough"
+    else {"light": 60, "heavy": 25, "charts": 30}
+)
 
 pytestmark = pytest.mark.slow
 

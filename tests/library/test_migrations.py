@@ -19,6 +19,10 @@ from service.library.models import Base
 ROOT = Path(__file__).resolve().parents[2]
 
 
+#: Each PostgreSQL case starts from a database without tables (see conftest.database).
+FROM_NOTHING = True
+
+
 def _url(database: dict[str, str]) -> str:
     return database_url(database.get("database_url", ""), database.get("library_path", ""))
 
