@@ -160,6 +160,8 @@ def _figure():
 
 #: Pixels between one axes' decorations and the next, and at the figure's edges.
 PAD_PX = 6
+#: Space between one row of panels' tick labels and the next row's titles.
+ROW_GAP_PX = 16
 
 
 def _margins(ax, renderer) -> tuple[float, float, float, float]:
@@ -218,12 +220,13 @@ def _place(figure, heading, bottom: float) -> None:
         above[r], below[r] = max(above[r], a_), max(below[r], b_)
     top = PAD_PX + heading.get_window_extent(renderer).height
     cell_w = (width - sum(left) - sum(right) - PAD_PX * (cols + 1)) / cols
-    cell_h = (height * (1 - bottom) - top - sum(above) - sum(below) - PAD_PX * (rows + 1)) / rows
+    gaps = 2 * PAD_PX + ROW_GAP_PX * (rows - 1)
+    cell_h = (height * (1 - bottom) - top - sum(above) - sum(below) - gaps) / rows
     for ax in figure.axes:
         spec = ax.get_subplotspec()
         r, c = spec.rowspan.start, spec.colspan.start
         x0 = PAD_PX * (c + 1) + sum(left[: c + 1]) + sum(right[:c]) + cell_w * c
-        y1 = height - top - PAD_PX * (r + 1) - sum(above[: r + 1]) - sum(below[:r]) - cell_h * r
+        y1 = height - top - PAD_PX - ROW_GAP_PX * r - sum(above[: r + 1]) - sum(below[:r]) - cell_h * r
         ax.set_position((x0 / width, (y1 - cell_h) / height, cell_w / width, cell_h / height))
 
 
