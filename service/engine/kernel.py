@@ -12,10 +12,10 @@ walks each row's periods in order (`_walk_row`) and computes, per period: the pe
 per kind: `_ceiling`, `_floor`, `_wedge`, `_quantity_cap`, and `_controlled_groups` for a
 ceiling whose controlled homes keep their own stock), the welfare change and who gains and
 who loses (`_welfare`, `_group_welfare`) and renters against the free path (`_vs_free_path`),
-and writes each period's cell into a buffer of the row (periods x series). Then the row's summary is
-summed over that buffer in period order (`_row_totals`, with the finite check) and its kept
-and banded series are copied out (`_emit`). No scipy and no Python objects inside: problems
-come back as flags.
+and writes each period's cell into a buffer of the row (periods x series). Then the row's
+summary is summed over that buffer in period order (`_row_totals`, with the finite check) and
+its kept and banded series are copied out (`_emit`). No scipy and no Python objects inside:
+problems come back as flags.
 
 Curves of period t (MODEL.md sections 3 and 16; shifts D, S in the linear form, ln A, ln B in
 constant elasticity; p = (P - P0)/P0):
@@ -1485,7 +1485,7 @@ def _row_totals(cells, flags, last, end, factor, checked, total):
     for g in range(_GROUP_SERIES.shape[0]):
         total[_GROUP_TOTALS[g]] = _sum_over(cells, _GROUP_SERIES[g], 1, last)
         total[_GROUP_DISCOUNTED[g]] = _discounted_sum(cells, _GROUP_SERIES[g], factor, last)
-    after_end = min(end, last) + 1
+    after_end = max(min(end, last) + 1, 1)  # the periods t > end of 1..last (end may be any int)
     renters, extra = _S.renters_vs_free_path, _S.extra_rent_vs_free_path
     total[_T.vs_free_path_renters] = _sum_over(cells, renters, 1, last)
     total[_T.vs_free_path_renters_discounted] = _discounted_sum(cells, renters, factor, last)

@@ -4,7 +4,9 @@ scalar reference in test_reference.py."""
 
 from __future__ import annotations
 
+import functools
 import math
+import operator
 
 import numpy as np
 import pytest
@@ -253,43 +255,58 @@ def _totals(cells, last, end, checked, binding=None):
     return dict(zip(kernel.SUMMARY_NAMES, total, strict=True)), factor
 
 
-@pytest.mark.parametrize(("last", "end"), [(11, 4), (9, 9), (11, np.iinfo(np.int64).max), (0, 3)])
+def _in_order(values) -> float:
+    """0.0 + v1 + v2 + ... left to right, as the kernel adds (Python's own `sum` compensates
+    rounding since 3.12, so it is not the reference here)."""
+    return functools.reduce(operator.add, values, 0.0)
+
+
+@pytest.mark.parametrize(
+    ("last", "end"), [(11, 4), (9, 9), (11, np.iinfo(np.int64).max), (0, 3), (11, -40), (11, -(10**6))]
+)
 def test_a_rows_totals_are_its_periods_summed_in_order(last, end):
-    """The summary is read off the walked cells: sums from 0 in period order (Python's sum adds
-    left to right, so the figures are equal, not just close), peaks with the first period that
-    reaches them, the periods bound, and the last period's figures."""
+    """The summary is read off the walked cells: sums from 0 in period order (equal, not just
+    close), peaks with the first period that reaches them, the periods bound, the sums after
+    the rule's end (every period when `end` is before period 1), and the last period's
+    figures; every figure of the row's own form is written."""
     cells = _walked_row(last)
+    s = kernel.SERIES_INDEX
+    if last >= 4:  # a tie: the first period that reaches the peak is the one reported
+        cells[4, s["shortage"]] = cells[2, s["shortage"]] = abs(cells[:, s["shortage"]]).max() + 1.0
     binding = np.arange(cells.shape[0]) % 3 == 1
     total, factor = _totals(cells, last, end, range(16), binding)
-    s = kernel.SERIES_INDEX
     periods = range(1, last + 1)
     after = [t for t in periods if t > end]
-    for name in (
-        "consumer_surplus_change",
-        "producer_surplus_change",
-        "government_revenue",
-        *kernel.GROUP_NAMES,
-    ):
-        assert total["total_" + name] == sum(cells[t, s[name]] for t in periods)
+    money = ("consumer_surplus_change", "producer_surplus_change", "government_revenue")
+    for name in (*money, *kernel.GROUP_NAMES):
+        assert total["total_" + name] == _in_order(cells[t, s[name]] for t in periods)
     for name in kernel.GROUP_NAMES:
-        assert total["discounted_" + name] == sum(cells[t, s[name]] * factor[t] for t in periods)
+        assert total["discounted_" + name] == _in_order(cells[t, s[name]] * factor[t] for t in periods)
     renters, extra = s["renters_vs_free_path"], s["extra_rent_vs_free_path"]
-    assert total["vs_free_path_renters"] == sum(cells[t, renters] for t in periods)
-    assert total["vs_free_path_renters_discounted"] == sum(cells[t, renters] * factor[t] for t in periods)
-    assert total["vs_free_path_renters_after_end"] == sum(cells[t, renters] for t in after)
-    assert total["vs_free_path_extra_rent_after_end"] == sum(cells[t, extra] for t in after)
-    assert total["total_converted_homes"] == sum(cells[t, s["converted_homes"]] for t in periods)
+    assert total["vs_free_path_renters"] == _in_order(cells[t, renters] for t in periods)
+    discounted = _in_order(cells[t, renters] * factor[t] for t in periods)
+    assert total["vs_free_path_renters_discounted"] == discounted
+    assert total["vs_free_path_extra_rent"] == _in_order(cells[t, extra] for t in periods)
+    assert total["vs_free_path_renters_after_end"] == _in_order(cells[t, renters] for t in after)
+    assert total["vs_free_path_extra_rent_after_end"] == _in_order(cells[t, extra] for t in after)
+    assert total["total_converted_homes"] == _in_order(cells[t, s["converted_homes"]] for t in periods)
     shortages = [cells[t, s["shortage"]] for t in periods]
     peak = max([0.0, *shortages])
     assert total["peak_shortage"] == peak
     assert total["peak_shortage_period"] == (1 + shortages.index(peak) if peak > 0.0 else -1)
-    assert total["peak_homes_below_free_path"] == max(
-        [0.0, *(cells[t, s["homes_below_free_path"]] for t in periods)]
-    )
+    below = [cells[t, s["homes_below_free_path"]] for t in periods]
+    assert total["peak_homes_below_free_path"] == max([0.0, *below])
     assert total["binding_periods"] == sum(binding[1 : last + 1])
-    assert total["final_consumer_price"] == cells[last, s["consumer_price"]]
-    assert total["total_deadweight_loss"] == cells[last, s["cumulative_deadweight_loss"]]
+    final = cells[last]
+    assert total["final_consumer_price"] == final[s["consumer_price"]]
+    assert total["final_quantity"] == final[s["quantity"]]
+    assert total["final_homes_below_free_path"] == final[s["homes_below_free_path"]]
+    assert total["final_vacant_homes"] == final[s["vacant_homes"]]
+    assert total["total_deadweight_loss"] == final[s["cumulative_deadweight_loss"]]
+    assert total["discounted_deadweight_loss"] == final[s["discounted_deadweight_loss"]]
     assert total["non_finite"] == 0.0
+    other = {name for name in kernel.SUMMARY_NAMES if name.startswith("other_")}
+    assert not any(math.isnan(value) for name, value in total.items() if name not in other)
 
 
 @pytest.mark.parametrize("bad", [math.nan, math.inf, -math.inf])
