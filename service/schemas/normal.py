@@ -59,9 +59,9 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
 
 class _Plan(NamedTuple):
     """How one schema is normalised, worked out once from its declared fields: per field its
-    name, the converter of a value sent (_converter), the maker of its default (None: no
-    default is written out) and, where that default is one fixed value, the value itself
-    (written without a call; _NO_CONSTANT otherwise); whether it reads inflation as a market
+    name, the converter of a value sent (_converter), and how a left-out field is written
+    (_default: the maker of its default, or the default itself where it is one fixed value);
+    whether it reads inflation as a market
     does; whether it holds policies."""
 
     fields: tuple[tuple[str, Callable[[Any], Any], Callable[[], Any] | None, Any], ...]
@@ -78,10 +78,7 @@ def _plan(schema: Schema) -> _Plan:
     if found is not None and found[0] is schema:
         return found[1]
     plan = _Plan(
-        tuple(
-            (name, _converter(field), _default_maker(field), _constant_default(field))
-            for name, field in schema.fields.items()
-        ),
+        tuple((name, _converter(field), *_default(field)) for name, field in schema.fields.items()),
         isinstance(schema.fields.get("inflation"), NumberOrList),
         "policies" in schema.fields,
     )
@@ -89,30 +86,23 @@ def _plan(schema: Schema) -> _Plan:
     return plan
 
 
-def _default_maker(field: fields.Field) -> Callable[[], Any] | None:
-    """What a left-out field is written as: its default (a nested object normalised from {});
-    None where nothing is written (no default, or a default of None: "absent")."""
-    default = field.load_default
-    if default is missing or default is None:
-        return None
-    if isinstance(field, fields.Nested):
-        return lambda: normalised(_nested(field), {})
-    if callable(default):
-        return default
-    return lambda: default
-
-
-#: What _constant_default gives for a default that is not one fixed value.
+#: The constant of a default that is not one fixed value (see _default).
 _NO_CONSTANT = object()
 
 
-def _constant_default(field: fields.Field) -> Any:
-    """The default written for a left-out field when it is one fixed value (the very object
-    _default_maker's function would return each time), else _NO_CONSTANT."""
+def _default(field: fields.Field) -> tuple[Callable[[], Any] | None, Any]:
+    """What a left-out field is written as: (maker, constant). A default that is one fixed value
+    is the constant, written without a call (maker None); a nested object is normalised from {}
+    and a callable default is called (constant _NO_CONSTANT); no default, or a default of None
+    ("absent"), writes nothing (None, _NO_CONSTANT)."""
     default = field.load_default
-    if default is missing or default is None or isinstance(field, fields.Nested) or callable(default):
-        return _NO_CONSTANT
-    return default
+    if default is missing or default is None:
+        return None, _NO_CONSTANT
+    if isinstance(field, fields.Nested):
+        return (lambda: normalised(_nested(field), {})), _NO_CONSTANT
+    if callable(default):
+        return default, _NO_CONSTANT
+    return None, default
 
 
 #: Defaults that belong to the stock schedule only: written out there, and left out (as the
