@@ -433,6 +433,15 @@ def solve_rows(batch: ScenarioBatch, rows: PolicyRows, band: tuple | None = None
     return feasible, series, summary, binds
 
 
+def _each(function, items, threads: int) -> list:
+    """function(item) for every item, in order; on `threads` threads side by side where more
+    than one (the compiled kernels release the GIL)."""
+    if threads > 1:
+        with ThreadPoolExecutor(threads) as pool:
+            return list(pool.map(function, items))
+    return [function(item) for item in items]
+
+
 def percentile_bands(
     scenario: Scenario,
     inputs: Sequence[UncertainInput],
@@ -474,20 +483,12 @@ def percentile_bands(
         for f, name in enumerate(figures):
             kept_summary[:, f, start:stop] = summary[name].reshape(shape)
 
-    starts = range(0, draws, block)  # blocks of draws, each vectorised
-    if threads > 1:
-        with ThreadPoolExecutor(threads) as pool:
-            list(pool.map(solve_block, starts))
-    else:
-        for start in starts:
-            solve_block(start)
+    _each(solve_block, range(0, draws, block), threads)  # blocks of draws, each vectorised
 
     q = np.asarray(percentiles, dtype=float)
     none_feasible = ~feasible.any(axis=1)  # such a policy has no band; the caller reports it
     feasible = feasible | none_feasible[:, None]
     index = price_index(np.ascontiguousarray(base.inflation))[0] if layout.scaled_nominal else None
-    series_q: list[dict[str, np.ndarray]] = [{} for _ in range(p)]
-    summary_q: list[dict[str, np.ndarray]] = [{} for _ in range(p)]
     offsets = layout.offsets
 
     # Order statistics selected in compiled code (O(draws) each) over the feasible draws, in
@@ -509,22 +510,17 @@ def percentile_bands(
     def summary_figures(policy: int) -> np.ndarray:
         return kernel.percentiles(kept_summary[policy], keeps[policy], q)
 
-    if threads > 1:
-        with ThreadPoolExecutor(threads) as pool:
-            list(pool.map(select, tasks))
-            figures_q = list(pool.map(summary_figures, range(p)))
-    else:
-        for task in tasks:
-            select(task)
-        figures_q = [summary_figures(policy) for policy in range(p)]
+    _each(select, tasks, threads)
+    figures_q = _each(summary_figures, range(p), threads)
+    series_q, summary_q = [], []
     for policy in range(p):
         names = layout.kept[policy]
         by_slot = found[policy].reshape(len(names), periods, len(q))
         out = {name: by_slot[s].T for s, name in enumerate(names)}
         if index is not None:  # a fixed index: percentiles of x I_t are those of x, times I_t
             out["nominal_consumer_price"] = out["consumer_price"] * index[None, :]
-        series_q[policy] = {name: out[name] for name in layout.series[policy]}
-        summary_q[policy] = {name: figures_q[policy][f] for f, name in enumerate(figures)}
+        series_q.append({name: out[name] for name in layout.series[policy]})
+        summary_q.append({name: figures_q[policy][f] for f, name in enumerate(figures)})
     count = np.where(none_feasible, 0, feasible.sum(axis=1))
     share = np.where(count > 0, (binds & feasible).sum(axis=1) / np.maximum(count, 1), 0.0)
     return BandArrays(
