@@ -9,6 +9,7 @@ not run.
 
 from __future__ import annotations
 
+import functools
 import os
 import socket
 from collections.abc import Callable
@@ -24,12 +25,31 @@ KEY_B = "key-of-analyst-b-9876543210"
 
 
 def postgres_url() -> str | None:
+    """The test database's URL; under pytest-xdist, with a schema of the worker's own first on
+    the search path (created here), so that workers running side by side never see each
+    other's tables."""
     url = os.environ.get("SHOCKPATH_TEST_DATABASE_URL")
     if not url:
         if os.environ.get("SHOCKPATH_REQUIRE_POSTGRES"):
             pytest.fail("SHOCKPATH_TEST_DATABASE_URL must name a PostgreSQL database here (CI)")
         pytest.skip("SHOCKPATH_TEST_DATABASE_URL is not set (no PostgreSQL to test against)")
-    return url
+    worker = os.environ.get("PYTEST_XDIST_WORKER", "")
+    if not worker:
+        return url
+    return _worker_schema(url, f"shockpath_test_{worker}")
+
+
+@functools.cache
+def _worker_schema(url: str, schema: str) -> str:
+    """`url` with `schema` (created if missing) first on its search path."""
+    engine = create_engine(database_url(url, ""))
+    try:
+        with engine.begin() as connection:
+            connection.exec_driver_sql(f'CREATE SCHEMA IF NOT EXISTS "{schema}"')
+    finally:
+        engine.dispose()
+    separator = "&" if "?" in url else "?"
+    return f"{url}{separator}options=-csearch_path%3D{schema}"
 
 
 def empty_postgres(url: str) -> None:
