@@ -181,7 +181,7 @@ _OPTIONAL_FIGURES = (
 
 
 def _summary_body(summary: engine.PolicySummary) -> dict[str, Any]:
-    body = dict(summary.__dict__)
+    body = summary._asdict()
     for name in _OPTIONAL_FIGURES:
         if body[name] is None:
             del body[name]
