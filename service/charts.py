@@ -169,14 +169,17 @@ def _margins(ax, renderer) -> tuple[float, float, float, float]:
     tick labels and annotations (measured where they stand against the axes' box, which does not
     depend on the box's size), then its axis labels beyond the tick labels (measured by size:
     they are placed only when drawn)."""
+    from matplotlib.text import Text
+
     box = ax.get_window_extent(renderer)
     low, high = box.x0 - 0.5, box.x1 + 0.5
     ticks = [t for t in ax.xaxis.get_ticklabels() if low <= _anchor(t)[0] <= high]
     low, high = box.y0 - 0.5, box.y1 + 0.5
     ticks += [t for t in ax.yaxis.get_ticklabels() if low <= _anchor(t)[1] <= high]
-    titles = (ax.title, ax._left_title, ax._right_title)  # matplotlib's three title positions
+    # The axes' own texts: its three titles (left, centre, right) and its annotations.
+    texts = [artist for artist in ax.get_children() if isinstance(artist, Text)]
     left = right = above = below = 0.0
-    for text in (*ticks, *ax.texts, *titles):
+    for text in (*ticks, *texts):
         if text.get_visible() and text.get_text():
             extent = text.get_window_extent(renderer)
             left, right = max(left, box.x0 - extent.x0), max(right, extent.x1 - box.x1)
