@@ -11,7 +11,7 @@ from __future__ import annotations
 from marshmallow import fields, validate
 
 from .. import limits
-from .charts import UnitsSchema
+from .charts import UnitsSchema, default_units
 from .fields import StrictSchema
 from .paths import PathsRequestSchema
 from .uncertainty import BandsRequestSchema
@@ -30,7 +30,7 @@ class BriefingOptionsSchema(StrictSchema):
             "its charts' titles start with it."
         },
     )
-    units = fields.Nested(UnitsSchema, load_default=lambda: UnitsSchema().load({}))
+    units = fields.Nested(UnitsSchema, load_default=default_units)
 
 
 class BriefingRequestSchema(PathsRequestSchema):

@@ -34,6 +34,12 @@ class UnitsSchema(StrictSchema):
     period = _label("period", "Model period label, e.g. year.")
 
 
+def default_units() -> dict[str, str]:
+    """Every unit word at its default: the `units` of a request that sends none (a new dict
+    each time, as the caller may fill it)."""
+    return UnitsSchema().load({})
+
+
 class ChartRequestSchema(StrictSchema):
     chart = fields.String(
         required=True,
@@ -78,7 +84,7 @@ class ChartRequestSchema(StrictSchema):
         validate=validate.OneOf(["svg", "png"]),
         metadata={"description": "svg or png; without it the Accept header decides (default svg)."},
     )
-    units = fields.Nested(UnitsSchema, load_default=lambda: UnitsSchema().load({}))
+    units = fields.Nested(UnitsSchema, load_default=default_units)
     title = fields.String(
         validate=validate.Length(1, limits.MAX_CHART_TITLE_LENGTH),
         metadata={"description": "Replaces the chart's title (e.g. with the scenario's name)."},
