@@ -27,6 +27,14 @@ settings.register_profile("thorough", max_examples=500, deadline=None)
 settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci"))
 
 
+def pytest_collection_modifyitems(items):
+    """Modules that start processes (tests marked slow: gunicorn, chromium, schemathesis) run
+    first, each module's tests still together and in order: on several cores (pytest-xdist) the
+    long tests then start early, and the last minute is many short tests the workers share."""
+    slow = {item.module for item in items if item.get_closest_marker("slow")}
+    items.sort(key=lambda item: item.module not in slow)
+
+
 @pytest.fixture(autouse=True)
 def floating_point_warnings_fail(monkeypatch):
     """The engine silences floating-point warnings in service; in tests they are errors, so
