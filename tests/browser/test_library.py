@@ -89,6 +89,34 @@ def test_save_restart_and_reopen_by_link(browser, tmp_path):
         page.close()
 
 
+def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(browser, tmp_path):
+    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": KEY_A}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(**settings) as (base, _):
+            page.goto(base + "/")
+            page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
+            assert page.eval_on_selector_all("#demo option", "options => options.length") == 1  # no demos yet
+            page.fill("#lib-key", KEY_A)
+            page.dispatch_event("#lib-key", "change")
+            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
+            page.select_option("#demo", "quillbrook-rent-freeze")
+            page.click("#load-demo")
+            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
+            page.click("#run")
+            # Every call of the run (the paths, each chart, the CSV) carried the key.
+            page.wait_for_function(
+                "(() => { const r = document.querySelector('#results').dataset;"
+                " return r.drawn && r.drawn === r.scenario; })()",
+                timeout=120_000,
+            )
+            assert page.text_content("#status").startswith("Computed")
+            assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
+            assert "not drawn" not in page.inner_text("#charts")
+    finally:
+        page.close()
+
+
 def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
     settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": f"{KEY_A},{KEY_B}"}
     owner = browser.new_page()

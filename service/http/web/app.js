@@ -559,7 +559,7 @@ function showProblem(problem) {
   }
   const first = document.querySelector("[aria-invalid='true']");
   if (first) first.focus();
-  $("status").textContent = `Not run: ${problem.detail}`;
+  $("status").textContent = problem.status === 401 ? `Not run. ${NEEDS_KEY}` : `Not run: ${problem.detail}`;
 }
 
 // --- results -------------------------------------------------------------------------------
@@ -753,7 +753,7 @@ function blobUrl(blob) {
 const slug = (text) => (text || "scenario").toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-|-$/g, "").slice(0, 60) || "scenario";
 
 async function chartImage(spec, format) {
-  const response = await fetch("/v1/charts", {
+  const response = await call("/v1/charts", {
     method: "POST", headers: { "Content-Type": "application/json" },
     body: JSON.stringify({ ...spec, format, units: units() }),
   });
@@ -859,7 +859,7 @@ function headlineLabel(name) {
 async function runSensitivity(request) {
   const section = $("sensitivity");
   const sens = sensitivityRequest(request);
-  const response = await fetch("/v1/sensitivity", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(sens) });
+  const response = await call("/v1/sensitivity", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(sens) });
   if (!response.ok) { section.hidden = true; return; }
   const body = await response.json();
   state.sensitivity = { body, request: sens };
@@ -933,7 +933,7 @@ async function run(event) {
   for (const url of state.urls) URL.revokeObjectURL(url);
   state.urls = [];
   state.endpoint = endpointFor(request);
-  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request) });
+  const response = await call(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(request) });
   const text = await response.text();
   const body = JSON.parse(text);
   if (!response.ok) { showProblem(body); return; }
@@ -965,7 +965,7 @@ function showTables() {
 }
 
 async function csvLink(request) {
-  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
+  const response = await call(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
   if (response.ok) {
     $("download-csv").href = blobUrl(await response.blob());
     $("download-csv").download = `${slug(scenarioName())}.csv`;
@@ -976,8 +976,8 @@ const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 
 async function downloadWorkbook() {
   const { request } = state.answer;
-  const response = await fetch(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: XLSX }, body: JSON.stringify(request) });
-  if (!response.ok) { $("status").textContent = `No workbook: ${(await response.json()).detail}`; return; }
+  const response = await call(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: XLSX }, body: JSON.stringify(request) });
+  if (!response.ok) { $("status").textContent = response.status === 401 ? NEEDS_KEY : `No workbook: ${(await response.json()).detail}`; return; }
   download(blobUrl(await response.blob()), `${slug(scenarioName())}.xlsx`);
 }
 
@@ -985,8 +985,8 @@ async function downloadBriefing() {
   // A bands request is briefed as it is: its central answer and how uncertain it is.
   const body = { ...state.answer.request, units: units() };
   if (scenarioName()) body.title = scenarioName();
-  const response = await fetch("/v1/briefing", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) });
-  if (!response.ok) { $("status").textContent = `No briefing: ${(await response.json()).detail}`; return; }
+  const response = await call("/v1/briefing", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) });
+  if (!response.ok) { $("status").textContent = response.status === 401 ? NEEDS_KEY : `No briefing: ${(await response.json()).detail}`; return; }
   download(blobUrl(await response.blob()), `${slug(scenarioName())}-briefing.html`);
 }
 
@@ -1065,12 +1065,28 @@ async function fromFragment() {
   }
 }
 
+// --- calls to the service ----------------------------------------------------------------------
+
+// Where the library keeps the API key typed in its panel for this browser session (library.js).
+const KEY_STORE = "shockpath-library-key";
+const NEEDS_KEY = "This service needs an API key: enter yours in the scenario library's \"API key\" field (below the results), then try again.";
+
+// Every call to the service carries that key when one is given (a service with keys switched on
+// answers 401 without it): the field once the library panel is built, the session's copy before.
+function call(path, init = {}) {
+  const field = $("lib-key");
+  const key = (field ? field.value : sessionStorage.getItem(KEY_STORE) || "").trim();
+  const headers = key ? { ...(init.headers || {}), Authorization: `Bearer ${key}` } : init.headers;
+  return fetch(path, { ...init, headers });
+}
+
 // --- the demo picker and the JSON box ---------------------------------------------------------
 
 async function loadDemo() {
   const name = $("demo").value;
   if (!name) return;
-  const response = await fetch(`/v1/examples/${encodeURIComponent(name)}`);
+  const response = await call(`/v1/examples/${encodeURIComponent(name)}`);
+  if (!response.ok) { $("status").textContent = response.status === 401 ? NEEDS_KEY : `Demo not loaded: the service answered ${response.status}.`; return; }
   const request = await response.json();
   state.demos[name] = JSON.stringify(request);
   loadRequest(request, state.titles[name].split(":")[0]);
@@ -1120,22 +1136,15 @@ function replayLostClick(event) {
 }
 
 async function start() {
-  const [labelsResponse, examplesResponse] = await Promise.all([fetch("/ui/labels.json"), fetch("/v1/examples")]);
+  const [labelsResponse, examplesResponse] = await Promise.all([fetch("/ui/labels.json"), call("/v1/examples")]);
   state.labels = await labelsResponse.json();
-  const { examples } = await examplesResponse.json();
   const select = $("demo");
   const own = document.createElement("option");
   own.value = "";
   own.textContent = "Your own request (pasted, opened or edited)";
   select.append(own);
-  for (const e of examples) {
-    const option = document.createElement("option");
-    option.value = e.name;
-    option.textContent = e.endpoint === "/v1/bands" ? `${e.title} (bands)` : e.title;
-    state.titles[e.name] = e.title;
-    select.append(option);
-  }
-  select.value = examples.length ? examples[0].name : "";
+  const examples = examplesResponse.ok ? (await examplesResponse.json()).examples : [];
+  addDemos(examples);
   $("load-demo").addEventListener("click", loadDemo);
   $("add-policy").addEventListener("click", addPolicy);
   $("add-shock").addEventListener("click", addShock);
@@ -1157,7 +1166,33 @@ async function start() {
   document.addEventListener("pointerdown", rememberPress, true);
   document.addEventListener("pointerup", (event) => setTimeout(() => replayLostClick(event), 0), true);
   window.addEventListener("hashchange", fromFragment);
-  if (!(await fromFragment())) await loadDemo();
+  if (examplesResponse.status === 401) {
+    // A service with keys switched on: the demos come once a key is given.
+    $("status").textContent = NEEDS_KEY;
+    document.addEventListener("change", async function once(event) {
+      if (event.target.id !== "lib-key") return;
+      const again = await call("/v1/examples");
+      if (!again.ok) return;
+      document.removeEventListener("change", once);
+      addDemos((await again.json()).examples);
+      // What the analyst may have pasted meanwhile stays: the demos wait in the picker.
+      $("status").textContent = "Key accepted: choose a demo and load it, or run your own request.";
+    });
+  }
+  if (!(await fromFragment()) && examples.length) await loadDemo();
+}
+
+// The demos in the picker, the first chosen.
+function addDemos(examples) {
+  const select = $("demo");
+  for (const e of examples) {
+    const option = document.createElement("option");
+    option.value = e.name;
+    option.textContent = e.endpoint === "/v1/bands" ? `${e.title} (bands)` : e.title;
+    state.titles[e.name] = e.title;
+    select.append(option);
+  }
+  if (examples.length) select.value = examples[0].name;
 }
 
 // Whether or not a demo could be loaded (a service that wants a key for /v1/examples too loads
