@@ -422,3 +422,15 @@ def test_series_and_totals_the_engine_adds_appear_with_their_plain_names(page, b
     assert any(h.startswith("Renters gain (+) or lose (-) against the free market path") for h in heads)
     assert page.locator("#groups tr[data-group='households_drawn_in']").count() == 1
     assert page.locator("#renters-figure").count() == 1  # drawn where the answer carries it
+
+
+def test_a_long_scenario_name_still_gives_every_chart_its_title(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    assert page.get_attribute("#scenario-name", "maxlength") == "80"  # the library's name limit
+    # A name set from outside the field (a linked record, a script) is not held to maxlength;
+    # the service takes chart titles of at most 120 characters, so the page cuts longer ones.
+    page.eval_on_selector("#scenario-name", "(field) => { field.value = 'Quillbrook '.repeat(12); }")
+    _run(page)
+    captions = page.inner_text("#charts")
+    assert "not drawn" not in captions
+    assert page.eval_on_selector_all("#charts img", "images => images.length") >= 1

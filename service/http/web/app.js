@@ -730,9 +730,14 @@ function scenarioName() {
   return $("scenario-name").value.trim();
 }
 
+// The service refuses a chart or briefing title over 120 characters (MAX_CHART_TITLE_LENGTH):
+// a longer one is cut, so that a long name or policy name never stops a chart being drawn.
+const TITLE_LIMIT = 120;
+const shortened = (text) => (text.length <= TITLE_LIMIT ? text : `${text.slice(0, TITLE_LIMIT - 1)}…`);
+
 function titled(text) {
   const name = scenarioName();
-  return name ? `${name}: ${text}` : text;
+  return shortened(name ? `${name}: ${text}` : text);
 }
 
 function download(url, filename) {
@@ -984,7 +989,7 @@ async function downloadWorkbook() {
 async function downloadBriefing() {
   // A bands request is briefed as it is: its central answer and how uncertain it is.
   const body = { ...state.answer.request, units: units() };
-  if (scenarioName()) body.title = scenarioName();
+  if (scenarioName()) body.title = shortened(scenarioName());
   const response = await call("/v1/briefing", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) });
   if (!response.ok) { $("status").textContent = response.status === 401 ? NEEDS_KEY : `No briefing: ${(await response.json()).detail}`; return; }
   download(blobUrl(await response.blob()), `${slug(scenarioName())}-briefing.html`);
