@@ -553,7 +553,8 @@ def render_sensitivity(
 ) -> bytes:
     """A tornado chart of one policy's `output` (a headline of the answer; default the discounted
     deadweight loss), inputs largest swing on top, each bar end labelled with its value; 422 at
-    /output for a figure the answer does not rank."""
+    /output for a figure the answer does not rank and at /policy for a name it does not have
+    (no policy: the one whose `output` swings most)."""
     from matplotlib.patches import Patch
 
     outputs = sensitivity_outputs(body)
@@ -565,7 +566,11 @@ def render_sensitivity(
             )
         )
     names = [p["name"] for p in body["central"]["paths"]]
-    chosen = policy if policy in names else None
+    if policy is not None and policy not in names:
+        raise ProblemError(
+            validation_problem({"policy": [f"No policy of this name; the scenario has: {', '.join(names)}."]})
+        )
+    chosen = policy
     if chosen is None:
         swings = {n: 0.0 for n in names}
         for item in body["inputs"]:

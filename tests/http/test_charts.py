@@ -355,6 +355,17 @@ def test_the_tornado_shows_the_output_chosen_with_a_value_at_each_bar_end(client
     assert bad.status_code == 422 and bad.get_json()["errors"][0]["pointer"] == "/output"
 
 
+def test_a_tornado_of_a_policy_the_scenario_does_not_have_is_a_422_at_the_policy(client):
+    request = scenario("sensitivity")
+    names = [p["name"] for p in request["policies"]]
+    body = {"chart": "sensitivity", "format": "svg", "scenario": request}
+    bad = client.post("/v1/charts", json={**body, "policy": "no such policy"})
+    assert bad.status_code == 422
+    (error,) = bad.get_json()["errors"]
+    assert error["pointer"] == "/policy" and all(name in error["message"] for name in names)
+    assert client.post("/v1/charts", json={**body, "policy": names[-1]}).status_code == 200
+
+
 def test_the_renters_chart_needs_renters_against_the_free_path(client):
     body = {"chart": "renters_vs_free_path", "scenario": scenario("paths")}
     response = client.post("/v1/charts", json=body)
