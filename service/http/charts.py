@@ -25,10 +25,15 @@ _OCTETS = "application/octet-stream"
 
 
 def _under(prefix: str, error: ProblemError) -> ProblemError:
-    """The same problem with its pointers moved under `prefix` (the chart's scenario)."""
+    """The same problem with its pointers moved under `prefix` (the chart's scenario), in its
+    errors and where its detail starts with the first one ("/horizon: ..." of a 422)."""
     document = dict(error.problem)
-    if "errors" in document:
+    if document.get("errors"):
+        first = document["errors"][0]["pointer"] or "/"
         document["errors"] = [dict(e, pointer=prefix + e["pointer"]) for e in document["errors"]]
+        detail = document.get("detail", "")
+        if detail.startswith(first + ":"):
+            document["detail"] = document["errors"][0]["pointer"] + detail[len(first) :]
     return ProblemError(document)
 
 

@@ -80,7 +80,9 @@ def test_errors_in_the_scenario_point_into_it(client):
     bad["market"]["demand"]["price_elasticity"] = 0.3
     response = client.post("/v1/charts", json={"chart": "paths", "scenario": bad})
     assert response.status_code == 422
-    assert response.get_json()["errors"][0]["pointer"] == "/scenario/market/demand/price_elasticity"
+    answer = response.get_json()
+    assert answer["errors"][0]["pointer"] == "/scenario/market/demand/price_elasticity"
+    assert answer["detail"].startswith("/scenario/market/demand/price_elasticity: ")  # as the errors say
     unknown = client.post("/v1/charts", json={"chart": "pie", "scenario": bad})
     assert unknown.get_json()["errors"][0]["pointer"] == "/chart"
 
