@@ -112,9 +112,21 @@ def _names(names: Sequence[str]) -> str:
 OtherForm = Mapping[str, Mapping[str, tuple[float, float]] | None]
 
 
+#: Why the constant-elasticity form refuses a whole request (MODEL.md 9: a price ceiling, random
+#: rationing and demand with |eta| <= 1), for the other-form caution of a linear request.
+RATIONING_REFUSED = (
+    "Solved with the constant-elasticity curves instead, this request has no answer: there, with "
+    "homes under a rent ceiling given out at random and demand this inelastic (a price elasticity "
+    "between -1 and 0), the loss from homes going to households who value them less has no upper "
+    "bound. The figures shown rest on the linear form alone."
+)
+
+
 def _other_form_caution(
-    form: str, other_form: OtherForm, scales: Mapping[str, float] | None = None
+    form: str, other_form: OtherForm, scales: Mapping[str, float] | None = None, refused: bool = False
 ) -> str | None:
+    if refused:
+        return RATIONING_REFUSED
     other = "constant-elasticity" if form == "linear" else "linear"
     differ, missing = [], []
     for policy, figures in other_form.items():
@@ -193,6 +205,7 @@ def scenario_cautions(
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
     figure_scales: Mapping[str, float] | None = None,
+    other_form_refused: bool = False,
 ) -> list[str]:
     """Sentences for one scenario, each only where its condition holds.
 
@@ -227,6 +240,9 @@ def scenario_cautions(
     figure_scales: per figure of OTHER_FORM_FIGURES its scale (money: the base rent bill over the
         horizon; price: the base rent; quantity: the base homes): values below NEGLIGIBLE of it
         are rounding and never named as a difference.
+    other_form_refused: the other form (constant elasticity, for a linear request) refuses the
+        whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 9); the
+        caution says so instead of naming every policy as without an answer.
     short_run_elasticity, impact_elasticity: the given eps_SR and the impact elasticity used
         (ScenarioBatch.impact_elasticity: lambda eps_LR under `stock` with an explicit rate or
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
@@ -243,7 +259,7 @@ def scenario_cautions(
             quantity_gap,
         )
     else:
-        head = _other_form_caution(form, other_form, figure_scales)
+        head = _other_form_caution(form, other_form, figure_scales, other_form_refused)
     if head is not None:
         out.append(head)
     if ceiling_binds and not random_rationing:

@@ -246,20 +246,25 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
     return EngineError("the scenario could not be computed")
 
 
-def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays, ceiling) -> np.ndarray:
+def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArrays, refused) -> np.ndarray:
     """(n,) True where the same request sent in the other curve form has an answer (MODEL.md
     20): its free path stays in the linear form's range, every policy is feasible and finite in
-    it, and random rationing of a ceiling keeps finite willingness to pay there."""
-    row_ok = arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0
-    # Linear scenarios answered in constant elasticity: random rationing needs eta < -1 there.
+    it, and no row is `refused` there (_rationing_refused_in_other_form: random rationing of a
+    ceiling needs finite willingness to pay)."""
+    row_ok = (arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0) & ~refused
+    return arrays.alternate_feasible & ~any_per_scenario(~row_ok, rows.scenario, batch.size)
+
+
+def _rationing_refused_in_other_form(batch: ScenarioBatch, rows: PolicyRows, ceiling) -> np.ndarray:
+    """(R,) True for a ceiling row of a linear scenario under random rationing whose demand has
+    |eta| <= 1: the constant-elasticity form refuses such a request (MODEL.md 9)."""
     s_of = rows.scenario
-    row_ok &= ~(
+    return (
         ceiling
         & batch.random_rationing[s_of]
         & ~batch.constant_elasticity[s_of]
         & (batch.demand_elasticity[s_of] >= -1.0)
     )
-    return arrays.alternate_feasible & ~any_per_scenario(~row_ok, s_of, batch.size)
 
 
 def solve_scenarios(
@@ -341,7 +346,9 @@ def assemble(
         if nominal is not None:
             index, nominal = index.tolist(), nominal.tolist()
     figures = arrays.summary.tolist()
-    other_ok = _other_form_answers(batch, rows, arrays, ceiling)[rows.scenario]
+    refused = _rationing_refused_in_other_form(batch, rows, ceiling)
+    other_ok = _other_form_answers(batch, rows, arrays, refused)[rows.scenario]
+    other_refused = any_per_scenario(refused, rows.scenario, batch.size)
     code = SUMMARY_INDEX
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
@@ -458,6 +465,7 @@ def assemble(
             if random
             else None,
             exempt_binds=exempt_binds,
+            other_form_refused=bool(other_refused[i]),
             conversion=converting and any((s.total_converted_homes or 0.0) > 0.0 for s in summaries),
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),

@@ -166,6 +166,28 @@ def test_the_other_form_without_an_answer_is_named():
     assert "The linear form has no answer for 'free', 'levy'" in text
 
 
+def test_a_request_the_other_form_refuses_says_why_rather_than_naming_every_policy():
+    # MODEL.md 9: the constant-elasticity form refuses a ceiling under random rationing with
+    # |eta| <= 1, so a linear request of that kind has no other-form answer for any policy.
+    refused = {"free": None, "ceiling": None}
+    cautions = _cautions(random_rationing=True, other_form=refused, other_form_refused=True)
+    (text,) = [c for c in cautions if "constant-elasticity curves instead" in c]
+    assert "given out at random" in text and "between -1 and 0" in text
+    assert not any(MARKS["no other answer"] in c for c in cautions)
+
+
+def test_the_vouchers_demo_is_told_why_the_other_form_has_no_answer():
+    from service import simulate
+    from service.examples import example_request
+
+    request = example_request("ostrand-vale-vouchers")
+    assert request["welfare"]["rationing"] == "random"
+    assert request["market"]["demand"]["price_elasticity"] > -1
+    cautions = simulate(request)["cautions"]
+    assert any("given out at random" in c for c in cautions)
+    assert not any(MARKS["no other answer"] in c for c in cautions)
+
+
 def test_forms_that_agree_give_no_form_caution_whatever_the_shock():
     agree = {"p": {"discounted_deadweight_loss": (100.0, 100.0 * (1 + FORM_GAP) - 1e-6)}}
     assert _present(_cautions(other_form=agree, largest_shock=0.8)) == set()
