@@ -112,7 +112,7 @@ def _names(names: Sequence[str]) -> str:
 OtherForm = Mapping[str, Mapping[str, tuple[float, float]] | None]
 
 
-#: Why the constant-elasticity form refuses a whole request (MODEL.md 9: a price ceiling, random
+#: Why the constant-elasticity form refuses a whole request (MODEL.md 11: a price ceiling, random
 #: rationing and demand with |eta| <= 1), for the other-form caution of a linear request.
 RATIONING_REFUSED = (
     "Solved with the constant-elasticity curves instead, this request has no answer: there, with "
@@ -241,7 +241,7 @@ def scenario_cautions(
         horizon; price: the base rent; quantity: the base homes): values below NEGLIGIBLE of it
         are rounding and never named as a difference.
     other_form_refused: the other form (constant elasticity, for a linear request) refuses the
-        whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 9); the
+        whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 11); the
         caution says so instead of naming every policy as without an answer.
     short_run_elasticity, impact_elasticity: the given eps_SR and the impact elasticity used
         (ScenarioBatch.impact_elasticity: lambda eps_LR under `stock` with an explicit rate or

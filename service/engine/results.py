@@ -257,7 +257,7 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
 
 def _rationing_refused_in_other_form(batch: ScenarioBatch, rows: PolicyRows, ceiling) -> np.ndarray:
     """(R,) True for a ceiling row of a linear scenario under random rationing whose demand has
-    |eta| <= 1: the constant-elasticity form refuses such a request (MODEL.md 9)."""
+    |eta| <= 1: the constant-elasticity form refuses such a request (MODEL.md 11)."""
     s_of = rows.scenario
     return (
         ceiling

@@ -167,7 +167,7 @@ def test_the_other_form_without_an_answer_is_named():
 
 
 def test_a_request_the_other_form_refuses_says_why_rather_than_naming_every_policy():
-    # MODEL.md 9: the constant-elasticity form refuses a ceiling under random rationing with
+    # MODEL.md 11: the constant-elasticity form refuses a ceiling under random rationing with
     # |eta| <= 1, so a linear request of that kind has no other-form answer for any policy.
     refused = {"free": None, "ceiling": None}
     cautions = _cautions(random_rationing=True, other_form=refused, other_form_refused=True)
