@@ -45,6 +45,9 @@ class PathArrays:
     shift_out_of_range: np.ndarray  # (n, m): summed change <= -1 or above MAX_SHIFTER_CHANGE
     schedule_undefined: np.ndarray  # (n,): Nerlove default needed but not applicable
     linear_out_of_range: np.ndarray  # (n, T+1): linear-form P* <= 0 or Q* <= 0
+    # (n,): within the horizon I_t overflows or falls below the least normal number, or the
+    # nominal prices (real price x I_t) overflow
+    price_index_out_of_range: np.ndarray
     policy_infeasible: np.ndarray  # (R, T+1): Q, Pc or Pp <= 0 where the policy binds
     unbounded_willingness: np.ndarray  # (R,): random rationing, ceiling, CE with |eta| <= 1
     non_finite: np.ndarray  # (R,): a reported value is not finite
@@ -58,8 +61,10 @@ class PathArrays:
         return self.series[:, self.series_names.index(name)]
 
     def scenario_inputs_failed(self) -> np.ndarray:
-        """(n,) True where a scenario-level problem (shocks, schedule, linear range) stops it."""
-        return _inputs_failed(self.shift_out_of_range, self.schedule_undefined, self.linear_out_of_range)
+        """(n,) True where a scenario-level problem (shocks, schedule, linear range, the price
+        index's range) stops it."""
+        failed = _inputs_failed(self.shift_out_of_range, self.schedule_undefined, self.linear_out_of_range)
+        return failed | self.price_index_out_of_range
 
     def row_failed(self, rows: PolicyRows, scenario_failed: np.ndarray | None = None) -> np.ndarray:
         """(R,) True where a policy row has no answer: its own problem or its scenario's
@@ -114,7 +119,27 @@ def price_index(inflation: np.ndarray) -> np.ndarray:
     unused; the running product in period order, as the scalar reference computes it."""
     factors = 1.0 + inflation
     factors[:, 0] = 1.0
-    return np.cumprod(factors, axis=1)
+    with np.errstate(over="ignore", under="ignore"):  # checked: _index_out_of_range
+        return np.cumprod(factors, axis=1)
+
+
+#: The least positive normal float: a price index below it has lost its digits.
+_LEAST_NORMAL = float(np.finfo(np.float64).tiny)
+
+
+def _index_out_of_range(batch, rows, index, valid, values, names) -> np.ndarray:
+    """(n,) True where, within the horizon, the price index I_t is not finite or below the least
+    normal number, or a nominal consumer or producer price (real price x I_t) is not finite:
+    answers would carry infinities or zeros that are not the model's (MODEL.md 12)."""
+    failed = (valid & ~(np.isfinite(index) & (index >= _LEAST_NORMAL))).any(axis=1)
+    s_of = rows.scenario
+    for name in ("consumer_price", "producer_price"):
+        if name in names:
+            with np.errstate(over="ignore", invalid="ignore"):
+                nominal = values[:, names.index(name)] * index[s_of]
+            row_failed = (valid[s_of] & ~np.isfinite(nominal)).any(axis=1)
+            failed |= any_per_scenario(row_failed, s_of, batch.size)
+    return failed & batch.has_inflation
 
 
 def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepared):
@@ -202,6 +227,10 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
     # The compiled pass flags a row where any value of a valid period is not finite.
     non_finite = summary[:, kernel.SUMMARY_INDEX["non_finite"]] > 0.0
+    if batch.has_inflation.any():
+        index_failed = _index_out_of_range(batch, rows, market.price_index, valid, values, names)
+    else:
+        index_failed = np.zeros(batch.size, dtype=bool)
 
     return PathArrays(
         valid=valid,
@@ -214,6 +243,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
         shift_out_of_range=prepared.shift_bad,
         schedule_undefined=prepared.undefined,
         linear_out_of_range=linear_out_of_range,
+        price_index_out_of_range=index_failed,
         policy_infeasible=infeasible,
         unbounded_willingness=unbounded,
         non_finite=non_finite,

@@ -217,6 +217,13 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
             "/shocks",
             period=t,
         )
+    if arrays.price_index_out_of_range[i]:
+        return InputError(
+            "with this inflation the price index, or the nominal prices, leave the range of "
+            "representable numbers within the horizon (they grow past about 1e308 or fall below "
+            "about 1e-308); reduce the inflation or the horizon",
+            "/market/inflation",
+        )
     for local, r in enumerate(row_index):
         policy = scenario.policies[local]
         if arrays.unbounded_willingness[r]:
@@ -334,13 +341,14 @@ def assemble(
     index = nominal = None
     if batch.has_inflation.any():
         index = arrays.price_index
-        nominal = np.stack(
-            [
-                block[:, position[name]] * index[rows.scenario]
-                for name in ("consumer_price", "producer_price")
-            ],
-            axis=1,
-        )
+        with np.errstate(over="ignore", invalid="ignore"):  # overflow only where the scenario failed
+            nominal = np.stack(
+                [
+                    block[:, position[name]] * index[rows.scenario]
+                    for name in ("consumer_price", "producer_price")
+                ],
+                axis=1,
+            )
     if as_lists:  # one conversion for the whole batch, far faster than array by array
         block, binding = block.tolist(), binding.tolist()
         if nominal is not None:

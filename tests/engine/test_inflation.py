@@ -14,7 +14,7 @@ import pytest
 from hypothesis import assume, given
 from hypothesis import strategies as st
 
-from service import simulate
+from service import ProblemError, simulate
 
 from .. import reference
 from ..strategies import floats, requests
@@ -259,3 +259,36 @@ def test_repeating_the_last_rate_of_an_inflation_list_is_the_same_scenario():
     assert answer([0.02, 0.05, 0.05]) == answer([0.02, 0.05])
     assert answer([0.03, 0.03]) == answer(0.03)
     assert answer([0.02, 0.05])["scenario_id"] != answer([0.05, 0.02])["scenario_id"]
+
+
+@pytest.mark.parametrize(
+    ("inflation", "policy"),
+    [
+        (10.0, {"name": "levy", "kind": "unit_tax", "amount": 10}),  # I_600 = 11^600: overflows
+        (-0.99, {"name": "freeze", "kind": "price_ceiling", "level": 1000}),  # 0.01^600: underflows
+    ],
+)
+def test_a_price_index_beyond_the_representable_range_is_refused_at_the_inflation(inflation, policy):
+    # Allowed one by one, these rates over 600 periods take I_t past 1e308 or below 1e-308:
+    # nominal prices would be infinite (null in JSON) or zero, numbers the model never means.
+    request = {
+        "market": {
+            "price": 1000,
+            "quantity": 10000,
+            "form": "linear",
+            "inflation": inflation,
+            "demand": {"price_elasticity": -0.5},
+            "supply": {"short_run_elasticity": 0.2, "long_run_elasticity": 1.0},
+        },
+        "adjustment": {"schedule": "linear", "periods": 3},
+        "horizon": 600,
+        "policies": [policy],
+    }
+    with pytest.raises(ProblemError) as refused:
+        simulate(request)
+    assert refused.value.problem["status"] == 422
+    assert [e["pointer"] for e in refused.value.problem["errors"]] == ["/market/inflation"]
+    request["horizon"] = 100  # within range: an answer, every nominal price finite and positive
+    body = simulate(request)
+    for answered in body["paths"]:
+        assert all(0.0 < p < float("inf") for p in answered["nominal_consumer_price"])
