@@ -237,6 +237,11 @@ def test_job_three_uncertain_elasticities_chosen_in_the_form_give_bands_and_a_to
     assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
     assert "400 draws" in page.text_content("#status")
     assert page.locator("#summary td .range").count() > 0
+    answer = _answer(page)
+    shares = page.eval_on_selector_all(
+        "#summary tr[data-figure='bands_binding_share'] td", "cells => cells.map(c => c.textContent)"
+    )
+    assert shares == [f"{100 * b['binding_share']:.0f} %" for b in answer["bands"]]
     page.wait_for_selector("#tornado-figure img[data-title]")
     assert page.is_visible("#sensitivity-caution")
     assert "slower building" in page.text_content("#sensitivity-caution")
@@ -434,3 +439,41 @@ def test_a_long_scenario_name_still_gives_every_chart_its_title(page, base_url):
     captions = page.inner_text("#charts")
     assert "not drawn" not in captions
     assert page.eval_on_selector_all("#charts img", "images => images.length") >= 1
+
+
+def test_draws_a_policy_makes_infeasible_are_counted_beside_its_bands(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    request = {
+        "market": {
+            "price": 1000,
+            "quantity": 10000,
+            "form": "linear",
+            "demand": {"price_elasticity": -0.5},
+            "supply": {
+                "short_run_elasticity": 0.2,
+                "long_run_elasticity": {"distribution": "uniform", "low": 1.0, "high": 3.2},
+            },
+        },
+        "adjustment": {"schedule": "linear", "periods": 3},
+        "horizon": 5,
+        "policies": [
+            {"name": "free", "kind": "none"},
+            {"name": "low ceiling", "kind": "price_ceiling", "level": 600},
+        ],
+        "draws": 400,
+        "seed": 1,
+    }
+    page.eval_on_selector(
+        "#request-json",
+        "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+        json.dumps(request),
+    )
+    _run(page)
+    answer = _answer(page)
+    left_out = answer["bands"][1]["infeasible_draws"]
+    assert 0 < left_out < 400  # a ceiling this low leaves no homes let in some draws
+    cells = page.eval_on_selector_all(
+        "#summary tr[data-figure='bands_draws'] td", "cells => cells.map(c => c.textContent)"
+    )
+    assert cells[0] == "400"
+    assert cells[1] == f"{400 - left_out} ({left_out} left out: the policy makes them infeasible)"

@@ -626,6 +626,23 @@ function showSummary(body) {
     });
     tbody.append(tr);
   }
+  if (body.bands) {
+    // How many draws each policy's spread rests on, and how often it binds: a draw the policy
+    // makes infeasible is left out of its bands, and the reader must know how many were.
+    const rows = [
+      ["bands_draws", `Draws in the spread (of ${fmt.format(body.draws)})`, (b) => {
+        const left = b.infeasible_draws;
+        return `${fmt.format(body.draws - left)}${left ? ` (${fmt.format(left)} left out: the policy makes them infeasible)` : ""}`;
+      }],
+      ["bands_binding_share", "Share of draws in which the policy binds", (b) => `${(100 * b.binding_share).toFixed(0)} %`],
+    ];
+    for (const [key, label, text] of rows) {
+      const tr = document.createElement("tr");
+      tr.dataset.figure = key;
+      tr.append(th(label, "", "row"), ...body.bands.map((b) => td(text(b), "n")));
+      tbody.append(tr);
+    }
+  }
   table.caption.textContent = body.bands
     ? `Per policy over ${answer.periods.length - 1} ${units().period}s, at the central values, with the spread over ${fmt.format(body.draws)} draws`
     : `Per policy over ${answer.periods.length - 1} ${units().period}s`;
