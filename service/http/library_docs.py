@@ -8,6 +8,7 @@ from typing import Any
 from .. import limits
 from ..engine import MODEL_VERSION
 from ..examples import example_request
+from ..problems import problem
 
 __all__ = [
     "COMPUTE_PARAMETERS",
@@ -83,12 +84,9 @@ COMPUTE_PARAMETERS = ["If-None-Match", "Accept"]
 
 
 def _problem(status: int, title: str, detail: str, code: str | None, description: str) -> dict[str, Any]:
-    value = {
-        "type": f"urn:shockpath:problem:{code}" if code else "about:blank",
-        "title": title,
-        "status": status,
-        "detail": detail,
-    }
+    """A documented problem, its example written as the service writes it (no code: the
+    status's own, problems.STATUS_CODES)."""
+    value = dict(problem(status, title, detail, code))
     return {"description": description, "problem": True, "example": {"summary": title, "value": value}}
 
 
