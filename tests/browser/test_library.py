@@ -78,6 +78,9 @@ def test_save_restart_and_reopen_by_link(browser, tmp_path):
             page.goto(link)
             page.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Opened')")
             assert _request(page) == saved_request
+            # The record's name titles its charts, and the page says it holds the record, not a demo.
+            assert page.input_value("#scenario-name") == "Tamsin Reach permits, council briefing"
+            assert page.text_content("#status").startswith('Opened "Tamsin Reach permits')
             assert page.input_value("#lib-name") == "Tamsin Reach permits, council briefing"
             assert page.input_value("#lib-tags") == "briefing, permits"
             page.click("#run")

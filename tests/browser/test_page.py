@@ -19,6 +19,7 @@ from werkzeug.serving import make_server
 
 from service import create_app
 from service.charts import discount_factors, gains_and_losses
+from service.examples import example_request
 
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
 pytestmark = pytest.mark.slow
@@ -376,7 +377,6 @@ def test_series_and_totals_the_engine_adds_appear_with_their_plain_names(page, b
     """An answer carrying the second additions' names (MODEL.md sections 16-20), invented values:
     the page shows them from the one label table, without a change of its own."""
     from service import simulate
-    from service.examples import example_request
 
     request = example_request("essvane-freeze-under-inflation")
     answer = simulate(request)
@@ -477,3 +477,24 @@ def test_draws_a_policy_makes_infeasible_are_counted_beside_its_bands(page, base
     )
     assert cells[0] == "400"
     assert cells[1] == f"{400 - left_out} ({left_out} left out: the policy makes them infeasible)"
+
+
+_PASTE = """(area, text) => {
+    area.select();
+    area.dispatchEvent(new ClipboardEvent("paste", { bubbles: true }));
+    area.value = text;
+    area.dispatchEvent(new Event("change"));
+}"""
+
+
+def test_a_request_pasted_over_the_box_drops_the_demo_name_but_not_one_typed(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    demo_name = page.input_value("#scenario-name")
+    assert demo_name  # the demo's own name, set by the page
+    other = json.dumps(example_request("tamsin-reach-permits"))
+    page.eval_on_selector("#request-json", _PASTE, other)
+    assert page.input_value("#scenario-name") == ""  # the demo's name no longer titles the charts
+    assert page.text_content("#status").startswith("Pasted a request")
+    page.fill("#scenario-name", "Our permits case")
+    page.eval_on_selector("#request-json", _PASTE, json.dumps(example_request("quillbrook-rent-freeze")))
+    assert page.input_value("#scenario-name") == "Our permits case"  # typed by the analyst: kept

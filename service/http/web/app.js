@@ -7,6 +7,7 @@ const $ = (id) => document.getElementById(id);
 const state = {
   request: {}, labels: null, endpoint: "/v1/paths", demos: {}, titles: {}, answer: null, sensitivity: null,
   urls: [], rendered: "", pending: null,
+  givenName: "",  // the scenario name the page set itself (a demo's, a file's), not one typed
 };
 const BAND_KEYS = ["draws", "seed", "percentiles", "supply_correlation"];
 const MAIN_VALUE = { price_ceiling: ["level", "growth"], price_floor: ["level"], quantity_cap: ["level"],
@@ -1037,7 +1038,7 @@ async function openFile(event) {
 
 function loadRequest(request, name) {
   clearErrors();
-  if (name != null) $("scenario-name").value = name;
+  if (name != null) $("scenario-name").value = state.givenName = name;
   renderForm(request);
   updatePicker(request);
 }
@@ -1184,6 +1185,13 @@ async function start() {
   for (const id of ["u-currency", "u-quantity", "u-unit", "u-interval", "u-period"]) $(id).addEventListener("change", showTables);
   const json = $("request-json");
   json.addEventListener("input", () => { clearTimeout(state.pending); state.pending = setTimeout(fromJson, 400); });
+  json.addEventListener("paste", () => {
+    // A request pasted over the whole box is another scenario: a name the page gave the one
+    // before (a demo's, a file's) no longer titles it; a name the analyst typed stays.
+    if (json.selectionStart !== 0 || json.selectionEnd !== json.value.length) return;
+    if ($("scenario-name").value === state.givenName) $("scenario-name").value = state.givenName = "";
+    $("status").textContent = "Pasted a request. Change inputs, then run it.";
+  });
   json.addEventListener("change", fromJson);
   document.addEventListener("pointerdown", rememberPress, true);
   document.addEventListener("pointerup", (event) => setTimeout(() => replayLostClick(event), 0), true);

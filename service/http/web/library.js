@@ -147,6 +147,9 @@
     if (!response.ok) { say(explain(response, body)); return; }
     setRequest(body.request);
     show(body);
+    // The record's name titles its charts and briefing, and the page says what it now holds.
+    $("scenario-name").value = body.name;
+    $("status").textContent = `Opened "${body.name}" from the scenario library. Change inputs, then run it.`;
     const version = body.model_version;
     say(`Opened "${body.name}" (revision ${body.revision} of ${body.latest_revision}, saved under model ${version}). `
       + "Run it to see its paths.");
