@@ -698,6 +698,17 @@ def _signed(value: float) -> str:
     return ("+" if value > 0 else "\u2212") + _compact(abs(value))
 
 
+#: A net total smaller than this share of the groups' gains and losses is their rounding: where a
+#: rule only moves money between groups, what one gains another loses to the last few digits.
+NET_ROUNDING = 1e-9
+
+
+def _net(values: np.ndarray) -> float:
+    """The groups' net total (minus the deadweight loss), 0 where it is rounding (NET_ROUNDING)."""
+    net = float(values.sum())
+    return 0.0 if abs(net) <= NET_ROUNDING * float(np.abs(values).sum()) else net
+
+
 def _discounting(request: dict, period: str) -> str:
     rate = (request.get("welfare") or {}).get("discount_rate", 0.0)
     if isinstance(rate, list):
@@ -730,7 +741,7 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     for ax, name, row in zip(cells, names, values, strict=False):
         bars = ax.barh(rows_y, row, color=colours, hatch=hatches, edgecolor="white", height=0.7)
         ax.axvline(0, color="#000000", linewidth=1.0)
-        ax.set_title(f"{name}: net {_signed(float(row.sum()))}", fontsize=11, loc="left")
+        ax.set_title(f"{name}: net {_signed(_net(row))}", fontsize=11, loc="left")
         ax.grid(True, axis="x", color="#dddddd", linewidth=0.6)
         ax.set_axisbelow(True)
         ax.tick_params(labelsize=small)

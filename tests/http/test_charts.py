@@ -413,3 +413,19 @@ def test_a_dollar_sign_in_units_or_title_prints_as_it_is(client, chart):
     response = client.post("/v1/charts", json=body)
     assert response.status_code == 200
     assert r"<!-- Cost in $\frac$ terms -->" in response.get_data(as_text=True)
+
+
+def test_a_rule_that_only_moves_money_between_groups_shows_a_net_of_zero(client):
+    # Tollbrae's exempting, decontrolled cap: the groups' gains and losses cancel to the last
+    # digits (its deadweight loss against the same-period stocks is 0, MODEL.md 17), so its
+    # panel says "net 0", not the rounding residue (about -2e-07 before).
+    request = example_request("tollbrae-decontrol-and-exempt-building")
+    svg = client.post(
+        "/v1/charts", json={"chart": "gains_and_losses", "format": "svg", "scenario": request}
+    ).get_data(as_text=True)
+    assert "rents reset between tenants: net 0 -->" in svg
+    assert "e-0" not in svg.split("rents reset between tenants: net", 1)[1][:12]
+    from service.charts import _net
+
+    assert _net(np.array([1e6, -1e6 + 1e-4])) == 0.0  # rounding of a million moved
+    assert _net(np.array([1e6, -0.9e6])) == 1e5  # a real net gain is kept
