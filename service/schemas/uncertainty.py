@@ -387,6 +387,12 @@ class BandsRequestSchema(_UncertainRequestSchema):
 
     @validates_schema
     def _work(self, data, **kwargs):
+        repeated = sorted({q for q in data["percentiles"] if data["percentiles"].count(q) > 1})
+        if repeated:  # each percentile is one key of the answer: a repeat would be lost
+            raise ValidationError(
+                f"Each percentile once: {', '.join(f'{q:g}' for q in repeated)} is given more than once.",
+                "percentiles",
+            )
         cells = data["draws"] * (data["horizon"] + 1) * len(data["policies"])
         if cells > limits.MAX_DRAW_CELLS:
             raise ValidationError(

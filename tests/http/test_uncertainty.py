@@ -64,6 +64,17 @@ def test_draw_limits_are_enforced_before_work(client):
     assert response.status_code == 422 and "draws x (horizon + 1) x policies" in response.get_json()["detail"]
 
 
+def test_a_percentile_asked_twice_is_refused_at_the_percentiles(client):
+    # Each percentile is one key of the answer ("50"): 50 and 50.0 would silently become one.
+    request = dict(example_request("quillbrook-uncertain-elasticities"), draws=100)
+    response = client.post("/v1/bands", json=dict(request, percentiles=[5, 50, 50.0, 95]))
+    assert response.status_code == 422
+    assert response.get_json()["errors"] == [
+        {"pointer": "/percentiles", "message": "Each percentile once: 50 is given more than once."}
+    ]
+    assert client.post("/v1/bands", json=dict(request, percentiles=[5, 50, 95])).status_code == 200
+
+
 def test_bad_distributions_point_at_their_fields(client):
     request = example_request("quillbrook-uncertain-elasticities")
     request["market"]["supply"]["long_run_elasticity"] = {
