@@ -47,6 +47,14 @@ def _check_id(value: Any, prefix: str) -> None:
         raise ProblemError(validation_problem({"id": error.messages}, prefix)) from None
 
 
+def _check_unique(value: str, first: int, i: int, prefix: str) -> None:
+    """A batch scenario's `id` names it alone (results are matched by id), or ProblemError (422)
+    for every scenario after the first that has it."""
+    if first != i:
+        message = f"Scenario {first} of this batch has the id {value!r} already; give each scenario its own."
+        raise ProblemError(validation_problem({"id": [message]}, prefix))
+
+
 @contextlib.contextmanager
 def _no_cyclic_gc():
     """Pause the cyclic garbage collector while a batch builds millions of small objects.
@@ -227,12 +235,14 @@ def simulate_many(
     `prefix` formats the pointer prefix of request i (e.g. "/scenarios/{i}"); none by default.
     lists=False keeps series as numpy arrays (see render); output="summary" leaves them out.
     A request's `id` (a batch scenario's own name for itself, BatchScenarioSchema) is
-    checked, left out of the scenario (and its id), and put first in its body or problem.
+    checked, and unique (a later scenario with an id already given gets a problem at its id),
+    left out of the scenario (and its id), and put first in its body or problem.
     """
     loaded: list[engine.Scenario] = []
     where: list[int] = []
     out: list[dict[str, Any] | None] = [None] * len(requests)
     ids: dict[int, Any] = {}
+    first_with: dict[str, int] = {}  # each id and the first scenario that has it
     with _no_cyclic_gc():
         for i, request in enumerate(requests):
             try:
@@ -240,6 +250,7 @@ def simulate_many(
                     ids[i] = request["id"]
                     request = {k: v for k, v in request.items() if k != "id"}
                     _check_id(ids[i], prefix.format(i=i))
+                    _check_unique(ids[i], first_with.setdefault(ids[i], i), i, prefix.format(i=i))
                 loaded.append(load_scenario(request, prefix.format(i=i)))
                 where.append(i)
             except ProblemError as error:

@@ -750,7 +750,10 @@ class BatchScenarioSchema(PathsRequestSchema):
 
     id = fields.String(
         validate=validate.Length(1, limits.MAX_NAME_LENGTH),
-        metadata={"description": "The caller's id of the scenario, echoed in its result and CSV rows."},
+        metadata={
+            "description": "The caller's id of the scenario, echoed in its result and CSV rows; each id "
+            "once per batch (a later scenario repeating one gets a problem at its id)."
+        },
     )
 
 

@@ -78,6 +78,16 @@ def test_a_failed_scenario_keeps_its_id_and_a_bad_id_is_a_422_at_its_pointer(cli
     assert [e["pointer"] for e in results[2]["errors"]] == ["/scenarios/2/id"]
 
 
+def test_an_id_given_twice_is_a_422_at_the_later_scenarios_id(client, sweep):
+    # Results are matched to scenarios by id: a second scenario with the same id would be ambiguous.
+    sweep["scenarios"][2]["id"] = "freeze to 2"
+    results = client.post("/v1/paths/batch", json=sweep).get_json()["results"]
+    assert [r.get("status", 200) for r in results] == [200, 200, 422]
+    assert results[2]["id"] == "freeze to 2"
+    assert [e["pointer"] for e in results[2]["errors"]] == ["/scenarios/2/id"]
+    assert "Scenario 0 of this batch" in results[2]["errors"][0]["message"]
+
+
 def test_a_scenario_cannot_contradict_its_batchs_output(client, sweep):
     sweep["scenarios"][1]["output"] = "full"
     response = client.post("/v1/paths/batch", json={**sweep, "output": "summary"})
