@@ -48,6 +48,8 @@ class PathArrays:
     # (n,): within the horizon I_t overflows or falls below the least normal number, or the
     # nominal prices (real price x I_t) overflow
     price_index_out_of_range: np.ndarray
+    # (n,): a discount factor within the horizon overflows (a rate near -100 % compounded)
+    discount_out_of_range: np.ndarray
     policy_infeasible: np.ndarray  # (R, T+1): Q, Pc or Pp <= 0 where the policy binds
     unbounded_willingness: np.ndarray  # (R,): random rationing, ceiling, CE with |eta| <= 1
     non_finite: np.ndarray  # (R,): a reported value is not finite
@@ -61,10 +63,10 @@ class PathArrays:
         return self.series[:, self.series_names.index(name)]
 
     def scenario_inputs_failed(self) -> np.ndarray:
-        """(n,) True where a scenario-level problem (shocks, schedule, linear range, the price
-        index's range) stops it."""
+        """(n,) True where a scenario-level problem (shocks, schedule, linear range, the range of
+        the price index or of the discount factors) stops it."""
         failed = _inputs_failed(self.shift_out_of_range, self.schedule_undefined, self.linear_out_of_range)
-        return failed | self.price_index_out_of_range
+        return failed | self.price_index_out_of_range | self.discount_out_of_range
 
     def row_failed(self, rows: PolicyRows, scenario_failed: np.ndarray | None = None) -> np.ndarray:
         """(R,) True where a policy row has no answer: its own problem or its scenario's
@@ -244,6 +246,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
         schedule_undefined=prepared.undefined,
         linear_out_of_range=linear_out_of_range,
         price_index_out_of_range=index_failed,
+        discount_out_of_range=(valid & ~np.isfinite(prepared.factor)).any(axis=1),
         policy_infeasible=infeasible,
         unbounded_willingness=unbounded,
         non_finite=non_finite,

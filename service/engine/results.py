@@ -224,6 +224,13 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
             "about 1e-308); reduce the inflation or the horizon",
             "/market/inflation",
         )
+    if arrays.discount_out_of_range[i]:
+        return InputError(
+            "with this discount rate the discount factors 1 / prod(1 + r) grow past the largest "
+            "representable number (about 1e308) within the horizon, as a rate near -100 % a period "
+            "compounds; raise the discount rate or shorten the horizon",
+            "/welfare/discount_rate",
+        )
     for local, r in enumerate(row_index):
         policy = scenario.policies[local]
         if arrays.unbounded_willingness[r]:

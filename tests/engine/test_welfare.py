@@ -12,7 +12,7 @@ import numpy_financial as npf
 import pytest
 from hypothesis import given
 
-from service import simulate
+from service import ProblemError, simulate
 
 from ..catalogue import harberger_dwl
 from ..strategies import requests
@@ -117,3 +117,16 @@ def test_surplus_changes_revenue_and_loss_add_to_zero(request):
             + path["deadweight_loss"]
         )
         assert np.abs(total).max() <= 1e-9 * scale
+
+
+def test_a_discount_rate_whose_factors_overflow_is_refused_at_the_rate(contract_request):
+    # 1 / 0.01^t passes 1e308 after about 154 periods: a discounted loss would be infinite (null
+    # in JSON), and the problem is the rate, not the policy that happens to carry the loss.
+    request = copy.deepcopy(contract_request)
+    request["horizon"] = 600
+    request["welfare"] = {**(request.get("welfare") or {}), "discount_rate": -0.99}
+    with pytest.raises(ProblemError) as refused:
+        simulate(request)
+    assert [e["pointer"] for e in refused.value.problem["errors"]] == ["/welfare/discount_rate"]
+    request["horizon"] = 100  # 100^100 = 1e200: within range, an answer
+    assert all(np.isfinite(s["discounted_deadweight_loss"]) for s in simulate(request)["summary"])
