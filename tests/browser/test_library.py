@@ -15,6 +15,8 @@ from werkzeug.serving import make_server
 from service import create_app
 from service.examples import example_request
 
+from .pages import run_scenario
+
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
 KEY_A = "page-key-of-analyst-a-0123"
 KEY_B = "page-key-of-analyst-b-4567"
@@ -106,14 +108,7 @@ def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(
             page.select_option("#demo", "quillbrook-rent-freeze")
             page.click("#load-demo")
             page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
-            page.click("#run")
-            # Every call of the run (the paths, each chart, the CSV) carried the key.
-            page.wait_for_function(
-                "(() => { const r = document.querySelector('#results').dataset;"
-                " return r.drawn && r.drawn === r.scenario; })()",
-                timeout=120_000,
-            )
-            assert page.text_content("#status").startswith("Computed")
+            run_scenario(page)  # every call of the run (the paths, each chart, the CSV) carries the key
             assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
             assert "not drawn" not in page.inner_text("#charts")
     finally:

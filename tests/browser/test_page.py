@@ -21,6 +21,8 @@ from service import create_app
 from service.charts import discount_factors, gains_and_losses
 from service.examples import example_request
 
+from .pages import run_scenario
+
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
 pytestmark = pytest.mark.slow
 HOUSING = {
@@ -51,16 +53,6 @@ def _load(page, base_url, name):
 
 def _request(page) -> dict:
     return page.evaluate("JSON.parse(document.querySelector('#request-json').value)")
-
-
-def _run(page):
-    page.click("#run")
-    page.wait_for_function(
-        "(() => { const r = document.querySelector('#results').dataset;"
-        " return r.drawn && r.drawn === r.scenario; })()",
-        timeout=120_000,
-    )
-    assert page.text_content("#status").startswith("Computed")
 
 
 def _answer(page) -> dict:
@@ -129,7 +121,7 @@ def test_job_one_a_cap_and_a_freeze_over_ten_years_with_inflation_built_in_the_f
     hint = page.text_content("#" + page.get_attribute("#f-inflation", "aria-describedby"))
     assert "2.5 %" in hint and "today's money (period 0)" in hint
     assert "real change" in page.text_content("#shock-fields")  # shocks are real changes
-    _run(page)
+    run_scenario(page)
     answer = _answer(page)
     assert answer["request"]["market"]["inflation"] == 0.025  # the answer carries its request
     # The summary: every total of the answer, a column per policy, units in the analyst's words.
@@ -188,7 +180,7 @@ def test_job_two_a_freeze_on_older_buildings_only_through_coverage(page, base_ur
     page.fill("input[data-pointer='/policies/1/name']", "freeze on older buildings")
     request = _request(page)
     assert request["policies"][1]["coverage"] == 0.4
-    _run(page)
+    run_scenario(page)
     answer = _answer(page)
     # The rents of the other homes: in the year table and as a chart panel.
     heads, rows = _years(page, "freeze on older buildings")
@@ -234,7 +226,7 @@ def test_job_three_uncertain_elasticities_chosen_in_the_form_give_bands_and_a_to
     # The default adjustment rate ties building speed to the long-run elasticity: said so.
     page.select_option("#f-schedule", "geometric")
     assert page.is_visible("#coupling-note")
-    _run(page)
+    run_scenario(page)
     assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
     assert "400 draws" in page.text_content("#status")
     assert page.locator("#summary td .range").count() > 0
@@ -277,7 +269,7 @@ def test_no_click_is_lost_after_editing_the_request_by_hand(page, base_url):
     request = _request(page)
     request["horizon"] = 6
     page.fill("#request-json", json.dumps(request))
-    _run(page)
+    run_scenario(page)
     assert len(_answer(page)["periods"]) == 7
     assert len(_summary(page)["final_quantity"]) == 2
 
@@ -297,10 +289,10 @@ def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, ba
     assert "inflation of 6000 %" in messages[0] and "Run anyway?" in messages[0]
     assert page.get_attribute("#f-inflation", "aria-invalid") == "true"
     page.fill("#f-inflation", "3 %")
-    _run(page)  # nothing questioned: no dialog
+    run_scenario(page)  # nothing questioned: no dialog
     page.fill("input[data-pointer='/policies/2/growth']", "3")
     page.once("dialog", lambda d: d.accept())
-    _run(page)  # confirmed: it runs
+    run_scenario(page)  # confirmed: it runs
     assert _answer(page)["request"]["policies"][2]["growth"] == 3
 
 
@@ -317,7 +309,7 @@ def test_shifters_and_shocks_are_added_and_removed_in_the_form(page, base_url):
     request = _request(page)
     assert request["market"]["supply"]["shifters"] == {"construction_cost": -0.5}
     assert request["shocks"][2] == {"shifter": "construction_cost", "profile": "growth", "rate": 0.01}
-    _run(page)
+    run_scenario(page)
     assert _answer(page)["request"]["shocks"][2]["rate"] == 0.01
     page.click("button[data-action='remove-shock:2']")
     page.click("button[data-action='remove-shifter:supply:construction_cost']")
@@ -367,7 +359,7 @@ def test_an_invalid_value_shows_the_error_next_to_its_field(page, base_url):
 def test_random_rationing_says_who_gains_is_not_reported(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     page.select_option("select[data-pointer='/welfare/rationing']", "random")
-    _run(page)
+    run_scenario(page)
     cells = page.eval_on_selector_all("#groups tbody td", "tds => tds.map(t => t.textContent)")
     assert cells and set(cells) == {"not reported under random rationing"}
     assert page.locator("#gains-figure").count() == 0
@@ -411,7 +403,7 @@ def test_series_and_totals_the_engine_adds_appear_with_their_plain_names(page, b
             else route.continue_()
         ),
     )
-    _run(page)
+    run_scenario(page)
     page.unroute("**/v1/paths")
     summary = page.eval_on_selector_all("#summary tbody tr th", "ths => ths.map(t => t.textContent)")
     for words in (
@@ -435,7 +427,7 @@ def test_a_long_scenario_name_still_gives_every_chart_its_title(page, base_url):
     # A name set from outside the field (a linked record, a script) is not held to maxlength;
     # the service takes chart titles of at most 120 characters, so the page cuts longer ones.
     page.eval_on_selector("#scenario-name", "(field) => { field.value = 'Quillbrook '.repeat(12); }")
-    _run(page)
+    run_scenario(page)
     captions = page.inner_text("#charts")
     assert "not drawn" not in captions
     assert page.eval_on_selector_all("#charts img", "images => images.length") >= 1
@@ -468,7 +460,7 @@ def test_draws_a_policy_makes_infeasible_are_counted_beside_its_bands(page, base
         "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
         json.dumps(request),
     )
-    _run(page)
+    run_scenario(page)
     answer = _answer(page)
     left_out = answer["bands"][1]["infeasible_draws"]
     assert 0 < left_out < 400  # a ceiling this low leaves no homes let in some draws

@@ -7,7 +7,8 @@ from __future__ import annotations
 
 import pytest
 
-from .test_page import _load, _request, _run, base_url  # noqa: F401 (base_url is a fixture)
+from .pages import run_scenario
+from .test_page import _load, _request, base_url  # noqa: F401 (base_url is a fixture)
 
 pytestmark = pytest.mark.slow
 
@@ -30,7 +31,7 @@ def test_conversion_and_vacancy_decontrol_drawn_in_the_form_give_bands(page, bas
     assert page.locator("select[data-action='uncertain:/policies/1/vacancy_decontrol']").count() == 0
     assert page.is_visible("#uncertainty-fieldset")
     page.fill("input[data-pointer='/draws']", "200")
-    _run(page)
+    run_scenario(page)
     assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
     assert page.locator("#summary td .range").count() > 0
     answer = page.evaluate("fetch(document.querySelector('#download-json').href).then(r => r.json())")
