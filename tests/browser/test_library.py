@@ -66,7 +66,10 @@ def test_save_restart_and_reopen_by_link(browser, tmp_path):
             _page_ready(page, base + "/")
             page.select_option("#demo", "tamsin-reach-permits")
             page.click("#load-demo")
-            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
+            # Its own name: the start-up demo's "Loaded ..." is on the page already.
+            page.wait_for_function(
+                "document.querySelector('#status').textContent.startsWith('Loaded tamsin-reach-permits')"
+            )
             saved_request = _request(page)
             link = _save(page, "Tamsin Reach permits, council briefing", "briefing, permits")
             assert link == f"{base}/?scenario={page.get_attribute('#library', 'data-scenario')}"
@@ -107,7 +110,9 @@ def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(
             page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
             page.select_option("#demo", "quillbrook-rent-freeze")
             page.click("#load-demo")
-            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
+            page.wait_for_function(
+                "document.querySelector('#status').textContent.startsWith('Loaded quillbrook-rent-freeze')"
+            )
             run_scenario(page)  # every call of the run (the paths, each chart, the CSV) carries the key
             assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
             assert "not drawn" not in page.inner_text("#charts")
