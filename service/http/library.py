@@ -260,7 +260,9 @@ def delete_scenario(id: str) -> Response:
     record_id = _record_id(id)
     matches = _matches() if request.if_match else (lambda tag: True)
     _library().delete(_owner(), record_id, matches)
-    return Response(status=204)
+    response = Response(status=204)
+    del response.headers["Content-Type"]  # no content, so no type of content
+    return response
 
 
 def _compute(record_id: str, kind: str, answer: Callable[[object], Response]) -> Response:

@@ -144,7 +144,9 @@ def test_a_change_needs_the_etag_of_the_revision_it_starts_from(library_client):
     assert star.status_code == 200 and star.get_json()["revision"] == 3
     gone = library_client.delete(f"/v1/scenarios/{record['id']}", headers={"If-Match": f'"{record["id"]}.2"'})
     assert gone.status_code == 412
-    assert library_client.delete(f"/v1/scenarios/{record['id']}").status_code == 204
+    deleted = library_client.delete(f"/v1/scenarios/{record['id']}")
+    assert deleted.status_code == 204 and deleted.data == b""
+    assert "Content-Type" not in deleted.headers  # no content, so no type of content
     assert library_client.get(f"/v1/scenarios/{record['id']}").status_code == 404
     assert library_client.get(f"/v1/scenarios/{record['id']}?revision=1").status_code == 404
     assert library_client.delete(f"/v1/scenarios/{record['id']}").status_code == 404
