@@ -16,6 +16,7 @@ __all__ = [
     "engine_problem",
     "is_problem",
     "load_request",
+    "moved_under",
     "problem",
     "validation_problem",
 ]
@@ -82,15 +83,25 @@ class ProblemError(Exception):
 
 def validation_problem(messages: Any, prefix: str = "") -> Problem:
     errors = field_errors(messages, prefix)
+    return problem(422, "The request is not valid", _invalid_detail(errors), "invalid-request", errors=errors)
+
+
+def _invalid_detail(errors: list[dict[str, str]]) -> str:
+    """The detail of a validation problem: its first error, pointer first, and how many more."""
     first = errors[0] if errors else {"pointer": "", "message": "invalid"}
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
-    return problem(
-        422,
-        "The request is not valid",
-        f"{first['pointer'] or '/'}: {first['message']}{more}",
-        "invalid-request",
-        errors=errors,
-    )
+    return f"{first['pointer'] or '/'}: {first['message']}{more}"
+
+
+def moved_under(prefix: str, document: dict[str, Any]) -> Problem:
+    """The same problem for a request nested at `prefix` (a chart's scenario): every error's
+    pointer under it, and a validation problem's detail written again from the moved errors."""
+    moved = Problem(document)
+    if document.get("errors"):
+        moved["errors"] = [dict(e, pointer=prefix + e["pointer"]) for e in document["errors"]]
+        if moved.get("type") == PROBLEM_BASE + "invalid-request":
+            moved["detail"] = _invalid_detail(moved["errors"])
+    return moved
 
 
 def engine_problem(error, prefix: str = "") -> Problem:

@@ -6,7 +6,7 @@ from __future__ import annotations
 from flask import Response, current_app, g
 
 from .. import charts
-from ..problems import ProblemError, is_problem, load_request, problem
+from ..problems import ProblemError, is_problem, load_request, moved_under, problem
 from ..schemas.charts import ChartRequestSchema
 from ..simulation import simulate_many
 from ..uncertainty import bands, sensitivity
@@ -25,16 +25,8 @@ _OCTETS = "application/octet-stream"
 
 
 def _under(prefix: str, error: ProblemError) -> ProblemError:
-    """The same problem with its pointers moved under `prefix` (the chart's scenario), in its
-    errors and where its detail starts with the first one ("/horizon: ..." of a 422)."""
-    document = dict(error.problem)
-    if document.get("errors"):
-        first = document["errors"][0]["pointer"] or "/"
-        document["errors"] = [dict(e, pointer=prefix + e["pointer"]) for e in document["errors"]]
-        detail = document.get("detail", "")
-        if detail.startswith(first + ":"):
-            document["detail"] = document["errors"][0]["pointer"] + detail[len(first) :]
-    return ProblemError(document)
+    """The same problem with its pointers moved under `prefix` (the chart's scenario)."""
+    return ProblemError(moved_under(prefix, error.problem))
 
 
 def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:

@@ -61,8 +61,7 @@ class _Plan(NamedTuple):
     """How one schema is normalised, worked out once from its declared fields: per field its
     name, the converter of a value sent (_converter), and how a left-out field is written
     (_default: the maker of its default, or the default itself where it is one fixed value);
-    whether it reads inflation as a market
-    does; whether it holds policies."""
+    whether it reads inflation as a market does; whether it holds policies."""
 
     fields: tuple[tuple[str, Callable[[Any], Any], Callable[[], Any] | None, Any], ...]
     inflation: bool
