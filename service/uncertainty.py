@@ -99,9 +99,9 @@ def _coupling_caution(req: UncertainRequest) -> list[str]:
     if not default_rate_coupled(req.scenario, req.inputs):
         return []
     return [
-        "Without a rate or half_life the speed of building is the short-run elasticity divided by the "
+        "Without a rate or a half-life the speed of building is the short-run elasticity divided by the "
         "long-run elasticity, so in draws with a larger long-run elasticity homes are also built more "
-        "slowly: the two move together here. Give adjustment.rate or adjustment.half_life to vary the "
+        "slowly: the two move together here. Give the adjustment a rate or a half-life to vary the "
         "long-run elasticity and the speed of building apart."
     ]
 
@@ -184,7 +184,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
     if int(arrays.infeasible_draws.max()) > 0:
         cautions.append(
             "Some draws make a policy infeasible (zero or negative quantity or price); they are counted "
-            "in infeasible_draws and left out of that policy's percentiles."
+            "for each policy and left out of its percentiles."
         )
     cautions += _coupling_caution(req)
     cautions += central["cautions"]

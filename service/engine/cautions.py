@@ -145,7 +145,8 @@ def _other_form_caution(
         parts.append(
             f"Solved with the {other} curves instead, these figures differ by more than "
             f"{_percent(FORM_GAP)} of the larger: " + "; ".join(differ) + ". The two forms agree only for "
-            "small changes; read such figures as a range, not a point (other_form in each summary)."
+            "small changes; read such figures as a range, not a point (the answer gives both forms' "
+            "figures for each policy)."
         )
     if missing:
         parts.append(
@@ -308,7 +309,7 @@ def scenario_cautions(
         )
     if conversion:
         out.append(
-            "Controlled homes converted to other uses (converted_homes) leave the rental market, but "
+            "Controlled homes that owners convert to other uses leave the rental market, but "
             "the households that buy or use them still count as wanting to rent, so the rise in rents "
             "that conversion causes is an upper bound."
         )
@@ -322,16 +323,16 @@ def scenario_cautions(
         out.append(
             "With inflation, price ceilings and floors, growth caps, unit taxes and subsidies are "
             "nominal rules (fixed in money of the day unless indexed), so their real value falls "
-            "over time. Every price is in real money of period 0 (nominal prices: the real price "
-            "times price_index); welfare is real and the discount rate is a real rate."
+            "over time. Every price is in real money of period 0 (a nominal price is the real price "
+            "times the general price index); welfare is real and the discount rate is a real rate."
         )
     if stock:
         out.append(
-            "Under the stock schedule homes not built stay missing after a policy ends "
-            "(homes_below_free_path). The deadweight loss counts only each period's loss against "
-            "that period's free market on the same stock, so the full cost of homes never built is "
-            "larger than the within-period deadweight loss shown; renters' gains and losses against "
-            "the free path, the years after a rule ends included, are in vs_free_path."
+            "Under the stock schedule homes not built stay missing after a policy ends. The "
+            "deadweight loss counts only each period's loss against that period's free market on "
+            "the same stock, so the full cost of homes never built is larger than the within-period "
+            "deadweight loss shown; renters' gains and losses against the market that never had the "
+            "rule, the years after the rule ends included, are reported separately."
         )
     if (
         stock
@@ -352,8 +353,7 @@ def scenario_cautions(
             f"{_names(lifted)} {'ends' if len(lifted) == 1 else 'end'} before the horizon. Under this "
             "schedule the homes a ceiling kept "
             "from being built return the moment it ends, as if built overnight; real homes take years. "
-            'Use the stock schedule ("adjustment": {"schedule": "stock"}) to see the years after '
-            "a ceiling ends."
+            "Choose the stock schedule of adjustment to see the years after a ceiling ends."
         )
     if never_binding:
         out.append(f"Never binds over the horizon, so it equals the free market: {_names(never_binding)}.")

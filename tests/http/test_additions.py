@@ -41,7 +41,7 @@ def test_a_request_with_every_addition_answers_every_new_field(client):
         assert set(s["distribution_totals"]) == set(GROUPS)
         assert "final_homes_below_free_path" in s and "peak_homes_below_free_path" in s
     cautions = " ".join(body["cautions"])
-    assert "real money of period 0" in cautions and "homes_below_free_path" in cautions
+    assert "real money of period 0" in cautions and "homes not built stay missing" in cautions
     assert "Fallis & Smith 1984" in cautions
 
 

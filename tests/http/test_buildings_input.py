@@ -6,6 +6,7 @@ uncertain versions of these fields keep the same rules in /v1/bands and /v1/sens
 from __future__ import annotations
 
 import copy
+import re
 
 import pytest
 
@@ -399,6 +400,8 @@ def test_the_coupling_caution_appears_under_the_default_rate_with_an_uncertain_l
     request["market"]["supply"]["long_run_elasticity"] = {"distribution": "uniform", "low": 0.8, "high": 1.2}
     for body in (bands(dict(request, draws=20, seed=2)), sensitivity(request)):
         assert any("speed of building" in c for c in body["cautions"]) == coupled
+        for caution in body["cautions"]:  # plain words for a council reader: no field names
+            assert not re.search(r"\b[a-z]+_[a-z_]+\b|adjustment\.", caution), caution
     request["market"]["supply"]["long_run_elasticity"] = 1.0
     request["market"]["demand"]["price_elasticity"] = {"distribution": "uniform", "low": -0.5, "high": -0.3}
     assert not any("speed of building" in c for c in sensitivity(request)["cautions"])
