@@ -111,11 +111,13 @@ def test_job_one_a_cap_and_a_freeze_over_ten_years_with_inflation_built_in_the_f
     page.fill("#scenario-name", "Quillbrook ten years")
     page.fill("#f-horizon", "10")
     page.fill("#f-inflation", "2.5 %")  # a percent written as such
+    page.fill("input[data-pointer='/market/quantity']", "54,000")  # thousands with a comma
     page.click("button[data-action='remove-policy:3']")  # the five-year freeze goes
     page.fill("input[data-pointer='/policies/2/growth']", "2 %")
     page.fill("input[data-pointer='/policies/2/name']", "2% nominal cap")
     request = _request(page)
     assert request["horizon"] == 10 and request["market"]["inflation"] == 0.025
+    assert request["market"]["quantity"] == 54000
     assert [p["name"] for p in request["policies"]] == ["free market", "rent freeze", "2% nominal cap"]
     assert request["policies"][2]["growth"] == 0.02
     hint = page.text_content("#" + page.get_attribute("#f-inflation", "aria-describedby"))

@@ -125,7 +125,10 @@ function asNumber(text, percent) {
     const n = Number(t.slice(0, -1).trim());
     return Number.isFinite(n) ? Number((n / 100).toPrecision(12)) : t;
   }
-  const n = Number(t);
+  // Thousands written with commas ("1,180" or "12,500.5") are one number; a list field splits
+  // at commas before its items get here, so this never joins a list's items.
+  const grouped = /^[+-]?\d{1,3}(,\d{3})+(\.\d+)?$/.test(t) ? t.replace(/,/g, "") : t;
+  const n = Number(grouped);
   return Number.isFinite(n) ? n : t;  // a non-number goes through, for the server to point at
 }
 
