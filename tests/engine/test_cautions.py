@@ -51,6 +51,22 @@ MARKS = {
 }
 
 
+#: Every condition of a caution at once (but random rationing, a lifted ceiling and the
+#: other form, which tests add where they need them).
+EVERY_CONDITION = {
+    "ceiling_binds": True,
+    "shortage": True,
+    "partial_binds": True,
+    "exempt_binds": True,
+    "conversion": True,
+    "inflation": True,
+    "stock": True,
+    "never_binding": ["cap"],
+    "short_run_elasticity": 0.2,
+    "impact_elasticity": 0.45,
+}
+
+
 def _present(cautions: list[str]) -> set[str]:
     return {name for name, words in MARKS.items() if any(words in c for c in cautions)}
 
@@ -100,17 +116,7 @@ def test_cautions_are_written_for_a_council_reader_without_the_answers_field_nam
     """Cautions are read aloud in council briefings: plain words, no series or field names of
     the answer (vs_free_path, price_index, ...) and no request syntax."""
     every = _cautions(
-        ceiling_binds=True,
-        shortage=True,
-        partial_binds=True,
-        exempt_binds=True,
-        conversion=True,
-        inflation=True,
-        stock=True,
-        never_binding=["cap"],
-        short_run_elasticity=0.2,
-        impact_elasticity=0.45,
-        other_form={"cap": {"discounted_deadweight_loss": (10.0, 20.0)}, "tax": None},
+        **EVERY_CONDITION, other_form={"cap": {"discounted_deadweight_loss": (10.0, 20.0)}, "tax": None}
     ) + _cautions(lifted_ceilings=["freeze"], random_rationing=True)
     assert len(every) >= 12
     field_names = set(SERIES_NAMES) | set(SUMMARY_NAMES) | set(PolicySummary._fields)
@@ -241,19 +247,7 @@ def test_callers_without_other_form_keep_the_shock_size_caution():
 
 def test_every_caution_under_efficient_rationing_avoids_the_words_random_rationing():
     """tests/engine/test_distribution.py relies on it: only random rationing talks about it."""
-    cautions = _cautions(
-        ceiling_binds=True,
-        shortage=True,
-        partial_binds=True,
-        exempt_binds=True,
-        conversion=True,
-        inflation=True,
-        stock=True,
-        short_run_elasticity=0.2,
-        impact_elasticity=0.3,
-        never_binding=["x"],
-        misallocation_shares={"freeze": (0.9, 1)},
-    )
+    cautions = _cautions(**EVERY_CONDITION, misallocation_shares={"freeze": (0.9, 1)})
     assert not any("random rationing" in c for c in cautions)
 
 
