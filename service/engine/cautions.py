@@ -207,6 +207,8 @@ def scenario_cautions(
     impact_elasticity: float | None = None,
     figure_scales: Mapping[str, float] | None = None,
     other_form_refused: bool = False,
+    held_to_horizon: Mapping[str, float] | None = None,
+    unlet_homes_removed: bool = False,
 ) -> list[str]:
     """Sentences for one scenario, each only where its condition holds.
 
@@ -244,6 +246,13 @@ def scenario_cautions(
     other_form_refused: the other form (constant elasticity, for a linear request) refuses the
         whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 11); the
         caution says so instead of naming every policy as without an answer.
+    held_to_horizon: under `stock`, per policy still in force in the last period, the homes it
+        leaves below the free path then (final_homes_below_free_path, only where above
+        NEGLIGIBLE of the base homes): the years after the horizon, when those homes are built
+        again, are not in its totals, so it compares well with a rule that ends earlier.
+    unlet_homes_removed: under `stock` without depreciation a price floor or quantity cap binds:
+        homes offered and not let leave the stock at once (MODEL.md 16: K_t = Q_t), where with a
+        depreciation rate they would stand empty and be offered again.
     short_run_elasticity, impact_elasticity: the given eps_SR and the impact elasticity used
         (ScenarioBatch.impact_elasticity: lambda eps_LR under `stock` with an explicit rate or
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
@@ -274,12 +283,19 @@ def scenario_cautions(
             "loss is included in the deadweight loss and in the consumers' loss."
         )
     if shortage:
-        out.append(
+        text = (
             "A shortage counts homes that households would rent at the controlled rent and cannot: "
             "it includes households that would take more space and households that would form "
             "(young adults leaving home, people moving to the area). It is not a count of "
             "households without a home."
         )
+        if partial_binds or exempt_binds:
+            text += (
+                " Where only part of the homes is controlled, it counts households who would take a "
+                "controlled home and do not get one; uncontrolled homes are let at their market "
+                "rent, so it is not a queue for homes."
+            )
+        out.append(text)
     if random_rationing and misallocation_shares:
         large = [
             f"'{name}' ({_percent(share)} in period {period})"
@@ -302,10 +318,10 @@ def scenario_cautions(
         out.append(
             "A ceiling that "
             + " or ".join(which)
-            + " raises the rents of uncontrolled homes: households without a controlled home bid for "
-            "them (Fallis & Smith 1984, American Economic Review 74(1)). Controlled homes are assumed "
-            "to go to the households who value them most, so that rise, and the loss shown, are "
-            "lower bounds."
+            + " can raise the rents of uncontrolled homes: households without a controlled home bid "
+            "for them (Fallis & Smith 1984, American Economic Review 74(1)). Controlled homes are "
+            "assumed to go to the households who value them most, so any such rise, and the loss "
+            "shown, are lower bounds."
         )
     if conversion:
         out.append(
@@ -328,11 +344,13 @@ def scenario_cautions(
         )
     if stock:
         out.append(
-            "Under the stock schedule homes not built stay missing after a policy ends. The "
-            "deadweight loss counts only each period's loss against that period's free market on "
-            "the same stock, so the full cost of homes never built is larger than the within-period "
-            "deadweight loss shown; renters' gains and losses against the market that never had the "
-            "rule, the years after the rule ends included, are reported separately."
+            "Under the stock schedule homes not built stay missing, while a rule lasts and after it "
+            "ends. The deadweight loss counts only each period's loss against that period's free "
+            "market on the same, already smaller, stock: for a rule that lasts it stays near its "
+            "first-year size, while the loss with supply fully adjusted is larger. So the full cost "
+            "of homes never built is larger than the deadweight loss shown; renters' gains and "
+            "losses against the market that never had the rule, the years after the rule ends "
+            "included, are reported separately."
         )
     if (
         stock
@@ -346,6 +364,21 @@ def scenario_cautions(
             f"elasticity); the short-run elasticity given, {short_run_elasticity:.3g}, is not used. "
             "Leave out the rate and half-life to make the first-year response the short-run "
             "elasticity."
+        )
+    held = dict(held_to_horizon or {}) if stock else {}
+    if held:
+        which = ", ".join(f"'{name}' ({_figure(homes)} homes fewer)" for name, homes in held.items())
+        out.append(
+            f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
+            "The years after the horizon, while those homes are built again, are not counted, so "
+            "such a rule's totals look better than those of a rule that ends earlier."
+        )
+    if stock and unlet_homes_removed:
+        out.append(
+            "Without a depreciation rate, homes offered under a price floor or permit cap that find "
+            "no tenant leave the market at once instead of standing empty, so fewer homes remain "
+            "after the rule ends than durable buildings would keep. Give a depreciation rate to keep "
+            "unlet homes standing."
         )
     lifted = list(lifted_ceilings) if not stock else []
     if lifted:

@@ -14,7 +14,7 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from .batch import PolicyRows, ScenarioBatch, pack
-from .cautions import OTHER_FORM_FIGURES, misallocation_shares, scenario_cautions
+from .cautions import NEGLIGIBLE, OTHER_FORM_FIGURES, misallocation_shares, scenario_cautions
 from .errors import (
     EngineError,
     InfeasiblePolicyError,
@@ -481,6 +481,18 @@ def assemble(
             else None,
             exempt_binds=exempt_binds,
             other_form_refused=bool(other_refused[i]),
+            held_to_horizon={
+                p.name: s.final_homes_below_free_path
+                for p, s in zip(scenario.policies, summaries, strict=True)
+                if stock
+                and p.kind != "none"
+                and p.start <= end - 1
+                and (p.end is None or p.end >= end - 1)
+                and s.final_homes_below_free_path > NEGLIGIBLE * float(batch.quantity[i])
+            },
+            unlet_homes_removed=stock
+            and scenario.adjustment.depreciation is None
+            and any(s.kind in ("price_floor", "quantity_cap") and s.binding_periods > 0 for s in summaries),
             conversion=converting and any((s.total_converted_homes or 0.0) > 0.0 for s in summaries),
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),

@@ -45,6 +45,8 @@ MARKS = {
     "inflation": "nominal rules",
     "stock": "homes not built stay missing",
     "unused short run": "is not used",
+    "held to horizon": "Still in force at the end of the horizon",
+    "unlet homes removed": "Without a depreciation rate",
     "lifted": "return the moment it ends",
     "never binds": "Never binds",
     "control left out": "upkeep and quality",
@@ -64,6 +66,8 @@ EVERY_CONDITION = {
     "never_binding": ["cap"],
     "short_run_elasticity": 0.2,
     "impact_elasticity": 0.45,
+    "held_to_horizon": {"cap": 1234.0},
+    "unlet_homes_removed": True,
 }
 
 
@@ -106,6 +110,11 @@ def test_a_quiet_scenario_gets_only_the_general_cautions():
         ),
         ({"stock": True, "short_run_elasticity": 0.2, "impact_elasticity": 0.2}, {"stock"}),
         ({"short_run_elasticity": 0.2, "impact_elasticity": 0.45}, set()),
+        ({"held_to_horizon": {"cap": 12.0}}, set()),  # without a stock the homes return at once
+        ({"held_to_horizon": {"cap": 12.0}, "stock": True}, {"stock", "held to horizon"}),
+        ({"held_to_horizon": {}, "stock": True}, {"stock"}),
+        ({"unlet_homes_removed": True}, set()),
+        ({"unlet_homes_removed": True, "stock": True}, {"stock", "unlet homes removed"}),
     ],
 )
 def test_each_caution_appears_exactly_when_its_condition_holds(changes, expected):
@@ -282,3 +291,69 @@ def test_other_form_pairs_read_the_summary_by_name():
         "levy": None,
     }
     assert _present(_cautions(other_form=pairs)) == {"no other answer"}
+
+
+def test_under_partial_control_the_shortage_is_said_not_to_be_a_queue_for_homes():
+    (whole,) = [c for c in _cautions(shortage=True) if MARKS["shortage"] in c]
+    (partial,) = [c for c in _cautions(shortage=True, partial_binds=True) if MARKS["shortage"] in c]
+    assert "not a queue for homes" in partial and "not a queue" not in whole
+
+
+def test_the_rules_held_to_the_horizon_are_named_with_the_homes_they_leave_missing():
+    cautions = _cautions(stock=True, held_to_horizon={"2% cap": 26213.4, "1% cap": 11187.0})
+    (text,) = [c for c in cautions if MARKS["held to horizon"] in c]
+    assert "'2% cap' (26,213 homes fewer), '1% cap' (11,187 homes fewer)" in text
+
+
+# --- the facts, from computed answers ---------------------------------------------------------
+
+
+def _stock_market(adjustment: dict, policies: list[dict], horizon: int = 6) -> dict:
+    """A linear market (P0 100, Q0 1,000, eta -0.5, eps 0.2 -> 1.0) under the stock schedule
+    whose demand falls 10 % in period 1 (a floor at P0 then binds) or grows 3 % a period."""
+    return {
+        "market": {
+            "price": 100.0,
+            "quantity": 1000.0,
+            "demand": {"price_elasticity": -0.5, "shifters": {"income": 1.0}},
+            "supply": {"short_run_elasticity": 0.2, "long_run_elasticity": 1.0},
+        },
+        "shocks": [{"shifter": "income", "profile": "step", "change": -0.1}],
+        "horizon": horizon,
+        "adjustment": {"schedule": "stock", **adjustment},
+        "policies": [{"name": "free market", "kind": "none"}, *policies],
+    }
+
+
+def test_a_floor_under_the_stock_schedule_without_depreciation_is_cautioned_that_unlet_homes_go():
+    from service import simulate
+
+    floor = [{"name": "floor", "kind": "price_floor", "level": 100.0, "end": 2}]
+    without = simulate(_stock_market({}, floor))
+    assert without["paths"][1]["vacant_homes"][1] == 0.0  # offered, not let, and gone (MODEL.md 16)
+    assert _present(without["cautions"]) >= {"unlet homes removed"}
+    durable = simulate(_stock_market({"depreciation": 0.01}, floor))
+    assert durable["paths"][1]["vacant_homes"][1] > 0.0
+    assert "unlet homes removed" not in _present(durable["cautions"])
+
+
+def test_a_cap_held_to_the_horizon_names_its_missing_homes_and_one_lifted_before_does_not():
+    from service import simulate
+
+    request = _stock_market(
+        {"depreciation": 0.01},
+        [
+            {"name": "cap to the end", "kind": "price_ceiling", "growth": 0.0},
+            {"name": "cap for 2 years", "kind": "price_ceiling", "growth": 0.0, "end": 2},
+        ],
+        horizon=8,
+    )
+    request["shocks"] = [{"shifter": "income", "profile": "growth", "rate": 0.03}]
+    body = simulate(request)
+    held, lifted = body["summary"][1], body["summary"][2]
+    assert held["final_homes_below_free_path"] > 1.0 and held["binding_periods"] > 0
+    assert lifted["binding_periods"] > 0  # it bound too, and ended before the horizon
+    (text,) = [c for c in body["cautions"] if MARKS["held to horizon"] in c]
+    assert "'cap to the end'" in text and "'cap for 2 years'" not in text
+    missing = held["final_homes_below_free_path"]
+    assert f"{missing:,.0f} homes fewer" in text or f"{missing:,.4g} homes fewer" in text
