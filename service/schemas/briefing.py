@@ -8,11 +8,11 @@ points where it would for /v1/paths or /v1/bands.
 
 from __future__ import annotations
 
-from marshmallow import fields, validate
+from marshmallow import fields
 
 from .. import limits
 from .charts import UnitsSchema, default_units
-from .fields import StrictSchema
+from .fields import StrictSchema, label
 from .paths import PathsRequestSchema
 from .uncertainty import BandsRequestSchema
 
@@ -23,8 +23,8 @@ OPTIONS = ("title", "units")
 
 
 class BriefingOptionsSchema(StrictSchema):
-    title = fields.String(
-        validate=validate.Length(1, limits.MAX_CHART_TITLE_LENGTH),
+    title = label(
+        limits.MAX_CHART_TITLE_LENGTH,
         metadata={
             "description": "The briefing's heading (e.g. the scenario's name); "
             "its charts' titles start with it."

@@ -5,7 +5,7 @@ from __future__ import annotations
 from marshmallow import fields, validate
 
 from .. import limits
-from .fields import AnyObject, StrictSchema
+from .fields import AnyObject, StrictSchema, label
 from .paths import PathsRequestSchema
 
 __all__ = ["MAX_PANELS", "ChartRequestSchema"]
@@ -15,11 +15,7 @@ MAX_PANELS = 9
 
 
 def _label(default: str, description: str) -> fields.String:
-    return fields.String(
-        load_default=default,
-        validate=validate.Length(1, limits.MAX_CHART_LABEL_LENGTH),
-        metadata={"description": description},
-    )
+    return label(limits.MAX_CHART_LABEL_LENGTH, load_default=default, metadata={"description": description})
 
 
 class UnitsSchema(StrictSchema):
@@ -60,7 +56,7 @@ class ChartRequestSchema(StrictSchema):
         },
     )
     panels = fields.List(
-        fields.String(validate=validate.Length(1, limits.MAX_NAME_LENGTH)),
+        label(limits.MAX_NAME_LENGTH),
         validate=validate.Length(1, MAX_PANELS),
         metadata={
             "description": "paths and bands: the panels to draw, in order (one is a single chart): any "
@@ -85,12 +81,12 @@ class ChartRequestSchema(StrictSchema):
         metadata={"description": "svg or png; without it the Accept header decides (default svg)."},
     )
     units = fields.Nested(UnitsSchema, load_default=default_units)
-    title = fields.String(
-        validate=validate.Length(1, limits.MAX_CHART_TITLE_LENGTH),
+    title = label(
+        limits.MAX_CHART_TITLE_LENGTH,
         metadata={"description": "Replaces the chart's title (e.g. with the scenario's name)."},
     )
-    policy = fields.String(
-        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
+    policy = label(
+        limits.MAX_NAME_LENGTH,
         metadata={
             "description": "sensitivity: the policy whose tornado to draw (default: the largest swing)."
         },

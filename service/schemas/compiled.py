@@ -24,7 +24,7 @@ from typing import Any
 from marshmallow import Schema, ValidationError, fields, validate
 from marshmallow.utils import missing
 
-from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, Tagged, WholeNumber
+from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Printable, Real, Tagged, WholeNumber
 
 __all__ = ["Rejected", "compile_loader", "load_fast"]
 
@@ -78,6 +78,8 @@ def _check_validators(field: fields.Field) -> Callable[[Any], bool] | None:
             checks.append(lambda x, choices=choices: x in choices)
         elif isinstance(v, validate.Length):
             checks.append(_length_check(v))
+        elif isinstance(v, Printable):
+            checks.append(str.isprintable)
         else:
             raise _Unsupported(type(v).__name__)
     if not checks:

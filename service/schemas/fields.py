@@ -19,11 +19,13 @@ __all__ = [
     "Flag",
     "NumberOrConstant",
     "NumberOrList",
+    "Printable",
     "Real",
     "StrictSchema",
     "Tagged",
     "WholeNumber",
     "in_range",
+    "label",
     "openapi_attributes",
 ]
 
@@ -34,6 +36,24 @@ class StrictSchema(Schema):
 
     class Meta:
         ordered = True
+
+
+class Printable(validate.Validator):
+    """Printable characters only (str.isprintable: no control characters, line or paragraph
+    separators, unassigned or private code points): names end up in spreadsheets, XML (SVG
+    charts, workbooks), CSV rows and page titles, where such characters break the file."""
+
+    error = "Must hold printable characters only."
+
+    def __call__(self, value: str) -> str:
+        if not value.isprintable():
+            raise ValidationError(self.error)
+        return value
+
+
+def label(max_length: int, **kwargs) -> fields.String:
+    """A name or title a person gives: 1 to max_length printable characters."""
+    return fields.String(validate=[validate.Length(1, max_length), Printable()], **kwargs)
 
 
 def in_range(low=None, high=None, low_ok=True, high_ok=True) -> validate.Range:

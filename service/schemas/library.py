@@ -11,7 +11,7 @@ from __future__ import annotations
 from marshmallow import Schema, ValidationError, fields, validate
 
 from .. import limits
-from .fields import Flag, StrictSchema
+from .fields import Flag, Printable, StrictSchema
 from .paths import PathsRequestSchema
 from .uncertainty import BandsRequestSchema
 
@@ -44,11 +44,6 @@ class TagText(Text):
         return super()._deserialize(value, attr, data, **kwargs).lower()
 
 
-def _tag(value: str) -> None:
-    if not value.isprintable():
-        raise ValidationError("Must hold printable characters only.")
-
-
 def _text(value: str) -> None:
     if any(ord(c) < 32 and c not in "\n\r\t" for c in value):
         raise ValidationError("Must not hold control characters other than line breaks and tabs.")
@@ -59,7 +54,7 @@ class ScenarioWriteSchema(StrictSchema):
 
     name = Text(
         required=True,
-        validate=[validate.Length(1, limits.MAX_SCENARIO_NAME_LENGTH), _tag],
+        validate=[validate.Length(1, limits.MAX_SCENARIO_NAME_LENGTH), Printable()],
         metadata={"description": "A name to find the scenario by (searched as a substring, any case)."},
     )
     notes = Text(
@@ -68,7 +63,7 @@ class ScenarioWriteSchema(StrictSchema):
         metadata={"description": "Free text: sources of the inputs, which briefing used it, ..."},
     )
     tags = fields.List(
-        TagText(validate=[validate.Length(1, limits.MAX_SCENARIO_TAG_LENGTH), _tag]),
+        TagText(validate=[validate.Length(1, limits.MAX_SCENARIO_TAG_LENGTH), Printable()]),
         load_default=list,
         validate=validate.Length(max=limits.MAX_SCENARIO_TAGS),
         metadata={"description": "Labels to filter by; stored in lower case, each once, in the order given."},

@@ -26,7 +26,17 @@ from ..engine.scenario import (
     Shock,
     Welfare,
 )
-from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Real, StrictSchema, Tagged, WholeNumber
+from .fields import (
+    AnyObject,
+    Flag,
+    NumberOrConstant,
+    NumberOrList,
+    Real,
+    StrictSchema,
+    Tagged,
+    WholeNumber,
+    label,
+)
 from .fields import in_range as _range
 
 __all__ = [
@@ -49,7 +59,7 @@ def _period(**kwargs):
 
 
 def _shifter_name(**kwargs) -> fields.String:
-    return fields.String(validate=validate.Length(1, limits.MAX_SHIFTER_NAME_LENGTH), **kwargs)
+    return label(limits.MAX_SHIFTER_NAME_LENGTH, **kwargs)
 
 
 # --- market -------------------------------------------------------------------------------
@@ -386,9 +396,9 @@ def _money(description: str, low_ok: bool, **kwargs):
 
 
 class _PolicyBase(StrictSchema):
-    name = fields.String(
+    name = label(
+        limits.MAX_NAME_LENGTH,
         required=True,
-        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
         metadata={"description": "Unique label of the policy in this request."},
     )
     start = _period(load_default=1, metadata={"description": "First active period (default 1)."})
@@ -748,8 +758,8 @@ class PathsRequestSchema(StrictSchema):
 class BatchScenarioSchema(PathsRequestSchema):
     """One scenario of a batch: a /v1/paths body, with the caller's own `id` if it likes."""
 
-    id = fields.String(
-        validate=validate.Length(1, limits.MAX_NAME_LENGTH),
+    id = label(
+        limits.MAX_NAME_LENGTH,
         metadata={
             "description": "The caller's id of the scenario, echoed in its result and CSV rows; each id "
             "once per batch (a later scenario repeating one gets a problem at its id)."

@@ -58,6 +58,31 @@ CASES = [
     ("text-plain", "{}", "text/plain", 415, None),
     ("form", "horizon=3", "application/x-www-form-urlencoded", 415, None),
     ("xml", "<horizon>3</horizon>", "application/xml", 415, None),
+    # names that would break a workbook, an SVG chart or a CSV row: printable characters only
+    ("name-bell", edit(_set(["policies", 1, "name"], "rent\u0007freeze")), JSON, 422, "/policies/1/name"),
+    ("name-nul", edit(_set(["policies", 1, "name"], "freeze\u0000")), JSON, 422, "/policies/1/name"),
+    (
+        "name-noncharacter",
+        edit(_set(["policies", 1, "name"], "caf\u00e9 \ufffe")),
+        JSON,
+        422,
+        "/policies/1/name",
+    ),
+    ("name-line-separator", edit(_set(["policies", 1, "name"], "a\u2028b")), JSON, 422, "/policies/1/name"),
+    (
+        "shifter-name-control",
+        edit(lambda b: b["market"]["demand"]["shifters"].update({"in\u0001come": 0.5})),
+        JSON,
+        422,
+        "/market/demand/shifters/in\u0001come",
+    ),
+    (
+        "shock-shifter-control",
+        edit(_set(["shocks", 0, "shifter"], "in\u0001come")),
+        JSON,
+        422,
+        "/shocks/0/shifter",
+    ),
     # strings, booleans and nulls where numbers belong
     ("price-string", edit(_set(["market", "price"], "1450")), JSON, 422, "/market/price"),
     ("price-bool", edit(_set(["market", "price"], True)), JSON, 422, "/market/price"),
@@ -431,3 +456,29 @@ def test_library_hostile_revision_numbers(client):
             f"/v1/scenarios/{saved['id']}", data=_scenario(), content_type=JSON, headers={"If-Match": tag}
         )
         _check(response, status, None)
+
+
+XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+
+
+@pytest.mark.parametrize("accept", [JSON, "text/csv", XLSX])
+def test_a_name_with_a_control_character_is_422_in_every_format_and_a_batch_id_too(client, accept):
+    """Names end up in workbooks and charts (XML) and CSV rows: refused at their pointer before
+    any format is written, never a 500 or a broken file."""
+    body = edit(_set(["policies", 1, "name"], "rent\u0007freeze"))
+    response = client.post("/v1/paths", data=body, content_type=JSON, headers={"Accept": accept})
+    _check(response, 422, "/policies/1/name")
+    batch = json.dumps({"scenarios": [dict(BASE, id="run\u00071")]})
+    response = client.post("/v1/paths/batch", data=batch, content_type=JSON, headers={"Accept": accept})
+    assert response.status_code == 200  # a batch answers each scenario: this one is a problem
+    if accept == JSON:
+        (result,) = response.get_json()["results"]
+        assert "/scenarios/0/id" in [e["pointer"] for e in result["errors"]]
+
+
+def test_chart_and_briefing_titles_with_control_characters_are_422(client):
+    paths = json.loads(edit(lambda b: None))
+    response = client.post("/v1/charts", json={"request": paths, "title": "Rents\u0000"})
+    _check(response, 422, "/title")
+    response = client.post("/v1/briefing", json={"request": paths, "title": "Rents\u0007"})
+    _check(response, 422, "/title")
