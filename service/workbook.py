@@ -18,6 +18,8 @@ Sheets of a /v1/paths answer (`paths_workbook`):
 A /v1/bands answer (`bands_workbook`) adds the uncertain inputs and the percentiles of each
 summary figure, and its policy sheets put each series' percentiles beside the central path.
 A batch (`batch_workbook`) puts every scenario on the same sheets, a `scenario` column first.
+A summary answer (`"output": "summary"`, no series) gives the same workbook without the sheets
+of paths.
 
 Columns come from what the answer carries (service.labels names them), so series that a newer
 engine adds appear without a change here. Text the caller chose (policy names, shifter names,
@@ -41,7 +43,6 @@ WORKBOOK = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 #: Rows of one worksheet in the file format (Excel's limit), the header included.
 MAX_ROWS = 1_048_576
 _PATH_SKIP = ("name", "kind")
-_BAND_KEYS = ("draws", "seed", "percentiles", "supply_correlation")
 _BAD_SHEET = re.compile(r"[\[\]:*?/\\']")
 
 Text = Callable[[str], str]
@@ -156,47 +157,33 @@ def _about(book: _Book, rows: list[tuple[str, Any]]) -> None:
     )
 
 
-def _paths_request(body: dict) -> dict | None:
-    """A /v1/paths request of the answer: its own, or that of a bands answer's central path (each
-    uncertain input at its central value, the draws' settings left out)."""
-    request = body.get("request")
-    if request is None or "uncertain_inputs" not in body:
-        return request
-    import copy
-
-    central = {k: v for k, v in copy.deepcopy(request).items() if k not in _BAND_KEYS}
-    for item in body["uncertain_inputs"]:
-        *parents, last = [p.replace("~1", "/").replace("~0", "~") for p in item["pointer"].split("/")[1:]]
-        target = central
-        for p in parents:
-            target = target[p]
-        target[last] = item["central"]
-    return central
+def _horizon(body: dict) -> int:
+    """T of an answer: from its periods, or (a summary answer has none) from its request."""
+    return len(body["periods"]) - 1 if "periods" in body else int(body["request"]["horizon"])
 
 
-def _who_gains_rows(body: dict, lead: tuple = (), request: dict | None = None) -> Iterable[tuple]:
-    """Per policy and group: the total over the horizon and the engine's discounted total."""
-    summary = {s["name"]: s for s in body["summary"]}
-    for path in body["paths"]:
-        distribution = path.get("distribution")
-        if not distribution:
-            yield (*lead, path["name"], "not reported under random rationing", None, None)
+def _who_gains_rows(body: dict, lead: tuple = ()) -> Iterable[tuple]:
+    """Per policy and group: the total over the horizon and the engine's discounted total (from
+    the summary, so a summary answer has them too)."""
+    for summary in body["summary"]:
+        totals = summary.get("distribution_totals")
+        if not totals:
+            yield (*lead, summary["name"], "not reported under random rationing", None, None)
             continue
-        totals = summary[path["name"]].get("distribution_totals") or {}
-        discounted = summary[path["name"]].get("distribution_totals_discounted") or {}
-        for group in distribution:
+        discounted = summary.get("distribution_totals_discounted") or {}
+        for group, total in totals.items():
             yield (
                 *lead,
-                path["name"],
+                summary["name"],
                 labels.label(f"distribution.{group}"),
-                totals.get(group),
+                total,
                 discounted.get(group),
             )
 
 
 def _who_gains_header(body: dict, units: dict | None, lead: list[str]) -> list[str]:
     words = {**labels.DEFAULT_UNITS, **(units or {})}
-    horizon = len(body["periods"]) - 1
+    horizon = _horizon(body)
     rate = ((body.get("request") or {}).get("welfare") or {}).get("discount_rate", 0.0)
     rate_text = (
         f"at {rate * 100:.3g} % per {words['period']}"
@@ -256,7 +243,7 @@ def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
         [
             ("Scenario id", body["scenario_id"]),
             ("Model version", body["model_version"]),
-            ("Periods", f"0 (today's market) to {len(body['periods']) - 1}"),
+            ("Periods", f"0 (today's market) to {_horizon(body)}"),
         ],
     )
     book.sheet(
@@ -272,7 +259,7 @@ def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
         _summary_rows(body["summary"], keys),
         widths=[28, 14, *([22] * len(keys))],
     )
-    for i, path in enumerate(body["paths"], start=1):
+    for i, path in enumerate(body.get("paths", ()), start=1):  # none in a summary answer
         names, columns = _path_table(body, path)
         columns = [_binding(n, c) for n, c in zip(names, columns, strict=True)]
         book.sheet(
@@ -373,7 +360,7 @@ def bands_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
     book.sheet(
         "Who gains and loses",
         _who_gains_header(central, units, []),
-        _who_gains_rows(central, request=_paths_request(body)),
+        _who_gains_rows(central),
         widths=[28, 36, 30, 30],
     )
     _cautions(book, ((c,) for c in body["cautions"]), [])
@@ -417,25 +404,26 @@ def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None
     )
     names: dict[str, None] = {"period": None}
     for _, r in answered:
-        for p in r["paths"]:
+        for p in r.get("paths", ()):  # none in summary answers
             for n in _path_table(r, p)[0]:
                 names.setdefault(n, None)
     ordered = list(names)
 
     def path_rows():
         for i, r in answered:
-            for p in r["paths"]:
+            for p in r.get("paths", ()):
                 own, columns = _path_table(r, p)
                 where = {n: _binding(n, c) for n, c in zip(own, columns, strict=True)}
                 for t in range(len(r["periods"])):
                     yield (i, p["name"], *((where[n][t] if n in where else None) for n in ordered))
 
-    book.sheet(
-        "Paths",
-        ["Scenario", "Policy", *_header(ordered, units)],
-        path_rows(),
-        widths=[10, 28, 10, *([20] * (len(ordered) - 1))],
-    )
+    if any("paths" in r for _, r in answered):
+        book.sheet(
+            "Paths",
+            ["Scenario", "Policy", *_header(ordered, units)],
+            path_rows(),
+            widths=[10, 28, 10, *([20] * (len(ordered) - 1))],
+        )
     if answered:
         book.sheet(
             "Who gains and loses",

@@ -102,6 +102,36 @@ def test_a_policy_name_that_would_be_a_formula_stays_text(client):
                 assert c.data_type != "f", (ws.title, c.coordinate, c.value)
 
 
+@pytest.mark.parametrize("batch", [False, True])
+def test_a_summary_answer_as_a_workbook_has_the_totals_and_no_path_sheets(client, batch):
+    """ "output": "summary" (a sweep's answer) as a workbook: every sheet but the paths, the same
+    totals as the JSON summary, who gains and loses from the summary's totals."""
+    request = example_request("corrowdale-older-buildings")
+    if batch:
+        url, body = "/v1/paths/batch", {"scenarios": [request], "output": "summary"}
+        (answer,) = client.post(url, json=body).get_json()["results"]
+    else:
+        url, body = "/v1/paths", {**request, "output": "summary"}
+        answer = client.post(url, json=body).get_json()
+    assert "paths" not in answer
+    book = _book(client.post(url, json=body, headers=ACCEPT))
+    assert "Paths" not in book.sheetnames and not any(n[0].isdigit() for n in book.sheetnames)
+    assert {"About", "Inputs", "Summary", "Who gains and loses", "Cautions"} <= set(book.sheetnames)
+    summary = _rows(book["Summary"])
+    column = summary[0].index(labels.describe("discounted_deadweight_loss", totals=True))
+    expected = [s["discounted_deadweight_loss"] for s in answer["summary"]]
+    assert [r[column] for r in summary[1:]] == pytest.approx(expected, rel=SAME)
+    gains = _rows(book["Who gains and loses"])[1:]
+    first = answer["summary"][1]
+    total = first["distribution_totals"]["tenants_in_controlled_homes"]
+    label = labels.label("distribution.tenants_in_controlled_homes")
+    (row,) = [r for r in gains if first["name"] in r and label in r]
+    assert row[-2] == pytest.approx(total, rel=SAME)
+    if not batch:
+        about = dict(_rows(book["About"])[1:])
+        assert about["Periods"] == f"0 (today's market) to {request['horizon']}"
+
+
 def test_a_batch_workbook_puts_every_scenario_on_the_same_sheets_and_names_a_problem(client):
     good = example_request("quillbrook-rent-freeze")
     bad = {**good, "horizon": 0}
