@@ -173,6 +173,17 @@ _INFEASIBLE_HINT = {
 }
 
 
+def _policy_pointer(local: int, policy) -> str:
+    """Where an infeasible policy's number is: its growth, level, amount or rate; a freeze at the
+    base price (base_level, or the older "level": "base": both load alike) has no number, so the
+    policy itself."""
+    if policy.growth is not None:
+        return f"/policies/{local}/growth"
+    if policy.base_level:
+        return f"/policies/{local}"
+    return f"/policies/{local}/{_POLICY_FIELD[policy.kind]}"
+
+
 def _infeasible_message(scenario: Scenario, arrays: PathArrays, i: int, t: int, policy) -> str:
     """Why a policy has no answer in period t: the real cause, and what to change."""
     head = f"policy '{policy.name}' leaves zero or negative quantity or price in period {t}"
@@ -244,10 +255,9 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
         policy = scenario.policies[local]
         if arrays.policy_infeasible[r].any():
             t = _first_period(arrays.policy_infeasible[r])
-            field = "growth" if policy.growth is not None else _POLICY_FIELD[policy.kind]
             return InfeasiblePolicyError(
                 _infeasible_message(scenario, arrays, i, t, policy),
-                f"/policies/{local}/{field}",
+                _policy_pointer(local, policy),
                 period=t,
             )
     for local, r in enumerate(row_index):

@@ -61,10 +61,12 @@ def test_a_ceiling_that_fails_as_cost_shocks_compound_blames_the_linear_form_and
     request["market"]["supply"]["shifters"] = {"cost": -0.6}
     request["shocks"] = [{"shifter": "cost", "profile": "growth", "rate": 0.04}]
     request["horizon"] = 40
-    request["policies"].append({"name": "rent freeze", "kind": "price_ceiling", "level": "base"})
+    request["policies"].append({"name": "rent freeze", "kind": "price_ceiling", "base_level": True})
     problem = problem_of(request)
     assert problem["type"] == "urn:shockpath:problem:infeasible-policy"
-    assert pointers(problem) == ["/policies/1/level"]
+    assert pointers(problem) == ["/policies/1"]  # a freeze has no number to point at
+    request["policies"][1] = {"name": "rent freeze", "kind": "price_ceiling", "level": "base"}
+    assert problem_of(request) == problem  # the older spelling: the same request
     detail = problem["detail"]
     assert f"in period {problem['period']}" in detail and "'rent freeze'" in detail
     assert "compounded beyond the range of the linear (first-order) form" in detail
