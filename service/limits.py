@@ -44,6 +44,12 @@ MAX_BATCH_SCENARIOS = 1000
 #: with a body of about 60 MB; larger sweeps belong in several batches or the Python API.
 MAX_POLICY_PERIODS = 200_000
 
+# --- workbooks ------------------------------------------------------------------------------
+
+#: Cells of one workbook answer (every sheet): openpyxl writes about 100,000 a second here, so
+#: the largest workbook takes about 5 s; a larger answer is a 422 that suggests CSV.
+MAX_WORKBOOK_CELLS = 500_000
+
 # --- bands ---------------------------------------------------------------------------------
 
 MAX_DRAWS = 100_000

@@ -34,7 +34,7 @@ import re
 from collections.abc import Callable, Iterable
 from typing import Any
 
-from . import labels
+from . import labels, limits
 from .problems import is_problem
 
 __all__ = ["MAX_ROWS", "WORKBOOK", "bands_workbook", "batch_workbook", "paths_workbook"]
@@ -58,57 +58,69 @@ def _cell(value: Any, text: Text) -> Any:
     return text(str(value))
 
 
+def _too_large(why: str) -> None:
+    from .problems import ProblemError, problem
+
+    raise ProblemError(
+        problem(
+            422,
+            "Too large for a workbook",
+            f"{why}; ask for CSV (Accept: text/csv) or fewer scenarios, policies or periods.",
+            "too-large-for-a-workbook",
+        )
+    )
+
+
 class _Book:
-    """A write-only openpyxl workbook with bold, frozen headers and unique sheet names."""
+    """An openpyxl workbook (write-only) with bold, frozen headers and unique sheet names. Sheets
+    are checked against the limits as they are added and written only by bytes(), so a workbook
+    that turns out too large leaves nothing half-written behind."""
 
     def __init__(self, text: Text):
-        from openpyxl import Workbook
-
-        self.book = Workbook(write_only=True)
         self.text = text
+        self.sheets: list[tuple[str, list[str], list[list[Any]], list[int]]] = []
         self.names: set[str] = set()
+        self.cells = 0
 
     def sheet(self, title: str, header: list[str], rows: Iterable[Iterable[Any]], widths=None) -> None:
-        from openpyxl.cell import WriteOnlyCell
-        from openpyxl.styles import Alignment, Font
-
-        # Rows first: a problem found while making them leaves no half-written sheet behind.
         rows = [[_cell(v, self.text) for v in row] for row in rows]
         if len(rows) + 1 > MAX_ROWS:
-            from .problems import ProblemError, problem
-
-            raise ProblemError(
-                problem(
-                    422,
-                    "Too large for a workbook",
-                    f"Sheet '{title}' would need {len(rows) + 1:,} rows, more than the file format's "
-                    f"{MAX_ROWS:,}; ask for CSV (Accept: text/csv) or fewer scenarios, policies or periods.",
-                    "too-large-for-a-workbook",
-                )
+            _too_large(
+                f"Sheet '{title}' would need {len(rows) + 1:,} rows, more than the file format's {MAX_ROWS:,}"
             )
+        self.cells += len(header) + sum(len(row) for row in rows)
+        if self.cells > limits.MAX_WORKBOOK_CELLS:
+            _too_large(f"The workbook would hold more than {limits.MAX_WORKBOOK_CELLS:,} cells")
         name = _BAD_SHEET.sub(" ", title).strip()[:31] or "Sheet"
         base, n = name, 2
         while name.lower() in self.names:
             suffix = f" ({n})"
             name, n = base[: 31 - len(suffix)] + suffix, n + 1
         self.names.add(name.lower())
-        ws = self.book.create_sheet(name)
-        ws.freeze_panes = "B2"
-        for i, width in enumerate(widths or [], start=1):
-            ws.column_dimensions[_column(i)].width = width
-        head = []
-        for h in header:
-            c = WriteOnlyCell(ws, value=self.text(h))
-            c.font = Font(bold=True)
-            c.alignment = Alignment(wrap_text=True, vertical="top")
-            head.append(c)
-        ws.append(head)
-        for row in rows:
-            ws.append(row)
+        self.sheets.append((name, [self.text(h) for h in header], rows, list(widths or [])))
 
     def bytes(self) -> bytes:
+        from openpyxl import Workbook
+        from openpyxl.cell import WriteOnlyCell
+        from openpyxl.styles import Alignment, Font
+
+        book = Workbook(write_only=True)
+        for name, header, rows, widths in self.sheets:
+            ws = book.create_sheet(name)
+            ws.freeze_panes = "B2"
+            for i, width in enumerate(widths, start=1):
+                ws.column_dimensions[_column(i)].width = width
+            head = []
+            for h in header:
+                c = WriteOnlyCell(ws, value=h)
+                c.font = Font(bold=True)
+                c.alignment = Alignment(wrap_text=True, vertical="top")
+                head.append(c)
+            ws.append(head)
+            for row in rows:
+                ws.append(row)
         out = io.BytesIO()
-        self.book.save(out)
+        book.save(out)
         return out.getvalue()
 
 

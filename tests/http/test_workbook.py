@@ -183,3 +183,21 @@ def test_json_stays_the_default_and_csv_is_still_offered(client, path):
     body = request if path == "/v1/paths" else {"scenarios": [request]}
     assert client.post(path, json=body).mimetype == "application/json"
     assert client.post(path, json=body, headers={"Accept": "text/csv"}).mimetype == "text/csv"
+
+
+def test_a_workbook_beyond_the_cell_limit_is_a_422_that_suggests_csv_and_csv_still_answers(client):
+    """A workbook is written cell by cell (about 10 us each here): 2 scenarios x 16 policies x
+    601 periods would take several seconds a scenario, so past limits.MAX_WORKBOOK_CELLS the
+    answer is a 422 in a moment; the same batch as CSV is answered."""
+    from service import limits
+
+    scenario = example_request("contract-example")
+    scenario["horizon"] = limits.MAX_HORIZON
+    scenario["policies"] = [dict(scenario["policies"][i % 8], name=f"p{i}") for i in range(16)]
+    body = {"scenarios": [scenario, scenario]}
+    response = client.post("/v1/paths/batch", json=body, headers=ACCEPT)
+    assert response.status_code == 422 and response.mimetype == "application/problem+json"
+    problem = response.get_json()
+    assert problem["type"].endswith("too-large-for-a-workbook") and "CSV" in problem["detail"]
+    assert f"{limits.MAX_WORKBOOK_CELLS:,} cells" in problem["detail"]
+    assert client.post("/v1/paths/batch", json=body, headers={"Accept": "text/csv"}).status_code == 200
