@@ -61,7 +61,8 @@ policy-periods (policies x (longest horizon + 1)) per batch; <= {MAX_DRAWS:,} dr
 <= {MAX_DRAW_CELLS:,} draws x (horizon + 1) x policies and <= {limits.MAX_BAND_VALUES:,} draws x
 (horizon + 1) x banded series (6 per policy; 2 more under the stock schedule, 2 more on a ceiling with
 coverage below 1, 1 more with an uncertain inflation rate) per bands request; bodies
-<= {limits.MAX_BODY_BYTES} bytes (413). Every error is RFC 9457 application/problem+json.
+<= {limits.MAX_BODY_BYTES} bytes (413); a workbook answer <= {limits.MAX_WORKBOOK_CELLS:,} cells
+(422 as it is written). Every error is RFC 9457 application/problem+json.
 
 Results are model estimates: they inform, and do not replace, local market studies and
 qualified analysts."""
