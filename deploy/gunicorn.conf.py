@@ -83,6 +83,33 @@ if os.environ.get("SHOCKPATH_NUMBA_CACHE_DIR"):
 _recycle_file = os.path.join(worker_tmp_dir or tempfile.gettempdir(), f"shockpath-recycle-{os.getpid()}")
 
 
+def _write_problem(sock, status_int, reason, mesg):
+    """gunicorn's answer to a request it cannot parse (a request line or headers over the limits
+    above, a malformed header, a bad Content-Length): the same status as an RFC 9457 problem,
+    like every other answer of the service, where gunicorn writes an HTML page. It replaces
+    gunicorn.util.write_error, the one function gunicorn's workers call for such an answer."""
+    import orjson
+    from gunicorn.util import write_nonblock
+
+    from service.problems import problem
+
+    body = orjson.dumps(problem(status_int, reason, mesg or reason))
+    head = (
+        f"HTTP/1.1 {status_int} {reason}\r\nConnection: close\r\n"
+        f"Content-Type: application/problem+json\r\nContent-Length: {len(body)}\r\n\r\n"
+    )
+    write_nonblock(sock, head.encode("latin-1") + body)
+
+
+def _problems_for_unparsed_requests():
+    import gunicorn.util
+
+    gunicorn.util.write_error = _write_problem
+
+
+_problems_for_unparsed_requests()
+
+
 def pre_fork(server, worker):
     """In the master, before each fork: the collector's permanent generation takes what the
     master holds (service/http/workers.py), so workers' full collections stay short."""

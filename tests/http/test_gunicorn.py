@@ -196,6 +196,26 @@ def test_a_broken_upload_is_a_400_problem_not_a_500(server, data, close_write):
     assert (_counter(port, "400"), _counter(port, "500")) == (before[0] + 1, before[1])
 
 
+@pytest.mark.parametrize(
+    ("data", "status"),
+    [
+        (b"GET /v1/examples?" + b"x" * 9000 + b" HTTP/1.1\r\nHost: x\r\n\r\n", 414),  # URL too long
+        (b"GET /healthz HTTP/1.1\r\nHost: x\r\nX-Big: " + b"y" * 9000 + b"\r\n\r\n", 431),
+        (_HEAD + b"Content-Length: abc\r\n\r\n{}", 400),
+        (_HEAD + b"Content-Length: 2\r\nTransfer-Encoding: chunked\r\n\r\n{}", 400),
+    ],
+)
+def test_a_request_gunicorn_cannot_parse_gets_a_problem_not_an_html_page(server, data, status):
+    port, _ = server
+    answer = _raw(port, data)
+    head, _, body = answer.partition(b"\r\n\r\n")
+    assert head.startswith(f"HTTP/1.1 {status}".encode()), answer[:300]
+    assert b"Content-Type: application/problem+json" in head
+    problem = json.loads(body)
+    assert problem["status"] == status and problem["type"].startswith("urn:shockpath:problem:")
+    assert problem["title"] and problem["detail"] and b"<html" not in body
+
+
 def test_a_client_that_goes_away_mid_body_is_counted_as_a_client_error(server):
     port, _ = server
     before = _counter(port, "400"), _counter(port, "500")
