@@ -370,8 +370,9 @@ def scenario_cautions(
         which = ", ".join(f"'{name}' ({_figure(homes)} homes fewer)" for name, homes in held.items())
         out.append(
             f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
-            "The years after the horizon, while those homes are built again, are not counted, so "
-            "such a rule's totals look better than those of a rule that ends earlier."
+            "The years after the horizon are not counted: when such a rule ends, its missing homes "
+            "take years to be built again, so its totals look better than those of a rule that "
+            "ends within the horizon."
         )
     if stock and unlet_homes_removed:
         out.append(
