@@ -36,7 +36,8 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     started = time.perf_counter()
     warm_up()  # compile the engine's kernels, or load them from numba's on-disk cache
     compiled_in = time.perf_counter() - started
-    app = Flask("shockpath")
+    # No static route: the page's files are served by service/http/page.py.
+    app = Flask("shockpath", static_folder=None)
     app.config["MAX_CONTENT_LENGTH"] = settings.max_body_bytes
     app.config["TESTING"] = bool(config and config.get("TESTING"))
     app.extensions["shockpath.settings"] = settings
@@ -46,7 +47,10 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.extensions["shockpath.openapi_tag"] = request_tag(
         "/openapi.json", app.extensions["shockpath.openapi"], "json"
     )
+    # No routing redirect, whose body werkzeug writes in HTML: a trailing slash matches the route
+    # without one, and a doubled slash (/v1//paths) matches no route (404 problem+json).
     app.url_map.strict_slashes = False
+    app.url_map.merge_slashes = False
     log = configure_logging(settings.log_level)
     for blueprint in BLUEPRINTS:
         app.register_blueprint(blueprint)

@@ -110,6 +110,4 @@ def post_chart() -> Response:
         image, g.scenario_id = _draw(spec, fmt)
         return Response(image, mimetype=chosen)
 
-    response = conditional(request_tag("/v1/charts", raw, chosen), produce)
-    response.vary.add("Accept")
-    return response
+    return conditional(request_tag("/v1/charts", raw, chosen), produce)

@@ -37,7 +37,8 @@ def problem_responses(*codes: str) -> dict[str, Any]:
 
 def csv_twin_responses(description: str) -> dict[str, Any]:
     """The responses of a compute operation's CSV twin (POST .../csv, answered as CSV whatever
-    the Accept header): the CSV with its ETag and file name, 304, and the body's problems."""
+    the Accept header, so never a 406): the CSV with its ETag and file name, 304, and the
+    body's problems."""
     return {
         "200": {
             "description": description,
@@ -45,7 +46,7 @@ def csv_twin_responses(description: str) -> dict[str, Any]:
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
-        **problem_responses("400", "406", "413", "415", "422"),
+        **problem_responses("400", "413", "415", "422"),
     }
 
 

@@ -201,14 +201,19 @@ def json_response(body: Any, status: int = 200, mimetype: str = "application/jso
 
 
 def cap_errors(document: dict[str, Any]) -> dict[str, Any]:
-    """At most MAX_LISTED_ERRORS field errors; `more_errors` counts the ones left out."""
+    """At most MAX_LISTED_ERRORS field errors (the first in the request's order, as
+    field_errors sorts them); `more_errors` counts the ones left out. The same type comes
+    back (a Problem stays a Problem). Every problem an answer carries goes through here: the
+    top-level one (problem_response) and each of a batch's (service/http/paths.py)."""
     errors = document.get("errors")
     if isinstance(errors, list) and len(errors) > MAX_LISTED_ERRORS:
-        document = {
-            **document,
-            "errors": errors[:MAX_LISTED_ERRORS],
-            "more_errors": len(errors) - MAX_LISTED_ERRORS,
-        }
+        document = type(document)(
+            {
+                **document,
+                "errors": errors[:MAX_LISTED_ERRORS],
+                "more_errors": len(errors) - MAX_LISTED_ERRORS,
+            }
+        )
     return document
 
 

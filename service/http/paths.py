@@ -18,7 +18,7 @@ from ..workbook import batch_workbook, paths_workbook
 from .conditional import attachment, conditional, request_tag
 from .csvio import LAYOUTS, batch_csv, batch_summary_csv, neutralise, paths_csv, paths_summary_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, problem_responses
-from .jsonio import json_response, read_json
+from .jsonio import cap_errors, json_response, read_json
 from .metrics import SCENARIOS
 from .negotiation import CSV, TABULAR, XLSX, negotiate
 
@@ -69,7 +69,7 @@ def paths_answer(raw: object) -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_paths_csv() -> Response:
-    return _paths(negotiate((CSV,)), read_json())
+    return _paths(CSV, read_json())  # CSV whatever the Accept header
 
 
 def _paths(chosen: str, raw: object) -> Response:
@@ -109,9 +109,7 @@ def _paths(chosen: str, raw: object) -> Response:
             attachment(response, f"paths-{sid[:12]}.{'csv' if as_csv else 'xlsx'}")
         return response
 
-    response = conditional(tag, produce)
-    response.vary.add("Accept")
-    return response
+    return conditional(tag, produce)
 
 
 @blueprint.operation(
@@ -149,7 +147,7 @@ def post_batch() -> Response:
     parameters=["If-None-Match", "layout"],
 )
 def post_batch_csv() -> Response:
-    return _batch(negotiate((CSV,)))
+    return _batch(CSV)  # CSV whatever the Accept header
 
 
 def _batch(chosen: str) -> Response:
@@ -163,6 +161,8 @@ def _batch(chosen: str) -> Response:
         output = envelope["output"]
         _same_output(envelope["scenarios"], output)
         results = simulate_many(envelope["scenarios"], prefix="/scenarios/{i}", lists=as_xlsx, output=output)
+        # Each scenario's problem lists at most 100 field errors, as a top-level problem does.
+        results = [cap_errors(r) if is_problem(r) else r for r in results]
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
         if as_xlsx:
             return attachment(
@@ -176,9 +176,7 @@ def _batch(chosen: str) -> Response:
             answer = Response(batch_csv(results, layout), mimetype=CSV)
         return attachment(answer, f"batch-{tag[:12]}.csv")
 
-    response = conditional(tag, produce)
-    response.vary.add("Accept")
-    return response
+    return conditional(tag, produce)
 
 
 def csv_layout() -> str:

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["escape", "field_errors"]
+__all__ = ["escape", "field_errors", "pointer_order"]
 
 
 def escape(token: Any) -> str:
@@ -14,7 +14,8 @@ def escape(token: Any) -> str:
 
 
 def field_errors(messages: Any, prefix: str = "") -> list[dict[str, str]]:
-    """Flatten marshmallow's nested error messages into [{"pointer", "message"}], sorted."""
+    """Flatten marshmallow's nested error messages into [{"pointer", "message"}], sorted in
+    the request's order (pointer_order), then by message."""
     out: list[dict[str, str]] = []
     if isinstance(messages, dict) and messages and set(messages) <= {"key", "value"}:
         # marshmallow's Dict nests a member's errors under "key" (its name) and "value":
@@ -33,4 +34,14 @@ def field_errors(messages: Any, prefix: str = "") -> list[dict[str, str]]:
                 out.append({"pointer": prefix, "message": str(item)})
     else:
         out.append({"pointer": prefix, "message": str(messages)})
-    return sorted(out, key=lambda e: (e["pointer"], e["message"]))
+    return sorted(out, key=lambda e: (pointer_order(e["pointer"]), e["message"]))
+
+
+def pointer_order(pointer: str) -> tuple[tuple[int, int | str], ...]:
+    """A sort key for JSON Pointers, segment by segment: array indices compared as numbers,
+    so that a list's errors come in the list's order (/values/2 before /values/10, where
+    string order puts 10 first); member names in string order, after indices."""
+    return tuple(
+        (0, int(token)) if token.isascii() and token.isdigit() else (1, token)
+        for token in pointer.split("/")[1:]
+    )

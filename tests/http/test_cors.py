@@ -73,3 +73,87 @@ def test_an_origin_that_is_not_one_stops_start_up(value):
 def test_origins_come_from_the_environment():
     settings = load_settings(environ={"SHOCKPATH_CORS_ORIGINS": "http://a.example, https://b.example:8443"})
     assert settings.cors_origins == ("http://a.example", "https://b.example:8443")
+
+
+def _cors_client(**config):
+    return create_app({"TESTING": True, "cors_origins": DASHBOARD, **config}).test_client()
+
+
+def _cors_headers(response):
+    return [name for name, _ in response.headers if name.lower().startswith("access-control-")]
+
+
+def test_a_preflight_allows_a_gzip_body():
+    # The API takes gzip bodies (Content-Encoding: gzip); a browser sends that header only if
+    # the preflight allows it.
+    client = _cors_client()
+    asked = "authorization,content-encoding,content-type"
+    response = client.options(
+        "/v1/paths/batch", headers=dict(PREFLIGHT, **{"Access-Control-Request-Headers": asked})
+    )
+    assert response.status_code == 200
+    allowed = {h.strip().lower() for h in response.headers["Access-Control-Allow-Headers"].split(",")}
+    assert allowed == set(asked.split(","))
+
+
+@pytest.mark.parametrize(
+    ("method", "path"), [("GET", "/v1/examples"), ("GET", "/openapi.json"), ("OPTIONS", "/v1/paths")]
+)
+def test_a_request_without_an_origin_gets_no_cors_header_and_learns_no_configured_origin(method, path):
+    client = create_app({"TESTING": True, "cors_origins": f"{DASHBOARD},https://dash.example"}).test_client()
+    response = client.open(path, method=method)
+    assert _cors_headers(response) == []
+    assert DASHBOARD not in str(response.headers) and "dash.example" not in str(response.headers)
+    # The answer differs for a configured Origin, so a shared cache must key on it.
+    assert "Origin" in response.vary
+
+
+def test_a_wildcard_origin_is_not_sent_to_a_request_without_an_origin():
+    client = create_app({"TESTING": True, "cors_origins": "*"}).test_client()
+    assert _cors_headers(client.get("/v1/examples")) == []
+    # Any origin may call: the answer names the caller's.
+    assert (
+        client.get("/v1/examples", headers={"Origin": DASHBOARD}).headers["Access-Control-Allow-Origin"]
+        == DASHBOARD
+    )
+
+
+def _broken_compute(*args, **kwargs):
+    raise RuntimeError("secret internals")
+
+
+@pytest.mark.parametrize(
+    ("status", "send"),
+    [
+        (
+            304,
+            lambda c, r: c.get(
+                "/v1/examples", headers={"If-None-Match": c.get("/v1/examples").headers["ETag"]}
+            ),
+        ),
+        (404, lambda c, r: c.get("/v1/no-such-thing")),
+        (406, lambda c, r: c.post("/v1/paths", json=r, headers={"Accept": "application/xml"})),
+        (
+            413,
+            lambda c, r: c.post(
+                "/v1/paths",
+                data=b" " * (c.application.config["MAX_CONTENT_LENGTH"] + 1),
+                content_type="application/json",
+            ),
+        ),
+        (415, lambda c, r: c.post("/v1/paths", data=b"{}", content_type="text/plain")),
+        (422, lambda c, r: c.post("/v1/paths", json={"horizon": "x"})),
+        (500, lambda c, r: c.post("/v1/paths", json=r)),
+    ],
+)
+def test_an_allowed_origin_can_read_every_answer_the_error_ones_too(
+    monkeypatch, contract_request, status, send
+):
+    monkeypatch.setattr("service.http.paths.compute", _broken_compute)
+    client = create_app({"TESTING": False, "cors_origins": DASHBOARD}).test_client()
+    client.environ_base["HTTP_ORIGIN"] = DASHBOARD
+    response = send(client, contract_request)
+    assert response.status_code == status
+    assert response.headers["Access-Control-Allow-Origin"] == DASHBOARD
+    assert "ETag" in response.headers["Access-Control-Expose-Headers"]
+    assert "Origin" in response.vary

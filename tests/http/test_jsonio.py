@@ -210,3 +210,56 @@ def test_a_body_shorter_than_its_content_length_is_400_incomplete():
     with app.request_context(environ), pytest.raises(ProblemError) as raised:
         read_json()
     assert raised.value.status == 400 and raised.value.problem["type"].endswith("incomplete-body")
+
+
+def _bad_inflation(contract_request, count):
+    """The contract request with `count` rates that are not numbers: one error each."""
+    return {**contract_request, "market": {**contract_request["market"], "inflation": ["x"] * count}}
+
+
+def test_the_errors_listed_are_the_first_in_the_request_order(client, contract_request):
+    # Array indices compare as numbers: /inflation/2 comes before /inflation/10.
+    body = _problem(client.post("/v1/paths", json=_bad_inflation(contract_request, 150)), 422)
+    assert [e["pointer"] for e in body["errors"]] == [f"/market/inflation/{i}" for i in range(100)]
+    assert body["more_errors"] == 50
+    assert body["detail"].startswith("/market/inflation/0: ")
+
+
+def test_each_problem_in_a_batch_lists_at_most_100_errors_and_counts_the_rest(client, contract_request):
+    request = {
+        "scenarios": [
+            contract_request,
+            _bad_inflation(contract_request, 150),
+            _bad_inflation(contract_request, 3),
+        ]
+    }
+    response = client.post("/v1/paths/batch", json=request)
+    assert response.status_code == 200
+    fine, capped, few = response.get_json()["results"]
+    assert "scenario_id" in fine
+    assert [e["pointer"] for e in capped["errors"]] == [
+        f"/scenarios/1/market/inflation/{i}" for i in range(100)
+    ]
+    assert capped["more_errors"] == 50
+    assert len(few["errors"]) == 3 and "more_errors" not in few
+
+
+def test_a_batch_of_scenarios_with_many_bad_values_has_a_small_answer(client, contract_request):
+    request = {"scenarios": [_bad_inflation(contract_request, 600)] * 20}
+    response = client.post("/v1/paths/batch", json=request)
+    results = response.get_json()["results"]
+    assert all(len(r["errors"]) == 100 and r["more_errors"] == 500 for r in results)
+    # 100 errors of about 70 bytes each per scenario, not 600.
+    assert len(response.get_data()) < 20 * 100 * 100
+
+
+@pytest.mark.parametrize("output", ["full", "summary"])
+def test_a_batch_csv_gives_a_failed_scenario_one_problem_row_however_many_its_errors(
+    client, contract_request, output
+):
+    request = {"scenarios": [contract_request, _bad_inflation(contract_request, 600)], "output": output}
+    response = client.post("/v1/paths/batch", json=request, headers={"Accept": "text/csv"})
+    assert response.status_code == 200 and response.mimetype == "text/csv"
+    rows = [row for row in response.get_data(as_text=True).splitlines() if row.startswith("1,")]
+    assert len(rows) == 1
+    assert "/scenarios/1/market/inflation/0: " in rows[0] and "(and 599 more)" in rows[0]

@@ -101,3 +101,100 @@ def test_a_batch_answers_csv_with_a_row_per_value_and_a_problem_row_per_failed_s
     assert problem["variable"] == "problem" and problem["value"] == body["results"][1]["detail"]
     dwl = next(r for r in rows if r["policy"] == "freeze" and r["variable"] == "deadweight_loss")
     assert dwl["unit"] == "money per model period"
+
+
+# Media-type parameters in Accept are ignored for matching (RFC 9110, section 12.5.1): the
+# type and subtype choose, the q-values rank.
+@pytest.mark.parametrize(
+    ("method", "path", "accept", "answered"),
+    [
+        ("GET", "/v1/examples", "application/json; charset=utf-8", "application/json"),
+        ("GET", "/v1/examples/quillbrook-rent-freeze", "application/json;charset=UTF-8", "application/json"),
+        ("POST", "/v1/paths", "text/csv; charset=utf-8", "text/csv"),
+        ("POST", "/v1/paths", "text/csv;header=present", "text/csv"),
+        ("POST", "/v1/paths", "application/json;v=1", "application/json"),
+        ("POST", "/v1/paths", "text/csv;q=0.5, application/json", "application/json"),
+        (
+            "POST",
+            "/v1/paths",
+            "text/csv;header=present;q=0.9, application/json;charset=utf-8;q=0.2",
+            "text/csv",
+        ),
+        ("POST", "/v1/paths", "application/*;charset=utf-8", "application/json"),
+    ],
+)
+def test_an_accept_with_media_type_parameters_is_matched_by_its_type(
+    client, contract_request, method, path, accept, answered
+):
+    body = contract_request if method == "POST" else None
+    response = client.open(path, method=method, json=body, headers={"Accept": accept})
+    assert response.status_code == 200, response.get_data(as_text=True)[:300]
+    assert response.mimetype == answered
+
+
+def test_a_type_refused_with_q_0_is_still_refused_whatever_its_parameters(client, contract_request):
+    response = client.post(
+        "/v1/paths", json=contract_request, headers={"Accept": "text/csv;charset=utf-8;q=0"}
+    )
+    assert response.status_code == 406
+    assert response.mimetype == "application/problem+json"
+
+
+CSV_TWINS = {
+    "/v1/paths/csv": lambda c: c,
+    "/v1/paths/batch/csv": _batch,
+    "/v1/bands/csv": lambda c: _small_bands(),
+}
+
+
+def test_every_csv_twin_is_covered(app):
+    twins = {r.rule for r in app.url_map.iter_rules() if r.rule.endswith("/csv")}
+    assert twins == set(CSV_TWINS)
+
+
+@pytest.mark.parametrize("accept", ["application/json", "application/xml", "text/csv", "image/png;q=0.1"])
+@pytest.mark.parametrize("path", sorted(CSV_TWINS))
+def test_a_csv_twin_answers_csv_whatever_the_accept_header(client, contract_request, path, accept):
+    response = client.post(path, json=CSV_TWINS[path](contract_request), headers={"Accept": accept})
+    assert response.status_code == 200, response.get_data(as_text=True)[:300]
+    assert response.mimetype == "text/csv"
+    assert response.headers["Content-Disposition"].startswith("attachment; ")
+
+
+def test_the_csv_twins_document_no_406(app):
+    paths = app.extensions["shockpath.openapi"]["paths"]
+    for twin in CSV_TWINS:
+        assert "406" not in paths[twin]["post"]["responses"], twin
+        assert "406" in paths[twin.removesuffix("/csv")]["post"]["responses"], twin
+
+
+# An answer that depends on Accept says so (Vary: Accept, RFC 9110 section 12.5.5): a shared
+# cache must not give a CSV client the JSON answer, nor anyone a 406 meant for another header.
+@pytest.mark.parametrize(
+    ("method", "path", "accept", "status"),
+    [
+        ("GET", "/v1/examples", None, 200),
+        ("GET", "/v1/examples", "application/json", 200),
+        ("GET", "/v1/examples", "text/csv", 406),
+        ("GET", "/v1/examples/quillbrook-rent-freeze", "text/html", 406),
+        ("GET", "/openapi.json", "text/csv", 406),
+        ("POST", "/v1/paths", "application/xml", 406),
+        ("POST", "/v1/paths", None, 200),
+        ("POST", "/v1/paths/batch", "application/xml", 406),
+        ("POST", "/v1/bands", "application/xml", 406),
+    ],
+)
+def test_every_answer_that_depends_on_accept_carries_vary_accept(
+    client, contract_request, method, path, accept, status
+):
+    body = POSTS[path](contract_request) if method == "POST" else None
+    response = client.open(path, method=method, json=body, headers={"Accept": accept} if accept else {})
+    assert response.status_code == status
+    assert "Accept" in response.vary
+
+
+def test_a_304_of_a_negotiated_answer_carries_vary_accept(client):
+    tag = client.get("/v1/examples").headers["ETag"]
+    response = client.get("/v1/examples", headers={"If-None-Match": tag})
+    assert response.status_code == 304
+    assert "Accept" in response.vary
