@@ -53,7 +53,7 @@ def normalised(schema: Schema, body: dict[str, Any]) -> dict[str, Any]:
             value = inflation_value(rates)
             out["inflation"] = list(value) if isinstance(value, tuple) else value
     if plan.policies:
-        _drop_inapplicable_defaults(out, body)
+        _as_the_scenario_reads_it(out, body)
     return out
 
 
@@ -109,12 +109,19 @@ def _default(field: fields.Field) -> tuple[Callable[[], Any] | None, Any]:
 _STOCK_ONLY = {"policies": ("new_homes",), "adjustment": ("conversion",)}
 
 
-def _drop_inapplicable_defaults(out: dict[str, Any], body: dict[str, Any]) -> None:
-    # A freeze is written as the document spells it: base_level, not the older level "base".
+def _as_the_scenario_reads_it(out: dict[str, Any], body: dict[str, Any]) -> None:
+    """Spellings the scenario reads alike are written one way, so that answers of one scenario id
+    carry one request: a freeze as base_level (not the older level "base"); an `end` at or past
+    the horizon left out (the policy lasts to the horizon, schemas.paths._within); and the
+    stock-only defaults only under the stock schedule (elsewhere the schema refuses them)."""
+    horizon = out.get("horizon")
     for policy in out.get("policies") or []:
         if isinstance(policy, dict) and policy.get("level") == "base":
             del policy["level"]
             policy["base_level"] = True
+        if isinstance(policy, dict) and isinstance(policy.get("end"), int) and isinstance(horizon, int):
+            if policy["end"] >= horizon:
+                del policy["end"]
     adjustment = out.get("adjustment")
     if isinstance(adjustment, dict) and adjustment.get("schedule") == "stock":
         return

@@ -10,6 +10,7 @@ elasticities differ, unique policy names, a batch's total work) live in `@valida
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 from typing import Any
 
@@ -745,14 +746,23 @@ class PathsRequestSchema(StrictSchema):
 
     @post_load
     def _build(self, data, **kwargs) -> Scenario:
+        horizon = data["horizon"]
         return Scenario(
             market=data["market"],
-            horizon=data["horizon"],
-            policies=tuple(data["policies"]),
+            horizon=horizon,
+            policies=tuple(_within(policy, horizon) for policy in data["policies"]),
             shocks=tuple(data.get("shocks", ())),
             adjustment=data.get("adjustment") or Adjustment(),
             welfare=data["welfare"],
         )
+
+
+def _within(policy: Policy, horizon: int) -> Policy:
+    """A policy whose `end` is at or past the horizon lasts to the horizon, as one without an
+    `end` does: the same scenario (same numbers), so the same scenario id and ETag."""
+    if policy.end is not None and policy.end >= horizon:
+        return dataclasses.replace(policy, end=None)
+    return policy
 
 
 class BatchScenarioSchema(PathsRequestSchema):

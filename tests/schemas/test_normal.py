@@ -59,3 +59,26 @@ def test_a_bands_answer_carries_its_request_with_draws_seed_and_percentiles(name
     assert bands(normal)["scenario_id"] == body["scenario_id"]
     # the distributions stay distributions
     assert any(isinstance(v, dict) for v in normal["market"]["demand"].values() if v is not None)
+
+
+@pytest.mark.parametrize("past", [0, 7])
+def test_a_policy_ending_at_or_after_the_horizon_is_the_policy_without_an_end(past):
+    """It lasts to the horizon either way: the same scenario, so one id (one ETag) and one
+    answer byte for byte, `request` included; an end inside the horizon stays a new scenario."""
+    request = DEMOS["quillbrook-rent-freeze"]["request"]
+    plain = simulate(request)
+    ending = {**request, "policies": [dict(p) for p in request["policies"]]}
+    ending["policies"][2]["end"] = request["horizon"] + past
+    assert "end" not in request["policies"][2]
+    assert simulate(ending) == plain
+    uncertain = DEMOS[BANDS_DEMOS[0]]["request"]
+    ending = {
+        **uncertain,
+        "policies": [dict(p, end=uncertain["horizon"] + past) for p in uncertain["policies"]],
+    }
+    assert bands(_small(ending)) == bands(_small(uncertain))
+    inside = {**request, "policies": [dict(p) for p in request["policies"]]}
+    inside["policies"][2]["end"] = request["horizon"] - 1
+    answer = simulate(inside)
+    assert answer["scenario_id"] != plain["scenario_id"]
+    assert answer["request"]["policies"][2]["end"] == request["horizon"] - 1
