@@ -276,6 +276,22 @@ def test_no_click_is_lost_after_editing_the_request_by_hand(page, base_url):
     assert len(_summary(page)["final_quantity"]) == 2
 
 
+def test_one_press_of_a_remove_button_removes_exactly_one_policy_or_shock(page, base_url):
+    """The replay of a click lost to a redraw (above) must not press the next item's button when
+    the click itself redrew the form: removing a policy or a shock removes that one alone."""
+    _load(page, base_url, "quillbrook-rent-freeze")
+    before = _request(page)
+    page.click("button[data-action='remove-policy:1']")
+    page.wait_for_timeout(300)  # past the moment a lost click would be replayed
+    names = [p["name"] for p in _request(page)["policies"]]
+    assert names == [p["name"] for i, p in enumerate(before["policies"]) if i != 1]
+    assert page.locator("#policy-fields .item").count() == len(before["policies"]) - 1
+    assert len(before["shocks"]) >= 2
+    page.click("button[data-action='remove-shock:0']")
+    page.wait_for_timeout(300)
+    assert _request(page)["shocks"] == before["shocks"][1:]
+
+
 def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     page.fill("#f-inflation", "60")  # 6,000 % a period: surely 60 % or 0.6 was meant

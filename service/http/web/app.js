@@ -1152,6 +1152,12 @@ function rememberPress(event) {
   pressed = target ? { key: target.dataset.action || `#${target.id}`, element: target } : null;
 }
 
+// The press reached its button: its own click handler runs (and may redraw the form, as a
+// remove does), so there is nothing to replay. Runs first, in the capture phase.
+function noteClick(event) {
+  if (pressed && pressed.element.contains(event.target)) pressed = null;
+}
+
 function replayLostClick(event) {
   if (!pressed) return;
   const { key, element } = pressed;
@@ -1197,6 +1203,7 @@ async function start() {
   });
   json.addEventListener("change", fromJson);
   document.addEventListener("pointerdown", rememberPress, true);
+  document.addEventListener("click", noteClick, true);
   document.addEventListener("pointerup", (event) => setTimeout(() => replayLostClick(event), 0), true);
   window.addEventListener("hashchange", fromFragment);
   if (examplesResponse.status === 401) {
