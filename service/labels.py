@@ -179,7 +179,37 @@ TOTALS: dict[str, tuple[str, str, str]] = {
         for key, value in SERIES.items()
         if key.startswith("distribution.")
     },
+    **{
+        f"distribution_totals_discounted.{key[len('distribution.') :]}": (
+            value[0] + ", discounted",
+            value[1],
+            _DISCOUNTED,
+        )
+        for key, value in SERIES.items()
+        if key.startswith("distribution.")
+    },
 }
+#: The same figures under the flat names bands and sensitivity give them (the engine's summary
+#: names: `total_government`, `vs_free_path_renters_discounted`, ...).
+TOTALS.update(
+    {
+        **{
+            f"total_{key[len('distribution_totals.') :]}": value
+            for key, value in TOTALS.items()
+            if key.startswith("distribution_totals.")
+        },
+        **{
+            f"discounted_{key[len('distribution_totals_discounted.') :]}": value
+            for key, value in TOTALS.items()
+            if key.startswith("distribution_totals_discounted.")
+        },
+        **{
+            f"vs_free_path_{key[len('vs_free_path_totals.') :]}": value
+            for key, value in TOTALS.items()
+            if key.startswith("vs_free_path_totals.")
+        },
+    }
+)
 
 
 _PCT = "a fraction: 0.025 or 2.5 %"

@@ -35,6 +35,18 @@ def test_conversion_and_vacancy_decontrol_drawn_in_the_form_give_bands(page, bas
     assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
     assert page.locator("#summary td .range").count() > 0
     answer = page.evaluate("fetch(document.querySelector('#download-json').href).then(r => r.json())")
+    # Every banded figure shows its range in its row, the nested ones (renters against the free
+    # path, who gains) under their answer names; the other curve form's figures have no band.
+    banded = {
+        "vs_free_path_totals.renters": "vs_free_path_renters",
+        "vs_free_path_totals.renters_discounted": "vs_free_path_renters_discounted",
+        "distribution_totals.government": "total_government",
+        "discounted_deadweight_loss": "discounted_deadweight_loss",
+    }
+    for row, flat in banded.items():
+        assert flat in answer["bands"][1]["summary"], flat
+        assert page.locator(f"#summary tr[data-figure='{row}'] td .range").count() > 0, row
+    assert page.locator("#summary tr[data-figure='other_form.peak_shortage'] td .range").count() == 0
     drawn = {item["pointer"] for item in answer["uncertain_inputs"]}
     assert {"/adjustment/conversion", "/policies/2/vacancy_decontrol"} <= drawn
 

@@ -596,9 +596,17 @@ function td(text, cls) {
 const pathsOf = (body) => (body.central ? body.central : body);
 
 // The band summary's key of a flattened summary key (group totals are total_<group> there).
+// A band summary names a nested figure of the answer's summary by the engine's flat name;
+// figures of the other curve form have no band (their leaf names are this form's figures).
+const BAND_NAMES = [
+  ["distribution_totals.", "total_"],
+  ["vs_free_path_totals.", "vs_free_path_"],
+];
+
 function bandFigure(band, key) {
-  const leaf = key.split(".").pop();
-  return band.summary[key] || band.summary[leaf] || (key.startsWith("distribution_totals.") ? band.summary[`total_${leaf}`] : undefined);
+  if (band.summary[key]) return band.summary[key];
+  const found = BAND_NAMES.find(([nested]) => key.startsWith(nested));
+  return found ? band.summary[found[1] + key.slice(found[0].length)] : undefined;
 }
 
 // The summary: a row per total the answer carries, a column per policy (never too wide).
