@@ -353,10 +353,12 @@ def _ranges_section(
             if by_q is None:
                 cells.append(_number(None))
                 continue
-            text = f"{_number(by_q[low])} to {_number(by_q[high])}"
+            # The range and the median on lines of their own: numbers never break, and a
+            # narrow column (many policies) must not cut the median off.
+            text = _e(f"{_number(by_q[low])} to {_number(by_q[high])}")
             if middle is not None:
-                text += f" (median {_number(by_q[middle])})"
-            cells.append(_e(text))
+                text += "<br>" + _e(f"(median {_number(by_q[middle])})")
+            cells.append(text)
         rows.append(
             [_head(labels.label(figure, totals=True), labels.unit(figure, units, totals=True)), *cells]
         )

@@ -292,6 +292,12 @@ def test_one_press_of_a_remove_button_removes_exactly_one_policy_or_shock(page, 
     assert _request(page)["shocks"] == before["shocks"][1:]
 
 
+def test_tables_show_rounding_noise_as_about_zero_and_keep_small_results(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    shown = page.evaluate("[1.46e-11, -3e-12, 0, 0.0042, 12.345, 54000.4].map(number)")
+    assert shown == ["\u2248 0", "\u2248 0", "0", "0.0042", "12.35", "54,000"]
+
+
 def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     page.fill("#f-inflation", "60")  # 6,000 % a period: surely 60 % or 0.6 was meant

@@ -45,6 +45,7 @@ def test_a_bands_briefing_shows_the_ranges_that_the_bands_answer_holds():
     for caution in answer["cautions"]:  # the bands' own cautions (what a band is) among them
         assert html.escape(caution) in text
     assert text.count("<svg") >= 3 and "<script" not in text.lower()
+    assert "<br>(median " in text  # the median on a line of its own: a narrow column never cuts it
     tables = _Tables()
     tables.feed(text)
     ranges = tables.tables[-1]
@@ -52,7 +53,7 @@ def test_a_bands_briefing_shows_the_ranges_that_the_bands_answer_holds():
     assert len(ranges) == 1 + len(RANGE_FIGURES)
     row = next(r for r in ranges if "(discounted deadweight loss)" in r[0])
     for cell, band in zip(row[1:], answer["bands"], strict=True):
-        low, high, median = re.fullmatch(r"(\S+) to (\S+) \(median (\S+)\)", cell).groups()
+        low, high, median = re.fullmatch(r"(\S+) to (\S+)\s*\(median (\S+)\)", cell).groups()
         by_q = band["summary"]["discounted_deadweight_loss"]
         assert _number(low) == pytest.approx(by_q["5"], rel=5e-3, abs=0.5)
         assert _number(high) == pytest.approx(by_q["95"], rel=5e-3, abs=0.5)

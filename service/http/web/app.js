@@ -46,11 +46,16 @@ const fmt = new Intl.NumberFormat("en", { maximumFractionDigits: 0 });
 const fmt2 = new Intl.NumberFormat("en", { maximumFractionDigits: 2 });
 const fmt3 = new Intl.NumberFormat("en", { maximumSignificantDigits: 3 });
 
+// Results this close to zero are the rounding of a difference, not a finding (the downloads
+// keep every digit).
+const ROUNDING = 1e-9;
+
 function number(v) {
   if (v == null) return "\u2013";
   if (typeof v !== "number") return String(v);
   if (v === 0) return "0";
   const a = Math.abs(v);
+  if (a < ROUNDING) return "\u2248 0";
   return a >= 100 ? fmt.format(v) : a >= 1 ? fmt2.format(v) : fmt3.format(v);
 }
 const signed = (v) => (v > 0 ? `+${number(v)}` : number(v));
