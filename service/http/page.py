@@ -7,7 +7,7 @@ from importlib import resources
 import orjson
 from flask import Response
 
-from .. import labels
+from .. import charts, labels
 from ..problems import ProblemError, problem
 from .documented import DocumentedBlueprint
 
@@ -58,7 +58,9 @@ def page() -> Response:
 )
 def page_file(name: str) -> Response:
     if name == _LABELS:
-        return Response(orjson.dumps(labels.table()), mimetype="application/json")
+        # With the panels a paths chart draws by default, so the page's caption names those.
+        table = {**labels.table(), "default_panels": list(charts.DEFAULT_PANELS)}
+        return Response(orjson.dumps(table), mimetype="application/json")
     if name not in _PAGE_FILES:
         raise ProblemError(problem(404, "Not Found", "No such page file."))
     return Response(_page_file(name), mimetype=_PAGE_FILES[name])

@@ -292,6 +292,21 @@ def test_one_press_of_a_remove_button_removes_exactly_one_policy_or_shock(page, 
     assert _request(page)["shocks"] == before["shocks"][1:]
 
 
+def test_the_chart_caption_names_the_panels_drawn_and_the_others_are_offered(page, base_url):
+    _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
+    run_scenario(page)
+    page.wait_for_function(
+        "document.querySelector('#chart-figure img') && document.querySelector('#chart-figure img').dataset.title"
+    )
+    caption = page.text_content("#chart-figure figcaption")
+    assert caption.startswith("Rent paid") and "Homes fewer than" in caption
+    offered = page.eval_on_selector_all("#chart-figure-panel option", "os => os.map(o => o.value)")
+    for extra in ("vacant_homes", "converted_homes", "vs_free_path.renters"):
+        assert extra in offered  # offered one by one ...
+    for words in ("standing empty", "converted", "Renters gain"):
+        assert words not in caption  # ... and not drawn by "every panel"
+
+
 def test_tables_show_rounding_noise_as_about_zero_and_keep_small_results(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     shown = page.evaluate("[1.46e-11, -3e-12, 0, 0.0042, 12.345, 54000.4].map(number)")

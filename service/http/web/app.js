@@ -869,8 +869,12 @@ async function drawCharts(body, request) {
   const paths = bands ? centralRequest(request) : request;
   const jobs = [];
   const panels = availablePanels(answer);
+  // The caption names what "every panel" draws: the chart service's default panels that this
+  // answer carries; the others (homes standing empty, renters against the free path...) are
+  // in the "Show" choice.
+  const drawn = panels.filter((p) => state.labels.default_panels.includes(p));
   jobs.push(figure("chart-figure", { chart: bands ? "bands" : "paths", scenario: request, title: titled(bands ? "central paths with percentile bands" : "paths by policy") },
-    `${panels.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy. Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
+    `${drawn.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy. Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
     panels));
   if (answer.paths.every((p) => p.distribution)) {
     jobs.push(figure("gains-figure", { chart: "gains_and_losses", scenario: paths, title: titled("who gains and who loses") },
