@@ -335,6 +335,31 @@ def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, ba
     assert _answer(page)["request"]["policies"][2]["growth"] == 3
 
 
+def test_thousands_written_with_points_and_shares_written_as_whole_percents_are_questioned(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    page.fill("input[data-pointer='/market/price']", "1.180")  # 1,180 in the European way
+    page.fill("input[data-pointer='/market/quantity']", "54.000")
+    messages = []
+
+    def dismiss(dialog):
+        messages.append(dialog.message)
+        dialog.dismiss()
+
+    page.once("dialog", dismiss)
+    page.click("#run")
+    page.wait_for_function("document.querySelector('#status').textContent.startsWith('Not run')")
+    assert "1.180 is read as 1.18; for 1,180 write 1180" in messages[0]
+    assert "54.000 is read as 54; for 54,000 write 54000" in messages[0]
+    assert page.get_attribute("input[data-pointer='/market/price']", "aria-invalid") == "true"
+    # Shares typed as whole percents: depreciation 1 (100 % a period), coverage 40, conversion 2.
+    asked = page.evaluate(
+        """questions({market: {}, adjustment: {schedule: "stock", depreciation: 1, conversion: 2},
+                      policies: [{name: "c", kind: "price_ceiling", coverage: 40}]}).map(q => q.pointer)"""
+    )
+    shares = ["/policies/0/coverage", "/adjustment/depreciation", "/adjustment/conversion"]
+    assert asked == [*shares, "/market/price", "/market/quantity"]  # the form still holds 1.180
+
+
 def test_shifters_and_shocks_are_added_and_removed_in_the_form(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     page.click("#add-supply-shifter")

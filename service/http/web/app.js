@@ -519,7 +519,18 @@ function questions(request) {
   });
   (request.policies || []).forEach((p, i) => {
     check(`/policies/${i}/growth`, p.growth, (x) => x > 0.3, (x) => `a cap of ${pct(x)} a period on rent rises (write 0.03 or 3 %)`);
+    check(`/policies/${i}/coverage`, p.coverage, (x) => x > 1, (x) => `a coverage of ${pct(x)} of the homes (write 0.4 or 40 % for two homes in five)`);
   });
+  const adjustment = request.adjustment || {};
+  check("/adjustment/depreciation", adjustment.depreciation, (x) => x > 0.2, (x) => `${pct(x)} of the homes lost each period (write 0.01 or 1 % for one percent)`);
+  check("/adjustment/conversion", adjustment.conversion, (x) => x > 1, (x) => `a conversion rate of ${x} (published estimates are a few hundredths, e.g. 0.02)`);
+  // Thousands written with points ("1.350", "82.000") read as decimals: 1.35 and 82.
+  for (const pointer of ["/market/price", "/market/quantity"]) {
+    const typed = document.querySelector(`[data-pointer="${pointer}"]`)?.value.trim() || "";
+    if (/^\d{1,3}(\.\d{3})+$/.test(typed)) {
+      out.push({ pointer, message: `${typed} is read as ${Number(typed)}; for ${typed.replace(/\./g, ",")} write ${typed.replace(/\./g, "")}` });
+    }
+  }
   const rate = request.welfare?.discount_rate;
   check("/welfare/discount_rate", rate, (x) => x > 0.2, (x) => `a real discount rate of ${pct(x)} a period (write 0.03 or 3 %)`);
   const elasticity = (pointer) => {
