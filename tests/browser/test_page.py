@@ -295,9 +295,7 @@ def test_one_press_of_a_remove_button_removes_exactly_one_policy_or_shock(page, 
 def test_the_chart_caption_names_the_panels_drawn_and_the_others_are_offered(page, base_url):
     _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
     run_scenario(page)
-    page.wait_for_function(
-        "document.querySelector('#chart-figure img') && document.querySelector('#chart-figure img').dataset.title"
-    )
+    page.wait_for_function("document.querySelector('#chart-figure img')?.dataset.title")
     caption = page.text_content("#chart-figure figcaption")
     assert caption.startswith("Rent paid") and "Homes fewer than" in caption
     offered = page.eval_on_selector_all("#chart-figure-panel option", "os => os.map(o => o.value)")
