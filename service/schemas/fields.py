@@ -56,9 +56,11 @@ def label(max_length: int, **kwargs) -> fields.String:
     return fields.String(validate=[validate.Length(1, max_length), Printable()], **kwargs)
 
 
-def in_range(low=None, high=None, low_ok=True, high_ok=True) -> validate.Range:
-    """A Range validator; low_ok / high_ok say whether each end itself is allowed."""
-    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok)
+def in_range(low=None, high=None, low_ok=True, high_ok=True, error: str | None = None) -> validate.Range:
+    """A Range validator; low_ok / high_ok say whether each end itself is allowed; `error`, a
+    message in the analyst's words where marshmallow's ("Must be greater than ...") says too
+    little about the usual mistake."""
+    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok, error=error)
 
 
 class Real(fields.Float):

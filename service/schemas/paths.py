@@ -80,7 +80,13 @@ def shifter_map(description: str, values: fields.Field | None = None) -> fields.
 class DemandSchema(StrictSchema):
     price_elasticity = Real(
         required=True,
-        validate=_range(-limits.MAX_ELASTICITY, 0.0, high_ok=False),
+        validate=_range(
+            -limits.MAX_ELASTICITY,
+            0.0,
+            high_ok=False,
+            error="Demand falls as rent rises, so its elasticity is negative (for example -0.5): "
+            f"from -{limits.MAX_ELASTICITY:g} up to, but not including, 0.",
+        ),
         metadata={"description": "Own-price elasticity of demand, eta < 0."},
     )
     shifters = shifter_map("Elasticity of quantity demanded with respect to each named shifter (any sign).")
@@ -457,7 +463,9 @@ class PriceCeilingSchema(_PolicyBase):
     indexed = _indexed("level (or the growth cap: inflation plus growth)")
     coverage = Real(
         load_default=1.0,
-        validate=_range(0.0, 1.0, low_ok=False),
+        validate=_range(
+            0.0, 1.0, low_ok=False, error="A share of the homes above 0 and at most 1: write 0.4 for 40 %."
+        ),
         metadata={
             "description": "Share s in (0, 1] of homes the ceiling covers (e.g. older buildings); "
             "households without a controlled home rent uncontrolled ones, whose rent clears "

@@ -482,3 +482,27 @@ def test_chart_and_briefing_titles_with_control_characters_are_422(client):
     _check(response, 422, "/title")
     response = client.post("/v1/briefing", json={"request": paths, "title": "Rents\u0007"})
     _check(response, 422, "/title")
+
+
+@pytest.mark.parametrize(
+    ("path", "value", "words"),
+    [
+        (["market", "demand", "price_elasticity"], 0.5, "negative (for example -0.5)"),
+        (["policies", 1, "coverage"], 40, "write 0.4 for 40 %"),
+    ],
+)
+def test_the_usual_mistakes_get_a_message_that_says_what_to_write(client, path, value, words):
+    """A demand elasticity typed without its minus sign, a share typed as a whole percent: the
+    message at the field says what to write, not only the range."""
+    body = json.loads(edit(_set(path, value)))
+    if path[0] == "policies":
+        body["policies"][1] = {
+            "name": "older homes",
+            "kind": "price_ceiling",
+            "growth": 0.02,
+            "coverage": value,
+        }
+    response = client.post("/v1/paths", json=body)
+    _check(response, 422, "/" + "/".join(str(p) for p in path))
+    (error,) = [e for e in response.get_json()["errors"] if e["pointer"] == "/" + "/".join(map(str, path))]
+    assert words in error["message"]
