@@ -13,6 +13,8 @@ Sheets of a /v1/paths answer (`paths_workbook`):
 * Who gains and loses: each group per policy, summed over periods 1..T, both not discounted
   (the summary's `distribution_totals`) and discounted with the request's rate (the same
   numbers as the who-gains chart: service.charts.gains_and_losses);
+* Reduced form: per shifter, the percent change of rent and of homes let for a 1 % rise in it,
+  first period and long run (the answer's `reduced_form`);
 * Cautions.
 
 A /v1/bands answer (`bands_workbook`) adds the uncertain inputs and the percentiles of each
@@ -243,6 +245,30 @@ def _binding(name: str, values: list) -> list:
     return [int(v) for v in values] if name == "binding" else values
 
 
+def _reduced_form(book: _Book, rows: Iterable[tuple], lead: list[str]) -> None:
+    """The free market's answer to each shifter (the answer's reduced_form): percent change of
+    rent and of homes let per 1 % rise in the shifter, first period and long run."""
+    book.sheet(
+        "Reduced form",
+        [
+            *lead,
+            "Shifter",
+            "Rent, first period [% per 1 %]",
+            "Rent, long run [% per 1 %]",
+            "Homes let, first period [% per 1 %]",
+            "Homes let, long run [% per 1 %]",
+        ],
+        rows,
+        widths=[*([12] * len(lead)), 28, 22, 22, 22, 22],
+    )
+
+
+def _reduced_form_rows(body: dict, lead: tuple = ()) -> Iterable[tuple]:
+    for name, rf in (body.get("reduced_form") or {}).items():
+        short, long = rf["short_run"], rf["long_run"]
+        yield (*lead, name, short["price"], long["price"], short["quantity"], long["quantity"])
+
+
 def _cautions(book: _Book, cautions: Iterable[tuple], lead: list[str]) -> None:
     book.sheet("Cautions", [*lead, "Caution"], cautions, widths=[*([12] * len(lead)), 140])
 
@@ -286,6 +312,7 @@ def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
         _who_gains_rows(body),
         widths=[28, 36, 30, 30],
     )
+    _reduced_form(book, _reduced_form_rows(body), [])
     _cautions(book, ((c,) for c in body["cautions"]), [])
     return book.bytes()
 
@@ -375,6 +402,7 @@ def bands_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
         _who_gains_rows(central),
         widths=[28, 36, 30, 30],
     )
+    _reduced_form(book, _reduced_form_rows(central), [])
     _cautions(book, ((c,) for c in body["cautions"]), [])
     return book.bytes()
 
@@ -443,5 +471,6 @@ def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None
             (row for i, r in answered for row in _who_gains_rows(r, (i,))),
             widths=[10, 28, 36, 30, 30],
         )
+    _reduced_form(book, (row for i, r in answered for row in _reduced_form_rows(r, (i,))), ["Scenario"])
     _cautions(book, ((i, c) for i, r in answered for c in r["cautions"]), ["Scenario"])
     return book.bytes()

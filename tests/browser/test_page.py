@@ -305,6 +305,23 @@ def test_the_chart_caption_names_the_panels_drawn_and_the_others_are_offered(pag
         assert words not in caption  # ... and not drawn by "every panel"
 
 
+def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    run_scenario(page)
+    answer = _answer(page)
+    rows = page.eval_on_selector_all(
+        "#reduced-form tbody tr",
+        "rs => rs.map(r => [r.dataset.shifter, ...[...r.cells].map(c => c.textContent)])",
+    )
+    assert [r[0] for r in rows] == list(answer["reduced_form"])
+    income = answer["reduced_form"]["income"]
+    (row,) = [r for r in rows if r[0] == "income"]
+    assert row[2] == f"+{income['short_run']['price']:.2f}".rstrip("0").rstrip(".")
+    page.check("#all-series")
+    head = page.text_content("#year-tables table.years thead")
+    assert "Supply response this period" in head
+
+
 def test_tables_show_rounding_noise_as_about_zero_and_keep_small_results(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     shown = page.evaluate("[1.46e-11, -3e-12, 0, 0.0042, 12.345, 54000.4].map(number)")

@@ -40,7 +40,8 @@ def test_a_paths_workbook_carries_inputs_summary_each_policys_periods_who_gains_
     answer = client.post("/v1/paths", json=request).get_json()
     book = _book(client.post("/v1/paths", json=request, headers=ACCEPT))
     names = book.sheetnames
-    assert names[:3] == ["About", "Inputs", "Summary"] and names[-2:] == ["Who gains and loses", "Cautions"]
+    assert names[:3] == ["About", "Inputs", "Summary"]
+    assert names[-3:] == ["Who gains and loses", "Reduced form", "Cautions"]
     about = dict(_rows(book["About"])[1:])
     assert about["Scenario id"] == answer["scenario_id"]
     assert about["Model version"] == answer["model_version"]
@@ -87,6 +88,11 @@ def test_a_paths_workbook_carries_inputs_summary_each_policys_periods_who_gains_
         assert np.allclose([r[3] for r in mine], discounted[p], rtol=1e-12, atol=1e-9)
     cautions = [r[0] for r in _rows(book["Cautions"])[1:]]
     assert cautions == answer["cautions"]
+    reduced = _rows(book["Reduced form"])
+    assert [r[0] for r in reduced[1:]] == list(answer["reduced_form"])
+    for row, rf in zip(reduced[1:], answer["reduced_form"].values(), strict=True):
+        expected = [rf["short_run"]["price"], rf["long_run"]["price"], rf["short_run"]["quantity"]]
+        assert row[1:] == pytest.approx([*expected, rf["long_run"]["quantity"]], rel=SAME)
 
 
 def test_a_policy_name_that_would_be_a_formula_stays_text(client):

@@ -741,7 +741,11 @@ function showYears(body) {
   const box = $("year-tables");
   box.replaceChildren();
   answer.paths.forEach((path, i) => {
-    const series = { ...(answer.price_index ? { price_index: answer.price_index } : {}), ...flatten(path) };
+    const series = {
+      ...(answer.price_index ? { price_index: answer.price_index } : {}),
+      ...(answer.supply_elasticity ? { supply_elasticity: answer.supply_elasticity } : {}),
+      ...flatten(path),
+    };
     const names = Object.keys(series).filter((k) => Array.isArray(series[k]) && (all || YEAR_COLUMNS.includes(k)));
     names.sort((a, b) => (all ? 0 : YEAR_COLUMNS.indexOf(a) - YEAR_COLUMNS.indexOf(b)));
     const details = document.createElement("details");
@@ -1010,11 +1014,32 @@ async function run(event) {
   $("results").dataset.drawn = body.scenario_id;
 }
 
+// The reduced form: per shifter, d ln P*/d ln x and d ln Q*/d ln x in the first period and
+// in the long run, read as "percent per 1 %".
+function showReducedForm(body) {
+  const answer = pathsOf(body);
+  const table = $("reduced-form");
+  const shifters = Object.entries(answer.reduced_form || {});
+  table.hidden = shifters.length === 0;
+  const head = document.createElement("tr");
+  head.append(th("Shifter"), th("Rent, first period", "% per 1 %"), th("Rent, long run", "% per 1 %"),
+    th("Homes let, first period", "% per 1 %"), th("Homes let, long run", "% per 1 %"));
+  table.tHead.replaceChildren(head);
+  table.tBodies[0].replaceChildren(...shifters.map(([name, rf]) => {
+    const tr = document.createElement("tr");
+    tr.dataset.shifter = name;
+    tr.append(th(name.replace(/_/g, " "), "", "row"), ...[rf.short_run.price, rf.long_run.price, rf.short_run.quantity,
+      rf.long_run.quantity].map((v) => td(signed(v), "n")));
+    return tr;
+  }));
+}
+
 function showTables() {
   if (!state.answer) return;
   const { body, request } = state.answer;
   showSummary(body);
   showGroups(body, request);
+  showReducedForm(body);
   showYears(body);
 }
 
