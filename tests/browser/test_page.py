@@ -320,6 +320,14 @@ def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(
     page.check("#all-series")
     head = page.text_content("#year-tables table.years thead")
     assert "Supply response this period" in head
+    # The first table open is the first rule's (the free market's is all zeros), periods 0 to T.
+    opened = page.eval_on_selector_all("#year-tables details[open] summary", "ss => ss.map(s => s.textContent)")
+    assert opened == [f"rent freeze: periods 0 (today) to {len(answer['periods']) - 1}"]
+    # A freeze's base level is a yes-or-no box, not text to type "true" in.
+    box = page.locator("input[data-pointer='/policies/1/base_level']")
+    assert box.get_attribute("type") == "checkbox" and box.is_checked()
+    # A choice reads in words in the summary table (constant elasticity, not constant_elasticity).
+    assert "constant_elasticity" not in page.text_content("#summary")
 
 
 def test_tables_show_rounding_noise_as_about_zero_and_keep_small_results(page, base_url):
@@ -431,7 +439,7 @@ def test_an_invalid_value_shows_the_error_next_to_its_field(page, base_url):
     page.wait_for_selector("#f-eta[aria-invalid='true']")
     described = page.get_attribute("#f-eta", "aria-describedby")
     message = page.text_content(f"#{described.split()[0]}")
-    assert "less than 0" in message
+    assert "negative (for example -0.5)" in message
     assert page.evaluate("document.activeElement.id") == "f-eta"
 
 

@@ -52,7 +52,7 @@ const ROUNDING = 1e-9;
 
 function number(v) {
   if (v == null) return "\u2013";
-  if (typeof v !== "number") return String(v);
+  if (typeof v !== "number") return String(v).replace(/_/g, " ");  // a choice: constant_elasticity
   if (v === 0) return "0";
   const a = Math.abs(v);
   if (a < ROUNDING) return "\u2248 0";
@@ -188,7 +188,7 @@ function field(pointer, value, options = {}) {
       setAt(state.request, pointer, control.value === "" ? undefined : control.value);
       restructure(pointer, key);
     });
-  } else if (key === "policies.indexed") {
+  } else if (key === "policies.indexed" || key === "policies.base_level") {  // yes or no
     control = document.createElement("input");
     control.type = "checkbox";
     control.checked = value === true;
@@ -740,6 +740,7 @@ function showYears(body) {
   const all = $("all-series").checked;
   const box = $("year-tables");
   box.replaceChildren();
+  const firstRule = Math.max(0, answer.paths.findIndex((p) => p.kind !== "none"));
   answer.paths.forEach((path, i) => {
     const series = {
       ...(answer.price_index ? { price_index: answer.price_index } : {}),
@@ -749,9 +750,9 @@ function showYears(body) {
     const names = Object.keys(series).filter((k) => Array.isArray(series[k]) && (all || YEAR_COLUMNS.includes(k)));
     names.sort((a, b) => (all ? 0 : YEAR_COLUMNS.indexOf(a) - YEAR_COLUMNS.indexOf(b)));
     const details = document.createElement("details");
-    details.open = i === 0;
+    details.open = i === firstRule;  // the first policy that is a rule, not the free market
     const summary = document.createElement("summary");
-    summary.textContent = `${path.name}: ${answer.periods.length} ${units().period}s`;
+    summary.textContent = `${path.name}: ${units().period}s 0 (today) to ${answer.periods.length - 1}`;
     const scroll = document.createElement("div");
     scroll.className = "table-scroll";
     const table = document.createElement("table");
