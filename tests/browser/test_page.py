@@ -321,7 +321,7 @@ def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(
     head = page.text_content("#year-tables table.years thead")
     assert "Supply response this period" in head
     # The first table open is the first rule's (the free market's is all zeros), periods 0 to T.
-    opened = page.eval_on_selector_all("#year-tables details[open] summary", "ss => ss.map(s => s.textContent)")
+    opened = page.eval_on_selector_all("#year-tables details[open] summary", "s => s.map(x => x.textContent)")
     assert opened == [f"rent freeze: periods 0 (today) to {len(answer['periods']) - 1}"]
     # A freeze's base level is a yes-or-no box, not text to type "true" in.
     box = page.locator("input[data-pointer='/policies/1/base_level']")
