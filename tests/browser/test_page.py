@@ -308,6 +308,9 @@ def test_the_chart_caption_names_the_panels_drawn_and_the_others_are_offered(pag
 def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     run_scenario(page)
+    # The run brings its results into view (they start below the form and the library).
+    top = page.evaluate("document.querySelector('#results-heading').getBoundingClientRect().top")
+    assert -2 <= top < page.viewport_size["height"]  # to the pixel, give or take rounding
     answer = _answer(page)
     rows = page.eval_on_selector_all(
         "#reduced-form tbody tr",

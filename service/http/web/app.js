@@ -1008,7 +1008,9 @@ async function run(event) {
   const periods = pathsOf(body).periods.length - 1;
   const policies = pathsOf(body).summary.length;
   const bands = state.endpoint === "/v1/bands";
-  $("status").textContent = `Computed ${policies} policies over ${periods} periods${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
+  $("status").textContent = `Computed ${policies} policies over ${periods} ${units().period}s${bands ? ` and ${fmt.format(body.draws)} draws` : ""}.`;
+  // The results start below the form and the library: bring them into view.
+  $("results-heading").scrollIntoView({ block: "start" });
   const jobs = [drawCharts(body, request), csvLink(request)];
   if (bands) jobs.push(runSensitivity(request));
   await Promise.all(jobs);
