@@ -285,6 +285,7 @@ INPUTS: dict[str, tuple[str, str, str]] = {
         "above 0, up to 1 (default 1: every home)",
     ),
     "policies.indexed": ("Moves with inflation", "indexed", ""),
+    "policies.base_level": ("Frozen at today's rent", "rent freeze", "a ceiling at the base rent"),
     "policies.new_homes": (
         "Homes built after the rule starts",
         "new homes",
@@ -299,6 +300,7 @@ INPUTS: dict[str, tuple[str, str, str]] = {
     "policies.end": ("Last period of the rule", "end", "empty: to the horizon"),
     "welfare.rationing": ("Who gets the controlled homes", "rationing", ""),
     "welfare.discount_rate": ("Discount rate per period", "real discount rate", _PCT),
+    "output": ("Answer with", "", "full: every series; summary: the totals only"),
     "draws": ("Draws", "Monte Carlo draws", ""),
     "seed": ("Seed", "random seed", "same seed, same answer"),
     "percentiles": ("Percentiles", "", "comma-separated, 0 to 100"),
@@ -364,9 +366,25 @@ def _pointers(value: Any, pointer: str = "") -> Iterable[tuple[str, Any]]:
         yield pointer, value
 
 
-def _input_label(pointer: str, units: dict | None) -> str:
+#: The parts of an uncertain input (a distribution in place of a number), in plain words.
+DRAWN = {
+    "distribution": "drawn from a distribution",
+    "mean": "mean of the draws",
+    "sd": "standard deviation of the draws",
+    "low": "lowest draw",
+    "high": "highest draw",
+    "mode": "most likely draw",
+}
+
+
+def _input_words(pointer: str, units: dict | None) -> tuple[str, str]:
+    """A request field in plain words with its trade term, and its hint ("" for none)."""
     parts = pointer.strip("/").split("/")
     field = parts[-1]
+    if field in DRAWN and len(parts) > 1 and parts[-2] != "shifters":
+        # /market/demand/price_elasticity/sd: the input's own words, then the part's.
+        words, hint = _input_words("/" + "/".join(parts[:-1]), units)
+        return f"{words}, {DRAWN[field]}", hint
     section = {"demand": "demand", "supply": "supply", "market": "market"}.get(
         parts[-2] if len(parts) > 1 else ""
     )
@@ -375,20 +393,20 @@ def _input_label(pointer: str, units: dict | None) -> str:
     elif parts[0] in ("adjustment", "welfare"):
         section = parts[0]
     if field == "shifters":
-        return f"{parts[-2].capitalize()} shifters"
+        return f"{parts[-2].capitalize()} shifters", ""
     if len(parts) > 1 and parts[-2] == "shifters":
         plain, trade, _ = INPUTS["shifters"]
-        return f"{plain} {field.replace('_', ' ')} ({trade})"
+        return f"{plain} {field.replace('_', ' ')} ({trade})", ""
     found = INPUTS.get(f"{section}.{field}") or INPUTS.get(field)
     if found is None:
-        return field.replace("_", " ")
+        return field.replace("_", " "), ""
     plain, trade, hint = found
-    hint = hint.format(**{**DEFAULT_UNITS, **(units or {})})
-    return (
-        f"{plain} ({trade})" + (f" [{hint}]" if hint else "")
-        if trade
-        else plain + (f" [{hint}]" if hint else "")
-    )
+    return (f"{plain} ({trade})" if trade else plain), hint.format(**{**DEFAULT_UNITS, **(units or {})})
+
+
+def _input_label(pointer: str, units: dict | None) -> str:
+    words, hint = _input_words(pointer, units)
+    return words + (f" [{hint}]" if hint else "")
 
 
 def input_rows(request: dict[str, Any], units: dict[str, str] | None = None) -> list[tuple[str, str, Any]]:
@@ -406,4 +424,5 @@ def table() -> dict[str, Any]:
         "real": REAL,
         "nominal": NOMINAL,
         "default_units": DEFAULT_UNITS,
+        "drawn": DRAWN,
     }

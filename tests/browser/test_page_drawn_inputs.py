@@ -27,6 +27,9 @@ def test_conversion_and_vacancy_decontrol_drawn_in_the_form_give_bands(page, bas
         "mode": 0.1,
         "high": 0.13,
     }
+    # Each part of a drawn input is labelled in words (not "conversion: low").
+    low = page.locator("input[data-pointer='/adjustment/conversion/low']").get_attribute("id")
+    assert page.text_content(f"label[for='{low}']").endswith(", lowest draw")
     # A ceiling without decontrol offers no draw for it (the field is empty, not a number).
     assert page.locator("select[data-action='uncertain:/policies/1/vacancy_decontrol']").count() == 0
     assert page.is_visible("#uncertainty-fieldset")

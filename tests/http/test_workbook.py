@@ -207,3 +207,16 @@ def test_a_workbook_beyond_the_cell_limit_is_a_422_that_suggests_csv_and_csv_sti
     assert problem["type"].endswith("too-large-for-a-workbook") and "CSV" in problem["detail"]
     assert f"{limits.MAX_WORKBOOK_CELLS:,} cells" in problem["detail"]
     assert client.post("/v1/paths/batch", json=body, headers={"Accept": "text/csv"}).status_code == 200
+
+
+def test_a_bands_workbook_names_each_part_of_a_drawn_input_in_plain_words(client):
+    """The Inputs sheet of an uncertain request: every field in words, never a bare `sd` or
+    `output` (labels.DRAWN; a freeze's base level too)."""
+    request = {**example_request("quillbrook-uncertain-elasticities"), "draws": 200}
+    book = _book(client.post("/v1/bands", json=request, headers=ACCEPT))
+    words = {row[0]: row[1] for row in _rows(book["Inputs"])[1:]}
+    assert words["/market/demand/price_elasticity/sd"].startswith(
+        "How homes wanted respond to rent (price elasticity of demand), standard deviation of the draws"
+    )
+    assert words["/market/supply/long_run_elasticity/mode"].split(" [")[0].endswith(", most likely draw")
+    assert not [w for w in words.values() if "_" in w.split(" [")[0]], words

@@ -251,7 +251,7 @@ function elasticityFields(pointer, value, label) {
   if (uncertain) {
     for (const [k, v] of Object.entries(value)) {
       if (k === "distribution") continue;
-      out.push(field(`${pointer}/${k}`, v, { label: `${label || inputWords(pointer).label}: ${k}`, hint: "" }));
+      out.push(field(`${pointer}/${k}`, v, { label: `${label || inputWords(pointer).label}, ${state.labels.drawn[k] || k}`, hint: "" }));
     }
   } else {
     out.push(field(pointer, value, label ? { label } : {}));
