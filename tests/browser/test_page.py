@@ -339,9 +339,8 @@ def test_tables_show_rounding_noise_as_about_zero_and_keep_small_results(page, b
     assert shown == ["\u2248 0", "\u2248 0", "0", "0.0042", "12.35", "54,000"]
 
 
-def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, base_url):
-    _load(page, base_url, "quillbrook-rent-freeze")
-    page.fill("#f-inflation", "60")  # 6,000 % a period: surely 60 % or 0.6 was meant
+def _questions_declined(page) -> list[str]:
+    """Press Run, decline the page's question (a dialog) and wait for 'Not run': the question."""
     messages = []
 
     def dismiss(dialog):
@@ -351,6 +350,13 @@ def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, ba
     page.once("dialog", dismiss)
     page.click("#run")
     page.wait_for_function("document.querySelector('#status').textContent.startsWith('Not run')")
+    return messages
+
+
+def test_implausible_values_are_questioned_and_not_run_unless_confirmed(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    page.fill("#f-inflation", "60")  # 6,000 % a period: surely 60 % or 0.6 was meant
+    messages = _questions_declined(page)
     assert "inflation of 6000 %" in messages[0] and "Run anyway?" in messages[0]
     assert page.get_attribute("#f-inflation", "aria-invalid") == "true"
     page.fill("#f-inflation", "3 %")
@@ -365,15 +371,7 @@ def test_thousands_written_with_points_and_shares_written_as_whole_percents_are_
     _load(page, base_url, "quillbrook-rent-freeze")
     page.fill("input[data-pointer='/market/price']", "1.180")  # 1,180 in the European way
     page.fill("input[data-pointer='/market/quantity']", "54.000")
-    messages = []
-
-    def dismiss(dialog):
-        messages.append(dialog.message)
-        dialog.dismiss()
-
-    page.once("dialog", dismiss)
-    page.click("#run")
-    page.wait_for_function("document.querySelector('#status').textContent.startsWith('Not run')")
+    messages = _questions_declined(page)
     assert "1.180 is read as 1.18; for 1,180 write 1180" in messages[0]
     assert "54.000 is read as 54; for 54,000 write 54000" in messages[0]
     assert page.get_attribute("input[data-pointer='/market/price']", "aria-invalid") == "true"
