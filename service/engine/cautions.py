@@ -209,6 +209,7 @@ def scenario_cautions(
     other_form_refused: bool = False,
     held_to_horizon: Mapping[str, float] | None = None,
     unlet_homes_removed: bool = False,
+    lossless_ceilings: Sequence[str] = (),
 ) -> list[str]:
     """Sentences for one scenario, each only where its condition holds.
 
@@ -250,6 +251,10 @@ def scenario_cautions(
         leaves below the free path then (final_homes_below_free_path, only where above
         NEGLIGIBLE of the base homes): the years after the horizon, when those homes are built
         again, are not in its totals, so it compares well with a rule that ends earlier.
+    lossless_ceilings: under `stock`, price ceilings that bind and show no deadweight loss (within
+        NEGLIGIBLE of the rent bill over the horizon): their controlled homes are held at their
+        bounds, so within each period the rule only moves money; its cost (homes converted and
+        not built) is not in the within-period loss.
     unlet_homes_removed: under `stock` without depreciation a price floor or quantity cap binds:
         homes offered and not let leave the stock at once (MODEL.md 16: K_t = Q_t), where with a
         depreciation rate they would stand empty and be offered again.
@@ -373,6 +378,16 @@ def scenario_cautions(
             "The years after the horizon are not counted: when such a rule ends, its missing homes "
             "take years to be built again, so its totals look better than those of a rule that "
             "ends within the horizon."
+        )
+    lossless = list(lossless_ceilings) if stock else []
+    if lossless:
+        verbs = "binds and yet shows" if len(lossless) == 1 else "bind and yet show"
+        out.append(
+            f"{_names(lossless)} {verbs} no value lost "
+            "within each year: the controlled homes cannot shrink or grow faster than the stock allows, "
+            "so within a year such a rule only moves money from owners to tenants. Its cost lies in the "
+            "homes converted or never built, which that loss does not count: compare the homes and rents "
+            "with the free market path."
         )
     if stock and unlet_homes_removed:
         out.append(

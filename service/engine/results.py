@@ -500,6 +500,15 @@ def assemble(
                 and (p.end is None or p.end >= end - 1)
                 and s.final_homes_below_free_path > NEGLIGIBLE * float(batch.quantity[i])
             },
+            lossless_ceilings=[
+                s.name
+                for s in summaries
+                if stock
+                and s.kind == "price_ceiling"
+                and s.binding_periods > 0
+                and abs(s.total_deadweight_loss)
+                <= NEGLIGIBLE * float(batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end)
+            ],
             unlet_homes_removed=stock
             and scenario.adjustment.depreciation is None
             and any(s.kind in ("price_floor", "quantity_cap") and s.binding_periods > 0 for s in summaries),

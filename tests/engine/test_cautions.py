@@ -47,6 +47,7 @@ MARKS = {
     "unused short run": "is not used",
     "held to horizon": "Still in force at the end of the horizon",
     "unlet homes removed": "Without a depreciation rate",
+    "lossless ceiling": "no value lost within each year",
     "lifted": "return the moment it ends",
     "never binds": "Never binds",
     "control left out": "upkeep and quality",
@@ -68,6 +69,7 @@ EVERY_CONDITION = {
     "impact_elasticity": 0.45,
     "held_to_horizon": {"cap": 1234.0},
     "unlet_homes_removed": True,
+    "lossless_ceilings": ["exempt cap"],
 }
 
 
@@ -115,6 +117,8 @@ def test_a_quiet_scenario_gets_only_the_general_cautions():
         ({"held_to_horizon": {}, "stock": True}, {"stock"}),
         ({"unlet_homes_removed": True}, set()),
         ({"unlet_homes_removed": True, "stock": True}, {"stock", "unlet homes removed"}),
+        ({"lossless_ceilings": ["cap"]}, set()),
+        ({"lossless_ceilings": ["cap"], "stock": True}, {"stock", "lossless ceiling"}),
     ],
 )
 def test_each_caution_appears_exactly_when_its_condition_holds(changes, expected):
@@ -357,3 +361,18 @@ def test_a_cap_held_to_the_horizon_names_its_missing_homes_and_one_lifted_before
     assert "'cap to the end'" in text and "'cap for 2 years'" not in text
     missing = held["final_homes_below_free_path"]
     assert f"{missing:,.0f} homes fewer" in text or f"{missing:,.4g} homes fewer" in text
+
+
+def test_the_tollbrae_exempt_cap_shows_no_within_year_loss_and_says_where_its_cost_is():
+    """The economist's and the analyst's reading of the Tollbrae demo: a binding cap with new
+    homes exempt and rents reset between tenants has a deadweight loss of 0 (its controlled homes
+    are held at their bounds); the caution names it and no other policy."""
+    from service import simulate
+    from service.examples import example_request
+
+    body = simulate(example_request("tollbrae-decontrol-and-exempt-building"))
+    exempt = body["summary"][2]
+    assert exempt["binding_periods"] > 0 and exempt["total_deadweight_loss"] == 0.0
+    (text,) = [c for c in body["cautions"] if MARKS["lossless ceiling"] in c]
+    assert text.startswith(f"'{exempt['name']}' binds and yet shows")
+    assert body["summary"][1]["name"] not in text  # the strict cap has a loss of its own
