@@ -130,10 +130,13 @@ def _plain_text(render):
 
 
 def _compact(value: float, _position=None) -> str:
-    """1,234,567 -> 1.23M: money and quantities without an offset label."""
-    for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M"), (1e3, "k")):
+    """1,234,567 -> 1.23M, 1,350 -> 1,350 (a rent reads as a rent): money and quantities
+    without an offset label."""
+    for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M")):
         if abs(value) >= size:
             return f"{value / size:.3g}{suffix}"
+    if abs(value) >= 1e3:
+        return f"{value:,.0f}"
     return f"{value:.3g}"
 
 
@@ -372,7 +375,7 @@ def _axes_grid(figure, periods, units, panels):
         ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # periods are whole numbers
         ax.axvline(0, color="#777777", linewidth=0.8, linestyle=":")
         ax.annotate(
-            "base",
+            "today",  # period 0: the market as it is
             xy=(0, 1),
             xycoords=("data", "axes fraction"),
             xytext=(3, -12),

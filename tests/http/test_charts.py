@@ -46,7 +46,7 @@ def test_svg_charts_parse_and_carry_labels_units_and_the_caution(client, chart):
     for needle in ("EUR", "do not replace", "Model: linear form"):
         assert needle in text, needle
     if chart != "sensitivity":
-        assert "homes" in text and "Period (year)" in text and "base" in text
+        assert "homes" in text and "Period (year)" in text and "today" in text  # period 0 marked as today
         for name in ("free market", "rent freeze"):
             assert name in text
 
@@ -429,3 +429,12 @@ def test_a_rule_that_only_moves_money_between_groups_shows_a_net_of_zero(client)
 
     assert _net(np.array([1e6, -1e6 + 1e-4])) == 0.0  # rounding of a million moved
     assert _net(np.array([1e6, -0.9e6])) == 1e5  # a real net gain is kept
+
+
+def test_tick_labels_read_rents_and_homes_in_full_and_large_sums_short():
+    """A council reads 1,350 as a rent; 1.35k is a programmer's number. Millions and more keep
+    their short form (M, B, T) so the axis stays narrow."""
+    from service.charts import _compact
+
+    labels = [_compact(v) for v in (0.025, 12.5, 1350.0, 54000.0, 999_999.0, 2_500_000.0, -3.2e9)]
+    assert labels == ["0.025", "12.5", "1,350", "54,000", "999,999", "2.5M", "-3.2B"]
