@@ -189,25 +189,20 @@ TOTALS: dict[str, tuple[str, str, str]] = {
         if key.startswith("distribution.")
     },
 }
-#: The same figures under the flat names bands and sensitivity give them (the engine's summary
-#: names: `total_government`, `vs_free_path_renters_discounted`, ...).
+#: A summary's nested figures under the flat names bands and sensitivity give them (the
+#: engine's summary names): `distribution_totals.government` is `total_government`. The page
+#: reads these too (table()), to find a figure's band.
+FLAT_NAMES = (
+    ("distribution_totals.", "total_"),
+    ("distribution_totals_discounted.", "discounted_"),
+    ("vs_free_path_totals.", "vs_free_path_"),
+)
 TOTALS.update(
     {
-        **{
-            f"total_{key[len('distribution_totals.') :]}": value
-            for key, value in TOTALS.items()
-            if key.startswith("distribution_totals.")
-        },
-        **{
-            f"discounted_{key[len('distribution_totals_discounted.') :]}": value
-            for key, value in TOTALS.items()
-            if key.startswith("distribution_totals_discounted.")
-        },
-        **{
-            f"vs_free_path_{key[len('vs_free_path_totals.') :]}": value
-            for key, value in TOTALS.items()
-            if key.startswith("vs_free_path_totals.")
-        },
+        flat + key[len(nested) :]: value
+        for nested, flat in FLAT_NAMES
+        for key, value in list(TOTALS.items())
+        if key.startswith(nested)
     }
 )
 
@@ -425,4 +420,5 @@ def table() -> dict[str, Any]:
         "nominal": NOMINAL,
         "default_units": DEFAULT_UNITS,
         "drawn": DRAWN,
+        "flat_names": FLAT_NAMES,
     }

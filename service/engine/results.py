@@ -459,6 +459,8 @@ def assemble(
             }
             for j, name in enumerate(scenario.market.shifter_names)
         }
+        # The base rent bill over the horizon: the scale of money figures (what is rounding).
+        rent_bill = float(batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end)
         cautions = scenario_cautions(
             form=scenario.market.form,
             ceiling_binds=ceiling_binds,
@@ -506,8 +508,7 @@ def assemble(
                 if stock
                 and s.kind == "price_ceiling"
                 and s.binding_periods > 0
-                and abs(s.total_deadweight_loss)
-                <= NEGLIGIBLE * float(batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end)
+                and abs(s.total_deadweight_loss) <= NEGLIGIBLE * rent_bill
             ],
             unlet_homes_removed=stock
             and scenario.adjustment.depreciation is None
@@ -516,9 +517,7 @@ def assemble(
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),
             figure_scales={
-                "discounted_deadweight_loss": float(
-                    batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end
-                ),
+                "discounted_deadweight_loss": rent_bill,
                 "final_consumer_price": float(batch.price[i]),
                 "peak_shortage": float(batch.quantity[i]),
             },

@@ -612,16 +612,11 @@ function td(text, cls) {
 const pathsOf = (body) => (body.central ? body.central : body);
 
 // The band summary's key of a flattened summary key (group totals are total_<group> there).
-// A band summary names a nested figure of the answer's summary by the engine's flat name;
-// figures of the other curve form have no band (their leaf names are this form's figures).
-const BAND_NAMES = [
-  ["distribution_totals.", "total_"],
-  ["vs_free_path_totals.", "vs_free_path_"],
-];
-
+// A band summary names a nested figure of the answer's summary by the engine's flat name
+// (labels.FLAT_NAMES); figures of the other curve form have no band.
 function bandFigure(band, key) {
   if (band.summary[key]) return band.summary[key];
-  const found = BAND_NAMES.find(([nested]) => key.startsWith(nested));
+  const found = state.labels.flat_names.find(([nested]) => key.startsWith(nested));
   return found ? band.summary[found[1] + key.slice(found[0].length)] : undefined;
 }
 
