@@ -43,6 +43,11 @@ FORM_GAP = 0.10
 #: A random-rationing misallocation loss above this share of the period's rent bill Pc Q k
 #: comes mostly from willingness to pay far above the rent (MODEL.md 20).
 MISALLOCATION_SHARE = 0.25
+#: A conversion rate above this is cautioned as far above published ones. MODEL.md 18: a 30-50 %
+#: rent gap that costs the controlled group 15 % of its homes in 10-15 years is kappa near 0.03
+#: (a range from memory of Sims 2007 and Diamond, McQuade & Qian 2019, not read from the papers);
+#: this is more than three times that.
+HIGH_CONVERSION = 0.1
 #: The figures compared between the two curve forms, with the words a reader sees.
 OTHER_FORM_FIGURES = {
     "discounted_deadweight_loss": "discounted deadweight loss",
@@ -203,6 +208,7 @@ def scenario_cautions(
     misallocation_shares: Mapping[str, tuple[float, int]] | None = None,
     exempt_binds: bool = False,
     conversion: bool = False,
+    conversion_rate: float = 0.0,
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
     figure_scales: Mapping[str, float] | None = None,
@@ -241,6 +247,8 @@ def scenario_cautions(
         uncontrolled rents rise; with `partial_binds` the Fallis & Smith caution).
     conversion: some path converts controlled homes (converted_homes > 0): its rent effect is
         an upper bound (MODEL.md 18).
+    conversion_rate: the request's conversion rate kappa; with `conversion`, a rate above
+        HIGH_CONVERSION is named as far above published estimates.
     figure_scales: per figure of OTHER_FORM_FIGURES its scale (money: the base rent bill over the
         horizon; price: the base rent; quantity: the base homes): values below NEGLIGIBLE of it
         are rounding and never named as a difference.
@@ -334,6 +342,12 @@ def scenario_cautions(
             "the households that buy or use them still count as wanting to rent, so the rise in rents "
             "that conversion causes is an upper bound."
         )
+        if conversion_rate > HIGH_CONVERSION:
+            out.append(
+                f"The conversion rate assumed here, {conversion_rate:g}, is more than three times the "
+                "largest that published studies of rent control suggest (a few hundredths): the homes "
+                "converted, and the rise in rents they cause, may be much overstated."
+            )
     if random_rationing:
         out.append(
             "Who gains and who loses (distribution) is not reported under random rationing: the "

@@ -1994,7 +1994,9 @@ def _percentile_rows(values, keep, q, out):
 
 def percentiles(values: np.ndarray, keep: np.ndarray, q: np.ndarray) -> np.ndarray:
     """(rows, len(q)) percentiles of each row of `values` (rows, draws) over the draws `keep`
-    (indices, at least one), exactly numpy's 'linear' method; order statistics are selected,
+    (indices, at least one), by numpy's 'linear' method: the same order statistics, joined as
+    below + (above - below) f, which can differ from numpy's own interpolation in the last bit
+    (numpy writes above - (above - below)(1 - f) for f >= 0.5). Order statistics are selected,
     not sorted (O(draws) per percentile)."""
     out = np.empty((values.shape[0], q.shape[0]))
     _percentile_rows(values, np.ascontiguousarray(keep, dtype=np.int64), np.asarray(q, dtype=float), out)

@@ -41,6 +41,7 @@ MARKS = {
     "misallocation": "top of the demand curve",
     "uncontrolled rents": "Fallis & Smith 1984",
     "conversion": "upper bound",
+    "high conversion": "more than three times the largest",
     "no distribution": "is not reported under random rationing",
     "inflation": "nominal rules",
     "stock": "homes not built stay missing",
@@ -62,6 +63,7 @@ EVERY_CONDITION = {
     "partial_binds": True,
     "exempt_binds": True,
     "conversion": True,
+    "conversion_rate": 0.5,
     "inflation": True,
     "stock": True,
     "never_binding": ["cap"],
@@ -101,6 +103,9 @@ def test_a_quiet_scenario_gets_only_the_general_cautions():
         ({"partial_binds": True}, {"uncontrolled rents"}),
         ({"exempt_binds": True}, {"uncontrolled rents"}),
         ({"conversion": True}, {"conversion"}),
+        ({"conversion": True, "conversion_rate": 0.5}, {"conversion", "high conversion"}),
+        ({"conversion": True, "conversion_rate": 0.1}, {"conversion"}),
+        ({"conversion_rate": 0.5}, set()),  # no home converted: nothing to overstate
         ({"inflation": True}, {"inflation"}),
         ({"stock": True}, {"stock"}),
         ({"never_binding": ["cap"]}, {"never binds"}),
@@ -376,3 +381,21 @@ def test_the_tollbrae_exempt_cap_shows_no_within_year_loss_and_says_where_its_co
     (text,) = [c for c in body["cautions"] if MARKS["lossless ceiling"] in c]
     assert text.startswith(f"'{exempt['name']}' binds and yet shows")
     assert body["summary"][1]["name"] not in text  # the strict cap has a loss of its own
+
+
+def test_a_conversion_rate_far_above_published_ones_is_named_with_its_value():
+    """Tollbrae's conversion rate of 0.02 is in the published range (MODEL.md 18: a few
+    hundredths, from memory); the same request at 0.5 converts far more homes and is told so."""
+    from service import simulate
+    from service.examples import example_request
+
+    request = example_request("tollbrae-decontrol-and-exempt-building")
+    usual = simulate(request)
+    request["adjustment"]["conversion"] = 0.5
+    fast = simulate(request)
+    assert MARKS["conversion"] in " ".join(usual["cautions"])
+    assert not any(MARKS["high conversion"] in c for c in usual["cautions"])
+    (text,) = [c for c in fast["cautions"] if MARKS["high conversion"] in c]
+    assert "0.5," in text
+    converted = [s["total_converted_homes"] for s in fast["summary"] if s["total_converted_homes"]]
+    assert converted and max(converted) > max(s["total_converted_homes"] or 0.0 for s in usual["summary"])
