@@ -216,6 +216,8 @@ def scenario_cautions(
     held_to_horizon: Mapping[str, float] | None = None,
     unlet_homes_removed: bool = False,
     lossless_ceilings: Sequence[str] = (),
+    more_homes: Mapping[str, tuple[float, int]] | None = None,
+    unbound_changed: Sequence[str] = (),
 ) -> list[str]:
     """Sentences for one scenario, each only where its condition holds.
 
@@ -225,7 +227,8 @@ def scenario_cautions(
         leaves out, the upkeep and quality of controlled homes and tenants who stay because their
         rent is low.
     random_rationing: the request's `welfare.rationing` is "random".
-    never_binding: names of policies (not "none") that never bind over the horizon.
+    never_binding: names of policies (not "none") that never bind over the horizon and leave the
+        path as the free market's (said to equal it).
     largest_shock .. quantity_gap: facts of the shock-size caution (largest |shock| as a
         fraction and its period; whether the other form has a free market; its largest price
         gap |other / this - 1|, the period, its largest quantity gap). Used only when
@@ -263,6 +266,14 @@ def scenario_cautions(
         NEGLIGIBLE of the rent bill over the horizon): their controlled homes are held at their
         bounds, so within each period the rule only moves money; its cost (homes converted and
         not built) is not in the within-period loss.
+    more_homes: under `stock`, per price ceiling whose path has more homes than the free path in
+        some period (homes_below_free_path below -NEGLIGIBLE of the base homes), the most extra
+        homes and their period. MODEL.md 17 bounds each group of homes on its own (derived: the
+        sum of the groups' depreciation floors keeps more than the market's one floor where the
+        market shrinks), whether or not the rule binds: said to come from the model, not the rule.
+    unbound_changed: under `stock`, price ceilings that never bind and yet leave fewer homes than
+        the free path in some period (each group's build limit on its own, MODEL.md 17); with the
+        ceilings of `more_homes` that never bind, they are not said to equal the free market.
     unlet_homes_removed: under `stock` without depreciation a price floor or quantity cap binds:
         homes offered and not let leave the stock at once (MODEL.md 16: K_t = Q_t), where with a
         depreciation rate they would stand empty and be offered again.
@@ -364,12 +375,13 @@ def scenario_cautions(
     if stock:
         out.append(
             "Under the stock schedule homes not built stay missing, while a rule lasts and after it "
-            "ends. The deadweight loss counts only each period's loss against that period's free "
-            "market on the same, already smaller, stock: for a rule that lasts it stays near its "
-            "first-year size, while the loss with supply fully adjusted is larger. So the full cost "
-            "of homes never built is larger than the deadweight loss shown; renters' gains and "
-            "losses against the market that never had the rule, the years after the rule ends "
-            "included, are reported separately."
+            "ends. The deadweight loss, and who gains and who loses within each year, count only each "
+            "period's change against that period's free market on the same, already smaller, stock: "
+            "for a rule that lasts the loss stays near its first-year size, while the loss with "
+            "supply fully adjusted is larger, and the split between tenants and owners is that of "
+            "the short run. So the full cost of homes never built is larger than the deadweight "
+            "loss shown; renters' gains and losses against the market that never had the rule, the "
+            "years after the rule ends included, are reported separately (owners' are not)."
         )
     if (
         stock
@@ -417,6 +429,26 @@ def scenario_cautions(
             "schedule the homes a ceiling kept "
             "from being built return the moment it ends, as if built overnight; real homes take years. "
             "Choose the stock schedule of adjustment to see the years after a ceiling ends."
+        )
+    extra = dict(more_homes or {}) if stock else {}
+    if extra:
+        which = ", ".join(
+            f"'{name}' (up to {_figure(homes)} more, in period {period})" for name, (homes, period) in extra.items()
+        )
+        out.append(
+            f"More homes than the market without the rule in some years, whether or not it binds: "
+            f"{which}. In this model the homes under the rule and the other homes are two groups from "
+            "the rule's start, and each loses at most the depreciation rate a year, so where the "
+            "market shrinks the two together keep more homes than one market would. This comes from "
+            "how the model counts the groups, not from a benefit of the rule."
+        )
+    changed = list(unbound_changed) if stock else []
+    if changed:
+        out.append(
+            f"Fewer homes than the market without the rule in some years although it never binds: "
+            f"{_names(changed)}. In this model the homes under the rule and the other "
+            "homes are two groups from the rule's start, and each can be built only up to the build "
+            "limit on its own, so the two together need not follow the market without the rule."
         )
     if never_binding:
         out.append(f"Never binds over the horizon, so it equals the free market: {_names(never_binding)}.")

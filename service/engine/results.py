@@ -336,6 +336,34 @@ def _first_periods(series, end: int):
     return series if len(series[0]) == end else [values[:end] for values in series]
 
 
+def _homes_not_standing(summary: PolicySummary) -> float:
+    """Under `stock`, the homes a path has fewer than the free path in its last period that are
+    not standing at all: homes below the free path less those standing empty (MODEL.md 16:
+    vacant homes are offered again at once when a floor or permit cap ends)."""
+    return summary.final_homes_below_free_path - (summary.final_vacant_homes or 0.0)
+
+
+def _ceilings_off_the_free_path(
+    scenario: Scenario, summaries: Sequence[PolicySummary], below: np.ndarray, negligible: float
+) -> tuple[dict[str, tuple[float, int]], list[str]]:
+    """Under `stock`, the price ceilings whose paths leave the free path where a whole market
+    would not: {name: (most homes above the free path, its period)} for each with more homes in
+    some period, and the names of those that never bind and yet have fewer homes in some period.
+    `below`: the scenario's homes_below_free_path, (its policies, periods)."""
+    more: dict[str, tuple[float, int]] = {}
+    fewer: list[str] = []
+    for local, summary in enumerate(summaries):
+        if summary.kind != "price_ceiling":
+            continue
+        path = below[local]
+        lowest = int(np.argmin(path))
+        if path[lowest] < -negligible:
+            more[summary.name] = (float(-path[lowest]), lowest)
+        elif summary.binding_periods == 0 and float(path.max()) > negligible:
+            fewer.append(summary.name)
+    return more, fewer
+
+
 def assemble(
     scenarios: Sequence[Scenario],
     batch: ScenarioBatch,
@@ -459,13 +487,26 @@ def assemble(
             }
             for j, name in enumerate(scenario.market.shifter_names)
         }
+        more_homes, unbound_changed = (
+            _ceilings_off_the_free_path(
+                scenario, summaries, arrays.named("homes_below_free_path")[row_index.start : row_index.stop, :end],
+                NEGLIGIBLE * float(batch.quantity[i]),
+            )
+            if stock
+            else ({}, [])
+        )
+        unlike_free_path = set(more_homes) | set(unbound_changed)
         # The base rent bill over the horizon: the scale of money figures (what is rounding).
         rent_bill = float(batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end)
         cautions = scenario_cautions(
             form=scenario.market.form,
             ceiling_binds=ceiling_binds,
             random_rationing=random,
-            never_binding=[s.name for s in summaries if s.kind != "none" and s.binding_periods == 0],
+            never_binding=[
+                s.name
+                for s in summaries
+                if s.kind != "none" and s.binding_periods == 0 and s.name not in unlike_free_path
+            ],
             inflation=inflated,
             stock=stock,
             partial_binds=partial_binds,
@@ -494,14 +535,16 @@ def assemble(
             exempt_binds=exempt_binds,
             other_form_refused=bool(other_refused[i]),
             held_to_horizon={
-                p.name: s.final_homes_below_free_path
+                p.name: _homes_not_standing(s)
                 for p, s in zip(scenario.policies, summaries, strict=True)
                 if stock
                 and p.kind != "none"
                 and p.start <= end - 1
                 and (p.end is None or p.end >= end - 1)
-                and s.final_homes_below_free_path > NEGLIGIBLE * float(batch.quantity[i])
+                and _homes_not_standing(s) > NEGLIGIBLE * float(batch.quantity[i])
             },
+            more_homes=more_homes,
+            unbound_changed=unbound_changed,
             lossless_ceilings=[
                 s.name
                 for s in summaries
