@@ -287,10 +287,6 @@ def _period_label(units) -> str:
     return "Period" if period == "period" else f"Period ({period})"
 
 
-def _unit_labels(units: dict) -> dict:
-    return {"unit": "unit", "price_interval": "price interval", **units}
-
-
 def _series(path: dict, name: str):
     """A path's per-period series by panel name (`object.member` inside an object), or None."""
     if "." in name:

@@ -20,11 +20,9 @@ import numpy as np
 __all__ = [
     "FORM_GAP",
     "GENERAL_CAUTION",
-    "LARGE_SHOCK",
     "MISALLOCATION_SHARE",
     "OTHER_FORM_FIGURES",
     "misallocation_shares",
-    "other_form_pairs",
     "scenario_cautions",
 ]
 
@@ -34,9 +32,6 @@ GENERAL_CAUTION = (
     "people's homes."
 )
 
-#: Largest fractional shock above which the two curve forms visibly differ (the shock-size
-#: caution, given only to callers that do not pass `other_form`).
-LARGE_SHOCK = 0.10
 #: Two forms' values of one figure differ visibly when they differ by more than this share of
 #: the larger (MODEL.md 20).
 FORM_GAP = 0.10
@@ -72,23 +67,6 @@ def misallocation_shares(
     return {
         name: (float(share[p, at[p]]), int(at[p])) for p, name in enumerate(names) if share[p, at[p]] > 0.0
     }
-
-
-def other_form_pairs(
-    names: Sequence[str], summary: Mapping[str, np.ndarray]
-) -> dict[str, dict[str, tuple[float, float]] | None]:
-    """The `other_form` argument from one scenario's summary figures, each (policies,), by
-    kernel.SUMMARY_INDEX name: this form's figure and `other_` + its name, None where
-    `other_feasible` is 0."""
-    out: dict[str, dict[str, tuple[float, float]] | None] = {}
-    for p, name in enumerate(names):
-        if summary["other_feasible"][p] == 0.0:
-            out[name] = None
-        else:
-            out[name] = {
-                key: (float(summary[key][p]), float(summary["other_" + key][p])) for key in OTHER_FORM_FIGURES
-            }
-    return out
 
 
 def _percent(x: float) -> str:
@@ -161,48 +139,16 @@ def _other_form_caution(
     return " ".join(parts)
 
 
-def _shock_size_caution(
-    form: str,
-    largest_shock: float,
-    largest_shock_period: int,
-    alternate_feasible: bool,
-    price_gap: float,
-    price_gap_period: int,
-    quantity_gap: float,
-) -> str | None:
-    if largest_shock <= LARGE_SHOCK:
-        return None
-    other = "constant-elasticity" if form == "linear" else "linear"
-    head = (
-        f"The largest shock is {_percent(largest_shock)} (period {largest_shock_period}); "
-        "above roughly 10-20 % first-order (linear) and constant-elasticity answers differ visibly."
-    )
-    if alternate_feasible:
-        head += (
-            f" Here the {other} form's free-market price differs by up to {_percent(price_gap)} "
-            f"(period {price_gap_period}) and its quantity by up to {_percent(quantity_gap)}."
-        )
-    else:
-        head += f" The {other} form cannot represent this shock (it leaves zero or negative quantity)."
-    return head
-
-
 def scenario_cautions(
     *,
     form: str,
     ceiling_binds: bool,
     random_rationing: bool,
     never_binding: list[str],
-    largest_shock: float = 0.0,
-    largest_shock_period: int = 0,
-    alternate_feasible: bool = True,
-    price_gap: float = 0.0,
-    price_gap_period: int = 0,
-    quantity_gap: float = 0.0,
+    other_form: OtherForm,
     inflation: bool = False,
     stock: bool = False,
     partial_binds: bool = False,
-    other_form: OtherForm | None = None,
     shortage: bool = False,
     lifted_ceilings: Sequence[str] = (),
     misallocation_shares: Mapping[str, tuple[float, int]] | None = None,
@@ -229,10 +175,6 @@ def scenario_cautions(
     random_rationing: the request's `welfare.rationing` is "random".
     never_binding: names of policies (not "none") that never bind over the horizon and leave the
         path as the free market's (said to equal it).
-    largest_shock .. quantity_gap: facts of the shock-size caution (largest |shock| as a
-        fraction and its period; whether the other form has a free market; its largest price
-        gap |other / this - 1|, the period, its largest quantity gap). Used only when
-        `other_form` is None (callers from before MODEL.md 20); `other_form` replaces it.
     inflation: the request has market.inflation (not 0).
     stock: the adjustment schedule is `stock`.
     partial_binds: a price ceiling with coverage < 1 binds.
@@ -282,18 +224,7 @@ def scenario_cautions(
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
     """
     out: list[str] = []
-    if other_form is None:
-        head = _shock_size_caution(
-            form,
-            largest_shock,
-            largest_shock_period,
-            alternate_feasible,
-            price_gap,
-            price_gap_period,
-            quantity_gap,
-        )
-    else:
-        head = _other_form_caution(form, other_form, figure_scales, other_form_refused)
+    head = _other_form_caution(form, other_form, figure_scales, other_form_refused)
     if head is not None:
         out.append(head)
     if ceiling_binds and not random_rationing:
@@ -433,7 +364,8 @@ def scenario_cautions(
     extra = dict(more_homes or {}) if stock else {}
     if extra:
         which = ", ".join(
-            f"'{name}' (up to {_figure(homes)} more, in period {period})" for name, (homes, period) in extra.items()
+            f"'{name}' (up to {_figure(homes)} more, in period {period})"
+            for name, (homes, period) in extra.items()
         )
         out.append(
             f"More homes than the market without the rule in some years, whether or not it binds: "

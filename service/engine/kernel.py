@@ -177,8 +177,17 @@ def _positions(typename: str, names: tuple[str, ...]):
 
 SERIES_INDEX, _S = _positions("SeriesIndex", SERIES_NAMES)
 
+#: Per-period flags of a policy row, in the order of the first axis of its flags.
 FLAG_NAMES = ("binding", "rationed", "infeasible")
-_BINDING, _RATIONED, _INFEASIBLE = 0, 1, 2
+FLAG_INDEX, _F = _positions("FlagIndex", FLAG_NAMES)
+
+#: The free path of a scenario (free_paths), in the order of its second axis.
+FREE_PATH_NAMES = ("price", "quantity", "supply_elasticity")
+FREE_PATH_INDEX, _FP = _positions("FreePathIndex", FREE_PATH_NAMES)
+
+#: The two curves a shifter moves, in the order of the shift arrays' second axis.
+SHIFTED_CURVES = ("demand", "supply")
+_, _SC = _positions("ShiftedCurve", SHIFTED_CURVES)
 
 #: Summary figures of a policy row over its horizon (money summed in period order).
 SUMMARY_NAMES = (
@@ -607,7 +616,7 @@ def _period_curves(m, i, ce, t, stock_prev):
     """The curves of period t on a path whose homes standing at the end of t-1 are
     `stock_prev` (used only under the stock schedule; MODEL.md 13 and 16)."""
     shifts = m.constant_shifts if ce else m.linear_shifts
-    d, s = shifts[i, 0, t], shifts[i, 1, t]
+    d, s = shifts[i, _SC.demand, t], shifts[i, _SC.supply, t]
     if m.stock[i]:
         rate = m.stock_rate[i]
         top = (1.0 + m.build_limit[i]) * stock_prev if m.build_limit[i] > 0.0 else math.inf
@@ -785,7 +794,7 @@ def _wedge(c, code, rate, real, active, p_star, q_star, share):
     elif code == _UNIT_TAX:
         scale, gap = 1.0, real
         low, high = p_star, p_star + real
-    else:
+    else:  # _SUBSIDY: _policy_outcome sends only the three wedge codes here
         scale, gap = 1.0, -real
         top = _supply(c, p_star + real)
         low, high = _inverse_demand(c, top), p_star
@@ -1008,7 +1017,7 @@ def _group_supplies(
 
 
 @njit(**_JIT)
-def _controlled_groups(c, controlled, others, rule, tau, active, whole, guess):
+def _controlled_groups(c, controlled, others, rule, tau, whole, guess):
     """A ceiling over two groups of homes (MODEL.md 17): the market rent M clears
     Qd(M) = Sc(Rc(M)) + Su(M); the comparator P^ clears the same curves without the rule.
     The rule binds where r < P^ (then r < M: Fallis & Smith 1984) and tau < 1.
@@ -1019,7 +1028,7 @@ def _controlled_groups(c, controlled, others, rule, tau, active, whole, guess):
     else M) and the comparator (P^, Q^)."""
     p_hat = _market_rent(c, controlled, others, -1.0, 0.0, guess)
     q_hat = _group_supply(c, controlled, p_hat) + _group_supply(c, others, p_hat)
-    binding = active and rule < p_hat and tau < 1.0
+    binding = rule < p_hat and tau < 1.0
     if binding:
         market = _market_rent(c, controlled, others, rule, tau, p_hat)
         received = _received(rule, tau, market)
@@ -1204,32 +1213,34 @@ def _free_path_kernel(m, form_ce, out):
     for i in range(m.price.shape[0]):
         ce = form_ce[i]
         p0, q0 = m.price[i], m.quantity[i]
-        out[i, 0, 0] = p0
-        out[i, 1, 0] = q0
-        out[i, 2, 0] = m.eps[i, 0]
+        out[i, _FP.price, 0] = p0
+        out[i, _FP.quantity, 0] = q0
+        out[i, _FP.supply_elasticity, 0] = m.eps[i, 0]
         stock_prev = q0
         guess = p0
         for t in range(1, m.horizon[i] + 1):
             c = _period_curves(m, i, ce, t, stock_prev)
             price, quantity = _free_point(c, guess)
-            out[i, 0, t] = price
-            out[i, 1, t] = quantity
+            out[i, _FP.price, t] = price
+            out[i, _FP.quantity, t] = quantity
             # Under the stock schedule: the elasticity of this period's supply at its equilibrium.
-            out[i, 2, t] = _supply_elasticity_at(c, price, quantity) if m.stock[i] else m.eps[i, t]
+            out[i, _FP.supply_elasticity, t] = (
+                _supply_elasticity_at(c, price, quantity) if m.stock[i] else m.eps[i, t]
+            )
             stock_prev = quantity
             if price > 0.0 and math.isfinite(price):
                 guess = price
         for t in range(m.horizon[i] + 1, m.eps.shape[1]):  # padding of a shorter horizon
-            out[i, 0, t] = p0
-            out[i, 1, t] = q0
-            out[i, 2, t] = m.eps[i, t]
+            out[i, _FP.price, t] = p0
+            out[i, _FP.quantity, t] = q0
+            out[i, _FP.supply_elasticity, t] = m.eps[i, t]
 
 
 def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -> np.ndarray:
     """(n, 3, T+1): free-market price, quantity and supply elasticity of each scenario, in the
     form given by `constant_elasticity` (n,) (default: each scenario's own)."""
     form = m.constant_elasticity if constant_elasticity is None else constant_elasticity
-    out = np.zeros((m.price.shape[0], 3, m.eps.shape[1]))
+    out = np.zeros((m.price.shape[0], len(FREE_PATH_NAMES), m.eps.shape[1]))
     _free_path_kernel(m, form, out)
     return out
 
@@ -1319,7 +1330,7 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
     m_divisor = 1.0 + 1.0 / eta if random and ce else 2.0
 
     _start_row(cells[0], p0, q0, share)
-    for j in range(3):
+    for j in range(len(FLAG_NAMES)):
         flags[j, 0] = False
     stock_prev = q0  # homes standing at the end of the period before
     previous_rent = p0  # the controlled rent of the period before
@@ -1333,7 +1344,7 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
         if t > m.horizon[i]:
             for j in range(cell.shape[0]):
                 cell[j] = 0.0
-            for j in range(3):
+            for j in range(len(FLAG_NAMES)):
                 flags[j, t] = False
             continue
         c = _period_curves(m, i, ce, t, stock_prev)
@@ -1348,7 +1359,7 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
                 controlled_prev, others_prev = share * stock_prev, (1.0 - share) * stock_prev
                 in_groups = True
             elif kappa > 0.0 and prev_bound:
-                gap = math.log(free[i, 0, t - 1] / previous_rent)
+                gap = math.log(free[i, _FP.price, t - 1] / previous_rent)
                 conversion_share = min(1.0, kappa * max(0.0, gap))
             converted = conversion_share * controlled_prev
             controlled, others = _group_supplies(
@@ -1362,13 +1373,13 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
                 m.floor_share[i],
                 m.build_limit[i],
             )
-            o, p_star, q_star = _controlled_groups(c, controlled, others, level, tau, True, whole, guess)
+            o, p_star, q_star = _controlled_groups(c, controlled, others, level, tau, whole, guess)
         else:
             in_groups = False
             if stock:
                 p_star, q_star = _free_point(c, guess)
             else:
-                p_star, q_star = free[i, 0, t], free[i, 1, t]
+                p_star, q_star = free[i, _FP.price, t], free[i, _FP.quantity, t]
             o = _policy_outcome(c, code, v, real, level, active, p_star, q_star, share)
         infeasible = o.binding and not (o.q > 0.0 and o.pc > 0.0 and o.pp > 0.0)
         if stock and not (p_star > 0.0 and q_star > 0.0):
@@ -1388,8 +1399,8 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
             w,
             p_star,
             q_star,
-            free[i, 0, t],
-            free[i, 1, t],
+            free[i, _FP.price, t],
+            free[i, _FP.quantity, t],
             m.price_index[i, t],
             cumulative,
             discounted,
@@ -1401,14 +1412,16 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
         cell[_S.vacant_homes] = standing - o.q
         cell[_S.converted_homes] = converted
         if stock and code != _NONE and t >= start:
-            renters, extra = _vs_free_path(c, o, free[i, 0, t], free[i, 1, t], k_pay, w.mis)
+            renters, extra = _vs_free_path(
+                c, o, free[i, _FP.price, t], free[i, _FP.quantity, t], k_pay, w.mis
+            )
             cell[_S.renters_vs_free_path] = renters
             cell[_S.extra_rent_vs_free_path] = extra
         else:
             cell[_S.renters_vs_free_path] = cell[_S.extra_rent_vs_free_path] = 0.0
-        flags[_BINDING, t] = o.binding
-        flags[_RATIONED, t] = o.rationed
-        flags[_INFEASIBLE, t] = infeasible
+        flags[_F.binding, t] = o.binding
+        flags[_F.rationed, t] = o.rationed
+        flags[_F.infeasible, t] = infeasible
         stock_prev = standing
         if in_groups:
             controlled_prev, others_prev = o.covered_q, o.uncovered_q
@@ -1473,7 +1486,7 @@ def _row_totals(cells, flags, last, end, factor, checked, total):
             peak, peak_at = cells[t, _S.shortage], float(t)
         if cells[t, _S.homes_below_free_path] > peak_below:
             peak_below = cells[t, _S.homes_below_free_path]
-        if flags[_BINDING, t]:
+        if flags[_F.binding, t]:
             bound += 1.0
     total[_T.peak_shortage] = peak
     total[_T.peak_shortage_period] = peak_at
@@ -1525,6 +1538,11 @@ Outputs = namedtuple(
 )
 
 
+#: The series the other form's summary figures rest on (prices, quantities and welfare, up to
+#: the discounted deadweight loss): its finite check.
+_OTHER_FORM_CHECKED = np.arange(SERIES_INDEX["discounted_deadweight_loss"] + 1)
+
+
 @njit(**_JIT)
 def _policy_rows(m, rows, free, free_other, other, x):
     """Every row in its scenario's form; with `other`, also in the other form (summary figures
@@ -1534,8 +1552,8 @@ def _policy_rows(m, rows, free, free_other, other, x):
     periods = m.eps.shape[1]
     cells = np.empty((periods, len(SERIES_NAMES)))
     nothing = np.empty(0, dtype=np.int64)
-    core = np.arange(16)
-    scratch_flags = np.empty((3, periods), dtype=np.bool_)
+    core = _OTHER_FORM_CHECKED
+    scratch_flags = np.empty((len(FLAG_NAMES), periods), dtype=np.bool_)
     scratch_total = np.empty(summary.shape[1])
     every_banded = x.banded.ravel()
     checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
@@ -1565,7 +1583,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
             _row_totals(cells, scratch_flags, last, end, factor, core, scratch_total)
             feasible = scratch_total[_T.non_finite] == 0.0
             for t in range(last + 1):
-                if scratch_flags[_INFEASIBLE, t]:
+                if scratch_flags[_F.infeasible, t]:
                     feasible = False
             summary[r, _T.other_discounted_deadweight_loss] = scratch_total[_T.discounted_deadweight_loss]
             summary[r, _T.other_final_consumer_price] = scratch_total[_T.final_consumer_price]
@@ -1770,19 +1788,19 @@ def _shifts(x, i, max_change, safe, log_safe, out):
     for j in range(m):
         out.shift_bad[i, j] = x.change_too_large[row, j]
     for t in range(periods):
-        out.linear[i, 0, t] = 0.0
-        out.linear[i, 1, t] = 0.0
-        out.constant[i, 0, t] = 0.0
-        out.constant[i, 1, t] = 0.0
+        out.linear[i, _SC.demand, t] = 0.0
+        out.linear[i, _SC.supply, t] = 0.0
+        out.constant[i, _SC.demand, t] = 0.0
+        out.constant[i, _SC.supply, t] = 0.0
     for j in range(m):
         for t in range(periods):
             g = x.change[row, j, t]
             if t <= x.horizon[i] and (g <= -1.0 or g > max_change):
                 out.shift_bad[i, j] = True
-            out.linear[i, 0, t] += x.demand_shifter[i, j] * safe[row, j, t]
-            out.constant[i, 0, t] += x.demand_shifter[i, j] * log_safe[row, j, t]
-            out.linear[i, 1, t] += x.supply_shifter[i, j] * safe[row, j, t]
-            out.constant[i, 1, t] += x.supply_shifter[i, j] * log_safe[row, j, t]
+            out.linear[i, _SC.demand, t] += x.demand_shifter[i, j] * safe[row, j, t]
+            out.constant[i, _SC.demand, t] += x.demand_shifter[i, j] * log_safe[row, j, t]
+            out.linear[i, _SC.supply, t] += x.supply_shifter[i, j] * safe[row, j, t]
+            out.constant[i, _SC.supply, t] += x.supply_shifter[i, j] * log_safe[row, j, t]
 
 
 @njit(**_JIT)

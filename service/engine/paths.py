@@ -209,12 +209,13 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     other = kernel.free_paths(market, ~ce) if alternate else None
     lin_free = own if other is None else np.where(ce[:, None, None], other, own)
     # The linear form's range (MODEL.md 4): P* and Q* > 0 in every valid period.
-    linear_failed = valid & ~((lin_free[:, 0] > 0.0) & (lin_free[:, 1] > 0.0))
+    price_at, quantity_at, elasticity_at = (kernel.FREE_PATH_INDEX[name] for name in kernel.FREE_PATH_NAMES)
+    linear_failed = valid & ~((lin_free[:, price_at] > 0.0) & (lin_free[:, quantity_at] > 0.0))
     linear_out_of_range = linear_failed & ~ce[:, None]
     scenario_bad = _inputs_failed(prepared.shift_bad, prepared.undefined, linear_out_of_range)
     keep = ~scenario_bad[:, None]
-    free_price = np.where(keep, own[:, 0], batch.price[:, None])
-    free_quantity = np.where(keep, own[:, 1], batch.quantity[:, None])
+    free_price = np.where(keep, own[:, price_at], batch.price[:, None])
+    free_quantity = np.where(keep, own[:, quantity_at], batch.quantity[:, None])
     if other is not None:
         alternate_feasible = np.where(ce, ~linear_failed.any(axis=1), True) & ~scenario_bad
     else:
@@ -224,11 +225,14 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     names = kernel.SERIES_NAMES if series is None else series
     values, flags, summary = kernel.policy_paths(market, policy, own, names, band, other)
     s_of = rows.scenario
-    infeasible = flags[:, 2] & valid[s_of]
+    infeasible = flags[:, kernel.FLAG_INDEX["infeasible"]] & valid[s_of]
     unbounded = is_ceiling(rows.kind) & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
     unbounded &= batch.demand_elasticity[s_of] >= -1.0
     # The compiled pass flags a row where any value of a valid period is not finite.
     non_finite = summary[:, kernel.SUMMARY_INDEX["non_finite"]] > 0.0
+    # The free path's supply elasticity is reported too: checked here, per scenario.
+    supply_elasticity = np.where(keep, own[:, elasticity_at], market.eps)
+    non_finite |= (valid & ~np.isfinite(supply_elasticity)).any(axis=1)[s_of]
     if batch.has_inflation.any():
         index_failed = _index_out_of_range(batch, rows, market.price_index, valid, values, names)
     else:
@@ -236,7 +240,7 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
 
     return PathArrays(
         valid=valid,
-        supply_elasticity=np.where(keep, own[:, 2], market.eps),
+        supply_elasticity=supply_elasticity,
         free_price=free_price,
         free_quantity=free_quantity,
         alternate_feasible=alternate_feasible,
@@ -253,5 +257,5 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
         summary=summary,
         series=values,
         series_names=names,
-        binding=flags[:, 0],
+        binding=flags[:, kernel.FLAG_INDEX["binding"]],
     )

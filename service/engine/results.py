@@ -489,7 +489,9 @@ def assemble(
         }
         more_homes, unbound_changed = (
             _ceilings_off_the_free_path(
-                scenario, summaries, arrays.named("homes_below_free_path")[row_index.start : row_index.stop, :end],
+                scenario,
+                summaries,
+                arrays.named("homes_below_free_path")[row_index.start : row_index.stop, :end],
                 NEGLIGIBLE * float(batch.quantity[i]),
             )
             if stock

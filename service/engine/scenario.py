@@ -16,8 +16,6 @@ __all__ = [
     "FORMS",
     "NEW_HOMES",
     "RATIONING_RULES",
-    "SCHEDULES",
-    "SHOCK_PROFILES",
     "Adjustment",
     "DiscountStep",
     "Market",
@@ -28,8 +26,6 @@ __all__ = [
 ]
 
 FORMS = ("linear", "constant_elasticity")
-SHOCK_PROFILES = ("step", "ramp", "growth", "path")
-SCHEDULES = ("linear", "geometric", "explicit", "stock")
 RATIONING_RULES = ("efficient", "random")
 #: Whether homes built after a ceiling starts fall under it (MODEL.md 17); the first is the default.
 NEW_HOMES = ("covered", "exempt")

@@ -21,7 +21,7 @@ import numpy as np
 
 from . import kernel
 
-__all__ = ["SCHEDULE_CODES", "half_life_from_rate", "rate_from_half_life"]
+__all__ = ["SCHEDULE_CODES", "rate_from_half_life"]
 
 #: Codes of the schedules (defined once, in kernel.py); "constant" means no schedule.
 SCHEDULE_CODES = kernel.SCHEDULE_CODES
@@ -31,8 +31,3 @@ def rate_from_half_life(half_life: np.ndarray | float) -> np.ndarray:
     """Adjustment coefficient lambda with (1 - lambda)^h = 1/2; h in periods, > 0."""
     with np.errstate(over="ignore"):  # a tiny half-life means lambda = 1 (-expm1(-inf) = 1)
         return -np.expm1(np.log(0.5) / np.asarray(half_life, dtype=float))
-
-
-def half_life_from_rate(rate: np.ndarray | float) -> np.ndarray:
-    """Periods to close half the gap, ln 0.5 / ln(1 - lambda), for lambda in (0, 1)."""
-    return np.log(0.5) / np.log1p(-np.asarray(rate, dtype=float))

@@ -18,7 +18,9 @@ from marshmallow import ValidationError, fields, post_load, validate, validates_
 
 from .. import limits
 from ..engine.scenario import (
+    FORMS,
     NEW_HOMES,
+    RATIONING_RULES,
     Adjustment,
     DiscountStep,
     Market,
@@ -130,7 +132,7 @@ class MarketSchema(StrictSchema):
     )
     form = fields.String(
         load_default="linear",
-        validate=validate.OneOf(["linear", "constant_elasticity"]),
+        validate=validate.OneOf(FORMS),
         metadata={"description": "Curve form: first-order linear displacement or constant elasticity."},
     )
     demand = fields.Nested(DemandSchema, required=True)
@@ -591,7 +593,7 @@ class DiscountStepSchema(StrictSchema):
 class WelfareSchema(StrictSchema):
     rationing = fields.String(
         load_default="efficient",
-        validate=validate.OneOf(["efficient", "random"]),
+        validate=validate.OneOf(RATIONING_RULES),
         metadata={"description": "Who gets the units under a binding ceiling."},
     )
     discount_rate = NumberOrList(

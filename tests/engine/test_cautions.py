@@ -13,7 +13,6 @@ from service.engine.cautions import (
     GENERAL_CAUTION,
     MISALLOCATION_SHARE,
     misallocation_shares,
-    other_form_pairs,
     scenario_cautions,
 )
 from service.engine.kernel import SERIES_NAMES, SUMMARY_NAMES
@@ -34,7 +33,6 @@ QUIET = {
 MARKS = {
     "other form": "Solved with the",
     "no other answer": "has no answer for",
-    "shock size": "The largest shock is",
     "lower bound": "efficient rationing (units go",
     "random ceiling": "ration units at random",
     "shortage": "not a count of households without a home",
@@ -211,7 +209,7 @@ def test_the_other_form_names_each_policy_and_figure_that_differ_by_more_than_a_
             "peak_shortage": (0.0, 0.0),
         },
     }
-    cautions = _cautions(other_form=other_form, largest_shock=0.5, largest_shock_period=3)
+    cautions = _cautions(other_form=other_form)
     assert _present(cautions) == {"other form"}
     (text,) = [c for c in cautions if MARKS["other form"] in c]
     assert "constant-elasticity" in text
@@ -249,26 +247,9 @@ def test_the_vouchers_demo_is_told_why_the_other_form_has_no_answer():
     assert not any(MARKS["no other answer"] in c for c in cautions)
 
 
-def test_forms_that_agree_give_no_form_caution_whatever_the_shock():
+def test_forms_that_agree_give_no_form_caution():
     agree = {"p": {"discounted_deadweight_loss": (100.0, 100.0 * (1 + FORM_GAP) - 1e-6)}}
-    assert _present(_cautions(other_form=agree, largest_shock=0.8)) == set()
-
-
-def test_callers_without_other_form_keep_the_shock_size_caution():
-    old = {k: v for k, v in QUIET.items() if k != "other_form"}
-    quiet = scenario_cautions(**old, largest_shock=0.05, largest_shock_period=1)
-    assert _present(quiet) == set()
-    loud = scenario_cautions(
-        **old,
-        largest_shock=0.3,
-        largest_shock_period=2,
-        alternate_feasible=True,
-        price_gap=0.04,
-        price_gap_period=5,
-        quantity_gap=0.02,
-    )
-    assert _present(loud) == {"shock size"}
-    assert any("30.0 % (period 2)" in c and "4.0 % (period 5)" in c for c in loud)
+    assert _present(_cautions(other_form=agree)) == set()
 
 
 def test_every_caution_under_efficient_rationing_avoids_the_words_random_rationing():
@@ -286,28 +267,6 @@ def test_misallocation_shares_are_the_largest_loss_over_the_rent_bill_and_its_pe
     loss = np.array([[0.0, 0.3 * 12 * 1000 * 90, 0.2 * 12 * 900 * 80], [0.0, 0.0, 0.0]])
     shares = misallocation_shares(["freeze", "free"], loss, price, quantity, 12.0)
     assert shares == {"freeze": (pytest.approx(0.3, rel=1e-15), 1)}
-
-
-def test_other_form_pairs_read_the_summary_by_name():
-    summary = {
-        "discounted_deadweight_loss": np.array([0.0, 5.0]),
-        "final_consumer_price": np.array([1100.0, 1000.0]),
-        "peak_shortage": np.array([0.0, 30.0]),
-        "other_discounted_deadweight_loss": np.array([0.0, 7.0]),
-        "other_final_consumer_price": np.array([1120.0, 990.0]),
-        "other_peak_shortage": np.array([0.0, 35.0]),
-        "other_feasible": np.array([1.0, 0.0]),
-    }
-    pairs = other_form_pairs(["free", "levy"], summary)
-    assert pairs == {
-        "free": {
-            "discounted_deadweight_loss": (0.0, 0.0),
-            "final_consumer_price": (1100.0, 1120.0),
-            "peak_shortage": (0.0, 0.0),
-        },
-        "levy": None,
-    }
-    assert _present(_cautions(other_form=pairs)) == {"no other answer"}
 
 
 def test_under_partial_control_the_shortage_is_said_not_to_be_a_queue_for_homes():
@@ -422,7 +381,11 @@ def _shrinking_market(policy: dict) -> dict:
             "supply": {"short_run_elasticity": 0.3, "long_run_elasticity": 1.0, "shifters": {}},
         },
         "shocks": [
-            {"shifter": "inc", "profile": "path", "values": [0.05, 0.1, 0.15, 0.2, 0.2, 0, -0.05, -0.05, -0.05, -0.05]}
+            {
+                "shifter": "inc",
+                "profile": "path",
+                "values": [0.05, 0.1, 0.15, 0.2, 0.2, 0, -0.05, -0.05, -0.05, -0.05],
+            }
         ],
         "adjustment": {"schedule": "stock", "depreciation": 0.03},
         "horizon": 10,
@@ -438,7 +401,9 @@ def test_a_ceiling_that_never_binds_but_keeps_more_homes_is_not_said_to_equal_th
     ceiling equals the free market, and names the most extra homes and their period."""
     from service import simulate
 
-    exempt = simulate(_shrinking_market({"name": "loose", "kind": "price_ceiling", "level": 1e5, "new_homes": "exempt"}))
+    exempt = simulate(
+        _shrinking_market({"name": "loose", "kind": "price_ceiling", "level": 1e5, "new_homes": "exempt"})
+    )
     assert exempt["summary"][1]["binding_periods"] == 0
     below = np.array(exempt["paths"][1]["homes_below_free_path"])
     # More homes than the free path, a feature of the groups' floors: the figure MODEL.md 17 quotes.
