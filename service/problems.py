@@ -87,10 +87,12 @@ def validation_problem(messages: Any, prefix: str = "") -> Problem:
 
 
 def _invalid_detail(errors: list[dict[str, str]]) -> str:
-    """The detail of a validation problem: its first error, pointer first, and how many more."""
+    """The detail of a validation problem: its first error, pointer first, and how many more. The
+    root pointer is "" (RFC 6901: "/" would be a member named ""), so the whole body is named in
+    words."""
     first = errors[0] if errors else {"pointer": "", "message": "invalid"}
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
-    return f"{first['pointer'] or '/'}: {first['message']}{more}"
+    return f"{first['pointer'] or 'The body'}: {first['message']}{more}"
 
 
 def moved_under(prefix: str, document: dict[str, Any]) -> Problem:

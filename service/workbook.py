@@ -25,39 +25,86 @@ of paths.
 
 Columns come from what the answer carries (service.labels names them), so series that a newer
 engine adds appear without a change here. Text the caller chose (policy names, shifter names,
-a title) could start a formula: every text cell passes through `text`, the HTTP layer's CSV
-rule (service.http.csvio.neutralise), passed in because this layer may not import it.
+a title) could look like a formula (`=HYPERLINK(...)`): every text cell is written as a string
+cell (an inline string: cell type `inlineStr` of ECMA-376 Part 1), which a spreadsheet
+shows as it is and never evaluates, so the text keeps its exact value (no leading apostrophe, the
+CSV's remedy, where every cell is text until a spreadsheet guesses).
+
+The bytes are a pure function of the answer, so that identical requests give identical bytes
+(the strong ETag promises it, RFC 9110 section 8.8.3): the document properties' created and
+modified dates and every ZIP entry's date-time are one constant, `FIXED_TIME`, never the clock.
 """
 
 from __future__ import annotations
 
+import datetime
 import io
+import os
 import re
-from collections.abc import Callable, Iterable
+import shutil
+import zipfile
+from collections.abc import Iterable
 from typing import Any
 
 from . import labels, limits
 from .problems import is_problem
 
-__all__ = ["MAX_ROWS", "WORKBOOK", "bands_workbook", "batch_workbook", "paths_workbook"]
+__all__ = ["FIXED_TIME", "MAX_ROWS", "WORKBOOK", "bands_workbook", "batch_workbook", "paths_workbook"]
 
 WORKBOOK = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 #: Rows of one worksheet in the file format (Excel's limit), the header included.
 MAX_ROWS = 1_048_576
 _PATH_SKIP = ("name", "kind")
 _BAD_SHEET = re.compile(r"[\[\]:*?/\\']")
+#: The one date-time a workbook carries (document properties and ZIP entries): the earliest a
+#: ZIP entry can record (its MS-DOS date field starts at 1980), so nothing comes from the clock.
+FIXED_TIME = datetime.datetime(1980, 1, 1)
 
-Text = Callable[[str], str]
 
-
-def _cell(value: Any, text: Text) -> Any:
+def _cell(value: Any) -> Any:
     if isinstance(value, bool):
         return int(value)
     if isinstance(value, (int, float)) or value is None:
         return value
     if isinstance(value, (list, tuple)):
-        return text(", ".join(str(v) for v in value))
-    return text(str(value))
+        return ", ".join(str(v) for v in value)
+    return str(value)
+
+
+def _text_cell(ws: Any, value: str, **style: Any) -> Any:
+    """A string cell holding exactly `value`. openpyxl guesses a type from the value (a leading
+    `=` makes a formula, `#N/A` an error); setting the type after the value keeps it text."""
+    from openpyxl.cell import WriteOnlyCell
+
+    cell = WriteOnlyCell(ws, value=value)
+    cell.data_type = "s"
+    for name, v in style.items():
+        setattr(cell, name, v)
+    return cell
+
+
+class _FixedTimeZip(zipfile.ZipFile):
+    """A ZIP archive whose entries all carry FIXED_TIME (and the same permissions), whether openpyxl
+    adds them from bytes (writestr) or from its temporary sheet files (write)."""
+
+    def _entry(self, name: str) -> zipfile.ZipInfo:
+        entry = zipfile.ZipInfo(name, date_time=FIXED_TIME.timetuple()[:6])
+        entry.compress_type = self.compression
+        entry.external_attr = 0o600 << 16
+        return entry
+
+    def writestr(self, zinfo_or_arcname, data, compress_type=None, compresslevel=None):
+        if not isinstance(zinfo_or_arcname, zipfile.ZipInfo):
+            zinfo_or_arcname = self._entry(zinfo_or_arcname)
+        super().writestr(zinfo_or_arcname, data, compress_type, compresslevel)
+
+    def write(self, filename, arcname=None, compress_type=None, compresslevel=None):
+        entry = self._entry(arcname or os.path.basename(filename))
+        if compress_type is not None:
+            entry.compress_type = compress_type
+        entry.file_size = os.path.getsize(filename)
+        with open(filename, "rb") as src, self.open(entry, "w") as dst:
+            shutil.copyfileobj(src, dst, 1 << 20)
 
 
 def _too_large(why: str) -> None:
@@ -78,14 +125,13 @@ class _Book:
     are checked against the limits as they are added and written only by bytes(), so a workbook
     that turns out too large leaves nothing half-written behind."""
 
-    def __init__(self, text: Text):
-        self.text = text
+    def __init__(self):
         self.sheets: list[tuple[str, list[str], list[list[Any]], list[int]]] = []
         self.names: set[str] = set()
         self.cells = 0
 
     def sheet(self, title: str, header: list[str], rows: Iterable[Iterable[Any]], widths=None) -> None:
-        rows = [[_cell(v, self.text) for v in row] for row in rows]
+        rows = [[_cell(v) for v in row] for row in rows]
         if len(rows) + 1 > MAX_ROWS:
             _too_large(
                 f"Sheet '{title}' would need {len(rows) + 1:,} rows, more than the file format's {MAX_ROWS:,}"
@@ -99,30 +145,28 @@ class _Book:
             suffix = f" ({n})"
             name, n = base[: 31 - len(suffix)] + suffix, n + 1
         self.names.add(name.lower())
-        self.sheets.append((name, [self.text(h) for h in header], rows, list(widths or [])))
+        self.sheets.append((name, [str(h) for h in header], rows, list(widths or [])))
 
     def bytes(self) -> bytes:
         from openpyxl import Workbook
-        from openpyxl.cell import WriteOnlyCell
         from openpyxl.styles import Alignment, Font
+        from openpyxl.writer.excel import ExcelWriter
 
         book = Workbook(write_only=True)
+        book.properties.created = book.properties.modified = FIXED_TIME
+        bold, top = Font(bold=True), Alignment(wrap_text=True, vertical="top")
         for name, header, rows, widths in self.sheets:
             ws = book.create_sheet(name)
             ws.freeze_panes = "B2"
             for i, width in enumerate(widths, start=1):
                 ws.column_dimensions[_column(i)].width = width
-            head = []
-            for h in header:
-                c = WriteOnlyCell(ws, value=h)
-                c.font = Font(bold=True)
-                c.alignment = Alignment(wrap_text=True, vertical="top")
-                head.append(c)
-            ws.append(head)
+            ws.append([_text_cell(ws, h, font=bold, alignment=top) for h in header])
             for row in rows:
-                ws.append(row)
+                ws.append([_text_cell(ws, v) if isinstance(v, str) else v for v in row])
         out = io.BytesIO()
-        book.save(out)
+        # Workbook.save would stamp the modified date with the clock; its writer, given an
+        # archive that stamps entries with FIXED_TIME, writes the same bytes for the same answer.
+        ExcelWriter(book, _FixedTimeZip(out, "w", zipfile.ZIP_DEFLATED, allowZip64=True)).save()
         return out.getvalue()
 
 
@@ -273,9 +317,9 @@ def _cautions(book: _Book, cautions: Iterable[tuple], lead: list[str]) -> None:
     book.sheet("Cautions", [*lead, "Caution"], cautions, widths=[*([12] * len(lead)), 140])
 
 
-def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) -> bytes:
+def paths_workbook(body: dict[str, Any], units: dict | None = None) -> bytes:
     """The .xlsx of a /v1/paths answer (see the module docstring)."""
-    book = _Book(text)
+    book = _Book()
     _about(
         book,
         [
@@ -317,11 +361,11 @@ def paths_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
     return book.bytes()
 
 
-def bands_workbook(body: dict[str, Any], text: Text, units: dict | None = None) -> bytes:
+def bands_workbook(body: dict[str, Any], units: dict | None = None) -> bytes:
     """The .xlsx of a /v1/bands answer: the central answer's sheets with the percentiles."""
     central = {**body["central"], "request": body.get("request")}
     keys_q = list(body["percentiles"])
-    book = _Book(text)
+    book = _Book()
     _about(
         book,
         [
@@ -407,10 +451,10 @@ def bands_workbook(body: dict[str, Any], text: Text, units: dict | None = None) 
     return book.bytes()
 
 
-def batch_workbook(results: list[dict[str, Any]], text: Text, units: dict | None = None) -> bytes:
+def batch_workbook(results: list[dict[str, Any]], units: dict | None = None) -> bytes:
     """The .xlsx of a batch: every scenario on the same sheets, a `scenario` column first (a
     scenario without an answer: one row on Scenarios with its problem)."""
-    book = _Book(text)
+    book = _Book()
     answered = [(i, r) for i, r in enumerate(results) if not is_problem(r)]
     _about(
         book,

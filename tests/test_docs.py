@@ -166,3 +166,13 @@ def test_the_python_examples_of_the_documents_run(document, capsys):
         exec(compile(block, document, "exec"), namespace)
         results = [v for k, v in namespace.items() if not k.startswith("__")]
         assert any(isinstance(v, dict) and "paths" in v for v in results)  # it computed an answer
+
+
+def test_the_api_guide_names_every_field_of_a_policy_summary():
+    """Every member a policy's summary may carry (the response schema) appears in openapi/API.md."""
+    from service.schemas.responses import PolicySummarySchema
+
+    guide = (ROOT / "openapi" / "API.md").read_text()
+    fields = PolicySummarySchema().fields
+    assert "distribution_totals_discounted" in fields
+    assert [name for name in fields if not re.search(rf"`{name}\b", guide)] == []

@@ -47,9 +47,11 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.extensions["shockpath.openapi_tag"] = request_tag(
         "/openapi.json", app.extensions["shockpath.openapi"], "json"
     )
-    # No routing redirect, whose body werkzeug writes in HTML: a trailing slash matches the route
-    # without one, and a doubled slash (/v1//paths) matches no route (404 problem+json).
-    app.url_map.strict_slashes = False
+    # No routing redirect, whose body werkzeug writes in HTML, and one spelling per path: a
+    # trailing slash (/v1/paths/) and a doubled slash (/v1//paths) match no route (404
+    # problem+json). Strict slashes redirect only to add a slash to a rule that ends in one, and
+    # the only such rule is the root "/", whose slashless form is the empty path no request has.
+    app.url_map.strict_slashes = True
     app.url_map.merge_slashes = False
     log = configure_logging(settings.log_level)
     for blueprint in BLUEPRINTS:

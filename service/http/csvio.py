@@ -8,8 +8,9 @@ Long form (the default):
     /v1/paths/batch  scenario,scenario_id,policy,period,variable,value,unit
 
 Wide form (`?layout=wide`): one row per (scenario,) policy and period, one column per variable,
-each header cell `variable [unit]`; money is labelled "today's money (period 0)" for real prices
-and flows and "money of the day" for nominal ones. Under inflation `price_index` is a column.
+each header cell `variable [unit]`. In both forms money is labelled "today's money (period 0)"
+for real prices and flows and "money of the day" for nominal ones, the same unit for the same
+series. Under inflation `price_index` is a column.
 
 Summary form (`"output": "summary"`): one row per (scenario,) policy with its summary figures
 (nested objects flattened as `object.member`) and the scenario's cautions.
@@ -56,6 +57,7 @@ import numpy as np
 import orjson
 
 from ..engine.results import DISTRIBUTION_GROUPS
+from ..labels import NOMINAL, REAL
 from ..problems import is_problem
 
 __all__ = [
@@ -79,9 +81,13 @@ LAYOUTS = ("long", "wide")
 #: form, 3.5 MB of wide, small enough for the processor's caches (the fastest size here).
 BLOCK_ROWS = 10_000
 
-_PRICE = "money per unit per price interval"
+#: Money of period 0 (prices and flows deflated by the price index when the request has
+#: inflation; the same money without it) and money of the day (the nominal series): the answer's
+#: own words (service.labels), in the long and the wide form alike.
+_REAL = REAL
+_PRICE = f"{_REAL} per unit per price interval"
 _QUANTITY = "units per price interval"
-_FLOW = "money per model period"
+_FLOW = f"{_REAL} per model period"
 _UNKNOWN = "see the JSON answer's documentation"
 #: The unit of every series, in the README's terms (money is the caller's currency).
 UNITS = {
@@ -100,10 +106,10 @@ UNITS = {
     "government_revenue": _FLOW,
     "deadweight_loss": _FLOW,
     "misallocation_loss": _FLOW,
-    "cumulative_deadweight_loss": "money, per model period summed over periods 0 to this one",
-    "discounted_deadweight_loss": "money, discounted to period 0, summed over periods 0 to this one",
-    "nominal_consumer_price": "money of the day per unit per price interval",
-    "nominal_producer_price": "money of the day per unit per price interval",
+    "cumulative_deadweight_loss": f"{_REAL}, per model period summed over periods 0 to this one",
+    "discounted_deadweight_loss": f"{_REAL}, discounted to period 0, summed over periods 0 to this one",
+    "nominal_consumer_price": f"{NOMINAL} per unit per price interval",
+    "nominal_producer_price": f"{NOMINAL} per unit per price interval",
     "covered_price": _PRICE,
     "uncovered_price": _PRICE,
     "covered_quantity": _QUANTITY,
@@ -134,11 +140,8 @@ def unit_of(variable: str) -> str:
 
 
 def wide_unit(variable: str) -> str:
-    """The wide form's unit: real money named as today's money (period 0)."""
-    unit = unit_of(variable)
-    if unit.startswith("money") and not unit.startswith("money of the day"):
-        return "today's money (period 0)" + unit.removeprefix("money")
-    return unit
+    """The wide form's unit: the long form's (one wording for the same series in both)."""
+    return unit_of(variable)
 
 
 def _series(path: dict[str, Any]) -> Iterator[tuple[str, Any]]:

@@ -38,7 +38,7 @@ from .library_docs import (
     REVISION,
     WRITE_EXAMPLES,
 )
-from .negotiation import JSON_ONLY, negotiate
+from .negotiation import JSON_ONLY, XLSX, negotiate
 from .paths import paths_answer
 from .uncertainty import bands_answer
 
@@ -287,8 +287,8 @@ def _compute(record_id: str, kind: str, answer: Callable[[object], Response]) ->
 def _compute_responses(schema: str, what: str) -> dict:
     return {
         "200": {
-            "description": f"What POST /v1/{what} answers for the stored request (JSON or CSV).",
-            "content": {"application/json": schema, "text/csv": "csv"},
+            "description": f"What POST /v1/{what} answers for the stored request (JSON, CSV or a workbook).",
+            "content": {"application/json": schema, "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition", "Scenario-Model-Version", "Model-Version-Changed"],
         },
         **NOT_MODIFIED,

@@ -64,6 +64,9 @@ coverage below 1, 1 more with an uncertain inflation rate) per bands request; bo
 <= {limits.MAX_BODY_BYTES} bytes (413); a workbook answer <= {limits.MAX_WORKBOOK_CELLS:,} cells
 (422 as it is written). Every error is RFC 9457 application/problem+json.
 
+A name given twice in one JSON object is not refused: the last one wins (RFC 8259 section 4
+leaves duplicates to the implementation), so do not send duplicates.
+
 Results are model estimates: they inform, and do not replace, local market studies and
 qualified analysts."""
 
@@ -146,7 +149,8 @@ def _schema_name(schema) -> str:
     for name, cls in _SCHEMAS.items():
         if type(schema) is cls or schema is cls:  # exact: BandsRequest subclasses PathsRequest
             return name
-    return schema.__class__.__name__.removesuffix("Schema")
+    cls = schema if isinstance(schema, type) else type(schema)  # a class's own name, not its metaclass's
+    return cls.__name__.removesuffix("Schema")
 
 
 def _content(kind: str) -> dict[str, Any]:

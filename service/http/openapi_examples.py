@@ -15,6 +15,7 @@ from __future__ import annotations
 import copy
 import gzip
 import json
+import re
 from pathlib import Path
 from typing import Any
 
@@ -278,6 +279,40 @@ def compute_examples() -> dict[str, Any]:
     }
     for op in ("postPaths", "postPathsBatch", "postBands"):  # the same answers, as CSV only
         out[f"{op}Csv"] = {"200": {"text/csv": out[op]["200"]["text/csv"]}}
+    for operation_id, refused_here in _not_acceptable(client, requests).items():
+        out.setdefault(operation_id, {})["406"] = {"application/problem+json": refused_here}
+    return out
+
+
+def _not_acceptable(client, requests: dict[str, Any]) -> dict[str, Any]:
+    """operationId -> the 406 the operation itself answers to `Accept: application/xml`, for every
+    operation that documents one: each names what that endpoint offers, which differs by endpoint
+    (and, for a chart, by the `format` of its body: the request example first by name is sent). Views
+    read the Accept header before their path parameters, so any value stands in for one; an
+    operation that answers as another (`answers_of`: a saved scenario run) shows that one's."""
+    from .routes import BLUEPRINTS
+
+    out: dict[str, Any] = {}
+    for blueprint in BLUEPRINTS:
+        for op in blueprint.operations:
+            if "406" not in op.get("responses", {}) or "answers_of" in op:
+                continue  # none, or the answers (406 included) of the operation it answers as
+            examples = (
+                (requests.get(op["operationId"]) or op.get("request_examples") or {})
+                if "request" in op
+                else {}
+            )
+            name = min(examples, default=None)  # the first in the document, which sorts them
+            body = examples[name]["value"] if name else None
+            response = client.open(
+                re.sub(r"\{[^}]+\}", "x", op["path"]),
+                method=op["method"].upper(),
+                json=body,
+                headers={"Accept": "application/xml"},
+            )
+            assert response.status_code == 406, (op["operationId"], response.status_code)
+            summary = "Accept: application/xml" + (f", with the request example {name}" if name else "")
+            out[op["operationId"]] = {"summary": summary, "value": _body(response)}
     return out
 
 

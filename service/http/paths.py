@@ -16,7 +16,7 @@ from ..simulation import (
 )
 from ..workbook import batch_workbook, paths_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import LAYOUTS, batch_csv, batch_summary_csv, neutralise, paths_csv, paths_summary_csv
+from .csvio import LAYOUTS, batch_csv, batch_summary_csv, paths_csv, paths_summary_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, problem_responses
 from .jsonio import cap_errors, json_response, read_json
 from .metrics import SCENARIOS
@@ -97,7 +97,7 @@ def _paths(chosen: str, raw: object) -> Response:
                 raise ProblemError(body)
             body["request"] = normalised_request(raw)
             if as_xlsx:
-                response = Response(paths_workbook(body, neutralise), mimetype=XLSX)
+                response = Response(paths_workbook(body), mimetype=XLSX)
             elif not as_csv:
                 response = json_response(body)
             elif output == "summary":
@@ -165,9 +165,7 @@ def _batch(chosen: str) -> Response:
         results = [cap_errors(r) if is_problem(r) else r for r in results]
         SCENARIOS.labels("/v1/paths/batch").inc(sum("scenario_id" in r for r in results))
         if as_xlsx:
-            return attachment(
-                Response(batch_workbook(results, neutralise), mimetype=XLSX), f"batch-{tag[:12]}.xlsx"
-            )
+            return attachment(Response(batch_workbook(results), mimetype=XLSX), f"batch-{tag[:12]}.xlsx")
         if not as_csv:
             return json_response({"results": results})
         if output == "summary":

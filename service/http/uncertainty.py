@@ -12,7 +12,7 @@ from ..problems import ProblemError, validation_problem
 from ..uncertainty import bands, sensitivity
 from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
-from .csvio import bands_csv, neutralise
+from .csvio import bands_csv
 from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, problem_responses
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
@@ -75,9 +75,7 @@ def _bands(chosen: str, raw: object) -> Response:
         DRAWS.inc(body["draws"])
         SCENARIOS.labels("/v1/bands").inc()
         if as_xlsx:
-            return attachment(
-                Response(bands_workbook(body, neutralise), mimetype=XLSX), f"bands-{tag[:12]}.xlsx"
-            )
+            return attachment(Response(bands_workbook(body), mimetype=XLSX), f"bands-{tag[:12]}.xlsx")
         if as_csv:
             return attachment(Response(bands_csv(body), mimetype=CSV), f"bands-{tag[:12]}.csv")
         return json_response(body)

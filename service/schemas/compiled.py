@@ -24,7 +24,17 @@ from typing import Any
 from marshmallow import Schema, ValidationError, fields, validate
 from marshmallow.utils import missing
 
-from .fields import AnyObject, Flag, NumberOrConstant, NumberOrList, Printable, Real, Tagged, WholeNumber
+from .fields import (
+    AnyItem,
+    AnyObject,
+    Flag,
+    NumberOrConstant,
+    NumberOrList,
+    Printable,
+    Real,
+    Tagged,
+    WholeNumber,
+)
 
 __all__ = ["Rejected", "compile_loader", "load_fast"]
 
@@ -230,6 +240,8 @@ def _field_loader(field: fields.Field, cache: dict[int, Loader | None]) -> Loade
             return items(value) if type(value) is list else number(value)
 
         return _with_validators(field, load_number_or_list)
+    if isinstance(field, AnyItem):
+        return lambda value: value  # any value, null too; its item is validated on its own
     if isinstance(field, AnyObject):
 
         def load_object(value):

@@ -14,6 +14,7 @@ from typing import Any
 from marshmallow import Schema, ValidationError, fields, validate
 
 __all__ = [
+    "AnyItem",
     "AnyObject",
     "Either",
     "Flag",
@@ -161,6 +162,20 @@ class AnyObject(fields.Field):
         return value
 
 
+class AnyItem(fields.Field):
+    """Any JSON value, loaded as it is: an item of a list answered item by item (a batch's
+    scenarios), meant to be an object of `schema` and validated later on its own, so that an item
+    that is not even an object (a string, a number, null) gets its own problem in its place
+    instead of failing the whole list."""
+
+    def __init__(self, schema: type[Schema], **kwargs):
+        super().__init__(allow_none=True, **kwargs)
+        self.schema = schema
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        return value
+
+
 class Either(fields.Field):
     """Documentation only: a value matching exactly one of several schemas (`oneOf`)."""
 
@@ -235,6 +250,14 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
         return {"anyOf": [self.resolve_nested_schema(schema) for schema in any_of]}
     if isinstance(field, Either):
         return {"oneOf": [self.resolve_nested_schema(schema) for schema in field.schemas]}
+    if isinstance(field, AnyItem):
+        # Any value is taken here (so the document does not refuse it): an object is validated
+        # later on its own as `schema`, anything else is answered in its place with a problem.
+        name = self.resolve_nested_schema(field.schema)["$ref"].rsplit("/", 1)[-1]
+        return {
+            "description": f"A {name} object, validated on its own; if it is invalid, or is not an "
+            "object at all, its result is a problem in its place (the other items are still answered).",
+        }
     if isinstance(field, AnyObject):
         # Any object is accepted here; it is validated later on its own (e.g. one batch
         # scenario, whose problems are answered in its place), so the document says so.

@@ -30,7 +30,7 @@ from ..engine.scenario import (
     Welfare,
 )
 from .fields import (
-    AnyObject,
+    AnyItem,
     Flag,
     NumberOrConstant,
     NumberOrList,
@@ -647,7 +647,8 @@ def _output(**kwargs) -> fields.String:
         validate=validate.OneOf(OUTPUTS),
         metadata={
             "description": '"full" (default): every series; "summary": only the summaries and cautions '
-            "(sweeps; /v1/paths and batches only). Not part of the scenario id.",
+            "(sweeps; /v1/paths and batches only). Not part of the scenario id. In a batch it goes "
+            "at the top level, beside `scenarios`; a scenario may only repeat the batch's value.",
             **kwargs,
         },
     )
@@ -792,12 +793,23 @@ class BatchRequestSchema(StrictSchema):
     errors stay per scenario."""
 
     scenarios = fields.List(
-        AnyObject(BatchScenarioSchema),
+        AnyItem(BatchScenarioSchema),
         required=True,
         validate=validate.Length(1, limits.MAX_BATCH_SCENARIOS),
-        metadata={"description": "Scenarios, each a /v1/paths request body with an optional id."},
+        metadata={
+            "description": "Scenarios, each a /v1/paths request body with an optional id. Each is "
+            "answered on its own: one that is invalid, or not a JSON object, gets a problem in its "
+            "place in `results` and the others are answered. A scenario may repeat the batch's "
+            "`output` but not ask for another (422 for the batch: every result of a batch has one "
+            "shape, full or summary, so that its CSV has one set of columns)."
+        },
     )
-    output = _output(description='"full" (default) or "summary", for every scenario of the batch.')
+    output = _output(
+        description='"full" (default) or "summary", for every scenario of the batch: set here, at the top '
+        "level. A scenario's own `output` may repeat it but not ask for another (422 at "
+        "/scenarios/i/output): every result of a batch has one shape, so that its CSV has one set "
+        "of columns."
+    )
 
     @validates_schema
     def _work(self, data, **kwargs):
@@ -810,15 +822,16 @@ class BatchRequestSchema(StrictSchema):
             )
 
 
-def policy_periods(scenarios: list[dict[str, Any]]) -> int:
-    """Work a batch asks for, read from the raw bodies before any validation or model work."""
+def policy_periods(scenarios: list[Any]) -> int:
+    """Work a batch asks for, read from the raw bodies before any validation or model work (an
+    item that is not an object asks for none: it is answered with a problem)."""
 
-    def policies(s: dict[str, Any]) -> int:
-        p = s.get("policies")
+    def policies(s: Any) -> int:
+        p = s.get("policies") if isinstance(s, dict) else None
         return len(p) if isinstance(p, list) else 0
 
-    def horizon(s: dict[str, Any]) -> int:
-        h = s.get("horizon")
+    def horizon(s: Any) -> int:
+        h = s.get("horizon") if isinstance(s, dict) else None
         if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
             return 0
         return int(min(max(h, 0), limits.MAX_HORIZON))

@@ -112,7 +112,9 @@ def test_the_groups_in_the_csv_add_up_to_the_json_totals(client, additions):
                 float(r["value"]) for r in rows if r["policy"] == path["name"] and r["variable"] == group
             ]
             assert values == path["distribution"][group]
-            assert {r["unit"] for r in rows if r["variable"] == group} == {"money per model period"}
+            assert {r["unit"] for r in rows if r["variable"] == group} == {
+                "today's money (period 0) per model period"
+            }
             assert sum(values) == pytest.approx(summary["distribution_totals"][group], rel=1e-12, abs=1e-6)
 
 
@@ -171,7 +173,11 @@ def test_the_bands_csv_carries_every_banded_series_with_its_unit(client):
     assert "'=cap on half" in {r["policy"] for r in rows}
     units = {r["variable"]: r["unit"] for r in rows}
     assert units["homes_below_free_path"] == "units per price interval"
-    assert units["rent_above_free_path"] == units["covered_price"] == "money per unit per price interval"
+    assert (
+        units["rent_above_free_path"]
+        == units["covered_price"]
+        == "today's money (period 0) per unit per price interval"
+    )
     assert units["nominal_consumer_price"] == "money of the day per unit per price interval"
     assert all(units[v] == UNITS[v] for v in units)
 
@@ -386,3 +392,27 @@ def test_every_number_reads_back_as_the_same_float_in_the_fewest_digits(values, 
     wide = list(csv.reader(io.StringIO(paths_csv(body, "wide").decode(), newline="")))
     assert [row[2] for row in wide[1:]] == prices
     assert paths_csv(body) == reference_long([body], batch=False)
+
+
+@pytest.mark.parametrize("url", ["/v1/paths", "/v1/paths/batch"])
+def test_the_long_and_wide_csv_label_the_same_series_with_the_same_unit(client, url):
+    """Under inflation prices are in money of period 0 (the answer's and the workbook's words,
+    service.labels.REAL), nominal ones in money of the day; both layouts say so alike."""
+    from service import labels
+    from service.examples import example_request
+
+    request = example_request("essvane-freeze-under-inflation")
+    body = request if url == "/v1/paths" else {"scenarios": [request]}
+    csv_accept = {"Accept": "text/csv"}
+    long_rows = _rows(client.post(url, json=body, headers=csv_accept))
+    long_units = {r["variable"]: r["unit"] for r in long_rows}
+    wide = client.post(f"{url}?layout=wide", json=body, headers=csv_accept)
+    assert wide.status_code == 200
+    header = next(csv.reader(io.StringIO(wide.get_data(as_text=True))))
+    wide_units = dict(cell[:-1].split(" [", 1) for cell in header if cell.endswith("]"))
+    assert "nominal_consumer_price" in long_units and "price_index" in wide_units
+    assert set(long_units) <= set(wide_units)
+    assert {v: wide_units[v] for v in long_units} == long_units
+    assert long_units["consumer_price"] == f"{labels.REAL} per unit per price interval"
+    assert long_units["nominal_consumer_price"] == f"{labels.NOMINAL} per unit per price interval"
+    assert long_units["deadweight_loss"] == f"{labels.REAL} per model period"

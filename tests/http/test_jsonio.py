@@ -60,6 +60,28 @@ def test_a_body_that_inflates_to_just_the_limit_is_read():
     assert _problem(response, 422)["errors"][0]["pointer"] == ""  # parsed: a list, not an object
 
 
+@pytest.mark.parametrize("body", [b"[]", b'"text"', b"5", b"null", b"true"])
+def test_a_body_that_is_not_an_object_is_named_as_the_body_in_the_detail(client, body):
+    """The root's JSON Pointer is "" (RFC 6901); the detail names the body in words, never as
+    "/", which is the pointer of a member named ""."""
+    problem = _problem(client.post("/v1/paths", data=body, content_type=JSON), 422)
+    assert problem["errors"] == [{"pointer": "", "message": "Must be a JSON object."}]
+    assert problem["detail"] == "The body: Must be a JSON object."
+
+
+def test_a_duplicate_key_is_not_refused_and_the_last_one_wins(client, contract_request):
+    """RFC 8259 section 4 leaves duplicate names to the implementation: the last one is taken
+    (API.md says so, and that clients must not send them)."""
+    text = json.dumps(contract_request)
+    first, last = contract_request["horizon"] + 5, contract_request["horizon"]
+    twice = text.replace('"horizon":', f'"horizon": {first}, "horizon":', 1)
+    assert twice.count('"horizon"') == 2
+    response = client.post("/v1/paths", data=twice, content_type=JSON)
+    assert response.status_code == 200
+    assert response.get_json()["request"]["horizon"] == last
+    assert response.get_json() == client.post("/v1/paths", json=contract_request).get_json()
+
+
 @pytest.mark.parametrize("encoding", ["br", "deflate", "compress", "gzip, br", "zstd"])
 def test_an_unknown_encoding_is_415(client, encoding):
     response = client.post("/v1/paths", data=b"{}", content_type=JSON, headers={"Content-Encoding": encoding})

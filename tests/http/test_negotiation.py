@@ -76,7 +76,7 @@ def test_bands_answer_csv_in_long_form_with_units(client):
     got = {(r["policy"], int(r["period"]), r["variable"], r["percentile"]): r for r in rows}
     row = got[(freeze["name"], 3, "consumer_price", "95")]
     assert float(row["value"]) == freeze["series"]["consumer_price"]["95"][3]
-    assert row["unit"] == "money per unit per price interval"
+    assert row["unit"] == "today's money (period 0) per unit per price interval"
 
 
 def test_a_batch_answers_csv_with_a_row_per_value_and_a_problem_row_per_failed_scenario(
@@ -100,7 +100,7 @@ def test_a_batch_answers_csv_with_a_row_per_value_and_a_problem_row_per_failed_s
     (problem,) = [r for r in rows if r["scenario"] == "1"]
     assert problem["variable"] == "problem" and problem["value"] == body["results"][1]["detail"]
     dwl = next(r for r in rows if r["policy"] == "freeze" and r["variable"] == "deadweight_loss")
-    assert dwl["unit"] == "money per model period"
+    assert dwl["unit"] == "today's money (period 0) per model period"
 
 
 # Media-type parameters in Accept are ignored for matching (RFC 9110, section 12.5.1): the

@@ -214,3 +214,56 @@ def test_a_sampled_body_still_fails_on_an_item_of_a_new_shape(checker, large_bat
     damage(body["results"][where])
     with pytest.raises(ValidationError):
         _validate_batch(checker, body)
+
+
+def test_every_documented_406_example_is_what_the_endpoint_answers(client):
+    """Each operation's 406 example names what that endpoint offers: a JSON-only endpoint's
+    example says JSON only (it once showed /v1/paths's JSON, CSV or workbook everywhere). The
+    example's request is replayed: the request example first by name, a saved scenario of the right kind
+    for a path's {id}."""
+    from service.examples import example_request
+
+    document = json.loads(DOCUMENT_PATH.read_text(encoding="utf-8"))
+    saved = {}
+    for kind, demo in (("paths", "quillbrook-rent-freeze"), ("bands", "quillbrook-uncertain-elasticities")):
+        created = client.post("/v1/scenarios", json={"name": f"406 {kind}", "request": example_request(demo)})
+        assert created.status_code == 201, created.get_json()
+        saved[kind] = created.get_json()["id"]
+    checked = {}
+    for path, operations in document["paths"].items():
+        for method, operation in operations.items():
+            examples = (
+                operation["responses"].get("406", {}).get("content", {}).get("application/problem+json", {})
+            ).get("examples")
+            if not examples:
+                continue
+            (example,) = examples.values()
+            kind = "bands" if path.endswith("/bands") else "paths"
+            url = path.replace("{id}", saved[kind]).replace("{name}", "x")
+            bodies = operation.get("requestBody", {}).get("content", {}).get("application/json", {})
+            body = bodies["examples"][min(bodies["examples"])]["value"] if "examples" in bodies else None
+            answer = client.open(url, method=method.upper(), json=body, headers={"Accept": "application/xml"})
+            assert answer.status_code == 406, (method, path, answer.status_code)
+            checked[f"{method.upper()} {path}"] = answer.get_json()["detail"]
+            assert example["value"]["detail"] == checked[f"{method.upper()} {path}"], (method, path)
+    assert (
+        checked["GET /v1/scenarios"]
+        == checked["GET /v1/examples"]
+        == "This endpoint answers application/json."
+    )
+    assert "text/csv" in checked["POST /v1/paths"] and "text/csv" in checked["GET /v1/scenarios/{id}/paths"]
+
+
+def test_a_saved_scenario_run_answers_the_workbook_it_documents(client):
+    """GET /v1/scenarios/{id}/paths answers as POST /v1/paths does, a workbook too; the document
+    says so (the client validates every answer against it)."""
+    from service.examples import example_request
+    from service.workbook import WORKBOOK
+
+    created = client.post(
+        "/v1/scenarios", json={"name": "a workbook", "request": example_request("quillbrook-rent-freeze")}
+    )
+    run = client.get(f"/v1/scenarios/{created.get_json()['id']}/paths", headers={"Accept": WORKBOOK})
+    assert run.status_code == 200 and run.mimetype == WORKBOOK
+    document = json.loads(DOCUMENT_PATH.read_text(encoding="utf-8"))
+    assert WORKBOOK in document["paths"]["/v1/scenarios/{id}/paths"]["get"]["responses"]["200"]["content"]

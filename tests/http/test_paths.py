@@ -8,7 +8,7 @@ import csv
 import io
 import json
 
-from service import limits, simulate
+from service import limits, simulate, simulate_many
 from service.engine.results import DISTRIBUTION_GROUPS
 from service.examples import examples
 
@@ -152,9 +152,80 @@ def test_an_empty_or_malformed_envelope_is_422(client):
     for body, pointer in [
         ({}, "/scenarios"),
         ({"scenarios": []}, "/scenarios"),
-        ({"scenarios": [1]}, "/scenarios/0"),
+        ({"scenarios": "notalist"}, "/scenarios"),
+        ({"scenarios": {"0": {}}}, "/scenarios"),
+        ({"scenarios": None}, "/scenarios"),
         ([], ""),
     ]:
         response = client.post("/v1/paths/batch", json=body)
         assert response.status_code == 422, body
         assert response.get_json()["errors"][0]["pointer"] == pointer
+
+
+NOT_OBJECTS = ["notanobject", None, 5, [], True]
+
+
+def test_a_scenario_that_is_not_an_object_gets_its_own_problem_and_the_others_are_answered(
+    client, contract_request
+):
+    """Each non-object scenario gets the problem /v1/paths gives for such a body, at its own
+    pointer, in its place; the valid scenarios are answered as they would be alone."""
+    body = {"scenarios": [contract_request, *NOT_OBJECTS, contract_request]}
+    response = client.post("/v1/paths/batch", json=body)
+    assert response.status_code == 200
+    results = response.get_json()["results"]
+    assert len(results) == len(NOT_OBJECTS) + 2
+    alone = simulate(contract_request)
+    assert results[0] == alone and results[-1] == alone
+    for i, item in enumerate(NOT_OBJECTS, start=1):
+        single = client.post("/v1/paths", data=json.dumps(item), content_type="application/json").get_json()
+        assert single["errors"] == [{"pointer": "", "message": "Must be a JSON object."}]
+        problem = results[i]
+        assert problem["errors"] == [{"pointer": f"/scenarios/{i}", "message": "Must be a JSON object."}]
+        assert problem["detail"] == f"/scenarios/{i}: Must be a JSON object."
+        assert {k: problem[k] for k in ("type", "title", "status")} == {
+            k: single[k] for k in ("type", "title", "status")
+        }
+    # the Python API gives the same list
+    assert simulate_many(body["scenarios"], prefix="/scenarios/{i}") == results
+
+
+def test_a_scenario_that_is_not_an_object_is_a_problem_row_in_csv_and_in_the_workbook(
+    client, contract_request
+):
+    from openpyxl import load_workbook
+
+    from service.workbook import WORKBOOK
+
+    body = {"scenarios": [contract_request, "notanobject", None, 5]}
+    for layout in ("long", "wide"):
+        response = client.post(f"/v1/paths/batch?layout={layout}", json=body, headers={"Accept": "text/csv"})
+        assert response.status_code == 200
+        rows = list(csv.reader(io.StringIO(response.get_data(as_text=True))))
+        for i in (1, 2, 3):
+            (row,) = [r for r in rows[1:] if r[0] == str(i)]  # one row: its problem
+            assert f"/scenarios/{i}: Must be a JSON object." in " ".join(row)
+        assert any(r[0] == "0" and r[1] for r in rows[1:])  # the valid scenario's rows
+    summary = client.post(
+        "/v1/paths/batch", json={**body, "output": "summary"}, headers={"Accept": "text/csv"}
+    )
+    assert summary.status_code == 200
+    assert summary.get_data(as_text=True).count("Must be a JSON object.") == 3
+    book = client.post("/v1/paths/batch", json=body, headers={"Accept": WORKBOOK})
+    assert book.status_code == 200
+    scenarios = [
+        list(r) for r in load_workbook(io.BytesIO(book.data))["Scenarios"].iter_rows(values_only=True)
+    ]
+    assert [r[2] for r in scenarios[2:]] == [f"/scenarios/{i}: Must be a JSON object." for i in (1, 2, 3)]
+    assert scenarios[1][1] == client.post("/v1/paths", json=contract_request).get_json()["scenario_id"]
+
+
+def test_the_batch_limits_count_scenarios_that_are_not_objects(client):
+    too_many = client.post("/v1/paths/batch", json={"scenarios": [None] * (limits.MAX_BATCH_SCENARIOS + 1)})
+    assert too_many.status_code == 422
+    assert too_many.get_json()["errors"][0]["pointer"] == "/scenarios"
+    at_the_limit = client.post("/v1/paths/batch", json={"scenarios": [None] * limits.MAX_BATCH_SCENARIOS})
+    assert at_the_limit.status_code == 200
+    assert [r["errors"][0]["pointer"] for r in at_the_limit.get_json()["results"]] == [
+        f"/scenarios/{i}" for i in range(limits.MAX_BATCH_SCENARIOS)
+    ]

@@ -1,5 +1,5 @@
 """Routing: every answer is problem+json or the documented type, never werkzeug's HTML redirect
-(a doubled slash is an unknown path, a trailing slash the same route)."""
+(a doubled slash and a trailing slash are unknown paths: one spelling per path)."""
 
 from __future__ import annotations
 
@@ -8,6 +8,7 @@ import re
 import pytest
 
 from service import create_app
+from service.examples import example_request
 
 
 @pytest.fixture(scope="module")
@@ -27,10 +28,12 @@ def _method(rule) -> str:
 def test_no_route_can_answer_with_a_redirect(routes):
     app, rules = routes
     assert rules
-    # werkzeug redirects (308, with an HTML body) to merge slashes, to add a trailing slash, to
-    # a rule's redirect_to, and to the rule that spells out another's defaults: none here.
+    # werkzeug redirects (308, with an HTML body) to merge slashes, to add a trailing slash to a
+    # strict rule that ends in one (only the root here, whose slashless form is the empty path no
+    # request has), to a rule's redirect_to, and to the rule that spells out another's defaults.
     for rule in app.url_map.iter_rules():
-        assert not rule.merge_slashes and not rule.strict_slashes, rule.rule
+        assert not rule.merge_slashes, rule.rule
+        assert rule.rule == "/" or not rule.rule.endswith("/"), rule.rule
         assert rule.redirect_to is None and not rule.defaults, rule.rule
 
 
@@ -64,13 +67,19 @@ def test_post_v1_double_slash_paths_is_a_404_problem(routes):
     assert response.get_json()["status"] == 404
 
 
-def test_a_trailing_slash_reaches_the_route_without_a_redirect(routes):
-    app, _ = routes
+def test_a_trailing_slash_in_any_route_is_a_404_problem(routes):
+    """/v1/paths/ is an unknown path, as /v1//paths is: one spelling per path (API.md, Errors)."""
+    app, rules = routes
     client = app.test_client()
-    listing = client.get("/v1/examples/")
-    assert listing.status_code == 200 and listing.mimetype == "application/json"
-    refused = client.post("/v1/paths/", data=b"{}", content_type="text/plain")
-    assert refused.status_code == 415 and refused.mimetype == "application/problem+json"
+    for rule in rules:
+        path = _path(rule) + "/"
+        response = client.open(path, method=_method(rule), json={})
+        assert response.status_code == 404, (path, response.status_code)
+        assert response.mimetype == "application/problem+json", path
+        assert "Location" not in response.headers
+    refused = client.post("/v1/paths/", json=example_request("quillbrook-rent-freeze"))
+    assert refused.status_code == 404 and refused.get_json()["status"] == 404
+    assert client.post("/v1/paths", json=example_request("quillbrook-rent-freeze")).status_code == 200
 
 
 def test_there_is_no_static_file_route(routes):

@@ -1,11 +1,13 @@
 """Accept: the workbook media type on /v1/paths, /v1/paths/batch and /v1/bands answers an .xlsx;
 read back with openpyxl, every number equals the JSON answer's (to 15 significant digits: openpyxl
-writes 16, and a spreadsheet keeps 15), and a policy name that would be a formula stays text
-(the CSV's rule)."""
+writes 16, and a spreadsheet keeps 15), a policy name that would be a formula stays text with its
+exact value (a string cell), and the same request gives the same bytes whatever the clock."""
 
 from __future__ import annotations
 
 import io
+import time
+import zipfile
 
 import numpy as np
 import pytest
@@ -14,7 +16,8 @@ from openpyxl import load_workbook
 from service import labels
 from service.charts import discount_factors, gains_and_losses
 from service.examples import example_request
-from service.workbook import WORKBOOK
+from service.http.cache import AnswerCache
+from service.workbook import FIXED_TIME, WORKBOOK
 
 ACCEPT = {"Accept": WORKBOOK}
 SAME = 1e-15  # relative: the 15 significant digits a spreadsheet keeps
@@ -95,17 +98,58 @@ def test_a_paths_workbook_carries_inputs_summary_each_policys_periods_who_gains_
         assert row[1:] == pytest.approx([*expected, rf["long_run"]["quantity"]], rel=SAME)
 
 
-def test_a_policy_name_that_would_be_a_formula_stays_text(client):
+FORMULA_LIKE = ['=HYPERLINK("x")', '=HYPERLINK("http://example.invalid","x")', "#N/A", "+1", "@SUM(A1)"]
+
+
+@pytest.mark.parametrize("name", FORMULA_LIKE)
+def test_a_policy_name_that_would_be_a_formula_is_a_string_cell_with_its_exact_value(client, name):
     request = example_request("quillbrook-rent-freeze")
-    request["policies"][1]["name"] = '=HYPERLINK("http://example.invalid","x")'
+    request["policies"][1]["name"] = name
     book = _book(client.post("/v1/paths", json=request, headers=ACCEPT))
-    summary = book["Summary"]
-    cell = summary.cell(row=3, column=1)
-    assert cell.data_type == "s" and cell.value == "'" + request["policies"][1]["name"]
+    cell = book["Summary"].cell(row=3, column=1)
+    assert cell.value == name and cell.data_type == "s"
+    seen = 0
     for ws in book.worksheets:
         for row in ws.iter_rows():
             for c in row:
-                assert c.data_type != "f", (ws.title, c.coordinate, c.value)
+                assert c.data_type not in ("f", "e"), (ws.title, c.coordinate, c.value)
+                seen += c.value == name
+    assert seen >= 3  # on Summary, Who gains and loses and the policy's own sheet: never altered
+
+
+def _workbook_requests():
+    paths = example_request("quillbrook-rent-freeze")
+    bands = {**example_request("quillbrook-uncertain-elasticities"), "draws": 100}
+    other = {**paths, "horizon": paths["horizon"] + 1}
+    return [
+        ("/v1/paths", paths, other),
+        ("/v1/paths/batch", {"scenarios": [paths]}, {"scenarios": [other]}),
+        ("/v1/bands", bands, {**bands, "seed": bands.get("seed", 0) + 1}),
+    ]
+
+
+@pytest.mark.parametrize(("url", "body", "other"), _workbook_requests(), ids=["paths", "batch", "bands"])
+def test_the_same_workbook_request_gives_the_same_bytes_at_any_time(
+    app, client, monkeypatch, url, body, other
+):
+    """A workbook is a pure function of the answer (its ETag is strong): two made a second
+    apart, with no cached copy between them, are byte-identical; no part of the file carries the
+    clock (the ZIP entries' date-times and the document properties' dates are FIXED_TIME)."""
+    monkeypatch.setitem(app.extensions, "shockpath.cache", AnswerCache(0))  # make each one afresh
+    first = client.post(url, json=body, headers=ACCEPT)
+    time.sleep(1.1)  # core properties keep seconds
+    second = client.post(url, json=body, headers=ACCEPT)
+    assert first.status_code == second.status_code == 200
+    assert first.data == second.data
+    assert first.headers["ETag"] == second.headers["ETag"]
+    with zipfile.ZipFile(io.BytesIO(first.data)) as archive:
+        assert {e.date_time for e in archive.infolist()} == {FIXED_TIME.timetuple()[:6]}
+        core = archive.read("docProps/core.xml").decode()
+    assert core.count(FIXED_TIME.strftime("%Y-%m-%dT%H:%M:%SZ")) == 2  # created and modified
+    book = load_workbook(io.BytesIO(first.data))
+    assert book.properties.created == book.properties.modified == FIXED_TIME
+    different = client.post(url, json=other, headers=ACCEPT)
+    assert different.status_code == 200 and different.data != first.data
 
 
 @pytest.mark.parametrize("batch", [False, True])
