@@ -9,10 +9,9 @@ Each figure is laid out once, when it is drawn in full (`_place`: rows and colum
 the titles, tick labels and axis labels around each axes), rather than by a layout engine,
 which measures again and draws the figure an extra time on every save.
 
-Who gains and who loses (MODEL.md section 15) draws each group's per-period change of the
-response's `distribution`, summed over periods 1..T with the engine's discount factors
-`prod_(u<=t) 1/(1+r_u)` (period 0 has factor 1 and no change): `gains_and_losses` is the number
-each bar draws.
+Who gains and who loses (MODEL.md section 15) draws each group's change summed over periods
+1..T with the discount factors `prod_(u<=t) 1/(1+r_u)`: the engine's own totals (the summary's
+`distribution_totals_discounted`), read by `gains_and_losses`, the number each bar draws.
 """
 
 from __future__ import annotations
@@ -34,7 +33,6 @@ __all__ = [
     "PANEL_NAMES",
     "SIZE_PX",
     "available",
-    "discount_factors",
     "gains_and_losses",
     "gains_and_losses_figure",
     "render_bands",
@@ -662,32 +660,15 @@ def _central_figure(summary: dict, output: str) -> float:
     return (summary.get("vs_free_path_totals") or {}).get(output, 0.0)
 
 
-def discount_factors(request: dict) -> np.ndarray:
-    """(T+1,) discount factors of a /v1/paths request, `prod_(u<=t) 1/(1+r_u)` with factor 1 in
-    period 0: the engine's own (batch.pack and kernel.prepare), for a number or a step schedule.
-    Raises ProblemError (422) on an invalid request."""
-    from .engine import pack
-    from .engine.kernel import prepare
-    from .limits import MAX_SHIFTER_CHANGE
-    from .simulation import load_scenario
-
-    batch, _ = pack([load_scenario(request)])
-    return prepare(batch, MAX_SHIFTER_CHANGE)[-1][0]
-
-
-def gains_and_losses(body: dict, factors: np.ndarray | None = None) -> np.ndarray:
+def gains_and_losses(body: dict) -> np.ndarray:
     """(policies, groups) each group's change summed over the horizon (groups in GROUPS order;
-    money per model period x k): by default the engine's own discounted totals (the summary's
-    `distribution_totals_discounted`); with `factors`, the `distribution` series weighted by
-    factors[t]. Raises ProblemError (422, pointer /welfare/rationing) where the body reports no
-    distribution (random rationing)."""
+    money per model period x k): the engine's own discounted totals (the summary's
+    `distribution_totals_discounted`). Raises ProblemError (422, pointer /welfare/rationing)
+    where the body reports no distribution (random rationing)."""
     if any(p["distribution"] is None for p in body["paths"]):
         raise ProblemError(validation_problem({"welfare": {"rationing": [NOT_UNDER_RANDOM]}}))
-    if factors is None:
-        totals = [s["distribution_totals_discounted"] for s in body["summary"]]
-        return np.array([[t[g] for g, _ in GROUPS] for t in totals], dtype=float)
-    series = np.array([[p["distribution"][g] for g, _ in GROUPS] for p in body["paths"]], dtype=float)
-    return (series * np.asarray(factors, dtype=float)).sum(axis=-1)
+    totals = [s["distribution_totals_discounted"] for s in body["summary"]]
+    return np.array([[t[g] for g, _ in GROUPS] for t in totals], dtype=float)
 
 
 def _signed(value: float) -> str:

@@ -1062,6 +1062,17 @@ def discount_factor(request: dict, s: int) -> float:
     return factor
 
 
+def discounted_group_sums(body: dict, request: dict, groups) -> list[list[float]]:
+    """Per policy of an answer, each group's `distribution` series summed with this module's
+    discount factors (MODEL.md section 6), in the order of `groups` (names): what the engine's
+    `distribution_totals_discounted` must equal, computed without the engine."""
+    factors = [discount_factor(request, t) for t in range(len(body["periods"]))]
+    return [
+        [sum(v * f for v, f in zip(path["distribution"][g], factors, strict=True)) for g in groups]
+        for path in body["paths"]
+    ]
+
+
 # --- What has no answer, the reduced form, the other curve form ------------------------------
 
 

@@ -12,8 +12,10 @@ import numpy as np
 import pytest
 
 from service import simulate
-from service.charts import discount_factors, gains_and_losses
+from service.charts import GROUPS
 from service.examples import example_request
+
+from ..reference import discounted_group_sums
 
 pytest.importorskip("matplotlib")
 
@@ -79,7 +81,7 @@ def test_a_briefing_holds_the_question_inputs_charts_tables_cautions_and_the_ids
         [s["final_consumer_price"] for s in answer["summary"]], abs=0.5
     )
     # Who gains and who loses on the chart's basis: the engine's discounted sums, and the net.
-    expected = gains_and_losses(answer, discount_factors(request))
+    expected = np.array(discounted_group_sums(answer, request, [g for g, _ in GROUPS]))
     rows = gains[1:-1]
     assert np.allclose([[_number(c) for c in r[1:]] for r in rows], expected.T, atol=0.6)
     assert [_number(c) for c in gains[-1][1:]] == pytest.approx(expected.sum(axis=1), abs=0.6)

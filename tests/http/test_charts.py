@@ -236,19 +236,21 @@ def test_each_bar_is_the_present_value_of_its_groups_distribution(rate):
 
 
 def test_a_step_discount_schedule_weights_each_period_by_the_product_of_its_rates():
-    from service.charts import discount_factors, gains_and_losses
+    """The engine's discounted group totals, which the who-gains chart draws, under a step
+    schedule: each period weighted by prod_(u<=t) 1/(1+r_u) (MODEL.md 6), the last step holding
+    after its period; through period 4 an ordinary present value at 3.5 % (numpy_financial.npv)."""
+    from service.charts import gains_and_losses
 
     steps = [{"through_period": 4, "rate": 0.035}, {"through_period": 9, "rate": 0.03}]
     request = additions_scenario(discount_rate=steps)
     body = simulate(request)
-    values = gains_and_losses(body, discount_factors(request))
+    values = gains_and_losses(body)
     rates = np.array([0.0] + [0.035] * 4 + [0.03] * 11)  # periods 0..15; the last step holds past 9
     factors = np.cumprod(1.0 / (1.0 + rates))
     for p, row in zip(body["paths"], values, strict=True):
         series = np.array([p["distribution"][g] for g in GROUP_KEYS])
         np.testing.assert_allclose(row, (series * factors).sum(axis=1), rtol=1e-12, atol=1e-6)
-        # Through period 4 it is an ordinary present value at 3.5 %: numpy_financial.npv.
-        head = gains_and_losses({"paths": [p]}, np.where(np.arange(16) <= 4, factors, 0.0))[0]
+        head = (series[:, :5] * factors[:5]).sum(axis=1)
         np.testing.assert_allclose(head, [npf.npv(0.035, s[:5]) for s in series], rtol=1e-12, atol=1e-6)
 
 

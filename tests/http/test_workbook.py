@@ -14,10 +14,12 @@ import pytest
 from openpyxl import load_workbook
 
 from service import labels
-from service.charts import discount_factors, gains_and_losses
+from service.charts import GROUPS
 from service.examples import example_request
 from service.http.cache import AnswerCache
 from service.workbook import FIXED_TIME, WORKBOOK
+
+from ..reference import discounted_group_sums
 
 ACCEPT = {"Accept": WORKBOOK}
 SAME = 1e-15  # relative: the 15 significant digits a spreadsheet keeps
@@ -84,7 +86,7 @@ def test_a_paths_workbook_carries_inputs_summary_each_policys_periods_who_gains_
 
     gains = _rows(book["Who gains and loses"])
     assert "not discounted" in gains[0][2] and "at 3 % per period" in gains[0][3]
-    discounted = gains_and_losses(answer, discount_factors(request))
+    discounted = np.array(discounted_group_sums(answer, request, [g for g, _ in GROUPS]))
     for p, (path, s) in enumerate(zip(answer["paths"], answer["summary"], strict=True)):
         mine = [r for r in gains[1:] if r[0] == path["name"]]
         assert [r[2] for r in mine] == pytest.approx(list(s["distribution_totals"].values()), rel=SAME)
