@@ -134,11 +134,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
                     errors=[{"pointer": f"/policies/{p}", "message": "infeasible in every draw"}],
                 )
             )
-        if not all(
-            np.isfinite(v).all() for part in (arrays.series[p], arrays.summary[p]) for v in part.values()
-        ):
-            # Bands are kept in float32 (about 3.4e38 at most): a draw can pass that where the
-            # path itself (float64) does not, e.g. a discount rate near -100 % over many periods.
+        if not arrays.finite(p):  # e.g. a discount rate near -100 % over many periods
             raise ProblemError(
                 problem(
                     422,
@@ -213,37 +209,32 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
     names = tuple(figures)
 
     entries = []
-    for j, item in enumerate(inputs):
-        lo_row, hi_row = 1 + 2 * j, 2 + 2 * j
+    for j in swings.ranking():
+        lo_row, hi_row = swings.low(j), swings.high(j)
+        swing = {f: swings.swing(j, f) for f in names}
         policies = []
         for q, policy in enumerate(req.scenario.policies):
-            ok = bool(feasible[lo_row, q] and feasible[hi_row, q])
             low = {f: float(figures[f][lo_row, q]) if feasible[lo_row, q] else None for f in names}
             high = {f: float(figures[f][hi_row, q]) if feasible[hi_row, q] else None for f in names}
-            swing = {f: abs(high[f] - low[f]) if ok else None for f in names}
+            each = {f: None if np.isnan(swing[f][q]) else float(swing[f][q]) for f in names}
             policies.append(
-                {"name": policy.name, "kind": policy.kind, "low": low, "high": high, "swing": swing}
+                {"name": policy.name, "kind": policy.kind, "low": low, "high": high, "swing": each}
             )
-        rank = tuple(max((pl["swing"][f] or 0.0) for pl in policies) for f in names)
         entries.append(
-            (
-                rank,
-                {
-                    **_describe(item),
-                    "low": ranges[j][0],
-                    "high": ranges[j][1],
-                    "largest_swing": {f: rank[n] for n, f in enumerate(names)},
-                    "policies": policies,
-                },
-            )
+            {
+                **_describe(inputs[j]),
+                "low": ranges[j][0],
+                "high": ranges[j][1],
+                "largest_swing": dict(zip(names, swings.largest_swing(j), strict=True)),
+                "policies": policies,
+            }
         )
-    entries.sort(key=lambda e: e[0], reverse=True)
     return {
         "scenario_id": _answer_id("sensitivity", req),
         "model_version": engine.MODEL_VERSION,
         "headlines": list(names),
         "central": central,
-        "inputs": [e for _, e in entries],
+        "inputs": entries,
         "cautions": [
             "Each input moves alone to its low and high (the range given, or the 5th and 95th percentile of "
             "its distribution) with every other input at its central value; inputs are sorted by their "

@@ -420,6 +420,12 @@ class BandArrays:
     infeasible_draws: np.ndarray
     feasible_draws: np.ndarray
 
+    def finite(self, policy: int) -> bool:
+        """Every band value of the policy is finite (bands are kept in float32, about 3.4e38 at
+        most: a draw can pass that where the path itself, in float64, does not)."""
+        parts = (self.series[policy], self.summary[policy])
+        return all(bool(np.isfinite(v).all()) for part in parts for v in part.values())
+
 
 def solve_rows(batch: ScenarioBatch, rows: PolicyRows, band: tuple | None = None):
     """Solve and summarise; per row: feasible (R,), series (R, series, T+1) (none when the
@@ -557,6 +563,31 @@ class Swings:
     ranges: tuple[tuple[float, float], ...]  # (low, high) of each input
     feasible: np.ndarray  # (2k+1, policies) bool
     figures: dict[str, np.ndarray]  # headline name -> (2k+1, policies)
+
+    def low(self, j: int) -> int:
+        """The case of input j at its low."""
+        return 1 + 2 * j
+
+    def high(self, j: int) -> int:
+        """The case of input j at its high."""
+        return 2 + 2 * j
+
+    def swing(self, j: int, name: str) -> np.ndarray:
+        """(policies,) |figure at the high - figure at the low| of input j, NaN where either
+        case is infeasible for that policy."""
+        lo, hi = self.low(j), self.high(j)
+        both = self.feasible[lo] & self.feasible[hi]
+        return np.where(both, np.abs(self.figures[name][hi] - self.figures[name][lo]), np.nan)
+
+    def largest_swing(self, j: int) -> tuple[float, ...]:
+        """Per headline figure (in `figures` order), input j's largest swing over the policies
+        (0 where no policy has both cases feasible)."""
+        return tuple(float(np.max(np.nan_to_num(self.swing(j, name), nan=0.0))) for name in self.figures)
+
+    def ranking(self) -> list[int]:
+        """The inputs, largest swing first: by the largest swing in the first headline figure,
+        then the next (ties keep the request's order)."""
+        return sorted(range(len(self.ranges)), key=self.largest_swing, reverse=True)
 
 
 def one_at_a_time(scenario: Scenario, inputs: Sequence[UncertainInput]) -> Swings:
