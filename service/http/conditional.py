@@ -20,10 +20,10 @@ from flask import Response, request
 
 from ..engine import MODEL_VERSION
 
-__all__ = ["attachment", "conditional", "matches", "request_tag"]
+__all__ = ["ENCODING_SUFFIXES", "attachment", "conditional", "matches", "request_tag"]
 
 #: What the compression layer (flask-compress) appends to a strong tag it compresses.
-_ENCODING_SUFFIXES = ("", ":gzip")
+ENCODING_SUFFIXES = ("", ":gzip")
 
 
 def request_tag(endpoint: str, body: Any, fmt: str) -> str:
@@ -43,7 +43,7 @@ def matches(tag: str) -> str | None:
     condition = request.if_none_match
     if condition.star_tag:
         return tag if request.method in ("GET", "HEAD") else None
-    for suffix in _ENCODING_SUFFIXES:
+    for suffix in ENCODING_SUFFIXES:
         if condition.contains_weak(tag + suffix):
             return tag + suffix
     return None

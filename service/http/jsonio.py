@@ -40,8 +40,8 @@ __all__ = [
 PROBLEM_JSON = "application/problem+json"
 #: Field errors a problem document lists; the rest are counted in `more_errors`.
 MAX_LISTED_ERRORS = 100
-#: Content-Encoding values a request body may carry ("identity" is the same as none).
-ENCODINGS = ("gzip", "x-gzip", "identity")
+#: Content-Encoding names of gzip a request body may carry ("identity" is the same as none).
+GZIP_NAMES = ("gzip", "x-gzip")
 
 #: Errors a server raises while the app reads a body that cannot be read to its end, besides
 #: the parse errors of gunicorn's HTTP reader (InvalidChunkSize, ChunkMissingTerminator, ...),
@@ -69,7 +69,7 @@ def _encoding() -> str:
     codings = [c.strip() for c in header.split(",") if c.strip() and c.strip() != "identity"]
     if not codings:
         return ""
-    if codings in (["gzip"], ["x-gzip"]):
+    if len(codings) == 1 and codings[0] in GZIP_NAMES:
         return "gzip"
     raise ProblemError(
         problem(

@@ -24,7 +24,7 @@ from ..engine import MODEL_VERSION
 from ..library import Library, decode_cursor, etag, owner_hash, validate_write
 from ..problems import ProblemError, problem
 from .auth import accepted_key
-from .conditional import conditional
+from .conditional import ENCODING_SUFFIXES, conditional
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import json_response, read_json
 from .library_docs import (
@@ -48,8 +48,6 @@ blueprint = DocumentedBlueprint("library", __name__)
 
 #: What an id looks like (secrets.token_urlsafe); anything else cannot be a record.
 _ID = re.compile(r"^[A-Za-z0-9_-]{1,64}$")
-#: The strong tag as sent, and as flask-compress extends the tag of a gzipped answer.
-_ENCODINGS = ("", ":gzip")
 
 
 def _answers_record(description: str, *headers: str) -> dict:
@@ -113,7 +111,7 @@ def _tagged(body: dict, status: int = 200) -> Response:
 
 def _matches() -> Callable[[str], bool]:
     condition = request.if_match
-    return lambda tag: condition.star_tag or any(condition.contains(tag + e) for e in _ENCODINGS)
+    return lambda tag: condition.star_tag or any(condition.contains(tag + e) for e in ENCODING_SUFFIXES)
 
 
 @blueprint.operation(

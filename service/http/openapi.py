@@ -183,10 +183,6 @@ def _content(kind: str) -> dict[str, Any]:
     return {"schema": {"$ref": f"#/components/schemas/{kind}"}}
 
 
-def _ref(kind: str, name: str) -> dict[str, str]:
-    return {"$ref": f"#/components/{kind}/{name}"}
-
-
 def _example_name(example: dict[str, Any]) -> str:
     """The request example an answer belongs to (its summary's head), or "answer"."""
     return example["summary"].split(":")[0].split(" as ")[0] or "answer"
