@@ -1,7 +1,7 @@
 """Settings: defaults, then SHOCKPATH_* environment variables, then the factory's mapping.
 
 Validated once at start-up: a bad value stops the app with a message naming the variable.
-Every setting is listed, with its default, in the README's configuration table.
+Every setting is listed, with its default, in deploy/OPERATIONS.md (Settings).
 """
 
 from __future__ import annotations
