@@ -1912,8 +1912,9 @@ def _select_many(a, ks):
 def _order_statistics(values, ks, out):
     """out[n] = the ks[n]-th smallest of `values` (ks sorted, unique). One pass counts the
     values into equal-width bins between their minimum and maximum, a second gathers only the
-    bins that hold a wanted rank, and those few values are selected exactly."""
-    low = high = values[0]
+    bins that hold a wanted rank, and those few values are selected exactly. `values` is only
+    read (float32 or float64); bins are computed in float64 either way."""
+    low = high = np.float64(values[0])
     for x in values:
         if x < low:
             low = x
@@ -1998,13 +1999,12 @@ def _percentile_rows(values, keep, q, out):
     rank_of = np.searchsorted(order, needed)
     stats = np.empty(order.shape[0])
     for row in range(values.shape[0]):
-        if everything:
-            for d in range(count):
-                scratch[d] = values[row, d]
+        if everything:  # the row itself: _order_statistics only reads it
+            _order_statistics(values[row], order, stats)
         else:
             for d in range(count):
                 scratch[d] = values[row, keep[d]]
-        _order_statistics(scratch, order, stats)
+            _order_statistics(scratch, order, stats)
         for i in range(q.shape[0]):
             below, above = stats[rank_of[2 * i]], stats[rank_of[2 * i + 1]]
             out[row, i] = below + (above - below) * fraction[i]
