@@ -116,6 +116,10 @@ UNITS = {
     "uncovered_quantity": _QUANTITY,
     "homes_below_free_path": _QUANTITY,
     "rent_above_free_path": _PRICE,
+    "vacant_homes": _QUANTITY,
+    "converted_homes": _QUANTITY,
+    "vs_free_path.renters": _FLOW,
+    "vs_free_path.extra_rent": _FLOW,
     "price_index": "index, period 0 = 1",
     **{group: _FLOW for group in DISTRIBUTION_GROUPS},
 }

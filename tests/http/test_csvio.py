@@ -416,3 +416,18 @@ def test_the_long_and_wide_csv_label_the_same_series_with_the_same_unit(client, 
     assert long_units["consumer_price"] == f"{labels.REAL} per unit per price interval"
     assert long_units["nominal_consumer_price"] == f"{labels.NOMINAL} per unit per price interval"
     assert long_units["deadweight_loss"] == f"{labels.REAL} per model period"
+
+
+@pytest.mark.parametrize("layout", ["long", "wide"])
+def test_every_series_of_homes_as_buildings_has_its_unit_in_the_csv(client, layout):
+    """The stock schedule's series (homes below the free path, vacant and converted homes, renters
+    and extra rent against the free path) carry a unit like every other, in both layouts."""
+    from service.examples import example_request
+
+    request = example_request("tollbrae-decontrol-and-exempt-building")
+    response = client.post(f"/v1/paths/csv?layout={layout}", json=request)
+    text = response.get_data(as_text=True)
+    assert response.status_code == 200
+    assert "see the JSON answer" not in text
+    for variable in ("vacant_homes", "converted_homes", "vs_free_path.renters", "vs_free_path.extra_rent"):
+        assert variable in text, variable
