@@ -336,6 +336,12 @@ def _first_periods(series, end: int):
     return series if len(series[0]) == end else [values[:end] for values in series]
 
 
+def _plan(names, position: dict[str, int]) -> tuple[tuple[str, int], ...]:
+    """(name, position) of each of `names` among the kept series, or () where they were not kept."""
+    names = tuple(names)
+    return tuple((name, position[name]) for name in names) if all(n in position for n in names) else ()
+
+
 def _homes_not_standing(summary: PolicySummary) -> float:
     """Under `stock`, the homes a path has fewer than the free path in its last period that are
     not standing at all: homes below the free path less those standing empty (MODEL.md 16:
@@ -403,6 +409,58 @@ def assemble(
     other_ok = _other_form_answers(batch, rows, arrays, refused)[rows.scenario]
     other_refused = any_per_scenario(refused, rows.scenario, batch.size)
     code = SUMMARY_INDEX
+    # Positions looked up once per batch, not per row: (name, series position; -1 for binding).
+    # (Series the batch did not keep, as reported_series decides, are never read: an empty plan.)
+    series_plan = tuple((name, position.get(name, -1)) for name in SERIES)
+    coverage_plan = _plan(COVERAGE_SERIES, position)
+    stock_plan = _plan(STOCK_SERIES, position)
+    conversion_plan = _plan(CONVERSION_SERIES, position)
+    vs_kept = _plan(VS_FREE_PATH_SERIES.values(), position)
+    vs_plan = (
+        tuple((key, j) for key, (_, j) in zip(VS_FREE_PATH_SERIES, vs_kept, strict=True)) if vs_kept else ()
+    )
+    group_plan = _plan(DISTRIBUTION_GROUPS, position)
+    (
+        at_total_dwl,
+        at_discounted_dwl,
+        at_peak_shortage,
+        at_peak_period,
+        at_binding_periods,
+        at_final_price,
+        at_final_quantity,
+        at_total_cs,
+        at_total_ps,
+        at_total_revenue,
+        at_final_below,
+        at_peak_below,
+        at_final_vacant,
+        at_converted,
+        at_other_dwl,
+        at_other_price,
+        at_other_shortage,
+    ) = (
+        code[name]
+        for name in (
+            "total_deadweight_loss",
+            "discounted_deadweight_loss",
+            "peak_shortage",
+            "peak_shortage_period",
+            "binding_periods",
+            "final_consumer_price",
+            "final_quantity",
+            "total_consumer_surplus_change",
+            "total_producer_surplus_change",
+            "total_government_revenue",
+            "final_homes_below_free_path",
+            "peak_homes_below_free_path",
+            "final_vacant_homes",
+            "total_converted_homes",
+            "other_discounted_deadweight_loss",
+            "other_final_consumer_price",
+            "other_peak_shortage",
+        )
+    )
+    vs_totals_plan = tuple((key, code[name]) for key, name in VS_FREE_PATH_TOTALS.items())
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
         row_index = range(int(starts[i]), int(starts[i + 1]))
@@ -421,63 +479,56 @@ def assemble(
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
             values = _first_periods(block[r], end)
-            path = {
-                name: binding[r][:end] if name == "binding" else values[position[name]] for name in SERIES
-            }
+            path = {name: values[j] if j >= 0 else binding[r][:end] for name, j in series_plan}
             if inflated:
                 path["nominal_consumer_price"] = nominal[r][0][:end]
                 path["nominal_producer_price"] = nominal[r][1][:end]
             if partial[r]:
-                for name in COVERAGE_SERIES:
-                    path[name] = values[position[name]]
+                for name, j in coverage_plan:
+                    path[name] = values[j]
             vs_free_path = None
             if stock:
-                for name in STOCK_SERIES + (CONVERSION_SERIES if converting else ()):
-                    path[name] = values[position[name]]
-                vs_free_path = {key: values[position[name]] for key, name in VS_FREE_PATH_SERIES.items()}
-            groups = None if random else {name: values[position[name]] for name in DISTRIBUTION_GROUPS}
+                for name, j in stock_plan + conversion_plan if converting else stock_plan:
+                    path[name] = values[j]
+                vs_free_path = {key: values[j] for key, j in vs_plan}
+            groups = None if random else {name: values[j] for name, j in group_plan}
             paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
-            peak_period = int(f[code["peak_shortage_period"]])
-            binding_periods = int(f[code["binding_periods"]])
-            ceiling_binds = ceiling_binds or (bool(ceiling[r]) and binding_periods > 0)
-            partial_binds = partial_binds or (
-                bool(partial[r] and rows.coverage[r] < 1.0) and binding_periods > 0
-            )
-            exempt_binds = exempt_binds or (bool(exempt[r]) and binding_periods > 0)
+            peak_period = int(f[at_peak_period])
+            binding_periods = int(f[at_binding_periods])
+            bites = binding_periods > 0
+            ceiling_binds = ceiling_binds or (bites and bool(ceiling[r]))
+            partial_binds = partial_binds or (bites and bool(partial[r] and rows.coverage[r] < 1.0))
+            exempt_binds = exempt_binds or (bites and bool(exempt[r]))
             summaries.append(
                 PolicySummary(
-                    name=policy.name,
-                    kind=policy.kind,
-                    total_deadweight_loss=f[code["total_deadweight_loss"]],
-                    discounted_deadweight_loss=f[code["discounted_deadweight_loss"]],
-                    peak_shortage=f[code["peak_shortage"]],
-                    peak_shortage_period=peak_period if peak_period >= 0 else None,
-                    binding_periods=binding_periods,
-                    final_consumer_price=f[code["final_consumer_price"]],
-                    final_quantity=f[code["final_quantity"]],
-                    total_consumer_surplus_change=f[code["total_consumer_surplus_change"]],
-                    total_producer_surplus_change=f[code["total_producer_surplus_change"]],
-                    total_government_revenue=f[code["total_government_revenue"]],
-                    distribution_totals=None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
-                    final_homes_below_free_path=f[code["final_homes_below_free_path"]] if stock else None,
-                    peak_homes_below_free_path=f[code["peak_homes_below_free_path"]] if stock else None,
-                    vs_free_path_totals={key: f[code[name]] for key, name in VS_FREE_PATH_TOTALS.items()}
-                    if stock
-                    else None,
-                    final_vacant_homes=f[code["final_vacant_homes"]] if stock else None,
-                    total_converted_homes=f[code["total_converted_homes"]] if converting else None,
-                    other_form={
+                    policy.name,
+                    policy.kind,
+                    f[at_total_dwl],
+                    f[at_discounted_dwl],
+                    f[at_peak_shortage],
+                    peak_period if peak_period >= 0 else None,
+                    binding_periods,
+                    f[at_final_price],
+                    f[at_final_quantity],
+                    f[at_total_cs],
+                    f[at_total_ps],
+                    f[at_total_revenue],
+                    None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
+                    f[at_final_below] if stock else None,
+                    f[at_peak_below] if stock else None,
+                    {key: f[k] for key, k in vs_totals_plan} if stock else None,
+                    f[at_final_vacant] if stock else None,
+                    f[at_converted] if converting else None,
+                    {
                         "form": other_form,
-                        "discounted_deadweight_loss": f[code["other_discounted_deadweight_loss"]],
-                        "final_consumer_price": f[code["other_final_consumer_price"]],
-                        "peak_shortage": f[code["other_peak_shortage"]],
+                        "discounted_deadweight_loss": f[at_other_dwl],
+                        "final_consumer_price": f[at_other_price],
+                        "peak_shortage": f[at_other_shortage],
                     }
                     if other_ok[r]
                     else None,
-                    distribution_totals_discounted=None
-                    if random
-                    else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
+                    None if random else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
                 )
             )
         rf = {
