@@ -112,6 +112,8 @@ def scenario_id(scenario: engine.Scenario, **extra: Any) -> str:
 
 
 _SCALARS = frozenset([float, int, str, bool, type(None)])
+#: Scalars written as they are (a float goes through _canonical: its zero has one sign).
+_ATOMS = _SCALARS - {float}
 _MISSING = object()
 #: Per dataclass type: (field name, the addition default that leaves it out, or _MISSING).
 _FIELDS: dict[type, tuple[tuple[str, Any], ...]] = {}
@@ -122,12 +124,14 @@ def _canonical(value: Any) -> Any:
     order, dict keys sorted), except that the additions of MODEL.md 12-15 at their defaults
     (engine.ADDITION_DEFAULTS) are left out: ids of requests without them are unchanged."""
     kind = type(value)
+    if kind is float:
+        return value + 0.0  # -0.0 + 0.0 is 0.0: a zero written -0.0 is the same scenario, one id
     if kind in _SCALARS:
         return value
     if kind is dict:
         return {k: _canonical(value[k]) for k in sorted(value)}
     if kind is list or kind is tuple:
-        return [v if type(v) in _SCALARS else _canonical(v) for v in value]
+        return [v if type(v) in _ATOMS else _canonical(v) for v in value]
     names = _FIELDS.get(kind)
     if names is None:
         if not dataclasses.is_dataclass(kind):
@@ -141,7 +145,7 @@ def _canonical(value: Any) -> Any:
         v = getattr(value, name)
         if default is not _MISSING and v == default:
             continue
-        out[name] = v if type(v) in _SCALARS else _canonical(v)
+        out[name] = v if type(v) in _ATOMS else _canonical(v)
     return out
 
 

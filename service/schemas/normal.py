@@ -168,6 +168,12 @@ _Rule = tuple[Callable[[Any], bool], Callable[[Any], Any]]
 _CONVERTERS: dict[int, tuple[fields.Field, Callable[[Any], Any]]] = {}
 
 
+def _real(value: int | float) -> float:
+    """A number as a Real field reads it: a float, and a zero written -0.0 as 0.0 (the same
+    scenario, so the same id and the same bytes)."""
+    return float(value) + 0.0
+
+
 def _converter(field: fields.Field) -> Callable[[Any], Any]:
     """The function that writes a value sent for `field` as the schema reads it.
 
@@ -185,7 +191,7 @@ def _converter(field: fields.Field) -> Callable[[Any], Any]:
         return found[1]
     rules: list[_Rule] = []
     if isinstance(field, Real):
-        rules.append((_is_number, float))
+        rules.append((_is_number, _real))
     if isinstance(field, WholeNumber):
         rules.append((_is_number, int))
     if isinstance(field, fields.Nested):
@@ -231,7 +237,7 @@ def _from_rules(
 ) -> Callable[[Any], Any]:
     if not rules:
         return lambda value: value
-    if rules in (((_is_number, float),), ((_is_number, int),)):
+    if rules in (((_is_number, _real),), ((_is_number, int),)):
         # A number field (most fields): the one rule without the calls of the general form.
         as_number = rules[0][1]
         return lambda value: as_number(value) if isinstance(value, (int, float)) else value

@@ -7,6 +7,7 @@ import copy
 import csv
 import io
 import json
+import math
 
 from service import limits, simulate, simulate_many
 from service.engine.results import DISTRIBUTION_GROUPS
@@ -45,6 +46,28 @@ def test_the_scenario_id_ignores_defaults_written_out_and_changes_with_any_numbe
     assert client.post("/v1/paths", json=explicit).get_json()["scenario_id"] == sid
     changed = {**contract_request, "horizon": 11}
     assert client.post("/v1/paths", json=changed).get_json()["scenario_id"] != sid
+
+
+def test_a_zero_written_minus_zero_is_the_same_scenario_with_the_same_id_and_bytes(client, contract_request):
+    """-0.0 and 0.0 are one number (IEEE 754 compares them equal): one id, one ETag, the same
+    bytes, and the answer's request writes 0.0, whichever was sent."""
+    zero = copy.deepcopy(contract_request)
+    zero["welfare"] = {**zero.get("welfare", {}), "discount_rate": 0.0}
+    zero["shocks"][0]["change"] = 0.0
+    minus = copy.deepcopy(zero)
+    minus["welfare"]["discount_rate"] = -0.0
+    minus["shocks"][0]["change"] = -0.0
+    plain, signed = (
+        client.post("/v1/paths", data=json.dumps(r), content_type="application/json") for r in (zero, minus)
+    )
+    assert b'"discount_rate": -0.0' in json.dumps(minus).encode()  # sent as written
+    assert plain.status_code == signed.status_code == 200
+    assert plain.headers["ETag"] == signed.headers["ETag"]
+    # Computed afresh (no answer cache): the same bytes, and the request echoed with 0.0.
+    fresh = simulate(copy.deepcopy(minus))
+    assert json.dumps(fresh, sort_keys=True) == json.dumps(simulate(copy.deepcopy(zero)), sort_keys=True)
+    assert math.copysign(1.0, fresh["request"]["welfare"]["discount_rate"]) == 1.0
+    assert math.copysign(1.0, fresh["request"]["shocks"][0]["change"]) == 1.0
 
 
 def test_csv_is_the_same_paths_in_long_form(client, contract_request):
