@@ -219,6 +219,8 @@ SUMMARY_NAMES = (
     *("discounted_" + name for name in GROUP_NAMES),
 )
 SUMMARY_INDEX, _T = _positions("SummaryIndex", SUMMARY_NAMES)
+#: The same positions as attributes (SUMMARY_AT.peak_shortage), for the Python that reads them.
+SUMMARY_AT = _T
 _GROUP_SERIES = np.array([SERIES_INDEX[name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_TOTALS = np.array([SUMMARY_INDEX["total_" + name] for name in GROUP_NAMES], dtype=np.int64)
 _GROUP_DISCOUNTED = np.array([SUMMARY_INDEX["discounted_" + name] for name in GROUP_NAMES], dtype=np.int64)

@@ -22,7 +22,7 @@ from .errors import (
     LinearFormRangeError,
     NonFiniteResultError,
 )
-from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_INDEX
+from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_AT, SUMMARY_INDEX
 from .paths import PathArrays, any_per_scenario, solve
 from .policies import is_ceiling
 from .reduced_form import short_and_long_run
@@ -420,46 +420,7 @@ def assemble(
         tuple((key, j) for key, (_, j) in zip(VS_FREE_PATH_SERIES, vs_kept, strict=True)) if vs_kept else ()
     )
     group_plan = _plan(DISTRIBUTION_GROUPS, position)
-    (
-        at_total_dwl,
-        at_discounted_dwl,
-        at_peak_shortage,
-        at_peak_period,
-        at_binding_periods,
-        at_final_price,
-        at_final_quantity,
-        at_total_cs,
-        at_total_ps,
-        at_total_revenue,
-        at_final_below,
-        at_peak_below,
-        at_final_vacant,
-        at_converted,
-        at_other_dwl,
-        at_other_price,
-        at_other_shortage,
-    ) = (
-        code[name]
-        for name in (
-            "total_deadweight_loss",
-            "discounted_deadweight_loss",
-            "peak_shortage",
-            "peak_shortage_period",
-            "binding_periods",
-            "final_consumer_price",
-            "final_quantity",
-            "total_consumer_surplus_change",
-            "total_producer_surplus_change",
-            "total_government_revenue",
-            "final_homes_below_free_path",
-            "peak_homes_below_free_path",
-            "final_vacant_homes",
-            "total_converted_homes",
-            "other_discounted_deadweight_loss",
-            "other_final_consumer_price",
-            "other_peak_shortage",
-        )
-    )
+    at = SUMMARY_AT
     vs_totals_plan = tuple((key, code[name]) for key, name in VS_FREE_PATH_TOTALS.items())
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
@@ -494,8 +455,8 @@ def assemble(
             groups = None if random else {name: values[j] for name, j in group_plan}
             paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
-            peak_period = int(f[at_peak_period])
-            binding_periods = int(f[at_binding_periods])
+            peak_period = int(f[at.peak_shortage_period])
+            binding_periods = int(f[at.binding_periods])
             bites = binding_periods > 0
             ceiling_binds = ceiling_binds or (bites and bool(ceiling[r]))
             partial_binds = partial_binds or (bites and bool(partial[r] and rows.coverage[r] < 1.0))
@@ -504,27 +465,27 @@ def assemble(
                 PolicySummary(
                     policy.name,
                     policy.kind,
-                    f[at_total_dwl],
-                    f[at_discounted_dwl],
-                    f[at_peak_shortage],
+                    f[at.total_deadweight_loss],
+                    f[at.discounted_deadweight_loss],
+                    f[at.peak_shortage],
                     peak_period if peak_period >= 0 else None,
                     binding_periods,
-                    f[at_final_price],
-                    f[at_final_quantity],
-                    f[at_total_cs],
-                    f[at_total_ps],
-                    f[at_total_revenue],
+                    f[at.final_consumer_price],
+                    f[at.final_quantity],
+                    f[at.total_consumer_surplus_change],
+                    f[at.total_producer_surplus_change],
+                    f[at.total_government_revenue],
                     None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
-                    f[at_final_below] if stock else None,
-                    f[at_peak_below] if stock else None,
+                    f[at.final_homes_below_free_path] if stock else None,
+                    f[at.peak_homes_below_free_path] if stock else None,
                     {key: f[k] for key, k in vs_totals_plan} if stock else None,
-                    f[at_final_vacant] if stock else None,
-                    f[at_converted] if converting else None,
+                    f[at.final_vacant_homes] if stock else None,
+                    f[at.total_converted_homes] if converting else None,
                     {
                         "form": other_form,
-                        "discounted_deadweight_loss": f[at_other_dwl],
-                        "final_consumer_price": f[at_other_price],
-                        "peak_shortage": f[at_other_shortage],
+                        "discounted_deadweight_loss": f[at.other_discounted_deadweight_loss],
+                        "final_consumer_price": f[at.other_final_consumer_price],
+                        "peak_shortage": f[at.other_peak_shortage],
                     }
                     if other_ok[r]
                     else None,
