@@ -71,6 +71,7 @@ __all__ = [
     "SCHEDULE_CODES",
     "SERIES_INDEX",
     "SERIES_NAMES",
+    "SUMMARY_AT",
     "SUMMARY_INDEX",
     "SUMMARY_NAMES",
     "MarketInputs",
