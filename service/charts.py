@@ -480,7 +480,10 @@ def render_bands(
     handles = []
     for i, (band, central) in enumerate(zip(body["bands"], body["central"]["paths"], strict=True)):
         style = _style(i)
+        line = None
         for ax, series in zip(axes, chosen, strict=True):
+            if series not in band["series"]:  # e.g. the rents of controlled homes of a free market
+                continue
             by_q = band["series"][series]
             for depth in range(len(keys) // 2):
                 low, high = by_q[keys[depth]], by_q[keys[-1 - depth]]
@@ -499,6 +502,10 @@ def render_bands(
                             periods, edge, color=style["color"], linestyle=style["linestyle"], linewidth=0.7
                         )
             (line,) = ax.plot(periods, central[series], **style)
+        if line is None:  # none of the chosen panels is one of this policy's series
+            from matplotlib.lines import Line2D
+
+            line = Line2D([], [], **style)
         handles.append(line)
     labels_ = [b["name"] for b in body["bands"]]
     outer = f"{keys[0]}-{keys[-1]}th percentiles" if len(keys) > 1 else "percentile"

@@ -43,7 +43,8 @@ def register_error_handlers(app: Flask, log: logging.Logger) -> None:
     def _unexpected(error: Exception):
         rid = g.get("request_id", "")
         log.exception("unhandled error", extra={"request_id": rid, "path": request.path})
-        document = problem(
-            500, "Internal Server Error", "The server failed to answer; quote the request id.", request_id=rid
+        detail = (
+            f"The server failed to answer; quote request id {rid}." if rid else "The server failed to answer."
         )
+        document = problem(500, "Internal Server Error", detail, request_id=rid)
         return problem_response(document)

@@ -316,6 +316,44 @@ def test_a_band_chart_takes_panels_too(client):
     assert _axes_count(svg) == 1
 
 
+def _uncertain_partial_rule() -> dict:
+    """Tollbrae's caps (new homes exempt, rents reset between tenants) beside a free market,
+    with an uncertain long-run elasticity: only the caps' bands carry the rents of controlled
+    and uncontrolled homes (an analyst's trial case)."""
+    request = example_request("tollbrae-decontrol-and-exempt-building")
+    request["market"]["supply"]["long_run_elasticity"] = {
+        "distribution": "triangular",
+        "low": 0.4,
+        "mode": 0.8,
+        "high": 1.5,
+    }
+    request["draws"] = 200
+    return request
+
+
+@pytest.mark.parametrize("panels", [None, ["controlled_and_uncontrolled_rents"]])
+def test_a_band_chart_of_rules_on_part_of_the_homes_draws_the_rents_where_a_policy_has_them(client, panels):
+    request = _uncertain_partial_rule()
+    answer = client.post("/v1/bands", json=request).get_json()
+    carries = [("covered_price" in b["series"]) for b in answer["bands"]]
+    assert any(carries) and not all(carries)  # the free market has no controlled rents
+    body = {"chart": "bands", "format": "svg", "scenario": request}
+    if panels is not None:
+        body["panels"] = panels
+    response = client.post("/v1/charts", json=body)
+    assert response.status_code == 200, response.get_json()
+    svg = response.get_data(as_text=True)
+    assert f"({labels.SERIES['covered_price'][1]})" in svg
+    for band in answer["bands"]:  # every policy is in the legend, drawn on a panel or not
+        assert band["name"] in svg
+
+
+def test_a_briefing_of_bands_for_rules_on_part_of_the_homes_is_answered(client):
+    response = client.post("/v1/briefing", json=_uncertain_partial_rule())
+    assert response.status_code == 200, response.get_json()
+    assert "ranges over the draws" in response.get_data(as_text=True)
+
+
 def test_a_panel_the_answer_does_not_carry_is_a_422_at_its_pointer(client):
     body = {"chart": "paths", "panels": ["consumer_price", "vacant_homes"], "scenario": scenario("paths")}
     response = client.post("/v1/charts", json=body)

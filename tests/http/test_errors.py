@@ -148,6 +148,8 @@ def test_an_unexpected_failure_is_a_generic_500_with_a_request_id(monkeypatch, c
     body = assert_problem(response, 500)
     assert "secret" not in response.get_data(as_text=True)
     assert body["request_id"] == "abc-123" and response.headers["X-Request-ID"] == "abc-123"
+    # The detail names the id, so a page or client that shows only the detail can quote it.
+    assert body["detail"] == "The server failed to answer; quote request id abc-123."
 
 
 def _tiny():
