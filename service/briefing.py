@@ -51,6 +51,11 @@ def _e(text: Any) -> str:
     return html.escape(str(text), quote=True)
 
 
+#: Figures this close to zero are the rounding of a difference, not a finding (the page's
+#: threshold; the downloads keep every digit).
+ROUNDING = 1e-9
+
+
 def _number(value: Any) -> str:
     if value is None:
         return "\u2013"
@@ -61,10 +66,12 @@ def _number(value: Any) -> str:
     if isinstance(value, float):
         if value == 0:
             return "0"
+        if abs(value) < ROUNDING:  # the rounding of a difference, as the page shows it
+            return "\u2248 0"
         if abs(value) >= 100:
             return f"{value:,.0f}"
         return f"{value:,.3g}" if abs(value) < 1 else f"{value:,.2f}"
-    return _e(value)
+    return _e(str(value).replace("_", " "))  # a choice in words: constant elasticity
 
 
 def _pct(x: float) -> str:
@@ -213,7 +220,7 @@ def briefing_html(
     rows = [
         [_e(words), _number(value) if not isinstance(value, list) else _e(", ".join(str(v) for v in value))]
         for pointer, words, value in labels.input_rows(request, units)
-        if not pointer.startswith(("/policies", "/shocks"))
+        if not pointer.startswith(("/policies", "/shocks", "/output"))  # /output: the answer's shape only
     ]
     parts.append(_table("Every market, adjustment and welfare input", ["Input", "Value"], rows, "75%"))
 

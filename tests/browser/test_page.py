@@ -324,6 +324,12 @@ def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(
     page.check("#all-series")
     head = page.text_content("#year-tables table.years thead")
     assert "Supply response this period" in head
+    # The rule bites: a flag written as its unit says (1 = yes, 0 = no), not true or false.
+    heads, rows = _years(page, "rent freeze")
+    bites = next(i for i, h in enumerate(heads) if h.startswith("The rule bites"))
+    assert "1 = yes, 0 = no" in heads[bites]
+    flags = [r[bites] for r in rows]
+    assert set(flags) == {"0", "1"} and flags[0] == "0"
     # The first table open is the first rule's (the free market's is all zeros), periods 0 to T.
     opened = page.eval_on_selector_all("#year-tables details[open] summary", "s => s.map(x => x.textContent)")
     assert opened == [f"rent freeze: periods 0 (today) to {len(answer['periods']) - 1}"]

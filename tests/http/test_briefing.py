@@ -119,3 +119,19 @@ def test_a_matching_if_none_match_gets_304(client):
     first = client.post("/v1/briefing", json=request)
     again = client.post("/v1/briefing", json=request, headers={"If-None-Match": first.headers["ETag"]})
     assert again.status_code == 304
+
+
+def test_a_briefing_writes_rounding_as_about_zero_and_choices_in_words_as_the_page_does():
+    """What a council reads: a figure within 1e-9 of zero is the rounding of a difference
+    (about 0, as on the page), a choice such as the curve form is in words, and the answer's
+    shape (`output`) is not an input of the market."""
+    from service.briefing import _number, briefing_html
+
+    assert _number(7.28e-12) == "\u2248 0" and _number(-4.2e-10) == "\u2248 0"
+    assert _number(0.0) == "0" and _number(2.5e-9) == "2.5e-09"
+    assert _number("constant_elasticity") == "constant elasticity"
+    request = {**example_request("quillbrook-rent-freeze"), "output": "full"}
+    request["market"]["form"] = "constant_elasticity"
+    text = briefing_html(simulate(request))
+    assert ">constant elasticity</td>" in text and ">constant_elasticity</td>" not in text
+    assert "Answer with" not in text

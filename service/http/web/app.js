@@ -759,7 +759,9 @@ function showYears(body) {
     const tbody = table.createTBody();
     answer.periods.forEach((t, row) => {
       const tr = document.createElement("tr");
-      tr.append(th(String(t), "", "row"), ...names.map((n) => td(number(series[n][row]), "n")));
+      // A flag (binding) as its unit says, 1 = yes, 0 = no, like the CSV and the workbook.
+      const cell = (v) => (typeof v === "boolean" ? (v ? "1" : "0") : number(v));
+      tr.append(th(String(t), "", "row"), ...names.map((n) => td(cell(series[n][row]), "n")));
       tbody.append(tr);
     });
     scroll.append(table);
