@@ -871,7 +871,9 @@ def render_renters(
         ax.axhline(0, color="#000000", linewidth=1.0)
         during = sum(v for v, k in zip(values, phases, strict=True) if k == 1)
         after = sum(v for v, k in zip(values, phases, strict=True) if k == 2)
-        ax.set_title(f"{name}: during {_signed(during)}, after {_signed(after)}", fontsize=11, loc="left")
+        ended = 2 in phases  # a rule in force to the horizon has no years after it here
+        after_words = f"after {_signed(after)}" if ended else "in force to the end"
+        ax.set_title(f"{name}: during {_signed(during)}, {after_words}", fontsize=11, loc="left")
         ax.grid(True, axis="y", color="#dddddd", linewidth=0.6)
         ax.set_axisbelow(True)
         _compact_axis(ax.yaxis)

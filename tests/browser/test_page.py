@@ -255,6 +255,34 @@ def test_job_three_uncertain_elasticities_chosen_in_the_form_give_bands_and_a_to
         page.screenshot(path=str(ARTIFACTS / f"page-job-three-{width}.png"), full_page=True)
 
 
+def test_the_tornado_opens_on_the_policy_whose_loss_swings_most(page, base_url):
+    """An analyst's trial: Tollbrae's exempt cap with rents reset between tenants loses nothing
+    within each year, so opened on it (the first rule) the tornado was empty; it opens on the
+    policy whose first figure swings most."""
+    _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
+    request = _request(page)
+    request["policies"] = [request["policies"][0], request["policies"][2], request["policies"][1]]
+    request["market"]["supply"]["long_run_elasticity"] = {"distribution": "uniform", "low": 0.6, "high": 1.4}
+    request["draws"] = 200
+    page.click("#json-details summary")
+    page.eval_on_selector("#request-json", _PASTE, json.dumps(request))
+    run_scenario(page)
+    page.wait_for_selector("#tornado-figure img[data-title]")
+    body = page.evaluate(
+        "fetch('/v1/sensitivity', {method: 'POST', headers: {'Content-Type': "
+        "'application/json'}, body: JSON.stringify(state.sensitivity.request)}).then(r => r.json())"
+    )
+    swing = {
+        q["name"]: max(
+            (e["policies"][i]["swing"]["discounted_deadweight_loss"] or 0.0) for e in body["inputs"]
+        )
+        for i, q in enumerate(body["inputs"][0]["policies"])
+    }
+    lossless = request["policies"][1]["name"]
+    assert swing[lossless] == 0.0 and max(swing.values()) > 0.0
+    assert page.input_value("#tornado-policy") == max(swing, key=swing.get)
+
+
 def test_no_click_is_lost_after_editing_the_request_by_hand(page, base_url):
     _load(page, base_url, "quillbrook-rent-freeze")
     request = _request(page)

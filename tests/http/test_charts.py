@@ -433,6 +433,13 @@ def test_the_renters_chart_colours_each_period_by_the_rules_phase_and_sums_them(
     svg = render_renters(body, request, HOUSING, "svg", "linear").decode()
     horizon = len(body["periods"]) - 1
     assert f"<!-- {name}: during +400, after \u2212{_compact_total(40.0 * (horizon - 4))} -->" in svg
+    # The same rule in force to the horizon has no years after it: said so, not "after 0".
+    request["policies"][1].pop("end")
+    lasting = simulate(request)
+    for path in lasting["paths"]:
+        path["vs_free_path"] = {"renters": [0.0] + [100.0] * horizon, "extra_rent": [0.0] * (horizon + 1)}
+    svg = render_renters(lasting, request, HOUSING, "svg", "linear").decode()
+    assert f"<!-- {name}: during +{_compact_total(100.0 * horizon)}, in force to the end -->" in svg
 
 
 def _compact_total(value: float) -> str:

@@ -926,7 +926,11 @@ async function runSensitivity(request) {
   const policy = $("tornado-policy");
   const names = body.central.paths.map((p) => p.name);
   policy.replaceChildren(...names.map((n) => { const o = document.createElement("option"); o.value = n; o.textContent = n; return o; }));
-  policy.value = names.find((n, i) => body.central.paths[i].kind !== "none") || names[0];
+  // Open on the policy whose first figure swings most (a rule that loses nothing draws an empty
+  // tornado); ties and no swing at all: the first rule.
+  const swingOf = (name) => Math.max(0, ...body.inputs.map((e) => (e.policies.find((q) => q.name === name)?.swing?.[order[0]]) || 0));
+  const firstRule = names.find((n, i) => body.central.paths[i].kind !== "none") || names[0];
+  policy.value = names.reduce((best, n) => (swingOf(n) > swingOf(best) ? n : best), firstRule);
   const caution = $("sensitivity-caution");
   const a = request.adjustment || {};
   const coupled = (a.schedule === "geometric" || a.schedule === "stock") && a.rate == null && a.half_life == null
