@@ -463,25 +463,25 @@ def assemble(
             exempt_binds = exempt_binds or (bites and bool(exempt[r]))
             summaries.append(
                 PolicySummary(
-                    policy.name,
-                    policy.kind,
-                    f[at.total_deadweight_loss],
-                    f[at.discounted_deadweight_loss],
-                    f[at.peak_shortage],
-                    peak_period if peak_period >= 0 else None,
-                    binding_periods,
-                    f[at.final_consumer_price],
-                    f[at.final_quantity],
-                    f[at.total_consumer_surplus_change],
-                    f[at.total_producer_surplus_change],
-                    f[at.total_government_revenue],
-                    None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
-                    f[at.final_homes_below_free_path] if stock else None,
-                    f[at.peak_homes_below_free_path] if stock else None,
-                    {key: f[k] for key, k in vs_totals_plan} if stock else None,
-                    f[at.final_vacant_homes] if stock else None,
-                    f[at.total_converted_homes] if converting else None,
-                    {
+                    name=policy.name,
+                    kind=policy.kind,
+                    total_deadweight_loss=f[at.total_deadweight_loss],
+                    discounted_deadweight_loss=f[at.discounted_deadweight_loss],
+                    peak_shortage=f[at.peak_shortage],
+                    peak_shortage_period=peak_period if peak_period >= 0 else None,
+                    binding_periods=binding_periods,
+                    final_consumer_price=f[at.final_consumer_price],
+                    final_quantity=f[at.final_quantity],
+                    total_consumer_surplus_change=f[at.total_consumer_surplus_change],
+                    total_producer_surplus_change=f[at.total_producer_surplus_change],
+                    total_government_revenue=f[at.total_government_revenue],
+                    distribution_totals=None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
+                    final_homes_below_free_path=f[at.final_homes_below_free_path] if stock else None,
+                    peak_homes_below_free_path=f[at.peak_homes_below_free_path] if stock else None,
+                    vs_free_path_totals={key: f[k] for key, k in vs_totals_plan} if stock else None,
+                    final_vacant_homes=f[at.final_vacant_homes] if stock else None,
+                    total_converted_homes=f[at.total_converted_homes] if converting else None,
+                    other_form={
                         "form": other_form,
                         "discounted_deadweight_loss": f[at.other_discounted_deadweight_loss],
                         "final_consumer_price": f[at.other_final_consumer_price],
@@ -489,7 +489,9 @@ def assemble(
                     }
                     if other_ok[r]
                     else None,
-                    None if random else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
+                    distribution_totals_discounted=None
+                    if random
+                    else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
                 )
             )
         rf = {
