@@ -452,6 +452,7 @@ def test_a_request_is_saved_opened_and_shared_by_link(page, base_url, browser, t
     page.set_input_files("#open-file", str(path))
     page.wait_for_function("document.querySelector('#f-horizon').value === '9'")
     assert page.input_value("#demo") == ""  # the picker says it is the analyst's own
+    _units(page)  # the units typed travel with the link
     page.click("#copy-link")
     page.wait_for_selector("#scenario-link")
     link = page.input_value("#scenario-link")
@@ -463,6 +464,7 @@ def test_a_request_is_saved_opened_and_shared_by_link(page, base_url, browser, t
             "document.querySelector('#status').textContent.startsWith('Opened the scenario')"
         )
         assert _request(other) == saved and other.input_value("#scenario-name") == "mine"
+        assert {selector: other.input_value(selector) for selector in HOUSING} == HOUSING
     finally:
         other.close()
 

@@ -80,6 +80,15 @@ function units() {
     period: $("u-period").value || "period" };
 }
 
+// The unit fields as typed (empty ones left out), and set back from such an object.
+const UNIT_FIELDS = { currency: "u-currency", quantity: "u-quantity", unit: "u-unit", price_interval: "u-interval", period: "u-period" };
+function typedUnits() {
+  return Object.fromEntries(Object.entries(UNIT_FIELDS).map(([k, id]) => [k, $(id).value]).filter(([, v]) => v));
+}
+function setTypedUnits(typed) {
+  for (const [k, id] of Object.entries(UNIT_FIELDS)) if (typeof typed[k] === "string") $(id).value = typed[k];
+}
+
 const fill = (template) => template.replace(/\{(\w+)\}/g, (_, k) => units()[k] ?? k);
 
 function lookup(name, totals) {
@@ -1113,7 +1122,8 @@ async function squeeze(text, direction) {
 
 async function copyLink() {
   flushJson();
-  const payload = JSON.stringify({ name: scenarioName(), request: state.request });
+  // The units typed travel with the link, so a colleague's charts read as the analyst's did.
+  const payload = JSON.stringify({ name: scenarioName(), request: state.request, units: typedUnits() });
   const bytes = await squeeze(payload, "in");
   let packed = "";
   for (let i = 0; i < bytes.length; i += 8192) packed += String.fromCharCode(...bytes.subarray(i, i + 8192));
@@ -1138,8 +1148,9 @@ async function fromFragment() {
   if (!match) return false;
   try {
     const text = new TextDecoder().decode(await squeeze(fromBase64Url(match[1]), "out"));
-    const { name, request } = JSON.parse(text);
+    const { name, request, units: linked } = JSON.parse(text);
     loadRequest(request, name || "");
+    setTypedUnits(linked || {});
     $("status").textContent = "Opened the scenario of the link. Run it to see its paths.";
     return true;
   } catch (e) {
