@@ -1252,10 +1252,15 @@ def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -
 
 
 #: Where a row's series go once its periods are walked: `out` (kept series, T+1) gets the
-#: cells `kept`, cell j in row column[j]; band_out[slots[j], t, draw] (float32) gets the cells
-#: `banded`; `checked` lists the cells whose values must be finite (the sixteen core series,
-#: the kept and the banded ones).
-Target = namedtuple("Target", "kept column out checked banded slots band_out draw")
+#: cells `kept`, cell j in row column[j]; stage[row, s, t] (float32) gets the s-th of the cells
+#: `banded` (see _flush_band); `checked` lists the cells whose values must be finite (the
+#: sixteen core series, the kept and the banded ones).
+Target = namedtuple("Target", "kept column out checked banded stage row")
+
+#: Rows of consecutive draws whose banded series are gathered before they go to the band
+#: target together: each (slot, period) then gets one run of draws instead of one value per
+#: row (a row's values otherwise land on as many cache lines as it has banded values).
+BAND_STAGE = 16
 
 
 @njit(**_JIT)
@@ -1520,16 +1525,30 @@ def _row_totals(cells, flags, last, end, factor, checked, total):
 
 @njit(**_JIT)
 def _emit(cells, last, target):
-    """A walked row's kept series into target.out (every period) and its banded ones into the
-    band's slots (periods 0..last), each series written in one contiguous run."""
+    """A walked row's kept series into target.out (every period) and its banded ones into
+    row `target.row` of the band stage (periods 0..last), each series one contiguous run."""
     for j in target.kept:
         series = target.out[target.column[j]]
         for t in range(cells.shape[0]):
             series[t] = cells[t, j]
-    for j in target.banded:
-        slot = target.slots[j]
+    stage = target.stage[target.row]
+    for s in range(target.banded.shape[0]):
+        j = target.banded[s]
         for t in range(last + 1):
-            target.band_out[slot, t, target.draw] = cells[t, j]
+            stage[s, t] = cells[t, j]
+
+
+@njit(**_JIT)
+def _flush_band(stage, staged, banded, slots, band_out, first_draw, last):
+    """The first `staged` rows of the stage (draws first_draw, first_draw + 1, ...) into the
+    band target: band_out[slots[j], t, first_draw + k] = stage[k, s, t] for the s-th banded
+    cell j, periods 0..last."""
+    for s in range(banded.shape[0]):
+        row = band_out[slots[banded[s]]]
+        for t in range(last + 1):
+            runs = row[t, first_draw : first_draw + staged]
+            for k in range(staged):
+                runs[k] = stage[k, s, t]
 
 
 #: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
@@ -1560,24 +1579,28 @@ def _policy_rows(m, rows, free, free_other, other, x):
     scratch_total = np.empty(summary.shape[1])
     every_banded = x.banded.ravel()
     checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
+    stage = np.empty((BAND_STAGE if band_rows > 0 else 1, x.banded.shape[1], periods), dtype=np.float32)
+    staged = staged_policy = staged_first = staged_last = 0  # the rows in the stage, and theirs
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
         ce = m.constant_elasticity[i]
         last, end, factor = m.horizon[i], rows.end[r], m.discount_factor[i]
         if band_rows > 0:
             policy = r // band_rows
+            if staged > 0 and (staged == BAND_STAGE or policy != staged_policy or last != staged_last):
+                banded = x.banded[staged_policy, : x.counts[staged_policy]]
+                _flush_band(
+                    stage, staged, banded, band_slot[staged_policy], band_out, staged_first, staged_last
+                )
+                staged = 0
+            if staged == 0:
+                staged_policy, staged_first, staged_last = policy, x.band_start + r % band_rows, last
             target = Target(
-                kept,
-                column,
-                out[r],
-                checked,
-                x.banded[policy, : x.counts[policy]],
-                band_slot[policy],
-                band_out,
-                x.band_start + r % band_rows,
+                kept, column, out[r], checked, x.banded[policy, : x.counts[policy]], stage, staged
             )
+            staged += 1
         else:
-            target = Target(kept, column, out[r], checked, nothing, band_slot[0], band_out, 0)
+            target = Target(kept, column, out[r], checked, nothing, stage, 0)
         _walk_row(m, rows, r, ce, free, cells, flags[r])
         _row_totals(cells, flags[r], last, end, factor, checked, summary[r])
         _emit(cells, last, target)
@@ -1592,6 +1615,9 @@ def _policy_rows(m, rows, free, free_other, other, x):
             summary[r, _T.other_final_consumer_price] = scratch_total[_T.final_consumer_price]
             summary[r, _T.other_peak_shortage] = scratch_total[_T.peak_shortage]
             summary[r, _T.other_feasible] = 1.0 if feasible else 0.0
+    if staged > 0:
+        banded = x.banded[staged_policy, : x.counts[staged_policy]]
+        _flush_band(stage, staged, banded, band_slot[staged_policy], band_out, staged_first, staged_last)
 
 
 def policy_paths(
@@ -1911,12 +1937,31 @@ def _select_many(a, ks):
         top += 2
 
 
+#: A bin with at most this many values is partitioned (_select_many); a larger one is binned
+#: again (a pass over its values costs less than partitioning them).
+_SELECT_AT_MOST = 4096
+
+
 @njit(**_JIT)
-def _order_statistics(values, ks, out):
-    """out[n] = the ks[n]-th smallest of `values` (ks sorted, unique). One pass counts the
-    values into equal-width bins between their minimum and maximum, a second gathers only the
-    bins that hold a wanted rank, and those few values are selected exactly. `values` is only
-    read (float32 or float64); bins are computed in float64 either way."""
+def _bin_of_each(values, low, scale, bins, value_bins):
+    """value_bins[d] = the equal-width bin of values[d]: floor((x - low) scale), the last bin
+    for x at the maximum (and for NaN). Any rounding keeps the bins in value order, which is
+    all the selection needs; a loop without branches, which the compiler vectorises."""
+    last = bins - 1
+    for d in range(values.shape[0]):
+        position = (values[d] - low) * scale
+        value_bins[d] = int(position) if position < bins else last
+
+
+@njit(**_JIT)
+def _order_statistics(values, ks, out, value_bins):
+    """out[n] = the ks[n]-th smallest of `values` (ks sorted, unique). One pass puts the values
+    into equal-width bins between their minimum and maximum (their bins kept in `value_bins`,
+    at least as long as `values`), the counts find the bins that hold a wanted rank, a second
+    pass gathers only their values, and those are selected exactly: by partitioning where a bin
+    holds few, else by binning that bin's values again (heavy tails: one far draw stretches
+    the bins until nearly all values share the first). `values` is only read (float32 or
+    float64); bins are computed in float64 either way."""
     low = high = np.float64(values[0])
     for x in values:
         if x < low:
@@ -1934,10 +1979,10 @@ def _order_statistics(values, ks, out):
         for n in range(ks.shape[0]):
             out[n] = ordered[ks[n]]
         return
+    _bin_of_each(values, low, scale, bins, value_bins)
     counts = np.zeros(bins, dtype=np.int64)
-    for x in values:
-        position = (x - low) * scale
-        counts[min(int(position), bins - 1) if position < bins else bins - 1] += 1
+    for d in range(values.shape[0]):
+        counts[value_bins[d]] += 1
     slot = np.full(bins, -1, dtype=np.int64)
     first = np.empty(ks.shape[0], dtype=np.int64)  # first rank held by each wanted bin
     size = np.empty(ks.shape[0], dtype=np.int64)
@@ -1960,11 +2005,10 @@ def _order_statistics(values, ks, out):
         offset[w + 1] = offset[w] + size[w]
     gathered = np.empty(offset[wanted], dtype=values.dtype)
     fill = offset[:wanted].copy()
-    for x in values:
-        position = (x - low) * scale
-        w = slot[min(int(position), bins - 1) if position < bins else bins - 1]
+    for d in range(values.shape[0]):
+        w = slot[value_bins[d]]
         if w >= 0:
-            gathered[fill[w]] = x
+            gathered[fill[w]] = values[d]
             fill[w] += 1
     for w in range(wanted):
         part = gathered[offset[w] : offset[w + 1]]
@@ -1978,10 +2022,19 @@ def _order_statistics(values, ks, out):
             if bin_of[n] == w:
                 ranks[picks] = ks[n] - first[w]
                 picks += 1
-        _select_many(part, ranks)
-        for n in range(ks.shape[0]):
-            if bin_of[n] == w:
-                out[n] = part[ks[n] - first[w]]
+        if part.shape[0] > _SELECT_AT_MOST:  # fewer values than `values`: the recursion ends
+            picked = np.empty(picks)
+            _order_statistics(part, ranks, picked, value_bins)  # value_bins is free again
+            p = 0
+            for n in range(ks.shape[0]):
+                if bin_of[n] == w:
+                    out[n] = picked[p]
+                    p += 1
+        else:
+            _select_many(part, ranks)
+            for n in range(ks.shape[0]):
+                if bin_of[n] == w:
+                    out[n] = part[ks[n] - first[w]]
 
 
 @njit(**_JIT)
@@ -2001,13 +2054,14 @@ def _percentile_rows(values, keep, q, out):
     order = np.unique(needed)
     rank_of = np.searchsorted(order, needed)
     stats = np.empty(order.shape[0])
+    value_bins = np.empty(count, dtype=np.int32)
     for row in range(values.shape[0]):
         if everything:  # the row itself: _order_statistics only reads it
-            _order_statistics(values[row], order, stats)
+            _order_statistics(values[row], order, stats, value_bins)
         else:
             for d in range(count):
                 scratch[d] = values[row, keep[d]]
-            _order_statistics(scratch, order, stats)
+            _order_statistics(scratch, order, stats, value_bins)
         for i in range(q.shape[0]):
             below, above = stats[rank_of[2 * i]], stats[rank_of[2 * i + 1]]
             out[row, i] = below + (above - below) * fraction[i]

@@ -498,13 +498,14 @@ def percentile_bands(
     offsets = layout.offsets
 
     # Order statistics selected in compiled code (O(draws) each) over the feasible draws, in
-    # tasks of about equal size (each policy's rows in `threads` parts, and the summary
-    # figures) so that two threads share the work evenly whatever the number of policies.
+    # tasks of about equal size (each policy's rows in four parts a thread, and the summary
+    # figures) so that threads share the work evenly whatever the number of policies and
+    # wherever the rows of heavy-tailed series (slower to select) fall.
     keeps = [np.flatnonzero(feasible[policy]) for policy in range(p)]
     slots = [slice(offsets[policy], offsets[policy] + len(layout.kept[policy])) for policy in range(p)]
     blocks = [kept[slot].reshape(-1, draws) for slot in slots]
     found = [np.empty((block.shape[0], len(q))) for block in blocks]
-    parts = max(threads, 1)
+    parts = 4 * threads if threads > 1 else 1
     tasks = [(policy, part) for policy in range(p) for part in range(parts)]
 
     def select(task: tuple[int, int]) -> None:
