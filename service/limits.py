@@ -74,6 +74,8 @@ MAX_SCENARIO_NAME_LENGTH = 200
 MAX_SCENARIO_NOTES_LENGTH = 10_000
 MAX_SCENARIO_TAGS = 20
 MAX_SCENARIO_TAG_LENGTH = 40
+#: Characters of one display unit a record keeps (its currency, what homes are counted as, ...).
+MAX_SCENARIO_UNIT_LENGTH = 40
 #: Records one owner (one API key, or the single owner of a keyless install) may keep; the
 #: setting SHOCKPATH_LIBRARY_MAX_RECORDS may lower or raise it.
 MAX_RECORDS_PER_OWNER = 1_000

@@ -149,6 +149,13 @@ _WRITE = {
     "name": "Quillbrook freeze, March briefing",
     "notes": "Elasticities from the 2025 survey of landlords (invented).",
     "tags": ["briefing", "freeze"],
+    "units": {
+        "currency": "pounds",
+        "quantity": "homes",
+        "unit": "home",
+        "price_interval": "month",
+        "period": "year",
+    },
     "shared": True,
 }
 

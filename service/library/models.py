@@ -53,6 +53,9 @@ class Revision(Base):
     notes: Mapped[str] = mapped_column(Text, nullable=False)
     #: The tags as a JSON array (their order kept); scenario_tags indexes the current ones.
     tags: Mapped[str] = mapped_column(Text, nullable=False)
+    #: The display units as a JSON object (keys sorted); '{}' for none, and for every revision
+    #: saved before units were kept (migration 0002).
+    units: Mapped[str] = mapped_column(Text, nullable=False, server_default="{}")
     shared: Mapped[bool] = mapped_column(Boolean, nullable=False)
     kind: Mapped[str] = mapped_column(String(8), nullable=False)
     #: The normalised request as JSON text (keys sorted).

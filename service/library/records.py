@@ -62,6 +62,8 @@ class Written:
     notes: str
     tags: tuple[str, ...]
     shared: bool
+    #: The display units as JSON text (keys sorted); "{}" for none.
+    units: str
     kind: str
     request: str
     scenario_id: str
@@ -90,6 +92,7 @@ def validate_write(body: Any) -> Written:
         notes=data["notes"],
         tags=tuple(dict.fromkeys(data["tags"])),
         shared=data["shared"],
+        units=normalise(data["units"]),
         kind=kind,
         request=normalise(request),
         scenario_id=sid,

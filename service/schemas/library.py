@@ -8,14 +8,14 @@ so that its errors point under /request.
 
 from __future__ import annotations
 
-from marshmallow import Schema, ValidationError, fields, validate
+from marshmallow import Schema, ValidationError, fields, post_load, validate
 
 from .. import limits
 from .fields import Flag, Printable, StrictSchema
 from .paths import PathsRequestSchema
 from .uncertainty import BandsRequestSchema
 
-__all__ = ["ScenarioListSchema", "ScenarioRecordSchema", "ScenarioWriteSchema"]
+__all__ = ["ScenarioListSchema", "ScenarioRecordSchema", "ScenarioUnitsSchema", "ScenarioWriteSchema"]
 
 
 class ScenarioRequest(fields.Field):
@@ -49,6 +49,29 @@ def _text(value: str) -> None:
         raise ValidationError("Must not hold control characters other than line breaks and tabs.")
 
 
+def _unit(description: str) -> Text:
+    return Text(
+        validate=[validate.Length(max=limits.MAX_SCENARIO_UNIT_LENGTH), Printable()],
+        metadata={"description": description},
+    )
+
+
+class ScenarioUnitsSchema(StrictSchema):
+    """The display units the analyst typed on the page: they label the charts and tables of
+    whoever opens the record. Words only; the numbers never depend on them."""
+
+    currency = _unit('What money is counted in (e.g. "GBP" or "pounds").')
+    quantity = _unit('What homes are counted as, plural (e.g. "homes").')
+    unit = _unit('One of them (e.g. "home").')
+    price_interval = _unit('What a rent pays for (e.g. "month").')
+    period = _unit('What one model period is (e.g. "year").')
+
+    @post_load
+    def _typed_only(self, data, **kwargs):
+        # An empty unit is one not typed: the page leaves those out, and so does the record.
+        return {key: value for key, value in data.items() if value}
+
+
 class ScenarioWriteSchema(StrictSchema):
     """The body of POST /v1/scenarios and PUT /v1/scenarios/{id} (a PUT replaces all of it)."""
 
@@ -73,6 +96,19 @@ class ScenarioWriteSchema(StrictSchema):
         metadata={
             "description": "true: every key of the deployment may read (and run) it; only its owner may "
             "change or delete it."
+        },
+    )
+    units = fields.Nested(
+        ScenarioUnitsSchema,
+        load_default=dict,
+        error_messages={
+            "type": "Must be an object of display units: currency, quantity, unit, price_interval, period."
+        },
+        metadata={
+            "description": "The display units the charts and tables are labelled with (the page's "
+            "Units fields): any of currency, quantity, unit, price_interval and period, each at most "
+            f"{limits.MAX_SCENARIO_UNIT_LENGTH} characters; empty ones are left out. Without it, none "
+            "are kept ({}) and the page uses its own words."
         },
     )
     request = ScenarioRequest(
@@ -105,6 +141,11 @@ class ScenarioSummarySchema(Schema):
     name = fields.String(required=True)
     notes = fields.String(required=True)
     tags = fields.List(fields.String(), required=True)
+    units = fields.Nested(
+        ScenarioUnitsSchema,
+        required=True,
+        metadata={"description": "The display units this revision was saved with; {} when none were."},
+    )
     shared = fields.Boolean(required=True)
     mine = fields.Boolean(
         required=True, metadata={"description": "Whether the caller's key owns it (and may change it)."}

@@ -162,3 +162,56 @@ def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
     finally:
         owner.close()
         colleague.context.close()
+
+
+UNIT_INPUTS = {
+    "#u-currency": "pounds",
+    "#u-quantity": "homes",
+    "#u-unit": "home",
+    "#u-interval": "month",
+    "#u-period": "year",
+}
+
+
+def _years_heading(page) -> str:
+    return page.text_content("table.years thead th").strip()
+
+
+def test_a_saved_scenario_keeps_the_units_typed_and_opening_it_sets_them_back(browser, tmp_path):
+    database = {"library_path": str(tmp_path / "library.sqlite3")}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(**database) as (base, _):
+            _page_ready(page, base + "/")
+            for selector, value in UNIT_INPUTS.items():
+                page.fill(selector, value)
+                page.dispatch_event(selector, "change")
+            run_scenario(page)
+            assert _years_heading(page) == "Period (year)"
+            _save(page, "Freeze in pounds a month")
+            record_id = page.get_attribute("#library", "data-scenario")
+            # The analyst, or a colleague at the same page, types other units (or none at all)...
+            page.fill("#u-currency", "")
+            page.fill("#u-period", "quarter")
+            for selector in UNIT_INPUTS:
+                page.dispatch_event(selector, "change")
+            assert _years_heading(page) == "Period (quarter)"
+            # ...then opens the record from the library: its units come back and relabel the tables.
+            page.fill("#lib-search-name", "pounds a month")
+            page.click("#lib-search")
+            page.wait_for_selector(f"#lib-results li[data-id='{record_id}']")
+            page.click(f"#lib-results li[data-id='{record_id}'] button")
+            page.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Opened')")
+            assert {selector: page.input_value(selector) for selector in UNIT_INPUTS} == UNIT_INPUTS
+            assert _years_heading(page) == "Period (year)"
+            # The record the service keeps says the same.
+            stored = page.evaluate(f"fetch('/v1/scenarios/{record_id}').then((r) => r.json())")
+            assert stored["units"] == {
+                "currency": "pounds",
+                "quantity": "homes",
+                "unit": "home",
+                "price_interval": "month",
+                "period": "year",
+            }
+    finally:
+        page.close()

@@ -94,3 +94,27 @@ def test_without_keys_there_is_one_owner(make_client):
     # Turning keys on later: the keyless owner's records belong to no key.
     keyed = make_client(api_keys=KEY_A)
     assert keyed.get(f"/v1/scenarios/{record['id']}", headers=bearer(KEY_A)).status_code == 404
+
+
+def test_units_are_seen_only_by_whoever_may_see_the_record(make_client):
+    client = make_client(api_keys=f"{KEY_A},{KEY_B}")
+    units = {"currency": "pounds", "period": "year"}
+    body = {"name": "A's draft", "units": units, "request": REQUEST}
+    private = client.post("/v1/scenarios", json=body, headers=bearer(KEY_A)).get_json()
+    shared = client.post(
+        "/v1/scenarios", json={**body, "name": "A's briefing", "shared": True}, headers=bearer(KEY_A)
+    ).get_json()
+    # The other key: the private one does not exist for it, the shared one reads with its units.
+    assert client.get(f"/v1/scenarios/{private['id']}", headers=bearer(KEY_B)).status_code == 404
+    listed = client.get("/v1/scenarios", headers=bearer(KEY_B)).get_json()["scenarios"]
+    assert [(r["name"], r["units"]) for r in listed] == [("A's briefing", units)]
+    assert client.get(f"/v1/scenarios/{shared['id']}", headers=bearer(KEY_B)).get_json()["units"] == units
+    # It cannot relabel A's records: 403 on the shared one, 404 on the private one.
+    headers = {**bearer(KEY_B), "If-Match": f'"{shared["id"]}.1"'}
+    relabel = {"name": "A's briefing", "units": {"currency": "euros"}, "request": REQUEST}
+    assert client.put(f"/v1/scenarios/{shared['id']}", json=relabel, headers=headers).status_code == 403
+    headers["If-Match"] = f'"{private["id"]}.1"'
+    assert client.put(f"/v1/scenarios/{private['id']}", json=relabel, headers=headers).status_code == 404
+    for record in (private, shared):
+        kept = client.get(f"/v1/scenarios/{record['id']}", headers=bearer(KEY_A)).get_json()
+        assert kept["revision"] == 1 and kept["units"] == units

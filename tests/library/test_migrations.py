@@ -6,14 +6,16 @@ from __future__ import annotations
 import os
 import subprocess
 import sys
+from datetime import UTC, datetime
 from pathlib import Path
 
 from alembic.autogenerate import compare_metadata
 from alembic.runtime.migration import MigrationContext
-from sqlalchemy import create_engine
+from sqlalchemy import MetaData, create_engine, insert, select
 
-from service.library import database_url
-from service.library.migrate import head_revision, upgrade
+from service.examples import example_request
+from service.library import database_url, owner_hash, validate_write
+from service.library.migrate import current_revision, head_revision, upgrade
 from service.library.models import Base
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -82,3 +84,96 @@ def test_the_app_migrates_at_start_up(make_client, database):
         "library_owners",
         "alembic_version",
     } <= (tables(_url(database)))
+
+
+def _insert_a_0001_record(engine) -> None:
+    """One record as the library wrote it at migration 0001 (no units), with its tag and its
+    owner's count: the keyless owner's, so the app below may read it."""
+    written = validate_write(
+        {
+            "name": "Before units",
+            "tags": ["old"],
+            "request": dict(example_request("quillbrook-rent-freeze"), horizon=3),
+        }
+    )
+    now = datetime(2026, 3, 2, 9, 15, tzinfo=UTC)
+    owner = owner_hash("")
+    with engine.begin() as connection:
+        tables = MetaData()
+        tables.reflect(connection)
+        assert "units" not in tables.tables["scenario_revisions"].c  # the shape of 0001
+        connection.execute(insert(tables.tables["library_owners"]).values(owner=owner, records=1))
+        (seq,) = connection.execute(
+            insert(tables.tables["scenario_records"]).values(
+                id="before-units-0123456789",
+                owner=owner,
+                shared=False,
+                revision=1,
+                name=written.name,
+                created_at=now,
+            )
+        ).inserted_primary_key
+        connection.execute(
+            insert(tables.tables["scenario_revisions"]).values(
+                record_seq=seq,
+                revision=1,
+                name=written.name,
+                notes="kept as it was",
+                tags='["old"]',
+                shared=False,
+                kind=written.kind,
+                request=written.request,
+                scenario_id=written.scenario_id,
+                model_version=written.model_version,
+                created_at=now,
+            )
+        )
+        connection.execute(insert(tables.tables["scenario_tags"]).values(record_seq=seq, tag="old"))
+
+
+def test_upgrading_a_0001_database_keeps_its_records_and_reads_their_units_as_none(database, make_client):
+    engine = create_engine(_url(database))
+    try:
+        upgrade(engine, "0001")
+        assert current_revision(engine) == "0001"
+        _insert_a_0001_record(engine)
+        with engine.connect() as connection:
+            before = connection.exec_driver_sql(
+                "SELECT record_seq, revision, name, notes, tags, request, scenario_id FROM scenario_revisions"
+            ).all()
+        upgrade(engine)
+        assert current_revision(engine) == head_revision() != "0001"
+        with engine.connect() as connection:
+            tables = MetaData()
+            tables.reflect(connection)
+            revisions = tables.tables["scenario_revisions"]
+            after = connection.execute(
+                select(
+                    revisions.c.record_seq,
+                    revisions.c.revision,
+                    revisions.c.name,
+                    revisions.c.notes,
+                    revisions.c.tags,
+                    revisions.c.request,
+                    revisions.c.scenario_id,
+                )
+            ).all()
+            units = connection.execute(select(revisions.c.units)).scalars().all()
+        assert after == before and units == ["{}"]
+    finally:
+        engine.dispose()
+    client = make_client()  # the app finds the schema at head and reads the old record
+    record = client.get("/v1/scenarios/before-units-0123456789").get_json()
+    assert record["units"] == {}
+    assert (record["name"], record["notes"], record["tags"]) == ("Before units", "kept as it was", ["old"])
+    assert client.get("/v1/scenarios?tag=old").get_json()["scenarios"][0]["units"] == {}
+    assert client.get("/v1/scenarios/before-units-0123456789/paths").status_code == 200
+    # Its next revision keeps the units it is saved with; the first still reads none.
+    body = {"name": "Before units", "units": {"period": "year"}, "request": record["request"]}
+    revised = client.put(
+        "/v1/scenarios/before-units-0123456789",
+        json=body,
+        headers={"If-Match": '"before-units-0123456789.1"'},
+    )
+    assert revised.status_code == 200 and revised.get_json()["units"] == {"period": "year"}
+    assert client.get("/v1/scenarios/before-units-0123456789?revision=1").get_json()["units"] == {}
