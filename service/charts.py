@@ -33,6 +33,8 @@ __all__ = [
     "PANEL_NAMES",
     "SIZE_PX",
     "available",
+    "band_key",
+    "bands_figure",
     "gains_and_losses",
     "gains_and_losses_figure",
     "render_bands",
@@ -40,6 +42,7 @@ __all__ = [
     "render_paths",
     "render_renters",
     "render_sensitivity",
+    "sensitivity_figure",
 ]
 
 #: Okabe-Ito colours, the pale yellow last (weak on white).
@@ -234,16 +237,63 @@ def _place(figure, heading, bottom: float) -> None:
         ax.set_position((x0 / width, (y1 - cell_h) / height, cell_w / width, cell_h / height))
 
 
-def _frame(figure, title: str, note: str, rows: int, **legend) -> None:
-    """The title at the top; a strip at the bottom: the legend (`rows` rows) above the
+#: The title's size in points, and the smallest it is shrunk to before it is wrapped further.
+TITLE_SIZE = 15
+TITLE_MIN_SIZE = 11
+
+
+def _fit_title(figure, heading) -> None:
+    """The whole title within the figure's width: wrapped at spaces onto as few lines as fit
+    (a word too long for a line is broken), shrunk to TITLE_MIN_SIZE only past three lines."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    renderer = FigureCanvasAgg(figure).get_renderer()
+    room = SIZE_PX[0] * (1 - 2 * heading.get_position()[0])
+    text = " ".join(heading.get_text().split())
+    size = TITLE_SIZE
+    while True:
+        heading.set_fontsize(size)
+        heading.set_text(text)
+        wide = heading.get_window_extent(renderer).width
+        if wide <= room:
+            return
+        # Characters a line at this size, from the measured width; fewer until every line fits.
+        chars = max(8, int(len(text) * room / wide))
+        while chars >= 8:
+            heading.set_text(textwrap.fill(text, chars))
+            if heading.get_window_extent(renderer).width <= room:
+                break
+            chars -= 2
+        if heading.get_text().count("\n") < 3 or size <= TITLE_MIN_SIZE:
+            return
+        size -= 1
+
+
+def _frame(figure, title: str, note: str, rows: int, key: dict | None = None, **legend) -> None:
+    """The title at the top (wrapped to fit); a strip at the bottom: the legend (`rows` rows)
+    above `key` (a legend row saying what the marks mean, its handles and labels) above the
     footnote; the axes placed between. A footnote of more than two lines gets room for each."""
     # Lines that fit the figure's width at 8 pt (about 200 characters in 1200 px).
     note = "\n".join(textwrap.fill(line, 200) for line in note.split("\n"))
     footnote_height = max(FOOTNOTE_HEIGHT, FOOTNOTE_HEIGHT / 2 * (note.count("\n") + 1))
-    bottom = footnote_height + LEGEND_ROW_HEIGHT * rows
-    heading = figure.suptitle(title, fontsize=15, x=0.01, y=1 - PAD_PX / SIZE_PX[1], ha="left", va="top")
+    key_height = LEGEND_ROW_HEIGHT if key else 0.0
+    bottom = footnote_height + key_height + LEGEND_ROW_HEIGHT * rows
+    heading = figure.suptitle(
+        title, fontsize=TITLE_SIZE, x=0.01, y=1 - PAD_PX / SIZE_PX[1], ha="left", va="top"
+    )
+    _fit_title(figure, heading)
     _place(figure, heading, bottom)
-    figure.legend(loc="lower center", bbox_to_anchor=(0.5, footnote_height), frameon=False, **legend)
+    figure.legend(
+        loc="lower center", bbox_to_anchor=(0.5, footnote_height + key_height), frameon=False, **legend
+    )
+    if key:
+        figure.legend(
+            loc="lower center",
+            bbox_to_anchor=(0.5, footnote_height),
+            frameon=False,
+            ncols=len(key["labels"]),
+            **key,
+        )
     figure.text(0.01, 0.004, note, fontsize=8, color="#444444", va="bottom")
 
 
@@ -397,10 +447,10 @@ def footnote(form: str, cautions, prefix: str = "") -> str:
     return "\n".join(lines)
 
 
-def _finish(figure, title: str, note: str, handles, labels) -> None:
+def _finish(figure, title: str, note: str, handles, labels, key: dict | None = None) -> None:
     ncols = min(4, max(1, len(labels)))
     rows = -(-len(labels) // ncols)
-    _frame(figure, title, note, rows, handles=handles, labels=labels, ncols=ncols)
+    _frame(figure, title, note, rows, key, handles=handles, labels=labels, ncols=ncols)
 
 
 def _draw_panel(ax, path: dict, name: str, periods, style: dict):
@@ -454,6 +504,44 @@ def _money_note(panels) -> str:
     return f"Money in {labels.REAL}. "
 
 
+def ordinal(percentile: str | float) -> str:
+    """A percentile in words: 5th, 21st, 2.5th."""
+    text = f"{float(percentile):g}"
+    n = float(percentile)
+    if n.is_integer() and int(n) % 100 not in (11, 12, 13):
+        return text + {1: "st", 2: "nd", 3: "rd"}.get(int(n) % 10, "th")
+    return text + "th"
+
+
+def band_key(percentiles, draws: int) -> list[str]:
+    """What a band chart's marks are, from the percentiles asked for: the shaded ribbons (the
+    outermost pair of percentiles, then each pair inside it darker) and the line."""
+    keys = sorted(percentiles, key=float)
+    pairs = [(keys[d], keys[-1 - d]) for d in range(len(keys) // 2)]
+    words = [
+        (
+            f"shaded: {ordinal(low)} to {ordinal(high)} percentile of {draws:,} draws"
+            if depth == 0
+            else f"{'darker' if depth == 1 else 'darker still'}: {ordinal(low)} to {ordinal(high)}"
+        )
+        for depth, (low, high) in enumerate(pairs)
+    ]
+    return [*words, "line: each policy at the central values"]
+
+
+def _band_key_handles(percentiles, draws: int) -> dict:
+    """The key row of a band chart: a grey swatch per shade and a line, worded by band_key."""
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    words = band_key(percentiles, draws)
+    shades = [
+        Patch(facecolor=("#555555", 0.10 + 0.06 * depth), edgecolor=("#555555", 0.45), linewidth=0.7)
+        for depth in range(len(words) - 1)
+    ]
+    return {"handles": [*shades, Line2D([], [], color="#555555", linewidth=1.8)], "labels": words}
+
+
 @_plain_text
 def render_bands(
     body: dict,
@@ -465,6 +553,18 @@ def render_bands(
 ) -> bytes:
     """The central path of each policy with shaded percentile ribbons around it, one panel per
     series that the bands carry (`panels` as in render_paths)."""
+    return _save(bands_figure(body, units, form, title, panels), fmt)
+
+
+def bands_figure(
+    body: dict,
+    units: dict,
+    form: str,
+    title: str | None = None,
+    panels: list[str] | None = None,
+):
+    """The figure of render_bands, with a key row saying which percentiles are shaded and what
+    the line is (band_key)."""
     # A panel needs its percentiles: only series that every band carries are drawn; the rents
     # of controlled and uncontrolled homes as two panels (one ribbon each).
     with_q = [
@@ -510,8 +610,9 @@ def render_bands(
     labels_ = [b["name"] for b in body["bands"]]
     outer = f"{keys[0]}-{keys[-1]}th percentiles" if len(keys) > 1 else "percentile"
     heading = title or f"Central paths with {outer} over {body['draws']:,} draws"
-    _finish(figure, heading, footnote(form, body["cautions"], _money_note(chosen)), handles, labels_)
-    return _save(figure, fmt)
+    key = _band_key_handles(keys, body["draws"])
+    _finish(figure, heading, footnote(form, body["cautions"], _money_note(chosen)), handles, labels_, key)
+    return figure
 
 
 def _input_label(pointer: str) -> str:
@@ -559,6 +660,18 @@ def render_sensitivity(
     deadweight loss), inputs largest swing on top, each bar end labelled with its value; 422 at
     /output for a figure the answer does not rank and at /policy for a name it does not have
     (no policy: the one whose `output` swings most)."""
+    return _save(sensitivity_figure(body, units, form, policy, title, output), fmt)
+
+
+def sensitivity_figure(
+    body: dict,
+    units: dict,
+    form: str,
+    policy: str | None,
+    title: str | None = None,
+    output: str | None = None,
+):
+    """The figure of render_sensitivity (its title wrapped to the figure's width)."""
     from matplotlib.patches import Patch
 
     outputs = sensitivity_outputs(body)
@@ -642,7 +755,7 @@ def render_sensitivity(
     heading = title or f"What moves '{what}' under '{chosen}'"
     note = footnote(form, body["cautions"], "One input at a time. ")
     _frame(figure, heading, note, 1, handles=handles, ncols=2)
-    return _save(figure, fmt)
+    return figure
 
 
 def _value_label(value: float) -> str:

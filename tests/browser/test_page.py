@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import io
 import json
+import re
 import threading
+from itertools import pairwise
 from pathlib import Path
 
 import numpy as np
@@ -615,3 +617,176 @@ def test_a_request_pasted_over_the_box_drops_the_demo_name_but_not_one_typed(pag
     page.fill("#scenario-name", "Our permits case")
     page.eval_on_selector("#request-json", _PASTE, json.dumps(example_request("quillbrook-rent-freeze")))
     assert page.input_value("#scenario-name") == "Our permits case"  # typed by the analyst: kept
+
+
+def _paste(page, request: dict) -> None:
+    page.eval_on_selector(
+        "#request-json",
+        "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+        json.dumps(request),
+    )
+
+
+def _cells(page, selector: str) -> list[list[str]]:
+    """Per row of `selector`, per policy cell, the figure and the lines under it."""
+    return page.eval_on_selector_all(
+        selector,
+        "rows => rows.map(r => [...r.querySelectorAll('td')].map(c => [c.firstChild.textContent,"
+        " ...[...c.querySelectorAll('.range')].map(s => s.textContent)]))",
+    )
+
+
+def _shown(value: float) -> str:
+    """A figure as the page writes it (fmt: whole numbers from 100)."""
+    return f"{value:,.0f}"
+
+
+def test_band_figures_within_rounding_of_their_scale_show_as_about_zero(page, base_url):
+    """An analyst's trial: a band's bound of -0.00000008 on a market of 48,000 homes let at
+    1,180 a month read as a finding. A money figure below 1e-9 of the rent bill over the horizon,
+    a rent below 1e-9 of the base rent, homes below 1e-9 of the base homes are rounding."""
+    _load(page, base_url, "tollbrae-decontrol-and-exempt-building")
+    request = _request(page)
+    market = request["market"]
+    low_run = market["supply"]["long_run_elasticity"]
+    market["supply"]["long_run_elasticity"] = {
+        "distribution": "uniform",
+        "low": 0.7 * low_run,
+        "high": 1.3 * low_run,
+    }
+    request.update(draws=500, seed=1)
+    _paste(page, request)
+    run_scenario(page)
+    answer = _answer(page)
+    bill = market["price"] * market["quantity"] * market["payments_per_period"] * (request["horizon"] + 1)
+    noise = [
+        (i, name)
+        for i, band in enumerate(answer["bands"])
+        for name, by_q in band["summary"].items()
+        if name.startswith("total_")
+        and name[6:] in answer["central"]["summary"][i]["distribution_totals"]
+        and any(0 < abs(v) < 1e-9 * bill for v in by_q.values())
+        and any(abs(v) > 1e-9 for v in by_q.values())  # what the old absolute rule showed
+    ]
+    assert noise  # this request's bands carry such rounding (seed 1)
+    summary = {
+        r[0]: r[1]
+        for r in page.eval_on_selector_all(
+            "#summary tbody tr",
+            "rows => rows.map(r => [r.dataset.figure, [...r.querySelectorAll('td .range')]"
+            ".map(s => s.textContent)])",
+        )
+    }
+    for i, name in noise:
+        shown = summary[f"distribution_totals.{name[6:]}"][i]
+        assert "\u2248 0" in shown and "0.0000" not in shown, (name, shown)
+    groups = {
+        g: cells
+        for g, cells in zip(
+            page.eval_on_selector_all(
+                "#groups tbody tr", "rows => rows.map(r => r.dataset.group || r.dataset.total)"
+            ),
+            _cells(page, "#groups tbody tr"),
+            strict=True,
+        )
+    }
+    for i, name in noise:
+        assert "\u2248 0" in groups[name[6:]][i][-1], groups[name[6:]][i]
+    assert "0.0000" not in page.inner_text("#summary") + page.inner_text("#groups")
+    # Each figure against its own scale: homes against the base homes, rent against the base rent.
+    shown = page.evaluate(
+        "[[4.22e-8, 10000], [4.22e-8, 1], [-5e-7, 1180], [2e-6, 1180]].map(([v, s]) => number(v, s))"
+    )
+    assert shown == ["\u2248 0", "0.0000000422", "\u2248 0", "0.000002"]
+
+
+def test_group_totals_and_who_gains_show_their_spread_when_bands_run(page, base_url):
+    """An analyst's trial: the renters', owners' and government's totals and the who-gains table
+    showed no range though the bands answer spreads each group's total."""
+    _load(page, base_url, "quillbrook-uncertain-elasticities")
+    request = _request(page)
+    request["draws"] = 400
+    _paste(page, request)
+    run_scenario(page)
+    answer = _answer(page)
+    bands = answer["bands"]
+    rows = dict(
+        zip(
+            page.eval_on_selector_all("#summary tbody tr", "rows => rows.map(r => r.dataset.figure)"),
+            _cells(page, "#summary tbody tr"),
+            strict=True,
+        )
+    )
+    for i, band in enumerate(bands):
+        government = band["summary"]["total_government"]
+        assert rows["total_government_revenue"][i][1] == (
+            f"5th\u201395th: {_shown(government['5'])} to {_shown(government['95'])}"
+        )
+        for key in ("total_consumer_surplus_change", "total_producer_surplus_change"):
+            assert rows[key][i][1] == "spread: see each group below"
+        assert rows["distribution_totals_discounted.owners_of_controlled_homes"][i][1] == (
+            "spread: see the same group summed, above"
+        )
+    # Who gains: under each group its total not discounted and that total's spread (the table
+    # discounts at 3.5 %); under the net, minus the discounted loss's spread.
+    groups = page.eval_on_selector_all(
+        "#groups tbody tr", "rows => rows.map(r => r.dataset.group || r.dataset.total)"
+    )
+    cells = dict(zip(groups, _cells(page, "#groups tbody tr"), strict=True))
+    freeze = 1
+    summed = answer["central"]["summary"][freeze]["distribution_totals"]["owners_of_controlled_homes"]
+    spread = bands[freeze]["summary"]["total_owners_of_controlled_homes"]
+    assert cells["owners_of_controlled_homes"][freeze][1:] == [
+        f"not discounted: {_shown(summed)}",
+        f"5th\u201395th: {_shown(spread['5'])} to {_shown(spread['95'])}",
+    ]
+    loss = bands[freeze]["summary"]["discounted_deadweight_loss"]
+    assert cells["net"][freeze][1:] == [f"5th\u201395th: {_shown(-loss['95'])} to {_shown(-loss['5'])}"]
+    assert "not discounted" in page.text_content("#groups caption")
+    # The chart's caption says which percentiles are shaded, from those the request asked for.
+    caption = page.text_content("#chart-figure figcaption")
+    assert (
+        "Shaded: 5th to 95th percentile of 400 draws; darker: 25th to 75th; "
+        "line: each policy at the central values." in caption
+    )
+
+    # Nothing discounted: each group's range is of the figure above it; other percentiles asked.
+    request["welfare"]["discount_rate"] = 0
+    request["percentiles"] = [10, 50, 90]
+    _paste(page, request)
+    run_scenario(page)
+    answer = _answer(page)
+    cells = dict(zip(groups, _cells(page, "#groups tbody tr"), strict=True))
+    spread = answer["bands"][freeze]["summary"]["total_tenants_in_controlled_homes"]
+    assert cells["tenants_in_controlled_homes"][freeze][1:] == [
+        f"10th\u201390th: {_shown(spread['10'])} to {_shown(spread['90'])}"
+    ]
+    caption = page.text_content("#chart-figure figcaption")
+    assert "Shaded: 10th to 90th percentile of 400 draws; line: each policy at the central values." in caption
+    svg = page.evaluate("fetch(document.querySelector('#chart-figure img').src).then(r => r.text())")
+    assert "shaded: 10th to 90th percentile of 400 draws" in svg
+    page.screenshot(path=str(ARTIFACTS / "page-band-ranges.png"), full_page=True)
+
+
+def test_a_long_tornado_title_shows_whole_in_the_page(page, base_url):
+    """An analyst's trial: 'what moves ... under <policy name>' ran off the chart's edge."""
+    _load(page, base_url, "quillbrook-uncertain-elasticities")
+    request = _request(page)
+    request["draws"] = 400
+    request["policies"][2]["name"] = "a 2.5 % cap on rent growth, every home"
+    _paste(page, request)
+    page.fill("#scenario-name", "Quillbrook council briefing")
+    run_scenario(page)
+    page.wait_for_selector("#tornado-figure img[data-title]")
+    page.select_option("#tornado-policy", request["policies"][2]["name"])
+    page.wait_for_function(
+        "document.querySelector('#tornado-figure img')?.dataset.title?.includes('every home')"
+    )
+    title = page.get_attribute("#tornado-figure img", "data-title")
+    assert len(title) > 110 and not title.endswith("\u2026")  # whole, within the service's 120
+    # The SVG draws the title on two lines (a text comment each), every word kept, none cut.
+    svg = page.evaluate("fetch(document.querySelector('#tornado-figure img').src).then(r => r.text())")
+    comments = [c.strip() for c in re.findall(r"<!-- (.*?) -->", svg)]
+    assert title not in comments
+    assert any(f"{a} {b}".split() == title.split() for a, b in pairwise(comments))
+    page.locator("#tornado-figure").screenshot(path=str(ARTIFACTS / "page-tornado-long-title.png"))

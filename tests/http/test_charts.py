@@ -351,7 +351,9 @@ def test_a_band_chart_of_rules_on_part_of_the_homes_draws_the_rents_where_a_poli
 def test_a_briefing_of_bands_for_rules_on_part_of_the_homes_is_answered(client):
     response = client.post("/v1/briefing", json=_uncertain_partial_rule())
     assert response.status_code == 200, response.get_json()
-    assert "ranges over the draws" in response.get_data(as_text=True)
+    # The band chart's title, wrapped where it is wider than the chart (a text comment a line).
+    comments = re.findall(r"<!-- (.*?) -->", response.get_data(as_text=True))
+    assert "ranges over the draws" in " ".join(comments)
 
 
 def test_a_panel_the_answer_does_not_carry_is_a_422_at_its_pointer(client):
@@ -485,3 +487,103 @@ def test_tick_labels_read_rents_and_homes_in_full_and_large_sums_short():
 
     labels = [_compact(v) for v in (0.025, 12.5, 1350.0, 54000.0, 999_999.0, 2_500_000.0, -3.2e9)]
     assert labels == ["0.025", "12.5", "1,350", "54,000", "999,999", "2.5M", "-3.2B"]
+
+
+def test_the_percentile_words_read_as_ordinals():
+    from service.charts import ordinal
+
+    assert [ordinal(q) for q in (1, 2, 3, 5, 11, 12, 13, 21, 22, 95, 2.5, "97.5")] == [
+        "1st",
+        "2nd",
+        "3rd",
+        "5th",
+        "11th",
+        "12th",
+        "13th",
+        "21st",
+        "22nd",
+        "95th",
+        "2.5th",
+        "97.5th",
+    ]
+
+
+@pytest.mark.parametrize(
+    ("percentiles", "said", "unsaid"),
+    [
+        (
+            None,  # the demo's own: 5, 25, 50, 75, 95
+            ["shaded: 5th to 95th percentile of 500 draws", "darker: 25th to 75th"],
+            ["10th"],
+        ),
+        ([10, 50, 90], ["shaded: 10th to 90th percentile of 500 draws"], ["darker", "5th", "25th"]),
+    ],
+)
+def test_a_band_chart_says_which_percentiles_are_shaded_and_what_the_line_is(
+    client, percentiles, said, unsaid
+):
+    request = scenario("bands")
+    if percentiles:
+        request["percentiles"] = percentiles
+    for fmt in ("svg", "png"):
+        response = client.post("/v1/charts", json={"chart": "bands", "format": fmt, "scenario": request})
+        assert response.status_code == 200
+    svg = client.post("/v1/charts", json={"chart": "bands", "format": "svg", "scenario": request}).get_data(
+        as_text=True
+    )
+    for words in [*said, "line: each policy at the central values"]:
+        assert f"<!-- {words} -->" in svg, words
+    for words in unsaid:
+        assert words not in svg, words
+
+
+def _title_fits(figure, title: str) -> None:
+    """The figure's title holds every word of `title` and no line of it is wider than the figure."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    renderer = FigureCanvasAgg(figure).get_renderer()
+    heading = figure._suptitle
+    assert heading.get_text().split() == title.split()
+    box = heading.get_window_extent(renderer)
+    assert box.x0 >= 0 and box.x1 <= SIZE_PX[0], (box.x0, box.x1)
+    # The panels start below the title, however many lines it takes.
+    assert all(ax.get_position().y1 * SIZE_PX[1] <= box.y0 for ax in figure.axes)
+
+
+LONG_TITLE = (
+    "Quillbrook, uncertain elasticities, council briefing: what moves value lost to everyone, "
+    "discounted under 2.5% cap"
+)
+
+
+def test_a_long_tornado_title_wraps_to_show_every_word_within_the_figure():
+    from service.charts import sensitivity_figure
+    from service.uncertainty import sensitivity
+
+    body = sensitivity(scenario("sensitivity"))
+    assert len(LONG_TITLE) <= 120  # the longest title the service takes
+    long = sensitivity_figure(body, UNITS, "linear", "2.5% cap", LONG_TITLE)
+    _title_fits(long, LONG_TITLE)
+    assert long._suptitle.get_text().count("\n") == 1
+    short = sensitivity_figure(body, UNITS, "linear", "2.5% cap", "What moves the loss")
+    assert short._suptitle.get_text() == "What moves the loss" and short._suptitle.get_fontsize() == 15
+
+
+def test_a_long_band_chart_title_wraps_too():
+    from service.charts import bands_figure
+    from service.uncertainty import bands
+
+    body = bands(scenario("bands"))
+    _title_fits(bands_figure(body, UNITS, "linear", LONG_TITLE), LONG_TITLE)
+
+
+def test_a_title_without_spaces_is_broken_rather_than_cut():
+    from service.charts import sensitivity_figure
+    from service.uncertainty import sensitivity
+
+    title = "x" * 120
+    figure = sensitivity_figure(sensitivity(scenario("sensitivity")), UNITS, "linear", None, title)
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    box = figure._suptitle.get_window_extent(FigureCanvasAgg(figure).get_renderer())
+    assert figure._suptitle.get_text().replace("\n", "") == title and box.x1 <= SIZE_PX[0]

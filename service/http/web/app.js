@@ -46,19 +46,21 @@ const fmt = new Intl.NumberFormat("en", { maximumFractionDigits: 0 });
 const fmt2 = new Intl.NumberFormat("en", { maximumFractionDigits: 2 });
 const fmt3 = new Intl.NumberFormat("en", { maximumSignificantDigits: 3 });
 
-// Results this close to zero are the rounding of a difference, not a finding (the downloads
-// keep every digit).
+// Results smaller than this share of their scale are the rounding of a difference, not a
+// finding: shown as about 0 (the downloads keep every digit). The engine's rule (NEGLIGIBLE in
+// service/engine/cautions.py): the scale is the base rent for rents, the base homes for homes,
+// the base rent bill for money; `scale` 1 (no scale) for the rest.
 const ROUNDING = 1e-9;
 
-function number(v) {
+function number(v, scale = 1) {
   if (v == null) return "\u2013";
   if (typeof v !== "number") return String(v).replace(/_/g, " ");  // a choice: constant_elasticity
   if (v === 0) return "0";
   const a = Math.abs(v);
-  if (a < ROUNDING) return "\u2248 0";
+  if (a < ROUNDING * (Number.isFinite(scale) && scale > 0 ? scale : 1)) return "\u2248 0";
   return a >= 100 ? fmt.format(v) : a >= 1 ? fmt2.format(v) : fmt3.format(v);
 }
-const signed = (v) => (v > 0 ? `+${number(v)}` : number(v));
+const signed = (v, scale = 1) => (number(v, scale).startsWith("\u2248") ? number(v, scale) : v > 0 ? `+${number(v, scale)}` : number(v, scale));
 
 function getAt(obj, pointer) {
   return pointer.split("/").slice(1).reduce((o, k) => (o == null ? undefined : o[unescape(k)]), obj);
@@ -106,6 +108,61 @@ function labelOf(name, totals = false) {
 function unitOf(name, totals = false) {
   const found = lookup(name, totals);
   return found ? fill(found[2]) : "";
+}
+
+// The scales of a request's figures (see ROUNDING): the base rent, the base homes, the base rent
+// bill of one period (money per period) and over the periods computed (money summed).
+function scalesOf(request, periods) {
+  const m = request?.market || {};
+  const price = typeof m.price === "number" ? m.price : NaN;
+  const homes = typeof m.quantity === "number" ? m.quantity : NaN;
+  const bill = price * homes * (typeof m.payments_per_period === "number" ? m.payments_per_period : 1);
+  return { price, homes, flow: bill, money: bill * periods };
+}
+
+// The scale of one figure, read from its unit: rents, homes, money per period or money summed.
+function scaleOf(name, totals, scales) {
+  const unit = lookup(name, totals)?.[2] || "";
+  if (unit.startsWith("{currency} per {unit}")) return scales.price;
+  if (unit.startsWith("{currency} per {period}")) return scales.flow;
+  if (unit.startsWith("{currency}")) return scales.money;
+  if (unit.startsWith("{quantity}")) return scales.homes;
+  return 1;
+}
+
+// Percentiles of a band, as numbers in order, and the words of its outer range: "5th–95th".
+const ordinal = (q) => {
+  const n = Number(q);
+  const last = Math.floor(n) % 100;
+  const suffix = Number.isInteger(n) && (last < 11 || last > 13) ? ({ 1: "st", 2: "nd", 3: "rd" }[n % 10] || "th") : "th";
+  return `${q}${suffix}`;
+};
+const bandKeys = (band) => Object.keys(band).sort((a, b) => Number(a) - Number(b));
+
+// A band's range under its figure, as every range on the page: "5th–95th: low to high".
+// `flip`: the range of minus the band's figure.
+function bandRange(band, scale, { flip = false } = {}) {
+  const qs = bandKeys(band);
+  const [lo, hi] = [qs[0], qs[qs.length - 1]];
+  const span = document.createElement("span");
+  span.className = "range";
+  const [a, b] = flip ? [-band[hi], -band[lo]] : [band[lo], band[hi]];
+  span.textContent = `${ordinal(lo)}\u2013${ordinal(hi)}: ${number(a, scale)} to ${number(b, scale)}`;
+  return span;
+}
+
+// A note under a figure that the bands do not give a spread for, in the ranges' place.
+function rangeNote(text) {
+  const span = document.createElement("span");
+  span.className = "range";
+  span.textContent = text;
+  return span;
+}
+
+// No discounting: the discounted totals are the summed ones.
+function undiscounted(request) {
+  const rate = request?.welfare?.discount_rate ?? 0;
+  return Array.isArray(rate) ? rate.every((s) => s.rate === 0) : rate === 0;
 }
 
 // section.field of a request pointer: market.price, demand.price_elasticity, shocks.change, ...
@@ -629,6 +686,25 @@ function bandFigure(band, key) {
   return found ? band.summary[found[1] + key.slice(found[0].length)] : undefined;
 }
 
+// The range beside one summary figure of a bands run. The answer bands each group's total summed
+// over the horizon: a discounted group total takes it where nothing is discounted and otherwise
+// says where the spread is; government revenue is the government group's total (efficient
+// rationing, MODEL.md 15); renters' and owners' totals add groups whose spreads do not add.
+function summaryRange(band, key, scale, request) {
+  const found = bandFigure(band, key);
+  if (found) return bandRange(found, scale);
+  if (key.startsWith("distribution_totals_discounted.")) {
+    const summed = band.summary[`total_${key.split(".")[1]}`];
+    if (!summed) return null;
+    return undiscounted(request) ? bandRange(summed, scale) : rangeNote("spread: see the same group summed, above");
+  }
+  if (key === "total_government_revenue" && band.summary.total_government) return bandRange(band.summary.total_government, scale);
+  if ((key === "total_consumer_surplus_change" || key === "total_producer_surplus_change") && band.summary.total_government) {
+    return rangeNote("spread: see each group below");
+  }
+  return null;
+}
+
 // The summary: a row per total the answer carries, a column per policy (never too wide).
 function showSummary(body) {
   const answer = pathsOf(body);
@@ -640,20 +716,17 @@ function showSummary(body) {
   const keys = [...new Set(flats.flatMap((f) => Object.keys(f)))];
   const tbody = table.tBodies[0];
   tbody.replaceChildren();
+  const request = state.answer?.request;
+  const scales = scalesOf(request, answer.periods.length);
   for (const key of keys) {
     const tr = document.createElement("tr");
     tr.dataset.figure = key;
     tr.append(th(labelOf(key, true), unitOf(key, true), "row"));
+    const scale = scaleOf(key, true, scales);
     flats.forEach((f, i) => {
-      const cell = td(number(f[key]), "n");
-      const band = body.bands && bandFigure(body.bands[i], key);
-      if (band) {
-        const qs = Object.keys(band).sort((a, b) => Number(a) - Number(b));
-        const range = document.createElement("span");
-        range.className = "range";
-        range.textContent = `${qs[0]}th\u2013${qs[qs.length - 1]}th: ${number(band[qs[0]])} to ${number(band[qs[qs.length - 1]])}`;
-        cell.append(range);
-      }
+      const cell = td(number(f[key], scale), "n");
+      const range = body.bands && summaryRange(body.bands[i], key, scale, request);
+      if (range) cell.append(range);
       tr.append(cell);
     });
     tbody.append(tr);
@@ -725,17 +798,46 @@ function showGroups(body, request) {
   const tbody = table.tBodies[0];
   tbody.replaceChildren();
   const sums = answer.paths.map((p) => groups.map((g) => p.distribution[g].reduce((acc, v, t) => acc + v * factors[t], 0)));
+  const scale = scalesOf(request, answer.periods.length).money;
+  // With bands: each group's spread. The answer bands each group's total summed over the
+  // horizon, not discounted: where this table discounts, the range names that total and its
+  // central figure. The net is minus the discounted value lost, whose band the answer has.
+  const bands = body.bands || null;
+  const plain = undiscounted(request);
+  const groupRange = (i, g) => {
+    const band = bands?.[i].summary[`total_${g}`];
+    if (!band) return null;
+    if (plain) return bandRange(band, scale);
+    const central = answer.summary[i].distribution_totals?.[g];
+    return [rangeNote(`not discounted: ${signed(central, scale)}`), bandRange(band, scale)];
+  };
+  const netRange = (i) => {
+    const band = bands?.[i].summary.discounted_deadweight_loss;
+    if (!band) return null;
+    const qs = bandKeys(band);
+    // The band of minus the loss: its low is minus the loss's high (percentiles in pairs).
+    return Number(qs[0]) + Number(qs[qs.length - 1]) === 100 ? bandRange(band, scale, { flip: true }) : null;
+  };
+  const cell = (text, range) => {
+    const c = td(text, "n");
+    if (range) c.append(...[range].flat());
+    return c;
+  };
   groups.forEach((g, j) => {
     const tr = document.createElement("tr");
     tr.dataset.group = g;
-    tr.append(th(labelOf(`distribution.${g}`), "", "row"), ...sums.map((row) => td(signed(row[j]), "n")));
+    tr.append(th(labelOf(`distribution.${g}`), "", "row"), ...sums.map((row, i) => cell(signed(row[j], scale), groupRange(i, g))));
     tbody.append(tr);
   });
   const net = document.createElement("tr");
-  net.append(th("Net (minus the value lost)", "", "row"), ...sums.map((row) => td(signed(row.reduce((a, b) => a + b, 0)), "n")));
+  net.dataset.total = "net";
+  net.append(th("Net (minus the value lost)", "", "row"), ...sums.map((row, i) => cell(signed(row.reduce((a, b) => a + b, 0), scale), netRange(i))));
   tbody.append(net);
   const u = units();
-  table.caption.textContent = `Who gains (+) and who loses (\u2212): each group against the free market of the same ${u.period}, total over ${u.period}s 1 to ${answer.periods.length - 1}, ${discounting(request)} (the same basis as the chart), assuming efficient allocation; ${u.currency}, ${state.labels.real}`;
+  const spread = !bands ? ""
+    : plain ? `; below each figure its spread over ${fmt.format(body.draws)} draws`
+    : `; below each group's figure its total not discounted and that total's spread over ${fmt.format(body.draws)} draws (the bands give each group's spread summed, not discounted); below the net, its spread (minus the discounted value lost)`;
+  table.caption.textContent = `Who gains (+) and who loses (\u2212): each group against the free market of the same ${u.period}, total over ${u.period}s 1 to ${answer.periods.length - 1}, ${discounting(request)} (the same basis as the chart), assuming efficient allocation; ${u.currency}, ${state.labels.real}${spread}`;
   table.hidden = false;
 }
 
@@ -745,6 +847,7 @@ function showYears(body) {
   const box = $("year-tables");
   box.replaceChildren();
   const firstRule = Math.max(0, answer.paths.findIndex((p) => p.kind !== "none"));
+  const scales = scalesOf(state.answer?.request, answer.periods.length);
   answer.paths.forEach((path, i) => {
     const series = {
       ...(answer.price_index ? { price_index: answer.price_index } : {}),
@@ -766,11 +869,12 @@ function showYears(body) {
     head.append(th(`Period (${units().period})`), ...names.map((n) => th(labelOf(n), unitOf(n))));
     table.createTHead().append(head);
     const tbody = table.createTBody();
+    const scale = names.map((n) => scaleOf(n, false, scales));
     answer.periods.forEach((t, row) => {
       const tr = document.createElement("tr");
       // A flag (binding) as its unit says, 1 = yes, 0 = no, like the CSV and the workbook.
-      const cell = (v) => (typeof v === "boolean" ? (v ? "1" : "0") : number(v));
-      tr.append(th(String(t), "", "row"), ...names.map((n) => td(cell(series[n][row]), "n")));
+      const cell = (v, k) => (typeof v === "boolean" ? (v ? "1" : "0") : number(v, scale[k]));
+      tr.append(th(String(t), "", "row"), ...names.map((n, k) => td(cell(series[n][row], k), "n")));
       tbody.append(tr);
     });
     scroll.append(table);
@@ -884,6 +988,17 @@ function availablePanels(answer) {
   return [...out, ...["quantity", "homes_below_free_path", "vacant_homes", "converted_homes", "shortage", "vs_free_path.renters", "cumulative_deadweight_loss"].filter(carries)];
 }
 
+// What a band chart's marks are, worded from the percentiles asked for, as the chart's own key
+// (service/charts.py band_key): the outer pair shaded, each pair inside it darker, the line.
+function bandKeyWords(percentiles, draws) {
+  const qs = [...percentiles].sort((a, b) => a - b);
+  const pairs = qs.slice(0, Math.floor(qs.length / 2)).map((q, d) => [q, qs[qs.length - 1 - d]]);
+  const shaded = pairs.map(([lo, hi], d) => (d === 0
+    ? `Shaded: ${ordinal(lo)} to ${ordinal(hi)} percentile of ${fmt.format(draws)} draws`
+    : `${d === 1 ? "darker" : "darker still"}: ${ordinal(lo)} to ${ordinal(hi)}`));
+  return [...shaded, `${shaded.length ? "line" : "Line"}: each policy at the central values`].join("; ");
+}
+
 async function drawCharts(body, request) {
   $("charts").replaceChildren();
   const answer = pathsOf(body);
@@ -896,7 +1011,7 @@ async function drawCharts(body, request) {
   // in the "Show" choice.
   const drawn = panels.filter((p) => state.labels.default_panels.includes(p));
   jobs.push(figure("chart-figure", { chart: bands ? "bands" : "paths", scenario: request, title: titled(bands ? "central paths with percentile bands" : "paths by policy") },
-    `${drawn.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy. Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
+    `${drawn.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy.${bands ? ` ${bandKeyWords(body.percentiles, body.draws)}.` : ""} Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
     panels));
   if (answer.paths.every((p) => p.distribution)) {
     jobs.push(figure("gains-figure", { chart: "gains_and_losses", scenario: paths, title: titled("who gains and who loses") },
