@@ -45,6 +45,7 @@ __all__ = [
     "BAND_SUMMARY",
     "CONVERSION_SUMMARY",
     "COVERAGE_BAND_SERIES",
+    "GROUP_DISCOUNTED_TOTALS",
     "GROUP_TOTALS",
     "HEADLINES",
     "NOMINAL_BAND_SERIES",
@@ -99,6 +100,9 @@ BAND_SUMMARY = (
 )
 #: Each group's total over the horizon (MODEL.md 15): the summary's distribution_totals.
 GROUP_TOTALS = tuple("total_" + name for name in DISTRIBUTION_GROUPS)
+#: The same discounted (the summary's distribution_totals_discounted): banded too, so that a
+#: discounted who-gains table has its own spread (a sum's percentiles are not the sum's parts').
+GROUP_DISCOUNTED_TOTALS = tuple("discounted_" + name for name in DISTRIBUTION_GROUPS)
 #: Under the stock schedule: homes below the free path (MODEL.md 13) and, last, the discounted
 #: renters' surplus against the free path (MODEL.md 19), which sensitivity also ranks.
 STOCK_SUMMARY = (
@@ -395,7 +399,7 @@ def band_layout(scenario: Scenario, inputs: Sequence[UncertainInput]) -> BandLay
         series.append(BAND_SERIES + (NOMINAL_BAND_SERIES if inflated else ()) + extra)
     summary = BAND_SUMMARY
     if scenario.welfare.rationing != "random":
-        summary += GROUP_TOTALS
+        summary += GROUP_TOTALS + GROUP_DISCOUNTED_TOTALS
     if stock:
         summary += STOCK_SUMMARY + VS_FREE_PATH_SUMMARY
         converts = scenario.adjustment.conversion != 0.0 or any(i.target == "conversion" for i in inputs)

@@ -415,7 +415,8 @@ class PolicyBandSchema(Schema):
         metadata={
             "description": "Percentiles of summary figures: total_deadweight_loss, "
             "discounted_deadweight_loss, peak_shortage, final_consumer_price, final_quantity; unless "
-            "rationing is random, each group's total (total_ + a distribution_totals key); under the "
+            "rationing is random, each group's total (total_ + a distribution_totals key) and the same "
+            "discounted (discounted_ + that key: the spread of distribution_totals_discounted); under the "
             "stock schedule final_homes_below_free_path, peak_homes_below_free_path, "
             "vs_free_path_renters_discounted and the other totals of renters against the free path "
             "(vs_free_path_ + a vs_free_path_totals key), final_vacant_homes and, where controlled homes "

@@ -724,25 +724,25 @@ def test_group_totals_and_who_gains_show_their_spread_when_bands_run(page, base_
         )
         for key in ("total_consumer_surplus_change", "total_producer_surplus_change"):
             assert rows[key][i][1] == "spread: see each group below"
+        owners = band["summary"]["discounted_owners_of_controlled_homes"]
         assert rows["distribution_totals_discounted.owners_of_controlled_homes"][i][1] == (
-            "spread: see the same group summed, above"
+            f"5th\u201395th: {_shown(owners['5'])} to {_shown(owners['95'])}"
         )
-    # Who gains: under each group its total not discounted and that total's spread (the table
-    # discounts at 3.5 %); under the net, minus the discounted loss's spread.
+    # Who gains (discounted at 3.5 %): under each group the spread of its discounted total, which
+    # is not its summed total's; under the net, minus the discounted loss's spread.
     groups = page.eval_on_selector_all(
         "#groups tbody tr", "rows => rows.map(r => r.dataset.group || r.dataset.total)"
     )
     cells = dict(zip(groups, _cells(page, "#groups tbody tr"), strict=True))
     freeze = 1
-    summed = answer["central"]["summary"][freeze]["distribution_totals"]["owners_of_controlled_homes"]
-    spread = bands[freeze]["summary"]["total_owners_of_controlled_homes"]
+    spread = bands[freeze]["summary"]["discounted_owners_of_controlled_homes"]
+    summed = bands[freeze]["summary"]["total_owners_of_controlled_homes"]
+    assert spread["5"] != summed["5"] and spread["95"] != summed["95"]
     assert cells["owners_of_controlled_homes"][freeze][1:] == [
-        f"not discounted: {_shown(summed)}",
         f"5th\u201395th: {_shown(spread['5'])} to {_shown(spread['95'])}",
     ]
     loss = bands[freeze]["summary"]["discounted_deadweight_loss"]
     assert cells["net"][freeze][1:] == [f"5th\u201395th: {_shown(-loss['95'])} to {_shown(-loss['5'])}"]
-    assert "not discounted" in page.text_content("#groups caption")
     # The chart's caption says which percentiles are shaded, from those the request asked for.
     caption = page.text_content("#chart-figure figcaption")
     assert (
@@ -758,6 +758,7 @@ def test_group_totals_and_who_gains_show_their_spread_when_bands_run(page, base_
     answer = _answer(page)
     cells = dict(zip(groups, _cells(page, "#groups tbody tr"), strict=True))
     spread = answer["bands"][freeze]["summary"]["total_tenants_in_controlled_homes"]
+    assert answer["bands"][freeze]["summary"]["discounted_tenants_in_controlled_homes"] == spread
     assert cells["tenants_in_controlled_homes"][freeze][1:] == [
         f"10th\u201390th: {_shown(spread['10'])} to {_shown(spread['90'])}"
     ]

@@ -112,6 +112,35 @@ def test_a_band_is_the_path_at_the_elasticitys_order_statistics():
             assert band[t] == pytest.approx(at_lo[t] + frac * (at_hi[t] - at_lo[t]), rel=1e-6)
 
 
+def test_each_groups_discounted_total_is_banded_over_the_draws_own_totals():
+    """The who-gains table discounts, so its spread is the percentiles of each draw's own
+    discounted group totals (the simulate answer of that draw), not of the summed ones: a sum's
+    percentiles are not its parts'. Checked draw by draw against numpy's percentile."""
+    base = request()
+    base["welfare"] = {"discount_rate": 0.05}
+    dist = {"distribution": "uniform", "low": -0.9, "high": -0.3}
+    n = 25
+    body = bands({**_with_eta(base, dist), "draws": n, "seed": 4, "percentiles": [10, 50, 90]})
+    d = Distribution("uniform", low=-0.9, high=-0.3)
+    etas = draw([UncertainInput("demand_elasticity", "/x", d)], n, 4)[:, 0]
+    answers = [simulate(_with_eta(base, float(eta)))["summary"] for eta in etas]
+    for p, band in enumerate(body["bands"]):
+        for group in ("tenants_in_controlled_homes", "owners_of_controlled_homes", "government"):
+            discounted = [a[p]["distribution_totals_discounted"][group] for a in answers]
+            summed = [a[p]["distribution_totals"][group] for a in answers]
+            for q in (10, 50, 90):
+                got = band["summary"]["discounted_" + group][str(q)]
+                assert got == pytest.approx(np.percentile(discounted, q), rel=1e-12, abs=1e-9)
+                assert band["summary"]["total_" + group][str(q)] == pytest.approx(
+                    np.percentile(summed, q), rel=1e-12, abs=1e-9
+                )
+    freeze = body["bands"][1]["summary"]
+    assert (
+        freeze["discounted_owners_of_controlled_homes"]["50"]
+        != freeze["total_owners_of_controlled_homes"]["50"]
+    )
+
+
 def test_a_band_percentile_matches_the_path_at_scipys_ppf_within_sampling_error():
     base = request()
     n = 20_000
@@ -320,6 +349,8 @@ def test_degenerate_inputs_collapse_every_band_onto_the_paths_answer():
         for name, by_q in band["summary"].items():
             if name.startswith("total_") and name not in ("total_deadweight_loss", "total_converted_homes"):
                 expected = summary["distribution_totals"][name.removeprefix("total_")]
+            elif name.startswith("discounted_") and name != "discounted_deadweight_loss":
+                expected = summary["distribution_totals_discounted"][name.removeprefix("discounted_")]
             elif name.startswith("vs_free_path_"):
                 expected = summary["vs_free_path_totals"][name.removeprefix("vs_free_path_")]
             else:

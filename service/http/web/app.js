@@ -159,12 +159,6 @@ function rangeNote(text) {
   return span;
 }
 
-// No discounting: the discounted totals are the summed ones.
-function undiscounted(request) {
-  const rate = request?.welfare?.discount_rate ?? 0;
-  return Array.isArray(rate) ? rate.every((s) => s.rate === 0) : rate === 0;
-}
-
 // section.field of a request pointer: market.price, demand.price_elasticity, shocks.change, ...
 function fieldKey(pointer) {
   const p = pointer.split("/").slice(1).map(unescape);
@@ -687,17 +681,11 @@ function bandFigure(band, key) {
 }
 
 // The range beside one summary figure of a bands run. The answer bands each group's total summed
-// over the horizon: a discounted group total takes it where nothing is discounted and otherwise
-// says where the spread is; government revenue is the government group's total (efficient
-// rationing, MODEL.md 15); renters' and owners' totals add groups whose spreads do not add.
-function summaryRange(band, key, scale, request) {
+// and discounted; government revenue is the government group's total (efficient rationing,
+// MODEL.md 15); renters' and owners' totals add groups whose spreads do not add.
+function summaryRange(band, key, scale) {
   const found = bandFigure(band, key);
   if (found) return bandRange(found, scale);
-  if (key.startsWith("distribution_totals_discounted.")) {
-    const summed = band.summary[`total_${key.split(".")[1]}`];
-    if (!summed) return null;
-    return undiscounted(request) ? bandRange(summed, scale) : rangeNote("spread: see the same group summed, above");
-  }
   if (key === "total_government_revenue" && band.summary.total_government) return bandRange(band.summary.total_government, scale);
   if ((key === "total_consumer_surplus_change" || key === "total_producer_surplus_change") && band.summary.total_government) {
     return rangeNote("spread: see each group below");
@@ -725,7 +713,7 @@ function showSummary(body) {
     const scale = scaleOf(key, true, scales);
     flats.forEach((f, i) => {
       const cell = td(number(f[key], scale), "n");
-      const range = body.bands && summaryRange(body.bands[i], key, scale, request);
+      const range = body.bands && summaryRange(body.bands[i], key, scale);
       if (range) cell.append(range);
       tr.append(cell);
     });
@@ -799,17 +787,12 @@ function showGroups(body, request) {
   tbody.replaceChildren();
   const sums = answer.paths.map((p) => groups.map((g) => p.distribution[g].reduce((acc, v, t) => acc + v * factors[t], 0)));
   const scale = scalesOf(request, answer.periods.length).money;
-  // With bands: each group's spread. The answer bands each group's total summed over the
-  // horizon, not discounted: where this table discounts, the range names that total and its
-  // central figure. The net is minus the discounted value lost, whose band the answer has.
+  // With bands: each group's spread, on the table's own basis (the answer bands each group's
+  // total discounted as well as summed). The net is minus the discounted value lost.
   const bands = body.bands || null;
-  const plain = undiscounted(request);
   const groupRange = (i, g) => {
-    const band = bands?.[i].summary[`total_${g}`];
-    if (!band) return null;
-    if (plain) return bandRange(band, scale);
-    const central = answer.summary[i].distribution_totals?.[g];
-    return [rangeNote(`not discounted: ${signed(central, scale)}`), bandRange(band, scale)];
+    const band = bands?.[i].summary[`discounted_${g}`];
+    return band ? bandRange(band, scale) : null;
   };
   const netRange = (i) => {
     const band = bands?.[i].summary.discounted_deadweight_loss;
@@ -835,8 +818,7 @@ function showGroups(body, request) {
   tbody.append(net);
   const u = units();
   const spread = !bands ? ""
-    : plain ? `; below each figure its spread over ${fmt.format(body.draws)} draws`
-    : `; below each group's figure its total not discounted and that total's spread over ${fmt.format(body.draws)} draws (the bands give each group's spread summed, not discounted); below the net, its spread (minus the discounted value lost)`;
+    : `; below each figure its spread over ${fmt.format(body.draws)} draws (the net's: minus the value lost's)`;
   table.caption.textContent = `Who gains (+) and who loses (\u2212): each group against the free market of the same ${u.period}, total over ${u.period}s 1 to ${answer.periods.length - 1}, ${discounting(request)} (the same basis as the chart), assuming efficient allocation; ${u.currency}, ${state.labels.real}${spread}`;
   table.hidden = false;
 }
