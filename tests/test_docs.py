@@ -176,3 +176,33 @@ def test_the_api_guide_names_every_field_of_a_policy_summary():
     fields = PolicySummarySchema().fields
     assert "distribution_totals_discounted" in fields
     assert [name for name in fields if not re.search(rf"`{name}\b", guide)] == []
+
+
+def test_the_library_limits_in_the_api_guide_and_on_the_page_are_limits_py():
+    """The API guide's Limits table and the page's unit fields state the numbers the service
+    checks (service/limits.py), so a caller and an analyst meet them before a 422 does."""
+    from service import limits
+
+    guide = (ROOT / "openapi" / "API.md").read_text(encoding="utf-8")
+    rows = {
+        "a library record's name / notes": (
+            f"{limits.MAX_SCENARIO_NAME_LENGTH} / {limits.MAX_SCENARIO_NOTES_LENGTH:,} characters"
+        ),
+        "a library record's tags": (
+            f"{limits.MAX_SCENARIO_TAGS}, each at most {limits.MAX_SCENARIO_TAG_LENGTH} characters"
+        ),
+        "a library record's display units": f"each at most {limits.MAX_SCENARIO_UNIT_LENGTH} characters",
+        "records per key in the library": f"{limits.MAX_RECORDS_PER_OWNER:,}",
+        "revisions per record": f"{limits.MAX_REVISIONS_PER_RECORD}",
+        "records per page of `GET /v1/scenarios`": (
+            f"{limits.MAX_SCENARIO_PAGE} ({limits.DEFAULT_SCENARIO_PAGE} unless"
+        ),
+    }
+    for what, limit in rows.items():
+        line = next(line for line in guide.splitlines() if line.startswith(f"| {what} |"))
+        assert limit in line, (what, line)
+    page = (ROOT / "service" / "http" / "web" / "index.html").read_text(encoding="utf-8")
+    unit_inputs = re.findall(r'<input id="u-[a-z]+"[^>]*>', page)
+    assert len(unit_inputs) == 5
+    for tag in unit_inputs:
+        assert f'maxlength="{limits.MAX_SCENARIO_UNIT_LENGTH}"' in tag, tag
