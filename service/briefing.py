@@ -17,6 +17,7 @@ import re
 from typing import Any
 
 from . import charts, labels
+from .engine.cautions import NEGLIGIBLE
 from .simulation import simulate
 from .uncertainty import bands, central_request, is_bands_request
 
@@ -51,12 +52,36 @@ def _e(text: Any) -> str:
     return html.escape(str(text), quote=True)
 
 
-#: Figures this close to zero are the rounding of a difference, not a finding (the page's
-#: threshold; the downloads keep every digit).
-ROUNDING = 1e-9
+#: Figures this close to zero, as a share of their own scale, are the rounding of a difference,
+#: not a finding (the engine's NEGLIGIBLE and the page's rule; the downloads keep every digit).
+ROUNDING = NEGLIGIBLE
 
 
-def _number(value: Any) -> str:
+def _scales(request: dict[str, Any], periods: int) -> dict[str, float]:
+    """The scale of each kind of figure (as the page reads them): the base rent, the base homes,
+    one period's rent bill and the rent bill over the periods computed."""
+    market = request["market"]
+    price, homes = float(market["price"]), float(market["quantity"])
+    bill = price * homes * float(market.get("payments_per_period", 1.0))
+    return {"price": price, "homes": homes, "flow": bill, "money": bill * periods}
+
+
+def _scale(name: str, scales: dict[str, float], totals: bool = True) -> float:
+    """The scale of one figure, from the kind of its unit: a rent, money per period, money
+    summed, homes; 1 for anything else (shares, periods)."""
+    template = labels.unit_template(name, totals)
+    if template.startswith("{currency} per {unit}"):
+        return scales["price"]
+    if template.startswith("{currency} per {period}"):
+        return scales["flow"]
+    if template.startswith("{currency}"):
+        return scales["money"]
+    if template.startswith("{quantity}"):
+        return scales["homes"]
+    return 1.0
+
+
+def _number(value: Any, scale: float = 1.0) -> str:
     if value is None:
         return "\u2013"
     if isinstance(value, bool):
@@ -66,7 +91,7 @@ def _number(value: Any) -> str:
     if isinstance(value, float):
         if value == 0:
             return "0"
-        if abs(value) < ROUNDING:  # the rounding of a difference, as the page shows it
+        if abs(value) < ROUNDING * scale:  # the rounding of a difference, as the page shows it
             return "\u2248 0"
         if abs(value) >= 100:
             return f"{value:,.0f}"
@@ -251,10 +276,11 @@ def briefing_html(
     # The summary: a row per total, a column per policy (every total the answer carries).
     flats = [labels.flatten(s, ("name", "kind")) for s in body["summary"]]
     keys = list(dict.fromkeys(k for f in flats for k in f))
+    scales = _scales(request, horizon)
     rows = [
         [
             _head(labels.label(k, totals=True), labels.unit(k, units, totals=True)),
-            *(_number(f.get(k)) for f in flats),
+            *(_number(f.get(k), _scale(k, scales)) for f in flats),
         ]
         for k in keys
     ]
@@ -271,13 +297,12 @@ def briefing_html(
         rows = [
             [
                 _e(labels.label(f"distribution.{g}")),
-                *(_number(float(values[p][j])) for p in range(len(names))),
+                *(_number(float(values[p][j]), scales["money"]) for p in range(len(names))),
             ]
             for j, g in enumerate(groups)
         ]
-        rows.append(
-            ["Net (minus the value lost)", *(_number(float(values[p].sum())) for p in range(len(names)))]
-        )
+        net = (_number(float(values[p].sum()), scales["money"]) for p in range(len(names)))
+        rows.append(["Net (minus the value lost)", *net])
         money = f"{units['currency']}, {labels.REAL}"
         parts.append(
             _table(
@@ -352,8 +377,10 @@ def _ranges_section(
         "path of any one draw).</figcaption></figure>"
     )
     names = [band["name"] for band in ranges["bands"]]
+    scales = _scales(request, len(ranges["bands"][0]["series"]["consumer_price"][low]) - 1)
     rows = []
     for figure in RANGE_FIGURES:
+        scale = _scale(figure, scales)
         cells = []
         for band in ranges["bands"]:
             by_q = band["summary"].get(figure)
@@ -362,9 +389,9 @@ def _ranges_section(
                 continue
             # The range and the median on lines of their own: numbers never break, and a
             # narrow column (many policies) must not cut the median off.
-            text = _e(f"{_number(by_q[low])} to {_number(by_q[high])}")
+            text = _e(f"{_number(by_q[low], scale)} to {_number(by_q[high], scale)}")
             if middle is not None:
-                text += "<br>" + _e(f"(median {_number(by_q[middle])})")
+                text += "<br>" + _e(f"(median {_number(by_q[middle], scale)})")
             cells.append(text)
         rows.append(
             [_head(labels.label(figure, totals=True), labels.unit(figure, units, totals=True)), *cells]

@@ -326,6 +326,13 @@ def unit(name: str, units: dict[str, str] | None = None, totals: bool = False) -
     return found[2].format(**words) if found else ""
 
 
+def unit_template(name: str, totals: bool = False) -> str:
+    """The unit of a series or total as a template ("{currency} per {unit} per {price_interval},
+    ..."; "" when unknown): what kind of figure it is, whatever words the analyst typed."""
+    found = _lookup(name, TOTALS if totals else SERIES)
+    return found[2] if found else ""
+
+
 def describe(name: str, units: dict[str, str] | None = None, totals: bool = False) -> str:
     """Label and unit in one header: "Rent paid (consumer price) [EUR per home per month, ...]"."""
     u = unit(name, units, totals)

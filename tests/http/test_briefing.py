@@ -125,10 +125,19 @@ def test_a_briefing_writes_rounding_as_about_zero_and_choices_in_words_as_the_pa
     """What a council reads: a figure within 1e-9 of zero is the rounding of a difference
     (about 0, as on the page), a choice such as the curve form is in words, and the answer's
     shape (`output`) is not an input of the market."""
-    from service.briefing import _number, briefing_html
+    from service.briefing import _number, _scale, _scales, briefing_html
 
     assert _number(7.28e-12) == "\u2248 0" and _number(-4.2e-10) == "\u2248 0"
     assert _number(0.0) == "0" and _number(2.5e-9) == "2.5e-09"
+    # Against each figure's own scale, as the page: 4.2e-8 homes of 10,000 is rounding, 4.2e-8 of
+    # a rent of 1 is not; rents, homes and money take the base rent, the base homes, the bill.
+    assert _number(-4.22e-8, 10_000.0) == "\u2248 0" and _number(4.22e-8, 1.0) == "4.22e-08"
+    scales = _scales({"market": {"price": 1180.0, "quantity": 10_000.0}}, 15)
+    assert scales == {"price": 1180.0, "homes": 10_000.0, "flow": 11_800_000.0, "money": 177_000_000.0}
+    assert _scale("final_consumer_price", scales) == 1180.0
+    assert _scale("peak_shortage", scales) == 10_000.0
+    assert _scale("discounted_deadweight_loss", scales) == 177_000_000.0
+    assert _scale("binding_periods", scales) == 1.0
     assert _number("constant_elasticity") == "constant elasticity"
     request = {**example_request("quillbrook-rent-freeze"), "output": "full"}
     request["market"]["form"] = "constant_elasticity"
