@@ -202,6 +202,12 @@ def _infeasible_message(scenario: Scenario, arrays: PathArrays, i: int, t: int, 
     return f"{head} (most often because {hint})" if hint else head
 
 
+#: A demand price elasticity closer to zero than this is named as the cause when a policy's
+#: numbers overflow (see _scenario_error): far below published housing estimates (from memory,
+#: most lie between about -0.1 and -1).
+NEAR_VERTICAL_DEMAND = 1e-3
+
+
 def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: np.ndarray) -> EngineError:
     """The first problem of a failed scenario, with the pointer of the input to change."""
     names = scenario.market.shifter_names
@@ -262,9 +268,21 @@ def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: n
             )
     for local, r in enumerate(row_index):
         if arrays.non_finite[r]:
+            name = scenario.policies[local].name
+            eta = scenario.market.demand_elasticity
+            if abs(eta) < NEAR_VERTICAL_DEMAND:
+                # Derived: households' value of the q-th home, Qd^-1(q), grows as (Q*/q)^(1/|eta|),
+                # past 1e308 once ln(Q*/q) / |eta| > 709 (a 10 % shortfall: |eta| < 1.5e-4).
+                return NonFiniteResultError(
+                    f"demand this close to vertical (a price elasticity of {eta:g}) puts what "
+                    f"households would pay for the homes that policy '{name}' leaves unlet beyond "
+                    "the representable range; give the demand's price elasticity as measured for "
+                    "this market",
+                    "/market/demand/price_elasticity",
+                )
             return NonFiniteResultError(
-                f"policy '{scenario.policies[local].name}' produces numbers outside the "
-                "representable range; reduce the shocks or the horizon",
+                f"policy '{name}' produces numbers outside the representable range; reduce the "
+                "shocks or the horizon",
                 f"/policies/{local}",
             )
     return EngineError("the scenario could not be computed")

@@ -13,6 +13,7 @@ import pytest
 from hypothesis import given
 
 from service import ProblemError, simulate
+from service.examples import example_request
 
 from ..catalogue import harberger_dwl
 from ..strategies import requests
@@ -129,4 +130,24 @@ def test_a_discount_rate_whose_factors_overflow_is_refused_at_the_rate(contract_
         simulate(request)
     assert [e["pointer"] for e in refused.value.problem["errors"]] == ["/welfare/discount_rate"]
     request["horizon"] = 100  # 100^100 = 1e200: within range, an answer
+    assert all(np.isfinite(s["discounted_deadweight_loss"]) for s in simulate(request)["summary"])
+
+
+@pytest.mark.parametrize(
+    ("form", "eta"), [("constant_elasticity", -1e-7), ("constant_elasticity", -1e-300), ("linear", -1e-300)]
+)
+def test_demand_near_vertical_is_named_when_the_value_of_missing_homes_overflows(form, eta):
+    """Derived: under a binding freeze households' value of the q-th home, Qd^-1(q), grows as
+    (Q*/q)^(1/|eta|) (constant elasticity) or with 1/|eta| (linear), past 1e308 for such an
+    elasticity. The problem points at the elasticity the caller typed, not at the policy; an
+    elasticity of -0.002 still has an answer in both forms."""
+    request = example_request("quillbrook-rent-freeze")
+    request["market"]["form"] = form
+    request["market"]["demand"]["price_elasticity"] = eta
+    with pytest.raises(ProblemError) as refused:
+        simulate(request)
+    errors = refused.value.problem["errors"]
+    assert [e["pointer"] for e in errors] == ["/market/demand/price_elasticity"]
+    assert f"a price elasticity of {eta:g}" in errors[0]["message"]
+    request["market"]["demand"]["price_elasticity"] = -0.002
     assert all(np.isfinite(s["discounted_deadweight_loss"]) for s in simulate(request)["summary"])
