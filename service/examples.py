@@ -22,7 +22,8 @@ def _load() -> dict[str, dict[str, Any]]:
 
 
 def examples() -> dict[str, dict[str, Any]]:
-    """name -> {"title", "description", "request"}; a fresh copy each call."""
+    """name -> {"title", "description", "units", "request"} (and "endpoint" where it is not
+    /v1/paths); a fresh copy each call."""
     return copy.deepcopy(_load())
 
 

@@ -40,6 +40,7 @@ def list_examples() -> Response:
             "title": entry["title"],
             "description": entry["description"],
             "endpoint": entry.get("endpoint", "/v1/paths"),
+            "units": entry.get("units", {}),
             "href": url_for("examples.get_example", name=name),
         }
         for name, entry in examples().items()

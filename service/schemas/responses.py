@@ -20,6 +20,7 @@ from ..engine.results import (
     VS_FREE_PATH_TOTALS,
 )
 from .fields import Either
+from .library import ScenarioUnitsSchema
 from .paths import PathsRequestSchema
 from .uncertainty import BandsRequestSchema
 
@@ -352,6 +353,14 @@ class ExampleSchema(Schema):
     description = fields.String(required=True)
     endpoint = fields.String(
         required=True, metadata={"description": "Where to post it: /v1/paths or /v1/bands."}
+    )
+    units = fields.Nested(
+        ScenarioUnitsSchema,
+        required=True,
+        metadata={
+            "description": "The display units the demo's numbers are in (as a saved scenario keeps "
+            "them); the page labels its charts and tables with them when the demo is loaded."
+        },
     )
     href = fields.String(required=True)
 

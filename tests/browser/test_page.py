@@ -362,7 +362,8 @@ def test_the_reduced_form_and_the_supply_response_of_the_answer_are_on_the_page(
     assert set(flags) == {"0", "1"} and flags[0] == "0"
     # The first table open is the first rule's (the free market's is all zeros), periods 0 to T.
     opened = page.eval_on_selector_all("#year-tables details[open] summary", "s => s.map(x => x.textContent)")
-    assert opened == [f"rent freeze: periods 0 (today) to {len(answer['periods']) - 1}"]
+    # The demo gives its units (yearly periods): the table names its periods as years.
+    assert opened == [f"rent freeze: years 0 (today) to {len(answer['periods']) - 1}"]
     # A freeze's base level is a yes-or-no box, not text to type "true" in.
     box = page.locator("input[data-pointer='/policies/1/base_level']")
     assert box.get_attribute("type") == "checkbox" and box.is_checked()
@@ -791,3 +792,22 @@ def test_a_long_tornado_title_shows_whole_in_the_page(page, base_url):
     assert title not in comments
     assert any(f"{a} {b}".split() == title.split() for a, b in pairwise(comments))
     page.locator("#tornado-figure").screenshot(path=str(ARTIFACTS / "page-tornado-long-title.png"))
+
+
+def test_a_demo_loads_with_the_units_its_numbers_are_in(page, base_url):
+    """An analyst's trial: the demos say "monthly rents, yearly periods" but loaded with the page's
+    placeholder words (units, price interval, period). Loading one now sets the units it gives
+    (homes, home, month, year) and leaves a currency the analyst typed, which no demo names."""
+    page.goto(base_url + "/")
+    page.wait_for_function("document.querySelector('#status').textContent.startsWith('Loaded')")
+    page.fill("#u-currency", "EUR")
+    page.fill("#u-period", "quarter")
+    demo = "tollbrae-decontrol-and-exempt-building"
+    page.select_option("#demo", demo)
+    page.click("#load-demo")
+    page.wait_for_function(f"document.querySelector('#status').textContent.startsWith('Loaded {demo}')")
+    shown = {selector: page.input_value(selector) for selector in HOUSING}
+    assert shown == HOUSING  # EUR kept; the demo's homes, home, month and year
+    run_scenario(page)
+    assert page.text_content("table.years thead th").strip() == "Period (year)"
+    assert "EUR per home per month" in page.inner_text("#summary")

@@ -5,7 +5,7 @@
 
 const $ = (id) => document.getElementById(id);
 const state = {
-  request: {}, labels: null, endpoint: "/v1/paths", demos: {}, titles: {}, answer: null, sensitivity: null,
+  request: {}, labels: null, endpoint: "/v1/paths", demos: {}, titles: {}, demoUnits: {}, answer: null, sensitivity: null,
   urls: [], rendered: "", pending: null,
   givenName: "",  // the scenario name the page set itself (a demo's, a file's), not one typed
 };
@@ -82,13 +82,27 @@ function units() {
     period: $("u-period").value || "period" };
 }
 
-// The unit fields as typed (empty ones left out), and set back from such an object.
+// The unit fields as typed, trimmed (empty ones left out): what a link, a saved scenario and a
+// file carry. The library panel (library.js) uses these two as well.
 const UNIT_FIELDS = { currency: "u-currency", quantity: "u-quantity", unit: "u-unit", price_interval: "u-interval", period: "u-period" };
 function typedUnits() {
-  return Object.fromEntries(Object.entries(UNIT_FIELDS).map(([k, id]) => [k, $(id).value]).filter(([, v]) => v));
+  return Object.fromEntries(Object.entries(UNIT_FIELDS).map(([k, id]) => [k, $(id).value.trim()]).filter(([, v]) => v));
 }
-function setTypedUnits(typed) {
-  for (const [k, id] of Object.entries(UNIT_FIELDS)) if (typeof typed[k] === "string") $(id).value = typed[k];
+
+// Units back in the fields, with the events typing sends (tables and charts relabel). `reset`
+// (a saved scenario, a link: all its units or none): a unit not given returns to the page's
+// own word, unless its field is empty already; without it (a demo) only the units given change.
+function setUnits(units, { reset = true } = {}) {
+  for (const [key, id] of Object.entries(UNIT_FIELDS)) {
+    const input = $(id);
+    const given = typeof units[key] === "string";
+    if (!given && (!reset || !input.value.trim())) continue;
+    const value = given ? units[key] : input.defaultValue;
+    if (input.value === value) continue;
+    input.value = value;
+    input.dispatchEvent(new Event("input", { bubbles: true }));
+    input.dispatchEvent(new Event("change", { bubbles: true }));
+  }
 }
 
 const fill = (template) => template.replace(/\{(\w+)\}/g, (_, k) => units()[k] ?? k);
@@ -1247,7 +1261,7 @@ async function fromFragment() {
     const text = new TextDecoder().decode(await squeeze(fromBase64Url(match[1]), "out"));
     const { name, request, units: linked } = JSON.parse(text);
     loadRequest(request, name || "");
-    setTypedUnits(linked || {});
+    setUnits(linked || {}, { reset: false });
     $("status").textContent = "Opened the scenario of the link. Run it to see its paths.";
     return true;
   } catch (e) {
@@ -1281,6 +1295,7 @@ async function loadDemo() {
   const request = await response.json();
   state.demos[name] = JSON.stringify(request);
   loadRequest(request, state.titles[name].split(":")[0]);
+  setUnits(state.demoUnits[name] || {}, { reset: false });  // the words the demo's numbers are in
   $("status").textContent = `Loaded ${name}. Change inputs, then run it.`;
 }
 
@@ -1395,6 +1410,7 @@ function addDemos(examples) {
     option.value = e.name;
     option.textContent = e.endpoint === "/v1/bands" ? `${e.title} (bands)` : e.title;
     state.titles[e.name] = e.title;
+    state.demoUnits[e.name] = e.units || {};
     select.append(option);
   }
   if (examples.length) select.value = examples[0].name;

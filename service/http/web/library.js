@@ -95,34 +95,8 @@
     area.dispatchEvent(new Event("change"));
   }
 
-  // The page's unit fields (its Units box), by the key a record keeps each under.
-  const UNIT_INPUTS = { currency: "u-currency", quantity: "u-quantity", unit: "u-unit", price_interval: "u-interval", period: "u-period" };
-
-  // The units as typed; empty ones left out (the page then uses its own word for them).
-  function typedUnits() {
-    const typed = {};
-    for (const [key, id] of Object.entries(UNIT_INPUTS)) {
-      const value = $(id) ? $(id).value.trim() : "";
-      if (value) typed[key] = value;
-    }
-    return typed;
-  }
-
-  // A record's units back in the fields; one it does not keep goes back to the page's default
-  // (the field's own starting value). The page relabels its charts and tables on these events.
-  function setUnits(units) {
-    for (const [key, id] of Object.entries(UNIT_INPUTS)) {
-      const input = $(id);
-      if (!input) continue;
-      // Left empty and kept as none: the page's own word either way, so leave the field be.
-      if (typeof units[key] !== "string" && !input.value.trim()) continue;
-      const value = typeof units[key] === "string" ? units[key] : input.defaultValue;
-      if (input.value === value) continue;
-      input.value = value;
-      input.dispatchEvent(new Event("input", { bubbles: true }));
-      input.dispatchEvent(new Event("change", { bubbles: true }));
-    }
-  }
+  // The units travel with a record: app.js's typedUnits() and setUnits() read and set the
+  // page's unit fields (this script runs after it).
 
   function writeBody() {
     return {
