@@ -69,16 +69,8 @@ def _scales(request: dict[str, Any], periods: int) -> dict[str, float]:
 def _scale(name: str, scales: dict[str, float], totals: bool = True) -> float:
     """The scale of one figure, from the kind of its unit: a rent, money per period, money
     summed, homes; 1 for anything else (shares, periods)."""
-    template = labels.unit_template(name, totals)
-    if template.startswith("{currency} per {unit}"):
-        return scales["price"]
-    if template.startswith("{currency} per {period}"):
-        return scales["flow"]
-    if template.startswith("{currency}"):
-        return scales["money"]
-    if template.startswith("{quantity}"):
-        return scales["homes"]
-    return 1.0
+    kind = labels.scale_kind(name, totals)
+    return scales[kind] if kind else 1.0
 
 
 def _number(value: Any, scale: float = 1.0) -> str:

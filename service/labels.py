@@ -326,11 +326,23 @@ def unit(name: str, units: dict[str, str] | None = None, totals: bool = False) -
     return found[2].format(**words) if found else ""
 
 
-def unit_template(name: str, totals: bool = False) -> str:
-    """The unit of a series or total as a template ("{currency} per {unit} per {price_interval},
-    ..."; "" when unknown): what kind of figure it is, whatever words the analyst typed."""
+#: What a figure is measured against, by how its unit begins: a rent against the base rent
+#: ("price"), money per period against one period's base rent bill ("flow"), money summed against
+#: the bill over the periods ("money"), homes against the base homes ("homes"). Below
+#: engine.cautions.NEGLIGIBLE of that scale a figure is rounding; the page reads the same table.
+SCALE_KINDS = (
+    ("{currency} per {unit}", "price"),
+    ("{currency} per {period}", "flow"),
+    ("{currency}", "money"),
+    ("{quantity}", "homes"),
+)
+
+
+def scale_kind(name: str, totals: bool = False) -> str | None:
+    """The SCALE_KINDS kind of a series or total (None: a share, a count of periods, unknown)."""
     found = _lookup(name, TOTALS if totals else SERIES)
-    return found[2] if found else ""
+    template = found[2] if found else ""
+    return next((kind for start, kind in SCALE_KINDS if template.startswith(start)), None)
 
 
 def describe(name: str, units: dict[str, str] | None = None, totals: bool = False) -> str:
@@ -428,4 +440,5 @@ def table() -> dict[str, Any]:
         "default_units": DEFAULT_UNITS,
         "drawn": DRAWN,
         "flat_names": FLAT_NAMES,
+        "scale_kinds": SCALE_KINDS,
     }

@@ -134,14 +134,12 @@ function scalesOf(request, periods) {
   return { price, homes, flow: bill, money: bill * periods };
 }
 
-// The scale of one figure, read from its unit: rents, homes, money per period or money summed.
+// The scale of one figure, by how its unit begins (labels.SCALE_KINDS): rents, money per
+// period, money summed, homes; 1 for the rest.
 function scaleOf(name, totals, scales) {
   const unit = lookup(name, totals)?.[2] || "";
-  if (unit.startsWith("{currency} per {unit}")) return scales.price;
-  if (unit.startsWith("{currency} per {period}")) return scales.flow;
-  if (unit.startsWith("{currency}")) return scales.money;
-  if (unit.startsWith("{quantity}")) return scales.homes;
-  return 1;
+  const found = state.labels.scale_kinds.find(([start]) => unit.startsWith(start));
+  return found ? scales[found[1]] : 1;
 }
 
 // Percentiles of a band, as numbers in order, and the words of its outer range: "5th–95th".
