@@ -22,6 +22,7 @@ __all__ = [
     "GENERAL_CAUTION",
     "MISALLOCATION_SHARE",
     "OTHER_FORM_FIGURES",
+    "form_gaps",
     "misallocation_shares",
     "scenario_cautions",
 ]
@@ -82,16 +83,25 @@ def _figure(x: float) -> str:
 NEGLIGIBLE = 1e-9
 
 
-def _differs(a: float, b: float, negligible: float = 0.0) -> bool:
-    """|a - b| > FORM_GAP x the larger magnitude; two values within rounding of zero agree."""
-    return max(abs(a), abs(b)) > negligible and abs(a - b) > FORM_GAP * max(abs(a), abs(b))
+def form_gaps(here: np.ndarray, there: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """True where a figure's two curve forms differ visibly (MODEL.md 20), element by element:
+
+        |a - b| > FORM_GAP x max(|a|, |b|)  and  max(|a|, |b|) > NEGLIGIBLE x scale
+
+    (two values within rounding of zero agree; a NaN differs from nothing). `here`, `there`:
+    this form's and the other form's values; `scale`: each figure's scale (money: the base rent
+    bill over the horizon; price: the base rent; quantity: the base homes). Any one shape."""
+    with np.errstate(invalid="ignore", over="ignore"):  # inf - inf: NaN, which differs from nothing
+        larger = np.maximum(np.abs(here), np.abs(there))
+        return (larger > NEGLIGIBLE * scale) & (np.abs(here - there) > FORM_GAP * larger)
 
 
 def _names(names: Sequence[str]) -> str:
     return ", ".join(f"'{n}'" for n in names)
 
 
-#: Per policy name, {figure: (this form's value, the other form's)}, or None: no answer there.
+#: Per policy name, {figure: (this form's value, the other form's)} of the figures whose forms
+#: differ (form_gaps), or None: no answer there.
 OtherForm = Mapping[str, Mapping[str, tuple[float, float]] | None]
 
 
@@ -105,9 +115,7 @@ RATIONING_REFUSED = (
 )
 
 
-def _other_form_caution(
-    form: str, other_form: OtherForm, scales: Mapping[str, float] | None = None, refused: bool = False
-) -> str | None:
+def _other_form_caution(form: str, other_form: OtherForm, refused: bool = False) -> str | None:
     if refused:
         return RATIONING_REFUSED
     other = "constant-elasticity" if form == "linear" else "linear"
@@ -117,8 +125,7 @@ def _other_form_caution(
             missing.append(policy)
             continue
         for key, words in OTHER_FORM_FIGURES.items():
-            negligible = NEGLIGIBLE * (scales or {}).get(key, 0.0)
-            if key in figures and _differs(*figures[key], negligible):
+            if key in figures:
                 this, there = figures[key]
                 differ.append(f"'{policy}' {words} ({_figure(this)} here, {_figure(there)} there)")
     if not differ and not missing:
@@ -157,7 +164,6 @@ def scenario_cautions(
     conversion_rate: float = 0.0,
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
-    figure_scales: Mapping[str, float] | None = None,
     other_form_refused: bool = False,
     held_to_horizon: Mapping[str, float] | None = None,
     unlet_homes_removed: bool = False,
@@ -179,9 +185,10 @@ def scenario_cautions(
     stock: the adjustment schedule is `stock`.
     partial_binds: a price ceiling with coverage < 1 binds.
     other_form: per policy name, {figure: (this form's value, the other form's value)} for the
-        figures of OTHER_FORM_FIGURES (MODEL.md 20: the summary's other_form), or None where the
-        other form has no answer for that policy. Each figure whose two values differ by more
-        than FORM_GAP of the larger is named; so is each policy without an answer.
+        figures of OTHER_FORM_FIGURES whose two values differ visibly (form_gaps: by more than
+        FORM_GAP of the larger, neither within rounding of zero; MODEL.md 20, the summary's
+        other_form), or None where the other form has no answer for that policy. Each such
+        figure is named; so is each policy without an answer.
     shortage: some path reports a shortage above 0 (peak_shortage > 0): what it counts.
     lifted_ceilings: names of binding price ceilings that end before the horizon; cautioned
         only when `stock` is False (without a stock their homes return at once).
@@ -194,9 +201,6 @@ def scenario_cautions(
         an upper bound (MODEL.md 18).
     conversion_rate: the request's conversion rate kappa; with `conversion`, a rate above
         HIGH_CONVERSION is named as far above published estimates.
-    figure_scales: per figure of OTHER_FORM_FIGURES its scale (money: the base rent bill over the
-        horizon; price: the base rent; quantity: the base homes): values below NEGLIGIBLE of it
-        are rounding and never named as a difference.
     other_form_refused: the other form (constant elasticity, for a linear request) refuses the
         whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 11); the
         caution says so instead of naming every policy as without an answer.
@@ -224,7 +228,7 @@ def scenario_cautions(
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
     """
     out: list[str] = []
-    head = _other_form_caution(form, other_form, figure_scales, other_form_refused)
+    head = _other_form_caution(form, other_form, other_form_refused)
     if head is not None:
         out.append(head)
     if ceiling_binds and not random_rationing:

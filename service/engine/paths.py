@@ -19,6 +19,7 @@ ordinary present value (as numpy_financial.npv for a constant rate).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
@@ -27,7 +28,16 @@ from . import kernel
 from .batch import PolicyRows, ScenarioBatch
 from .policies import is_ceiling
 
-__all__ = ["PathArrays", "kernel_inputs", "price_index", "solve"]
+__all__ = [
+    "PathArrays",
+    "PendingSolve",
+    "finish_solve",
+    "kernel_inputs",
+    "price_index",
+    "run_period_pass",
+    "solve",
+    "start_solve",
+]
 
 
 @dataclass(frozen=True)
@@ -112,8 +122,55 @@ def solve(
     20); `band` is passed to kernel.policy_paths (bands write their series straight into the
     percentile buffer).
     """
+    pending = start_solve(batch, rows, series, alternate, band)
+    return finish_solve(pending, run_period_pass(pending))
+
+
+class PendingSolve(NamedTuple):
+    """A solve up to its compiled period pass (start_solve): what run_period_pass gives the
+    pass, and what finish_solve reads with its output."""
+
+    batch: ScenarioBatch
+    rows: PolicyRows
+    valid: np.ndarray
+    prepared: kernel.Prepared
+    market: kernel.MarketInputs
+    policy: kernel.RowInputs
+    own: np.ndarray
+    other: np.ndarray | None
+    names: tuple[str, ...]
+    band: tuple | None
+    supply_elasticity: np.ndarray
+    free_price: np.ndarray
+    free_quantity: np.ndarray
+    alternate_feasible: np.ndarray
+    linear_out_of_range: np.ndarray
+
+
+def start_solve(
+    batch: ScenarioBatch,
+    rows: PolicyRows,
+    series: tuple[str, ...] | None = None,
+    alternate: bool = True,
+    band: tuple | None = None,
+) -> PendingSolve:
+    """The first part of solve (same arguments): the kernels' inputs and the free paths."""
     with np.errstate(**FLOATING_POINT):
-        return _solve(batch, rows, series, alternate, band)
+        return _start(batch, rows, series, alternate, band)
+
+
+def run_period_pass(pending: PendingSolve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The policy rows' compiled period pass (kernel.policy_paths): the bulk of a solve. Its
+    kernel releases the GIL, so another thread may run it while this one works on."""
+    return kernel.policy_paths(
+        pending.market, pending.policy, pending.own, pending.names, pending.band, pending.other
+    )
+
+
+def finish_solve(pending: PendingSolve, period_pass: tuple[np.ndarray, np.ndarray, np.ndarray]) -> PathArrays:
+    """The last part of solve: the period pass's output read into PathArrays and problem masks."""
+    with np.errstate(**FLOATING_POINT):
+        return _finish(pending, *period_pass)
 
 
 def price_index(inflation: np.ndarray) -> np.ndarray:
@@ -199,7 +256,7 @@ def kernel_inputs(batch: ScenarioBatch, rows: PolicyRows, prepared: kernel.Prepa
     return market, policy
 
 
-def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PathArrays:
+def _start(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band) -> PendingSolve:
     t = np.arange(batch.periods)
     valid = t[None, :] <= batch.horizon[:, None]
     prepared = kernel.prepare(batch, MAX_SHIFTER_CHANGE)
@@ -221,9 +278,38 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     else:
         alternate_feasible = np.zeros(batch.size, dtype=bool)
 
-    # Policy rows: one kernel call, each scenario in its own form (and in the other one).
+    # The free path's supply elasticity is reported too (checked in _finish).
+    supply_elasticity = np.where(keep, own[:, elasticity_at], market.eps)
+    # Policy rows (run_period_pass): one kernel call, each scenario in its own form (and in the
+    # other one).
     names = kernel.SERIES_NAMES if series is None else series
-    values, flags, summary = kernel.policy_paths(market, policy, own, names, band, other)
+    return PendingSolve(
+        batch=batch,
+        rows=rows,
+        valid=valid,
+        prepared=prepared,
+        market=market,
+        policy=policy,
+        own=own,
+        other=other,
+        names=names,
+        band=band,
+        supply_elasticity=supply_elasticity,
+        free_price=free_price,
+        free_quantity=free_quantity,
+        alternate_feasible=alternate_feasible,
+        linear_out_of_range=linear_out_of_range,
+    )
+
+
+def _finish(pending: PendingSolve, values: np.ndarray, flags: np.ndarray, summary: np.ndarray) -> PathArrays:
+    batch, rows, valid, prepared, names = (
+        pending.batch,
+        pending.rows,
+        pending.valid,
+        pending.prepared,
+        pending.names,
+    )
     s_of = rows.scenario
     infeasible = flags[:, kernel.FLAG_INDEX["infeasible"]] & valid[s_of]
     unbounded = is_ceiling(rows.kind) & batch.random_rationing[s_of] & batch.constant_elasticity[s_of]
@@ -231,24 +317,23 @@ def _solve(batch: ScenarioBatch, rows: PolicyRows, series, alternate: bool, band
     # The compiled pass flags a row where any value of a valid period is not finite.
     non_finite = summary[:, kernel.SUMMARY_INDEX["non_finite"]] > 0.0
     # The free path's supply elasticity is reported too: checked here, per scenario.
-    supply_elasticity = np.where(keep, own[:, elasticity_at], market.eps)
-    non_finite |= (valid & ~np.isfinite(supply_elasticity)).any(axis=1)[s_of]
+    non_finite |= (valid & ~np.isfinite(pending.supply_elasticity)).any(axis=1)[s_of]
     if batch.has_inflation.any():
-        index_failed = _index_out_of_range(batch, rows, market.price_index, valid, values, names)
+        index_failed = _index_out_of_range(batch, rows, pending.market.price_index, valid, values, names)
     else:
         index_failed = np.zeros(batch.size, dtype=bool)
 
     return PathArrays(
         valid=valid,
-        supply_elasticity=supply_elasticity,
-        free_price=free_price,
-        free_quantity=free_quantity,
-        alternate_feasible=alternate_feasible,
+        supply_elasticity=pending.supply_elasticity,
+        free_price=pending.free_price,
+        free_quantity=pending.free_quantity,
+        alternate_feasible=pending.alternate_feasible,
         discount_factor=prepared.factor,
-        price_index=market.price_index,
+        price_index=pending.market.price_index,
         shift_out_of_range=prepared.shift_bad,
         schedule_undefined=prepared.undefined,
-        linear_out_of_range=linear_out_of_range,
+        linear_out_of_range=pending.linear_out_of_range,
         price_index_out_of_range=index_failed,
         discount_out_of_range=(valid & ~np.isfinite(prepared.factor)).any(axis=1),
         policy_infeasible=infeasible,

@@ -9,12 +9,13 @@ policy rows at once; only the final slicing into per-scenario objects walks the 
 from __future__ import annotations
 
 from collections.abc import Sequence
+from concurrent.futures import ThreadPoolExecutor
 from typing import Any, NamedTuple
 
 import numpy as np
 
 from .batch import PolicyRows, ScenarioBatch, pack
-from .cautions import NEGLIGIBLE, OTHER_FORM_FIGURES, misallocation_shares, scenario_cautions
+from .cautions import NEGLIGIBLE, OTHER_FORM_FIGURES, form_gaps, misallocation_shares, scenario_cautions
 from .errors import (
     EngineError,
     InfeasiblePolicyError,
@@ -23,7 +24,7 @@ from .errors import (
     NonFiniteResultError,
 )
 from .kernel import GROUP_NAMES, SERIES_NAMES, SUMMARY_AT, SUMMARY_INDEX
-from .paths import PathArrays, any_per_scenario, solve
+from .paths import PathArrays, any_per_scenario, finish_solve, run_period_pass, solve, start_solve
 from .policies import is_ceiling
 from .reduced_form import short_and_long_run
 from .scenario import Scenario
@@ -43,9 +44,11 @@ __all__ = [
     "summarise",
 ]
 
+#: The kernel's first sixteen series, around where `binding` goes in an answer's path.
+_BEFORE_BINDING, _AFTER_BINDING = slice(0, 9), slice(9, 16)
 #: The per-period series of every policy path, in response order: the kernel's first sixteen
 #: series with `binding` after the marginal cost.
-SERIES = (*SERIES_NAMES[:9], "binding", *SERIES_NAMES[9:16])
+SERIES = (*SERIES_NAMES[_BEFORE_BINDING], "binding", *SERIES_NAMES[_AFTER_BINDING])
 #: The series solve keeps for an answer: every reported one but the `binding` flags.
 _REPORTED = SERIES_NAMES[:16]
 #: Who gains and who loses (MODEL.md 15, 20): per path, in this order; money per model period.
@@ -62,10 +65,24 @@ VS_FREE_PATH_SERIES = {"renters": "renters_vs_free_path", "extra_rent": "extra_r
 #: The series the misallocation caution reads (MODEL.md 20), in the order cautions takes them.
 _MISALLOCATION = ("misallocation_loss", "consumer_price", "quantity")
 
-#: Per group of who gains and who loses: its name and the summary index of its total, and of
-#: its discounted total.
-_GROUP_TOTAL_FIGURES = tuple((name, SUMMARY_INDEX["total_" + name]) for name in GROUP_NAMES)
-_GROUP_DISCOUNTED_FIGURES = tuple((name, SUMMARY_INDEX["discounted_" + name]) for name in GROUP_NAMES)
+
+def _contiguous(names: Sequence[str], index: dict[str, int]) -> slice:
+    """The slice of positions `names` hold, in their order, one after another; ValueError if
+    they do not (the kernel's tables would have changed under the code that slices them)."""
+    first = index[names[0]]
+    if [index[name] for name in names] != list(range(first, first + len(names))):
+        raise ValueError(f"{names} are not one run of positions")
+    return slice(first, first + len(names))
+
+
+#: Who gains and who loses: the summary positions of each group's total, and of its discounted
+#: total, in the order of GROUP_NAMES.
+_GROUP_TOTALS = _contiguous(["total_" + name for name in GROUP_NAMES], SUMMARY_INDEX)
+_GROUP_DISCOUNTED = _contiguous(["discounted_" + name for name in GROUP_NAMES], SUMMARY_INDEX)
+#: The kept series an answer reads by position (reported_series keeps them first, in this order).
+_LEADING_SERIES = _REPORTED + DISTRIBUTION_GROUPS
+#: Where a row's kept series hold the groups of who gains and who loses.
+_GROUP_SERIES = slice(len(_REPORTED), len(_LEADING_SERIES))
 #: Their totals in the summary: answer key -> kernel summary figure.
 VS_FREE_PATH_TOTALS = {
     "renters": "vs_free_path_renters",
@@ -297,6 +314,32 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
     return arrays.alternate_feasible & ~any_per_scenario(~row_ok, rows.scenario, batch.size)
 
 
+#: Per figure compared between the curve forms (OTHER_FORM_FIGURES): its name and its summary
+#: positions in this form and in the other one.
+_FORM_FIGURES = tuple((key, SUMMARY_INDEX[key], SUMMARY_INDEX["other_" + key]) for key in OTHER_FORM_FIGURES)
+
+
+def _form_gaps(
+    summary: np.ndarray, rows: PolicyRows, batch: ScenarioBatch, rent_bills: np.ndarray, other_ok: np.ndarray
+) -> list[tuple[tuple[str, int, int], ...]]:
+    """Per row, the figures of _FORM_FIGURES whose two curve forms differ visibly (form_gaps,
+    against each figure's scale: the base rent bill over the horizon for money, the base rent
+    for prices, the base homes for quantities), for every row at once; () where the other form
+    has no answer."""
+    scale_of = {"discounted_deadweight_loss": rent_bills, "final_consumer_price": batch.price}
+    scale_of["peak_shortage"] = batch.quantity
+    s_of = rows.scenario
+    gaps = form_gaps(
+        summary[:, [here for _, here, _ in _FORM_FIGURES]],
+        summary[:, [there for _, _, there in _FORM_FIGURES]],
+        np.stack([scale_of[key][s_of] for key, _, _ in _FORM_FIGURES], axis=1),
+    )
+    gaps &= other_ok[:, None]
+    return [
+        tuple(f for f, differs in zip(_FORM_FIGURES, row, strict=True) if differs) for row in gaps.tolist()
+    ]
+
+
 def _rationing_refused_in_other_form(batch: ScenarioBatch, rows: PolicyRows, ceiling) -> np.ndarray:
     """(R,) True for a ceiling row of a linear scenario under random rationing whose demand has
     |eta| <= 1: the constant-elasticity form refuses such a request (MODEL.md 11)."""
@@ -309,14 +352,49 @@ def _rationing_refused_in_other_form(batch: ScenarioBatch, rows: PolicyRows, cei
     )
 
 
+#: Scenarios solved in one pass when a list is long enough to pipeline (solve_scenarios).
+PIPELINE_CHUNK = 256
+
+
 def solve_scenarios(
     scenarios: Sequence[Scenario], as_lists: bool = False
 ) -> list[ScenarioResult | EngineError]:
-    """Every scenario's paths in one vectorised pass; errors are returned, not raised.
+    """Every scenario's paths, vectorised; errors are returned, not raised.
 
     as_lists=True gives each series as a Python list (converted for the whole batch at once,
     far faster than array by array) instead of a numpy view.
+
+    A list of more than PIPELINE_CHUNK scenarios is solved in chunks of that many, in a
+    pipeline: while this thread slices chunk k into answers (Python, holding the GIL), a second
+    thread runs chunk k + 1's compiled period pass (run_period_pass: one kernel call, which
+    releases the GIL; everything else stays on this thread, so the second thread waits for the
+    GIL only to enter and leave it). Each scenario's numbers are its own whatever else shares
+    its pass, so the answers are the same bytes as from one pass; the chunks' arrays are
+    smaller, too.
     """
+    if len(scenarios) <= PIPELINE_CHUNK:
+        return _solve_chunk(scenarios, as_lists)
+    chunks = [scenarios[k : k + PIPELINE_CHUNK] for k in range(0, len(scenarios), PIPELINE_CHUNK)]
+    out: list[ScenarioResult | EngineError] = []
+    with ThreadPoolExecutor(1, thread_name_prefix="shockpath-solve") as period_passes:
+
+        def start(chunk: Sequence[Scenario]):
+            batch, rows = pack(chunk)
+            pending = start_solve(batch, rows, reported_series(batch, rows))
+            return chunk, pending, period_passes.submit(run_period_pass, pending)
+
+        following = start(chunks[0])
+        for k in range(len(chunks)):
+            chunk, pending, period_pass = following
+            if k + 1 < len(chunks):
+                following = start(chunks[k + 1])  # its pass queued behind chunk k's
+            arrays = finish_solve(pending, period_pass.result())
+            out += assemble(chunk, pending.batch, pending.rows, arrays, as_lists)
+    return out
+
+
+def _solve_chunk(scenarios: Sequence[Scenario], as_lists: bool) -> list[ScenarioResult | EngineError]:
+    """pack, solve and assemble in one pass."""
     if not scenarios:
         return []
     batch, rows = pack(scenarios)
@@ -426,10 +504,11 @@ def assemble(
     refused = _rationing_refused_in_other_form(batch, rows, ceiling)
     other_ok = _other_form_answers(batch, rows, arrays, refused)[rows.scenario]
     other_refused = any_per_scenario(refused, rows.scenario, batch.size)
-    code = SUMMARY_INDEX
-    # Positions looked up once per batch, not per row: (name, series position; -1 for binding).
-    # (Series the batch did not keep, as reported_series decides, are never read: an empty plan.)
-    series_plan = tuple((name, position.get(name, -1)) for name in SERIES)
+    # The base rent bill over the horizon: the scale of money figures (what is rounding).
+    rent_bills = batch.price * batch.quantity * batch.payments_per_period * (batch.horizon + 1)
+    form_gap = _form_gaps(arrays.summary, rows, batch, rent_bills, other_ok)
+    if tuple(arrays.series_names[: len(_LEADING_SERIES)]) != _LEADING_SERIES:
+        raise ValueError("assemble reads the series reported_series keeps first, in its order")
     coverage_plan = _plan(COVERAGE_SERIES, position)
     stock_plan = _plan(STOCK_SERIES, position)
     conversion_plan = _plan(CONVERSION_SERIES, position)
@@ -437,9 +516,12 @@ def assemble(
     vs_plan = (
         tuple((key, j) for key, (_, j) in zip(VS_FREE_PATH_SERIES, vs_kept, strict=True)) if vs_kept else ()
     )
-    group_plan = _plan(DISTRIBUTION_GROUPS, position)
     at = SUMMARY_AT
-    vs_totals_plan = tuple((key, code[name]) for key, name in VS_FREE_PATH_TOTALS.items())
+    vs_totals_plan = tuple((key, SUMMARY_INDEX[name]) for key, name in VS_FREE_PATH_TOTALS.items())
+    # Per-row flags as Python values, read once each below (a numpy scalar costs more to index).
+    is_ceiling_row, partial_row, exempt_row = ceiling.tolist(), partial.tolist(), exempt.tolist()
+    covers_part = (rows.coverage < 1.0).tolist()
+    other_ok_row = other_ok.tolist()
     results: list[ScenarioResult | EngineError] = []
     for i, scenario in enumerate(scenarios):
         row_index = range(int(starts[i]), int(starts[i + 1]))
@@ -449,6 +531,7 @@ def assemble(
         end = int(batch.horizon[i]) + 1
         paths = []
         summaries = []
+        differing: dict[str, dict[str, tuple[float, float]] | None] = {}
         ceiling_binds = partial_binds = exempt_binds = False
         inflated = bool(batch.has_inflation[i])
         stock = bool(batch.stock[i])
@@ -457,28 +540,34 @@ def assemble(
         other_form = "linear" if scenario.market.form == "constant_elasticity" else "constant_elasticity"
         for local, r in enumerate(row_index):
             policy = scenario.policies[local]
-            values = _first_periods(block[r], end)
-            path = {name: values[j] if j >= 0 else binding[r][:end] for name, j in series_plan}
+            kept = list(_first_periods(block[r], end))  # one view (or list) per kept series
+            path = dict(
+                zip(SERIES, (*kept[_BEFORE_BINDING], binding[r][:end], *kept[_AFTER_BINDING]), strict=True)
+            )
             if inflated:
                 path["nominal_consumer_price"] = nominal[r][0][:end]
                 path["nominal_producer_price"] = nominal[r][1][:end]
-            if partial[r]:
+            if partial_row[r]:
                 for name, j in coverage_plan:
-                    path[name] = values[j]
+                    path[name] = kept[j]
             vs_free_path = None
             if stock:
                 for name, j in stock_plan + conversion_plan if converting else stock_plan:
-                    path[name] = values[j]
-                vs_free_path = {key: values[j] for key, j in vs_plan}
-            groups = None if random else {name: values[j] for name, j in group_plan}
+                    path[name] = kept[j]
+                vs_free_path = {key: kept[j] for key, j in vs_plan}
+            groups = None if random else dict(zip(DISTRIBUTION_GROUPS, kept[_GROUP_SERIES], strict=True))
             paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
             peak_period = int(f[at.peak_shortage_period])
             binding_periods = int(f[at.binding_periods])
-            bites = binding_periods > 0
-            ceiling_binds = ceiling_binds or (bites and bool(ceiling[r]))
-            partial_binds = partial_binds or (bites and bool(partial[r] and rows.coverage[r] < 1.0))
-            exempt_binds = exempt_binds or (bites and bool(exempt[r]))
+            if binding_periods > 0:
+                ceiling_binds = ceiling_binds or is_ceiling_row[r]
+                partial_binds = partial_binds or (partial_row[r] and covers_part[r])
+                exempt_binds = exempt_binds or exempt_row[r]
+            if other_ok_row[r]:
+                differing[policy.name] = {key: (f[here], f[there]) for key, here, there in form_gap[r]}
+            else:
+                differing[policy.name] = None
             summaries.append(
                 PolicySummary(
                     name=policy.name,
@@ -493,7 +582,9 @@ def assemble(
                     total_consumer_surplus_change=f[at.total_consumer_surplus_change],
                     total_producer_surplus_change=f[at.total_producer_surplus_change],
                     total_government_revenue=f[at.total_government_revenue],
-                    distribution_totals=None if random else {name: f[k] for name, k in _GROUP_TOTAL_FIGURES},
+                    distribution_totals=None
+                    if random
+                    else dict(zip(GROUP_NAMES, f[_GROUP_TOTALS], strict=True)),
                     final_homes_below_free_path=f[at.final_homes_below_free_path] if stock else None,
                     peak_homes_below_free_path=f[at.peak_homes_below_free_path] if stock else None,
                     vs_free_path_totals={key: f[k] for key, k in vs_totals_plan} if stock else None,
@@ -505,11 +596,11 @@ def assemble(
                         "final_consumer_price": f[at.other_final_consumer_price],
                         "peak_shortage": f[at.other_peak_shortage],
                     }
-                    if other_ok[r]
+                    if other_ok_row[r]
                     else None,
                     distribution_totals_discounted=None
                     if random
-                    else {name: f[k] for name, k in _GROUP_DISCOUNTED_FIGURES},
+                    else dict(zip(GROUP_NAMES, f[_GROUP_DISCOUNTED], strict=True)),
                 )
             )
         rf = {
@@ -530,8 +621,7 @@ def assemble(
             else ({}, [])
         )
         unlike_free_path = set(more_homes) | set(unbound_changed)
-        # The base rent bill over the horizon: the scale of money figures (what is rounding).
-        rent_bill = float(batch.price[i] * batch.quantity[i] * batch.payments_per_period[i] * end)
+        rent_bill = float(rent_bills[i])
         cautions = scenario_cautions(
             form=scenario.market.form,
             ceiling_binds=ceiling_binds,
@@ -544,12 +634,7 @@ def assemble(
             inflation=inflated,
             stock=stock,
             partial_binds=partial_binds,
-            other_form={
-                s.name: None
-                if s.other_form is None
-                else {key: (getattr(s, key), s.other_form[key]) for key in OTHER_FORM_FIGURES}
-                for s in summaries
-            },
+            other_form=differing,
             shortage=any(s.peak_shortage > 0.0 for s in summaries),
             lifted_ceilings=[
                 p.name
@@ -594,11 +679,6 @@ def assemble(
             conversion_rate=float(conversion[i]),
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),
-            figure_scales={
-                "discounted_deadweight_loss": rent_bill,
-                "final_consumer_price": float(batch.price[i]),
-                "peak_shortage": float(batch.quantity[i]),
-            },
         )
         results.append(
             ScenarioResult(

@@ -12,6 +12,7 @@ from service.engine.cautions import (
     FORM_GAP,
     GENERAL_CAUTION,
     MISALLOCATION_SHARE,
+    form_gaps,
     misallocation_shares,
     scenario_cautions,
 )
@@ -24,9 +25,7 @@ QUIET = {
     "ceiling_binds": False,
     "random_rationing": False,
     "never_binding": [],
-    "other_form": {
-        "free": {"discounted_deadweight_loss": (0.0, 0.0), "final_consumer_price": (1100.0, 1101.0)}
-    },
+    "other_form": {"free": {}},  # the other form has an answer, and no figure differs
 }
 
 #: Words that mark each caution (and only it).
@@ -195,19 +194,40 @@ def test_a_misallocation_loss_above_a_quarter_of_the_rent_bill_is_cautioned(shar
 # --- the other curve form replaces the shock-size caution (MODEL.md 20) ----------------------------
 
 
-def test_the_other_form_names_each_policy_and_figure_that_differ_by_more_than_a_tenth_of_the_larger():
+def test_two_forms_differ_when_they_differ_by_more_than_a_tenth_of_the_larger():
+    here, there, expected = np.array(
+        [
+            (1.0e6, 1.6e6, True),  # 37.5 % of the larger
+            (500.0, 560.0, True),  # 10.7 %
+            (-500.0, -560.0, True),  # signs do not matter
+            (2.0e6, 2.2e6, False),  # 9.1 %: agree
+            (1100.0, 1000.0, False),  # exactly 10 % of the larger: agree
+            (100.0, 100.0 * (1 + FORM_GAP) - 1e-6, False),  # just inside
+            (0.0, 0.0, False),
+            (0.0, 1.0, True),  # all of the larger
+        ]
+    ).T
+    assert form_gaps(here, there, np.zeros_like(here)).tolist() == expected.astype(bool).tolist()
+
+
+def test_two_values_within_rounding_of_zero_against_their_scale_agree():
+    """NEGLIGIBLE of the figure's scale (the rent bill, the base rent, the base homes): a loss
+    of 3e-9 against 4e-8 in a market whose rent bill is 1e9 is rounding, not a 90 % gap."""
+    here, there = np.array([3e-9, 3e-9]), np.array([4e-8, 4e-8])
+    assert form_gaps(here, there, np.array([1e9, 1.0])).tolist() == [False, True]
+
+
+def test_non_finite_figures_never_differ():
+    here = np.array([np.inf, np.nan, np.inf, 1.0])
+    there = np.array([np.inf, 1.0, 1.0, np.nan])
+    assert not form_gaps(here, there, np.ones(4)).any()
+
+
+def test_the_other_form_names_each_policy_and_figure_that_differs():
     other_form = {
-        "free": {"discounted_deadweight_loss": (0.0, 0.0), "final_consumer_price": (1200.0, 1250.0)},
-        "freeze": {
-            "discounted_deadweight_loss": (1.0e6, 1.6e6),  # 37.5 % of the larger
-            "final_consumer_price": (1000.0, 1000.0),
-            "peak_shortage": (500.0, 560.0),  # 10.7 %
-        },
-        "cap": {
-            "discounted_deadweight_loss": (2.0e6, 2.2e6),  # 9.1 %: agree
-            "final_consumer_price": (1100.0, 1000.0),  # exactly 10 % of the larger: agree
-            "peak_shortage": (0.0, 0.0),
-        },
+        "free": {},
+        "freeze": {"discounted_deadweight_loss": (1.0e6, 1.6e6), "peak_shortage": (500.0, 560.0)},
+        "cap": {},
     }
     cautions = _cautions(other_form=other_form)
     assert _present(cautions) == {"other form"}
@@ -216,6 +236,34 @@ def test_the_other_form_names_each_policy_and_figure_that_differ_by_more_than_a_
     assert "'freeze' discounted deadweight loss (1,000,000 here, 1,600,000 there)" in text
     assert "'freeze' peak shortage (500 here, 560 there)" in text
     assert "'cap'" not in text and "'free'" not in text and "final consumer price" not in text
+
+
+def test_the_answers_name_the_figures_their_two_forms_give_visibly_apart():
+    """Through the whole engine, on every demo: the caution names exactly the figures whose
+    summary other_form values differ by more than FORM_GAP of the larger."""
+    from service import simulate
+    from service.examples import example_request, examples
+
+    named_and_not = {True: 0, False: 0}
+    for name, example in examples().items():
+        if example.get("endpoint", "/v1/paths") != "/v1/paths":
+            continue
+        body = simulate(example_request(name))
+        text = " ".join(c for c in body["cautions"] if MARKS["other form"] in c)
+        for summary in body["summary"]:
+            if summary["other_form"] is None:
+                continue
+            for key, words in (
+                ("discounted_deadweight_loss", "discounted deadweight loss"),
+                ("final_consumer_price", "final consumer price"),
+                ("peak_shortage", "peak shortage"),
+            ):
+                here, there = summary[key], summary["other_form"][key]
+                larger = max(abs(here), abs(there))
+                named = f"'{summary['name']}' {words} (" in text
+                assert named == (abs(here - there) > FORM_GAP * larger and larger > 1e-6), (name, key)
+                named_and_not[named] += 1
+    assert named_and_not[True] > 0 and named_and_not[False] > 0, named_and_not
 
 
 def test_the_other_form_without_an_answer_is_named():
@@ -248,8 +296,7 @@ def test_the_vouchers_demo_is_told_why_the_other_form_has_no_answer():
 
 
 def test_forms_that_agree_give_no_form_caution():
-    agree = {"p": {"discounted_deadweight_loss": (100.0, 100.0 * (1 + FORM_GAP) - 1e-6)}}
-    assert _present(_cautions(other_form=agree)) == set()
+    assert _present(_cautions(other_form={"p": {}, "q": {}})) == set()
 
 
 def test_every_caution_under_efficient_rationing_avoids_the_words_random_rationing():

@@ -73,3 +73,43 @@ def test_a_ceiling_that_fails_as_cost_shocks_compound_blames_the_linear_form_and
     assert '"form": "constant_elasticity"' in detail and "choke price" not in detail
     request["market"]["form"] = "constant_elasticity"
     assert simulate(request)["summary"][1]["final_quantity"] > 0
+
+
+def test_a_long_list_solved_in_a_pipeline_of_chunks_gives_the_bytes_of_one_pass(monkeypatch):
+    """solve_scenarios solves a list longer than PIPELINE_CHUNK in chunks, one chunk's period
+    pass on a second thread while this one slices the last: every answer and every error (in
+    its place) is what one pass over the whole list gives, across chunks of other horizons,
+    forms, schedules and failures."""
+    import copy
+
+    import orjson
+
+    from service import engine
+    from service.engine import results
+    from service.examples import example_request, examples
+    from service.simulation import load_scenario, render
+
+    requests = [
+        example_request(n)
+        for n, e in sorted(examples().items())
+        if e.get("endpoint", "/v1/paths") == "/v1/paths"
+    ]
+    failing = validation_base()
+    failing["policies"].append({"name": "huge levy", "kind": "unit_tax", "amount": 400.0, "start": 3})
+    short = copy.deepcopy(failing)
+    short["horizon"] = 2  # the levy starts after the horizon: an answer, over three periods
+    scenarios = [load_scenario(r) for r in [*requests, failing, short, *requests[::-1], failing, short]]
+
+    def answers(solved):
+        return [
+            repr(s)
+            if isinstance(s, engine.EngineError)
+            else orjson.dumps(render(sc, s, ""), option=orjson.OPT_SERIALIZE_NUMPY)
+            for sc, s in zip(scenarios, solved, strict=True)
+        ]
+
+    one_pass = answers(results._solve_chunk(scenarios, as_lists=False))
+    monkeypatch.setattr(results, "PIPELINE_CHUNK", 3)
+    assert answers(engine.solve_scenarios(scenarios)) == one_pass
+    assert answers(engine.solve_scenarios(scenarios, as_lists=True)) == one_pass
+    assert sum(a.startswith("InfeasiblePolicyError") for a in one_pass if isinstance(a, str)) == 2
