@@ -317,6 +317,10 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
 #: Per figure compared between the curve forms (OTHER_FORM_FIGURES): its name and its summary
 #: positions in this form and in the other one.
 _FORM_FIGURES = tuple((key, SUMMARY_INDEX[key], SUMMARY_INDEX["other_" + key]) for key in OTHER_FORM_FIGURES)
+_FORM_HERE = np.array([here for _, here, _ in _FORM_FIGURES])
+_FORM_THERE = np.array([there for _, _, there in _FORM_FIGURES])
+#: What each of them is measured against: money summed, rent, homes.
+_FORM_SCALES = ("rent_bill", "price", "quantity")
 
 
 def _form_gaps(
@@ -326,13 +330,11 @@ def _form_gaps(
     against each figure's scale: the base rent bill over the horizon for money, the base rent
     for prices, the base homes for quantities), for every row at once; () where the other form
     has no answer."""
-    scale_of = {"discounted_deadweight_loss": rent_bills, "final_consumer_price": batch.price}
-    scale_of["peak_shortage"] = batch.quantity
-    s_of = rows.scenario
+    scale = {"rent_bill": rent_bills, "price": batch.price, "quantity": batch.quantity}
     gaps = form_gaps(
-        summary[:, [here for _, here, _ in _FORM_FIGURES]],
-        summary[:, [there for _, _, there in _FORM_FIGURES]],
-        np.stack([scale_of[key][s_of] for key, _, _ in _FORM_FIGURES], axis=1),
+        summary.take(_FORM_HERE, axis=1),
+        summary.take(_FORM_THERE, axis=1),
+        np.column_stack([scale[name] for name in _FORM_SCALES])[rows.scenario],
     )
     gaps &= other_ok[:, None]
     return [
