@@ -20,6 +20,7 @@ import numpy as np
 __all__ = [
     "FORM_GAP",
     "GENERAL_CAUTION",
+    "INELASTIC_DEMAND",
     "MISALLOCATION_SHARE",
     "OTHER_FORM_FIGURES",
     "form_gaps",
@@ -44,6 +45,12 @@ MISALLOCATION_SHARE = 0.25
 #: (a range from memory of Sims 2007 and Diamond, McQuade & Qian 2019, not read from the papers);
 #: this is more than three times that.
 HIGH_CONVERSION = 0.1
+#: A demand price elasticity closer to zero than this (|eta| below it) is cautioned as far from
+#: published estimates for rental housing: most lie between about -0.2 and -1 (from memory of
+#: the surveys of Mayo 1981, "Theory and estimation in the economics of housing demand", Journal
+#: of Urban Economics 10, and Hanushek & Quigley 1980, not read from the papers); this is a
+#: quarter of the lowest of them.
+INELASTIC_DEMAND = 0.05
 #: The figures compared between the two curve forms, with the words a reader sees.
 OTHER_FORM_FIGURES = {
     "discounted_deadweight_loss": "discounted deadweight loss",
@@ -162,6 +169,7 @@ def scenario_cautions(
     exempt_binds: bool = False,
     conversion: bool = False,
     conversion_rate: float = 0.0,
+    demand_elasticity: float | None = None,
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
     other_form_refused: bool = False,
@@ -201,6 +209,8 @@ def scenario_cautions(
         an upper bound (MODEL.md 18).
     conversion_rate: the request's conversion rate kappa; with `conversion`, a rate above
         HIGH_CONVERSION is named as far above published estimates.
+    demand_elasticity: the demand's price elasticity eta (None: not known here); |eta| below
+        INELASTIC_DEMAND is named as far from published estimates, with what it inflates.
     other_form_refused: the other form (constant elasticity, for a linear request) refuses the
         whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 11); the
         caution says so instead of naming every policy as without an answer.
@@ -231,6 +241,14 @@ def scenario_cautions(
     head = _other_form_caution(form, other_form, other_form_refused)
     if head is not None:
         out.append(head)
+    if demand_elasticity is not None and abs(demand_elasticity) < INELASTIC_DEMAND:
+        out.append(
+            f"The demand price elasticity given, {demand_elasticity:g}, is far closer to zero than "
+            "published estimates for rented homes (most between about -0.2 and -1). With demand "
+            "this unresponsive, the figures that rest on what households would pay for homes they "
+            "cannot get (the deadweight loss, and the losses of households priced out) become very "
+            "large and very uncertain; check the elasticity against studies of this market."
+        )
     if ceiling_binds and not random_rationing:
         out.append(
             "Binding price ceilings are evaluated with efficient rationing (units go to the buyers "

@@ -679,6 +679,7 @@ def assemble(
             and any(s.kind in ("price_floor", "quantity_cap") and s.binding_periods > 0 for s in summaries),
             conversion=converting and any((s.total_converted_homes or 0.0) > 0.0 for s in summaries),
             conversion_rate=float(conversion[i]),
+            demand_elasticity=scenario.market.demand_elasticity,
             short_run_elasticity=float(batch.short_run_elasticity[i]),
             impact_elasticity=float(batch.impact_elasticity[i]),
         )

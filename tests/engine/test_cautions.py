@@ -11,6 +11,7 @@ import pytest
 from service.engine.cautions import (
     FORM_GAP,
     GENERAL_CAUTION,
+    INELASTIC_DEMAND,
     MISALLOCATION_SHARE,
     form_gaps,
     misallocation_shares,
@@ -38,6 +39,7 @@ MARKS = {
     "misallocation": "top of the demand curve",
     "uncontrolled rents": "Fallis & Smith 1984",
     "conversion": "upper bound",
+    "inelastic demand": "far closer to zero than published estimates",
     "high conversion": "more than three times the largest",
     "no distribution": "is not reported under random rationing",
     "inflation": "nominal rules",
@@ -73,6 +75,7 @@ EVERY_CONDITION = {
     "lossless_ceilings": ["exempt cap"],
     "more_homes": {"exempt cap": (259.0, 10)},
     "unbound_changed": ["loose cap"],
+    "demand_elasticity": -0.01,
 }
 
 
@@ -127,6 +130,10 @@ def test_a_quiet_scenario_gets_only_the_general_cautions():
         ({"lossless_ceilings": ["cap"], "stock": True}, {"stock", "lossless ceiling"}),
         ({"more_homes": {"cap": (12.0, 3)}}, set()),
         ({"more_homes": {"cap": (12.0, 3)}, "stock": True}, {"stock", "more homes"}),
+        ({"demand_elasticity": -0.01}, {"inelastic demand"}),
+        ({"demand_elasticity": -1e-12}, {"inelastic demand"}),
+        ({"demand_elasticity": -INELASTIC_DEMAND}, set()),
+        ({"demand_elasticity": -0.3}, set()),
         ({"unbound_changed": ["cap"]}, set()),
         ({"unbound_changed": ["cap"], "stock": True}, {"stock", "unbound changed"}),
     ],
@@ -482,3 +489,23 @@ def test_homes_standing_empty_under_a_floor_at_the_horizon_are_not_called_missin
     assert summary["final_homes_below_free_path"] > 1000.0
     assert summary["final_vacant_homes"] == pytest.approx(summary["final_homes_below_free_path"], rel=1e-12)
     assert not any(MARKS["held to horizon"] in c for c in body["cautions"])
+
+
+def test_demand_near_vertical_is_named_where_its_losses_explode():
+    """A linear freeze with eta = -1e-12 has an answer (a discounted loss near 1e20, the model's
+    number for demand that barely responds): the answer names the elasticity as far from
+    published estimates; at a published value (-0.4) it does not."""
+    from service import simulate
+
+    from .builders import validation_base
+
+    request = validation_base()
+    request["policies"].append({"name": "freeze", "kind": "price_ceiling", "level": "base"})
+    request["shocks"] = [{"shifter": "income", "profile": "step", "change": 0.1, "start": 1}]
+    request["market"]["demand"]["price_elasticity"] = -1e-12
+    body = simulate(request)
+    (text,) = [c for c in body["cautions"] if MARKS["inelastic demand"] in c]
+    assert "-1e-12" in text
+    assert body["summary"][1]["discounted_deadweight_loss"] > 1e15
+    request["market"]["demand"]["price_elasticity"] = -0.4
+    assert not any(MARKS["inelastic demand"] in c for c in simulate(request)["cautions"])
