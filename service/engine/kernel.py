@@ -1539,12 +1539,13 @@ def _emit(cells, last, target):
 
 
 @njit(**_JIT)
-def _flush_band(stage, staged, banded, slots, band_out, first_draw, last):
-    """The first `staged` rows of the stage (draws first_draw, first_draw + 1, ...) into the
-    band target: band_out[slots[j], t, first_draw + k] = stage[k, s, t] for the s-th banded
-    cell j, periods 0..last."""
+def _flush_band(stage, staged, x, policy, first_draw, last):
+    """The first `staged` rows of the stage (draws first_draw, first_draw + 1, ...), all of
+    `policy`, into the band target of the outputs `x`: band_out[band_slot[policy, j], t,
+    first_draw + k] = stage[k, s, t] for the policy's s-th banded cell j, periods 0..last."""
+    banded, slots = x.banded[policy, : x.counts[policy]], x.band_slot[policy]
     for s in range(banded.shape[0]):
-        row = band_out[slots[banded[s]]]
+        row = x.band_out[slots[banded[s]]]
         for t in range(last + 1):
             runs = row[t, first_draw : first_draw + staged]
             for k in range(staged):
@@ -1570,7 +1571,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
     """Every row in its scenario's form; with `other`, also in the other form (summary figures
     only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
     kept, column, out, flags, summary = x.kept, x.column, x.out, x.flags, x.summary
-    band_rows, band_slot, band_out = x.band_rows, x.band_slot, x.band_out
+    band_rows = x.band_rows
     periods = m.eps.shape[1]
     cells = np.empty((periods, len(SERIES_NAMES)))
     nothing = np.empty(0, dtype=np.int64)
@@ -1588,10 +1589,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
         if band_rows > 0:
             policy = r // band_rows
             if staged > 0 and (staged == BAND_STAGE or policy != staged_policy or last != staged_last):
-                banded = x.banded[staged_policy, : x.counts[staged_policy]]
-                _flush_band(
-                    stage, staged, banded, band_slot[staged_policy], band_out, staged_first, staged_last
-                )
+                _flush_band(stage, staged, x, staged_policy, staged_first, staged_last)
                 staged = 0
             if staged == 0:
                 staged_policy, staged_first, staged_last = policy, x.band_start + r % band_rows, last
@@ -1616,8 +1614,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
             summary[r, _T.other_peak_shortage] = scratch_total[_T.peak_shortage]
             summary[r, _T.other_feasible] = 1.0 if feasible else 0.0
     if staged > 0:
-        banded = x.banded[staged_policy, : x.counts[staged_policy]]
-        _flush_band(stage, staged, banded, band_slot[staged_policy], band_out, staged_first, staged_last)
+        _flush_band(stage, staged, x, staged_policy, staged_first, staged_last)
 
 
 def policy_paths(
