@@ -42,6 +42,7 @@ __all__ = [
     "render_paths",
     "render_renters",
     "render_sensitivity",
+    "renters_figure",
     "sensitivity_figure",
 ]
 
@@ -955,7 +956,15 @@ def render_renters(
     one bar per period coloured by the rule's phase, with the sums during and after the rule in
     the panel's title. 422 (pointer /adjustment) where the answer carries no such series (it
     needs the stock schedule)."""
+    return _save(renters_figure(body, request, units, form, title), fmt)
+
+
+@_plain_text
+def renters_figure(body: dict, request: dict, units: dict, form: str, title: str | None = None):
+    """The Figure of `render_renters`: panel titles wrapped to the panel's width (a long policy
+    name never runs into the next panel or off the figure), whole periods on the period axis."""
     from matplotlib.patches import Patch
+    from matplotlib.ticker import MaxNLocator
 
     rows = renters_phases(request, body)
     if not rows:
@@ -986,7 +995,11 @@ def render_renters(
         after = sum(v for v, k in zip(values, phases, strict=True) if k == 2)
         ended = 2 in phases  # a rule in force to the horizon has no years after it here
         after_words = f"after {_signed(after)}" if ended else "in force to the end"
-        ax.set_title(f"{name}: during {_signed(during)}, {after_words}", fontsize=11, loc="left")
+        width = {1: 90, 2: 60}.get(cols, 36)  # characters of a title line that fit above a panel
+        ax.set_title(
+            textwrap.fill(f"{name}: during {_signed(during)}, {after_words}", width), fontsize=11, loc="left"
+        )
+        ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # periods are whole numbers
         ax.grid(True, axis="y", color="#dddddd", linewidth=0.6)
         ax.set_axisbelow(True)
         _compact_axis(ax.yaxis)
@@ -1004,4 +1017,4 @@ def render_renters(
     ]
     handles = [Patch(facecolor=c, hatch=h, edgecolor="white", label=lab) for lab, c, h in PHASES]
     _frame(figure, heading, "\n".join(lines), 1, handles=handles, ncols=3)
-    return _save(figure, fmt)
+    return figure

@@ -45,6 +45,9 @@ const escape = (k) => String(k).replace(/~/g, "~0").replace(/\//g, "~1");
 const fmt = new Intl.NumberFormat("en", { maximumFractionDigits: 0 });
 const fmt2 = new Intl.NumberFormat("en", { maximumFractionDigits: 2 });
 const fmt3 = new Intl.NumberFormat("en", { maximumSignificantDigits: 3 });
+const fmt4 = new Intl.NumberFormat("en", { maximumSignificantDigits: 4 });
+const wholeOr = (digits) => new Intl.NumberFormat("en", { maximumFractionDigits: digits });
+const LARGE = [[1e12, "trillion"], [1e9, "billion"], [1e6, "million"]];
 
 // Results smaller than this share of their scale are the rounding of a difference, not a
 // finding: shown as about 0 (the downloads keep every digit). The engine's rule (NEGLIGIBLE in
@@ -52,12 +55,22 @@ const fmt3 = new Intl.NumberFormat("en", { maximumSignificantDigits: 3 });
 // the base rent bill for money; `scale` 1 (no scale) for the rest.
 const ROUNDING = 1e-9;
 
+// A figure measured against a scale (rents, homes, money) is shown to the precision its model
+// estimate has, not to the last digit: from a million in words with four figures (459.3
+// million, not 459,333,814), below that to about a thousandth of its scale (48 homes, not
+// 47.98; a rent of 12.35 on a base rent of 12.50). The downloads keep every digit.
 function number(v, scale = 1) {
   if (v == null) return "\u2013";
   if (typeof v !== "number") return String(v).replace(/_/g, " ");  // a choice: constant_elasticity
   if (v === 0) return "0";
   const a = Math.abs(v);
-  if (a < ROUNDING * (Number.isFinite(scale) && scale > 0 ? scale : 1)) return "\u2248 0";
+  const scaled = Number.isFinite(scale) && scale > 0;
+  if (a < ROUNDING * (scaled ? scale : 1)) return "\u2248 0";
+  if (scaled && scale !== 1 && a >= 1) {
+    const large = LARGE.find(([size]) => a >= size);
+    if (large) return `${fmt4.format(v / large[0])} ${large[1]}`;
+    return wholeOr(Math.max(0, Math.min(3, 3 - Math.floor(Math.log10(scale))))).format(v);
+  }
   return a >= 100 ? fmt.format(v) : a >= 1 ? fmt2.format(v) : fmt3.format(v);
 }
 const signed = (v, scale = 1) => (number(v, scale).startsWith("\u2248") ? number(v, scale) : v > 0 ? `+${number(v, scale)}` : number(v, scale));
@@ -641,7 +654,8 @@ function markField(pointer, message, n) {
 
 function showProblem(problem) {
   const rest = [];
-  (problem.errors || [{ pointer: "", message: problem.detail }]).forEach((err, n) => {
+  const errors = problem.errors || [{ pointer: "", message: problem.detail }];
+  errors.forEach((err, n) => {
     if (!markField(err.pointer, err.message, n)) rest.push(`${err.pointer || "/"}: ${err.message}`);
   });
   if (rest.length) {
@@ -651,7 +665,12 @@ function showProblem(problem) {
   }
   const first = document.querySelector("[aria-invalid='true']");
   if (first) first.focus();
-  $("status").textContent = problem.status === 401 ? `Not run. ${NEEDS_KEY}` : `Not run: ${problem.detail}`;
+  // Where every message stands next to its field, the status says so in words (the service's
+  // detail names fields by their place in the request: "/horizon: Must be ...").
+  const marked = errors.length - rest.length;
+  $("status").textContent = problem.status === 401 ? `Not run. ${NEEDS_KEY}`
+    : marked && !rest.length ? `Not run: ${marked === 1 ? "one value needs" : `${marked} values need`} a change, each marked next to its field.`
+      : `Not run: ${problem.detail}`;
 }
 
 // --- results -------------------------------------------------------------------------------
