@@ -78,11 +78,27 @@ def misallocation_shares(
 
 
 def _percent(x: float) -> str:
-    return f"{100.0 * x:.1f} %"
+    """A share as a reader says it: 10 %, 37.5 %, 0.123 % (three significant figures)."""
+    return f"{100.0 * x:.3g} %"
+
+
+#: Large figures in words (the page and the briefing write them so too).
+_LARGE = ((1e12, "trillion"), (1e9, "billion"), (1e6, "million"))
 
 
 def _figure(x: float) -> str:
+    """A figure to the precision an estimate has: four significant figures, from a million in
+    words (314.2 million, not 314,215,561)."""
+    for size, word in _LARGE:
+        if abs(x) >= size:
+            return f"{x / size:.4g} {word}"
     return f"{x:,.4g}" if abs(x) < 1e4 else f"{x:,.0f}"
+
+
+def _homes(x: float) -> str:
+    """A number of homes, whole from half a home (292.5 is a model's number, not a count: 292);
+    below that two significant figures (0.31)."""
+    return f"{x:,.0f}" if abs(x) >= 0.5 else f"{x:.2g}"
 
 
 #: Figures smaller than this share of their scale (the base rent bill over the horizon for money,
@@ -351,7 +367,7 @@ def scenario_cautions(
         )
     held = dict(held_to_horizon or {}) if stock else {}
     if held:
-        which = ", ".join(f"'{name}' ({_figure(homes)} homes fewer)" for name, homes in held.items())
+        which = ", ".join(f"'{name}' ({_homes(homes)} homes fewer)" for name, homes in held.items())
         out.append(
             f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
             "The years after the horizon are not counted: when such a rule ends, its missing homes "
@@ -386,7 +402,7 @@ def scenario_cautions(
     extra = dict(more_homes or {}) if stock else {}
     if extra:
         which = ", ".join(
-            f"'{name}' (up to {_figure(homes)} more, in period {period})"
+            f"'{name}' (up to {_homes(homes)} more, in period {period})"
             for name, (homes, period) in extra.items()
         )
         out.append(

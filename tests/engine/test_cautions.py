@@ -240,7 +240,7 @@ def test_the_other_form_names_each_policy_and_figure_that_differs():
     assert _present(cautions) == {"other form"}
     (text,) = [c for c in cautions if MARKS["other form"] in c]
     assert "constant-elasticity" in text
-    assert "'freeze' discounted deadweight loss (1,000,000 here, 1,600,000 there)" in text
+    assert "'freeze' discounted deadweight loss (1 million here, 1.6 million there)" in text
     assert "'freeze' peak shortage (500 here, 560 there)" in text
     assert "'cap'" not in text and "'free'" not in text and "final consumer price" not in text
 
@@ -464,9 +464,7 @@ def test_a_ceiling_that_never_binds_but_keeps_more_homes_is_not_said_to_equal_th
     assert round(-below.min()) == 259 and int(below.argmin()) == 10
     assert not any(MARKS["never binds"] in c for c in exempt["cautions"])
     (text,) = [c for c in exempt["cautions"] if MARKS["more homes"] in c]
-    from service.engine.cautions import _figure
-
-    assert f"'loose' (up to {_figure(-below.min())} more, in period {int(below.argmin())})" in text
+    assert f"'loose' (up to 259 more, in period {int(below.argmin())})" in text  # whole homes
     # New homes covered, the whole market controlled: no groups to diverge, and it says so.
     covered = simulate(_shrinking_market({"name": "loose", "kind": "price_ceiling", "level": 1e5}))
     assert np.array(covered["paths"][1]["homes_below_free_path"]).tolist() == [0.0] * 11
@@ -509,3 +507,32 @@ def test_demand_near_vertical_is_named_where_its_losses_explode():
     assert body["summary"][1]["discounted_deadweight_loss"] > 1e15
     request["market"]["demand"]["price_elasticity"] = -0.4
     assert not any(MARKS["inelastic demand"] in c for c in simulate(request)["cautions"])
+
+
+@pytest.mark.parametrize(
+    ("figure", "words"),
+    [
+        (314_215_561.0, "314.2 million"),
+        (-2_619_224_116.0, "-2.619 billion"),
+        (1.5e12, "1.5 trillion"),
+        (12_345.6, "12,346"),
+        (1_180.456, "1,180"),
+        (12.3456, "12.35"),
+    ],
+)
+def test_figures_in_cautions_carry_the_precision_of_an_estimate(figure, words):
+    from service.engine.cautions import _figure
+
+    assert _figure(figure) == words
+
+
+def test_shares_in_cautions_are_said_as_a_reader_says_them():
+    from service.engine.cautions import _percent
+
+    assert [_percent(x) for x in (FORM_GAP, 0.375, 0.25, 0.00123)] == ["10 %", "37.5 %", "25 %", "0.123 %"]
+
+
+def test_homes_in_cautions_are_whole():
+    held = _cautions(stock=True, held_to_horizon={"cap": 292.5, "tiny": 0.3})
+    (text,) = [c for c in held if MARKS["held to horizon"] in c]
+    assert "'cap' (292 homes fewer)" in text and "'tiny' (0.3 homes fewer)" in text
