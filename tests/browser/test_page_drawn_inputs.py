@@ -63,3 +63,26 @@ def test_a_drawn_fraction_stays_at_most_one_and_known_again_returns_the_central_
     assert drawn == {"distribution": "uniform", "low": 0.63, "high": 1}  # 0.9 + 30 % capped at 1
     page.select_option(f"select[data-action='uncertain:{pointer}']", "")
     assert _request(page)["policies"][2]["vacancy_decontrol"] == pytest.approx(0.815)
+
+
+def test_each_known_or_uncertain_choice_names_its_field_on_screen(page, base_url):  # noqa: F811
+    """In a narrow window the grid can put the choice under another field (at 800 px the demand
+    elasticity's sat below Inflation): its visible label says which input it is about."""
+    page.set_viewport_size({"width": 800, "height": 900})
+    _load(page, base_url, "quillbrook-rent-freeze")
+    select = page.locator("select[data-action='uncertain:/market/demand/price_elasticity']")
+    label = page.text_content(f"label[for='{select.get_attribute('id')}']")
+    words = page.text_content(
+        "label[for='"
+        + page.locator("input[data-pointer='/market/demand/price_elasticity']").get_attribute("id")
+        + "']"
+    )
+    assert label.startswith(words.split(" (")[0]) and label.endswith("known or uncertain?"), (label, words)
+    # Screen readers get the same name from the label itself.
+    assert (
+        page.evaluate(
+            "s => document.querySelector(s).labels[0].textContent",
+            "select[data-action='uncertain:/market/demand/price_elasticity']",
+        )
+        == label
+    )

@@ -311,10 +311,11 @@ function elasticityFields(pointer, value, label) {
   const select = document.createElement("select");
   select.id = `f${(uid += 1)}`;
   select.dataset.action = `uncertain:${pointer}`;
+  // The label names its field (the grid may set the choice under another field in a narrow
+  // window), in the field's words without their parenthesis; it is the select's accessible name.
   const choose = document.createElement("label");
   choose.htmlFor = select.id;
-  choose.textContent = "Known or uncertain?";
-  select.setAttribute("aria-label", `${label || inputWords(pointer).label}: known or uncertain`);
+  choose.textContent = `${(label || inputWords(pointer).label).split(" (")[0]}: known or uncertain?`;
   for (const [v, text] of [["", "known (one number)"], ["normal", "uncertain: normal"], ["uniform", "uncertain: uniform"], ["triangular", "uncertain: triangular"]]) {
     const o = document.createElement("option");
     o.value = v;
