@@ -478,9 +478,13 @@ class PriceCeilingSchema(_PolicyBase):
         load_default="covered",
         validate=validate.OneOf(NEW_HOMES),
         metadata={
-            "description": 'Schedule "stock" only: "covered" (default) if homes built after the rule '
-            'starts fall under it in the share `coverage`, "exempt" if they are never controlled '
-            "(as most recent rent laws provide; MODEL.md 17)."
+            "description": 'Schedule "stock" only (refused under any other schedule, even as "covered"): '
+            '"covered" (the default) if homes built after the rule starts fall under it in the share '
+            '`coverage`, "exempt" if they are never controlled (as most recent rent laws provide; '
+            "MODEL.md 17).",
+            # Declared, a generated client would send "covered" on every ceiling, and every
+            # ceiling under another schedule would be refused.
+            "default_in_words": True,
         },
     )
     vacancy_decontrol = Real(
@@ -784,6 +788,17 @@ class BatchScenarioSchema(PathsRequestSchema):
         metadata={
             "description": "The caller's id of the scenario, echoed in its result and CSV rows; each id "
             "once per batch (a later scenario repeating one gets a problem at its id)."
+        },
+    )
+    # Documentation only (simulate_many loads each scenario with PathsRequestSchema): a scenario
+    # without `output` follows the batch's, so it has no default of its own; a declared "full"
+    # would be sent by generated clients into summary batches, which refuse it.
+    output = fields.String(
+        validate=validate.OneOf(OUTPUTS),
+        metadata={
+            "description": "Leave it out: every scenario follows the batch's top-level `output`. A "
+            "scenario may repeat that value but not ask for another (422 for the batch at "
+            "/scenarios/i/output)."
         },
     )
 
