@@ -838,17 +838,26 @@ class BatchRequestSchema(StrictSchema):
 
 
 def policy_periods(scenarios: list[Any]) -> int:
-    """Work a batch asks for, read from the raw bodies before any validation or model work (an
-    item that is not an object asks for none: it is answered with a problem)."""
+    """Work a batch asks for, read from the raw bodies before any validation or model work.
 
-    def policies(s: Any) -> int:
-        p = s.get("policies") if isinstance(s, dict) else None
-        return len(p) if isinstance(p, list) else 0
+    Only a scenario that may be solved asks for work: one that is not an object, or whose
+    horizon is not a whole number of periods within the limit, or whose policies are not a list
+    of 1 to MAX_POLICIES, is answered with its own problem and asks for none (it once counted as
+    a horizon of MAX_HORIZON, so one mistyped horizon made the whole batch a 422)."""
 
-    def horizon(s: Any) -> int:
-        h = s.get("horizon") if isinstance(s, dict) else None
-        if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
-            return 0
-        return int(min(max(h, 0), limits.MAX_HORIZON))
+    def horizon(s: dict) -> int:
+        h = s.get("horizon")
+        if isinstance(h, bool) or not isinstance(h, (int, float)) or not 1 <= h <= limits.MAX_HORIZON:
+            return 0  # NaN is not within the range either
+        return int(h) if h == int(h) else 0
 
-    return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))
+    def policies(s: dict) -> int:
+        p = s.get("policies")
+        return len(p) if isinstance(p, list) and 1 <= len(p) <= limits.MAX_POLICIES else 0
+
+    asking = [
+        (policies(s), horizon(s)) for s in scenarios if isinstance(s, dict) and policies(s) and horizon(s)
+    ]
+    if not asking:
+        return 0
+    return sum(p for p, _ in asking) * (1 + max(h for _, h in asking))
