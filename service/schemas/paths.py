@@ -43,6 +43,7 @@ from .fields import (
 from .fields import in_range as _range
 
 __all__ = [
+    "FULL_ONLY",
     "OUTPUTS",
     "POLICY_SCHEMAS",
     "BatchRequestSchema",
@@ -655,6 +656,20 @@ def _output(**kwargs) -> fields.String:
             "at the top level, beside `scenarios`; a scenario may only repeat the batch's value.",
             **kwargs,
         },
+    )
+
+
+#: Why a request without a summary form (bands, sensitivity, the briefing) refuses "summary".
+FULL_ONLY = 'Only /v1/paths and batches answer "summary"; here it is "full".'
+
+
+def full_output() -> fields.String:
+    """`output` of a request that has no summary form: "full" alone (the default), so that the
+    document does not offer a generated client what the service refuses."""
+    return fields.String(
+        load_default=OUTPUTS[0],
+        validate=validate.OneOf(OUTPUTS[:1], error=FULL_ONLY),
+        metadata={"description": '"full" (the default) only: only /v1/paths and batches answer "summary".'},
     )
 
 

@@ -334,3 +334,19 @@ def test_a_summary_batch_takes_scenarios_with_every_documented_default_written_o
     assert answer.status_code == 200, answer.get_json()
     (result,) = answer.get_json()["results"]
     assert result["id"] == "north" and "paths" not in result and result["summary"]
+
+
+def test_bands_sensitivity_and_briefing_requests_document_full_as_their_only_output(checker, client):
+    """Only /v1/paths and batches answer a summary: the other requests' `output` lists "full"
+    alone, so a generated client's type cannot ask for what the service refuses."""
+    from service.examples import example_request
+
+    schemas = checker.document["components"]["schemas"]
+    for name in ("BandsRequest", "SensitivityRequest", "BriefingRequest", "BandsBriefingRequest"):
+        assert schemas[name]["properties"]["output"]["enum"] == ["full"], name
+    for name in ("PathsRequest", "BatchRequest"):
+        assert schemas[name]["properties"]["output"]["enum"] == ["full", "summary"], name
+    request = {**example_request("quillbrook-uncertain-elasticities"), "horizon": 3, "draws": 50}
+    for path in ("/v1/bands", "/v1/briefing"):
+        refused = client.post(path, json={**request, "output": "summary"})
+        assert refused.status_code == 422 and refused.get_json()["errors"][0]["pointer"] == "/output", path
