@@ -9,6 +9,7 @@ from __future__ import annotations
 from flask import Response, current_app, g
 
 from ..problems import ProblemError, validation_problem
+from ..schemas.paths import FULL_ONLY
 from ..uncertainty import bands, sensitivity
 from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
@@ -116,9 +117,5 @@ def post_sensitivity() -> Response:
 def full_output_only(raw):
     """Bands and sensitivity have no summary form: "output" may only be "full" (422 otherwise)."""
     if isinstance(raw, dict) and raw.get("output", "full") != "full":
-        raise ProblemError(
-            validation_problem(
-                {"output": ['Only /v1/paths and batches answer "summary"; here it is "full".']}
-            )
-        )
+        raise ProblemError(validation_problem({"output": [FULL_ONLY]}))
     return raw

@@ -13,7 +13,7 @@ from marshmallow import fields
 from .. import limits
 from .charts import UnitsSchema, default_units
 from .fields import StrictSchema, label
-from .paths import PathsRequestSchema
+from .paths import PathsRequestSchema, full_output
 from .uncertainty import BandsRequestSchema
 
 __all__ = ["OPTIONS", "BandsBriefingRequestSchema", "BriefingOptionsSchema", "BriefingRequestSchema"]
@@ -40,6 +40,7 @@ class BriefingRequestSchema(PathsRequestSchema):
     units = fields.Nested(
         UnitsSchema, metadata={"description": "Unit words for labels: currency, homes, ..."}
     )
+    output = full_output()  # a briefing is drawn from every series
 
 
 class BandsBriefingRequestSchema(BandsRequestSchema):

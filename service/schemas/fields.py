@@ -275,7 +275,17 @@ def _unions(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[st
     return {}
 
 
+def _default_in_words(self, field: fields.Field, ret: dict[str, Any], **kwargs) -> dict[str, Any]:
+    """No declared `default` for a field whose default holds only where the field may be sent
+    (metadata `default_in_words`: its description says it instead). Client generators write
+    every declared default into every object they build, so a declared default must be a value
+    the service takes wherever the object goes."""
+    if field.metadata.get("default_in_words"):
+        ret.pop("default", None)
+    return {}
+
+
 def openapi_attributes(converter) -> None:
     """Teach an apispec OpenAPIConverter the fields of this module."""
-    for func in (_exclusive_range, _dict_length, _unions):
+    for func in (_exclusive_range, _dict_length, _unions, _default_in_words):
         converter.add_attribute_function(func)

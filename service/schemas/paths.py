@@ -43,6 +43,7 @@ from .fields import (
 from .fields import in_range as _range
 
 __all__ = [
+    "FULL_ONLY",
     "OUTPUTS",
     "POLICY_SCHEMAS",
     "BatchRequestSchema",
@@ -478,9 +479,13 @@ class PriceCeilingSchema(_PolicyBase):
         load_default="covered",
         validate=validate.OneOf(NEW_HOMES),
         metadata={
-            "description": 'Schedule "stock" only: "covered" (default) if homes built after the rule '
-            'starts fall under it in the share `coverage`, "exempt" if they are never controlled '
-            "(as most recent rent laws provide; MODEL.md 17)."
+            "description": 'Schedule "stock" only (refused under any other schedule, even as "covered"): '
+            '"covered" (the default) if homes built after the rule starts fall under it in the share '
+            '`coverage`, "exempt" if they are never controlled (as most recent rent laws provide; '
+            "MODEL.md 17).",
+            # Declared, a generated client would send "covered" on every ceiling, and every
+            # ceiling under another schedule would be refused.
+            "default_in_words": True,
         },
     )
     vacancy_decontrol = Real(
@@ -654,6 +659,20 @@ def _output(**kwargs) -> fields.String:
     )
 
 
+#: Why a request without a summary form (bands, sensitivity, the briefing) refuses "summary".
+FULL_ONLY = 'Only /v1/paths and batches answer "summary"; here it is "full".'
+
+
+def full_output() -> fields.String:
+    """`output` of a request that has no summary form: "full" alone (the default), so that the
+    document does not offer a generated client what the service refuses."""
+    return fields.String(
+        load_default=OUTPUTS[0],
+        validate=validate.OneOf(OUTPUTS[:1], error=FULL_ONLY),
+        metadata={"description": '"full" (the default) only: only /v1/paths and batches answer "summary".'},
+    )
+
+
 class PathsRequestSchema(StrictSchema):
     market = fields.Nested(MarketSchema, required=True)
     shocks = fields.List(
@@ -786,6 +805,17 @@ class BatchScenarioSchema(PathsRequestSchema):
             "once per batch (a later scenario repeating one gets a problem at its id)."
         },
     )
+    # Documentation only (simulate_many loads each scenario with PathsRequestSchema): a scenario
+    # without `output` follows the batch's, so it has no default of its own; a declared "full"
+    # would be sent by generated clients into summary batches, which refuse it.
+    output = fields.String(
+        validate=validate.OneOf(OUTPUTS),
+        metadata={
+            "description": "Leave it out: every scenario follows the batch's top-level `output`. A "
+            "scenario may repeat that value but not ask for another (422 for the batch at "
+            "/scenarios/i/output)."
+        },
+    )
 
 
 class BatchRequestSchema(StrictSchema):
@@ -823,17 +853,26 @@ class BatchRequestSchema(StrictSchema):
 
 
 def policy_periods(scenarios: list[Any]) -> int:
-    """Work a batch asks for, read from the raw bodies before any validation or model work (an
-    item that is not an object asks for none: it is answered with a problem)."""
+    """Work a batch asks for, read from the raw bodies before any validation or model work.
 
-    def policies(s: Any) -> int:
-        p = s.get("policies") if isinstance(s, dict) else None
-        return len(p) if isinstance(p, list) else 0
+    Only a scenario that may be solved asks for work: one that is not an object, or whose
+    horizon is not a whole number of periods within the limit, or whose policies are not a list
+    of 1 to MAX_POLICIES, is answered with its own problem and asks for none (it once counted as
+    a horizon of MAX_HORIZON, so one mistyped horizon made the whole batch a 422)."""
 
-    def horizon(s: Any) -> int:
-        h = s.get("horizon") if isinstance(s, dict) else None
-        if isinstance(h, bool) or not isinstance(h, (int, float)) or not h == h:
-            return 0
-        return int(min(max(h, 0), limits.MAX_HORIZON))
+    def horizon(s: dict) -> int:
+        h = s.get("horizon")
+        if isinstance(h, bool) or not isinstance(h, (int, float)) or not 1 <= h <= limits.MAX_HORIZON:
+            return 0  # NaN is not within the range either
+        return int(h) if h == int(h) else 0
 
-    return sum(policies(s) for s in scenarios) * (1 + max(horizon(s) for s in scenarios))
+    def policies(s: dict) -> int:
+        p = s.get("policies")
+        return len(p) if isinstance(p, list) and 1 <= len(p) <= limits.MAX_POLICIES else 0
+
+    asking = [
+        (policies(s), horizon(s)) for s in scenarios if isinstance(s, dict) and policies(s) and horizon(s)
+    ]
+    if not asking:
+        return 0
+    return sum(p for p, _ in asking) * (1 + max(h for _, h in asking))

@@ -34,6 +34,7 @@ from .paths import (
     StockScheduleSchema,
     SupplySchema,
     build_market,
+    full_output,
     shifter_map,
 )
 from .pointers import escape
@@ -289,6 +290,7 @@ class _UncertainRequestSchema(PathsRequestSchema):
         required=True,
         validate=validate.Length(1, limits.MAX_POLICIES),
     )
+    output = full_output()
     supply_correlation = Real(
         load_default=0.0,
         validate=_range(-1.0, 1.0),

@@ -106,6 +106,22 @@ def test_bad_input_points_where_it_would_for_paths_and_at_the_briefings_own_fiel
     assert bad.get_json()["errors"][0]["pointer"] == "/units/colour"
 
 
+@pytest.mark.parametrize("demo", ["quillbrook-rent-freeze", "quillbrook-uncertain-elasticities"])
+def test_a_briefing_asked_for_a_summary_is_a_422_at_output(client, demo):
+    """A briefing is drawn from every series, so it has no summary form: "output": "summary"
+    is refused at its pointer, as /v1/bands refuses it (it was a 500: the briefing read the
+    series of a summary answer), and "full" is the briefing as without it."""
+    request = (
+        {**example_request(demo), "horizon": 3, "draws": 50} if "uncertain" in demo else example_request(demo)
+    )
+    bad = client.post("/v1/briefing", json={**request, "output": "summary"})
+    assert bad.status_code == 422, bad.get_data(as_text=True)[:300]
+    assert [e["pointer"] for e in bad.get_json()["errors"]] == ["/output"]
+    full = client.post("/v1/briefing", json={**request, "output": "full"})
+    assert full.status_code == 200
+    assert full.get_data() == client.post("/v1/briefing", json=request).get_data()
+
+
 def test_under_random_rationing_the_briefing_says_who_gains_is_not_reported(client):
     request = example_request("quillbrook-rent-freeze")
     request["welfare"]["rationing"] = "random"

@@ -267,3 +267,86 @@ def test_a_saved_scenario_run_answers_the_workbook_it_documents(client):
     assert run.status_code == 200 and run.mimetype == WORKBOOK
     document = json.loads(DOCUMENT_PATH.read_text(encoding="utf-8"))
     assert WORKBOOK in document["paths"]["/v1/scenarios/{id}/paths"]["get"]["responses"]["200"]["content"]
+
+
+def _resolved(document: dict, schema: dict) -> dict:
+    while "$ref" in schema:
+        schema = document["components"]["schemas"][schema["$ref"].rsplit("/", 1)[-1]]
+    return schema
+
+
+def _with_documented_defaults(document: dict, schema: dict, value):
+    """`value` with every default the document declares written out, as a generated client
+    writes its models' defaults: in each object, for each property it leaves out."""
+    schema = _resolved(document, schema)
+    if isinstance(value, list) and "items" in schema:
+        return [_with_documented_defaults(document, schema["items"], v) for v in value]
+    if not isinstance(value, dict):
+        return value
+    if "discriminator" in schema:  # a tagged union: the variant the tag names
+        tag = schema["discriminator"]
+        variant = tag["mapping"].get(value.get(tag["propertyName"]))
+        return _with_documented_defaults(document, {"$ref": variant}, value) if variant else value
+    for alternative in schema.get("oneOf", []):  # a number or an object: the object's schema
+        alternative = _resolved(document, alternative)
+        if "discriminator" in alternative or alternative.get("type") == "object":
+            return _with_documented_defaults(document, alternative, value)
+    properties = schema.get("properties", {})
+    out = {
+        k: _with_documented_defaults(document, properties[k], v) if k in properties else v
+        for k, v in value.items()
+    }
+    for name, spec in properties.items():
+        if name not in out and "default" in _resolved(document, spec):
+            out[name] = copy.deepcopy(_resolved(document, spec)["default"])
+    return out
+
+
+def test_every_demo_with_every_documented_default_written_out_is_the_same_scenario(client):
+    """A default the document declares is one a caller may send: a generated client's models
+    send every one of them (a ceiling's `new_homes` was documented as "covered" by default, and
+    refused outside the stock schedule)."""
+    from service.examples import examples
+
+    document = build_document()
+    for name, entry in examples().items():
+        endpoint = entry.get("endpoint", "/v1/paths")
+        request = dict(entry["request"], draws=100) if endpoint == "/v1/bands" else entry["request"]
+        schema = {
+            "$ref": "#/components/schemas/" + ("BandsRequest" if endpoint == "/v1/bands" else "PathsRequest")
+        }
+        filled = _with_documented_defaults(document, schema, request)
+        assert filled != request, name  # some default was written out
+        sent, written = client.post(endpoint, json=request), client.post(endpoint, json=filled)
+        assert written.status_code == 200, (name, written.get_json())
+        assert written.get_json()["scenario_id"] == sent.get_json()["scenario_id"], name
+
+
+def test_a_summary_batch_takes_scenarios_with_every_documented_default_written_out(client, contract_request):
+    """A batch scenario's `output` follows the batch's, so the document gives it no default of
+    its own: a generated client then leaves it out instead of sending "full" into a summary
+    batch, which refuses a scenario asking for another output."""
+    document = build_document()
+    scenario = _with_documented_defaults(
+        document, {"$ref": "#/components/schemas/BatchScenario"}, {"id": "north", **contract_request}
+    )
+    answer = client.post("/v1/paths/batch", json={"scenarios": [scenario], "output": "summary"})
+    assert answer.status_code == 200, answer.get_json()
+    (result,) = answer.get_json()["results"]
+    assert result["id"] == "north" and "paths" not in result and result["summary"]
+
+
+def test_bands_sensitivity_and_briefing_requests_document_full_as_their_only_output(checker, client):
+    """Only /v1/paths and batches answer a summary: the other requests' `output` lists "full"
+    alone, so a generated client's type cannot ask for what the service refuses."""
+    from service.examples import example_request
+
+    schemas = checker.document["components"]["schemas"]
+    for name in ("BandsRequest", "SensitivityRequest", "BriefingRequest", "BandsBriefingRequest"):
+        assert schemas[name]["properties"]["output"]["enum"] == ["full"], name
+    for name in ("PathsRequest", "BatchRequest"):
+        assert schemas[name]["properties"]["output"]["enum"] == ["full", "summary"], name
+    request = {**example_request("quillbrook-uncertain-elasticities"), "horizon": 3, "draws": 50}
+    for path in ("/v1/bands", "/v1/briefing"):
+        refused = client.post(path, json={**request, "output": "summary"})
+        assert refused.status_code == 422 and refused.get_json()["errors"][0]["pointer"] == "/output", path

@@ -9,6 +9,8 @@ import io
 import json
 import math
 
+import pytest
+
 from service import limits, simulate, simulate_many
 from service.engine.results import DISTRIBUTION_GROUPS
 from service.examples import examples
@@ -169,6 +171,37 @@ def test_batch_limits_are_enforced_before_any_work(client, contract_request):
     work = client.post("/v1/paths/batch", json={"scenarios": [big] * 120})
     assert work.status_code == 422
     assert "policy-periods" in work.get_json()["errors"][0]["message"]
+
+
+@pytest.mark.parametrize(
+    "mistake",
+    [
+        {"horizon": limits.MAX_HORIZON + 1},
+        {"horizon": 10**9},
+        {"horizon": limits.MAX_HORIZON - 0.5},
+        {
+            "horizon": limits.MAX_HORIZON,
+            "policies": [{"name": f"p{i}", "kind": "none"} for i in range(limits.MAX_POLICIES + 1)],
+        },
+    ],
+    ids=["horizon-past-the-limit", "horizon-far-past-it", "horizon-not-whole", "too-many-policies"],
+)
+def test_a_scenario_refused_for_its_horizon_or_policies_asks_for_no_work(client, contract_request, mistake):
+    """A scenario whose horizon or list of policies is out of range is never solved: it gets
+    its own problem, and does not count toward the batch's work (it once counted as a horizon
+    of 600, which made a batch of valid scenarios a 422 for all of them)."""
+    valid = [dict(contract_request, id=f"s{i}") for i in range(45)]
+    bad = {**contract_request, **mistake, "id": "bad"}
+    work = (len(valid) + 1) * len(contract_request["policies"]) * (limits.MAX_HORIZON + 1)
+    assert work > limits.MAX_POLICY_PERIODS  # had the bad one counted, the batch would be refused
+    response = client.post("/v1/paths/batch", json={"scenarios": [*valid, bad]})
+    assert response.status_code == 200, response.get_json()
+    results = response.get_json()["results"]
+    assert [r["id"] for r in results] == [*(f"s{i}" for i in range(45)), "bad"]
+    assert all("scenario_id" in r for r in results[:-1])
+    assert results[-1]["status"] == 422
+    pointers = {e["pointer"] for e in results[-1]["errors"]}
+    assert pointers & {"/scenarios/45/horizon", "/scenarios/45/policies"}, pointers
 
 
 def test_an_empty_or_malformed_envelope_is_422(client):
