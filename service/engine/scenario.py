@@ -54,10 +54,11 @@ class Market:
 
     @property
     def shifter_names(self) -> tuple[str, ...]:
-        """Every declared shifter, demand side first, each once."""
-        names = list(self.demand_shifters)
-        names += [n for n in self.supply_shifters if n not in self.demand_shifters]
-        return tuple(names)
+        """Every declared shifter, each once, in the order of their names. The engine adds the
+        shifters' effects in this order, so that a scenario's numbers, like its id, do not depend
+        on the order in which its maps were written (floating-point sums of three or more terms
+        depend on their order)."""
+        return tuple(sorted({*self.demand_shifters, *self.supply_shifters}))
 
 
 @dataclass(frozen=True)

@@ -7,7 +7,9 @@ in the schema's declared order, and returns a new dict in which
   (a nested object left out, like `welfare`, is normalised from `{}`);
 * integers written 12.0 are 12 and numbers are floats, as the schema reads them;
 * tagged unions (a policy by its `kind`, a shock by its `profile`, a schedule, a distribution)
-  are normalised by the schema their tag names; unknown structure is copied as it is.
+  are normalised by the schema their tag names; unknown structure is copied as it is;
+* maps (the shifters of each curve) are written in the order of their keys, as the scenario
+  reads them (engine.Market.shifter_names).
 
 Defaults of `None` ("absent") are not written out: such a field means something only when
 given. Inflation is written as the market reads it (a list that repeats its last rate is cut,
@@ -201,13 +203,13 @@ def _converter(field: fields.Field) -> Callable[[Any], Any]:
     if isinstance(field, fields.List):
         inner = _converter(field.inner)
         rules.append((_is_list, lambda v: [inner(x) for x in v]))
-    if isinstance(field, fields.Dict):
+    if isinstance(field, fields.Dict):  # keys in order: maps written in any order read alike
         value_field = field.value_field
         if value_field is None:
-            rules.append((_is_dict, dict))
+            rules.append((_is_dict, lambda v: {k: v[k] for k in sorted(v)}))
         else:
             each = _converter(value_field)
-            rules.append((_is_dict, lambda v: {k: each(x) for k, x in v.items()}))
+            rules.append((_is_dict, lambda v: {k: each(v[k]) for k in sorted(v)}))
     if isinstance(field, NumberOrList):
         items, number = _converter(field.items), _converter(field.number)
         rules.append((_always, lambda v: items(v) if isinstance(v, list) else number(v)))

@@ -179,10 +179,12 @@ def test_the_reduced_forms_short_run_rows_use_lambda_times_the_long_run_under_st
     batch, _ = pack([_scenario(Adjustment("stock", rate=0.3))])
     (sr_price, sr_quantity), (lr_price, lr_quantity) = short_and_long_run(batch)
     eps, eta = 0.3 * 1.5, -0.5
-    assert sr_price[0].tolist() == pytest.approx([1.0 / (eps - eta), 0.5 / (eps - eta)], rel=1e-14)
-    assert sr_quantity[0].tolist() == pytest.approx([eps / (eps - eta), eta * 0.5 / (eps - eta)], rel=1e-14)
-    assert lr_price[0].tolist() == pytest.approx([1.0 / 2.0, 0.5 / 2.0], rel=1e-14)
-    assert lr_quantity[0].tolist() == pytest.approx([1.5 / 2.0, -0.25 / 2.0], rel=1e-14)
+    # Columns in the order of the shifters' names: cost (supply, -0.5), income (demand, 1.0).
+    assert MARKET.shifter_names == ("cost", "income")
+    assert sr_price[0].tolist() == pytest.approx([0.5 / (eps - eta), 1.0 / (eps - eta)], rel=1e-14)
+    assert sr_quantity[0].tolist() == pytest.approx([eta * 0.5 / (eps - eta), eps / (eps - eta)], rel=1e-14)
+    assert lr_price[0].tolist() == pytest.approx([0.5 / 2.0, 1.0 / 2.0], rel=1e-14)
+    assert lr_quantity[0].tolist() == pytest.approx([-0.25 / 2.0, 1.5 / 2.0], rel=1e-14)
 
 
 def test_without_an_explicit_rate_the_short_run_rows_are_at_the_short_run_elasticity():
@@ -195,7 +197,7 @@ def test_without_an_explicit_rate_the_short_run_rows_are_at_the_short_run_elasti
         batch.supply_shifter_elasticity,
     )
     assert np.array_equal(sr_price, price) and np.array_equal(sr_quantity, quantity)
-    assert math.isclose(sr_price[0, 0], 1.0 / 0.7, rel_tol=1e-15)
+    assert math.isclose(sr_price[0, MARKET.shifter_names.index("income")], 1.0 / 0.7, rel_tol=1e-15)
 
 
 # --- what bands report (names from the kernel's summary) ---------------------------------------------
