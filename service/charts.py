@@ -131,15 +131,32 @@ def _plain_text(render):
     return drawn
 
 
+#: Large numbers' short forms, largest first.
+_SHORT = ((1e12, "T"), (1e9, "B"), (1e6, "M"))
+MINUS = "\u2212"  # the minus sign, not a hyphen: a loss reads at a glance on a projector
+
+
 def _compact(value: float, _position=None) -> str:
-    """1,234,567 -> 1.23M, 1,350 -> 1,350 (a rent reads as a rent): money and quantities
-    without an offset label."""
-    for size, suffix in ((1e12, "T"), (1e9, "B"), (1e6, "M")):
-        if abs(value) >= size:
+    """1,234,567 -> 1.23M, 1,350 -> 1,350 (a rent reads as a rent), -3.2e9 -> \u22123.2B:
+    money and quantities without an offset label, negatives with a minus sign."""
+    if value < 0:
+        return MINUS + _compact(-value)
+    for size, suffix in _SHORT:
+        if value >= size:
             return f"{value / size:.3g}{suffix}"
-    if abs(value) >= 1e3:
+    if value >= 1e3:
         return f"{value:,.0f}"
     return f"{value:.3g}"
+
+
+def _in_scale_of(value: float, largest: float) -> str:
+    """`value` among values as large as `largest`: where those run to millions, thousands too in
+    a short form (\u2212829k beside \u2212128M, not \u2212828,917), so that one chart's labels
+    read alike; otherwise as _compact writes it."""
+    if abs(largest) >= 1e6 and 1e3 <= abs(value) < 1e6:
+        text = f"{abs(value) / 1e3:.3g}k"
+        return MINUS + text if value < 0 else text
+    return _compact(value)
 
 
 def _compact_axis(axis) -> None:
@@ -792,11 +809,14 @@ def gains_and_losses(body: dict) -> np.ndarray:
     return np.array([[t[g] for g, _ in GROUPS] for t in totals], dtype=float)
 
 
-def _signed(value: float) -> str:
-    """+1.23M, \u22121.23M, 0: a gain or a loss at a glance."""
+def _signed(value: float, largest: float | None = None) -> str:
+    """+1.23M, \u22121.23M, 0: a gain or a loss at a glance; with `largest`, on its scale
+    (_in_scale_of)."""
     if value == 0.0:
         return "0"
-    return ("+" if value > 0 else "\u2212") + _compact(abs(value))
+    return ("+" if value > 0 else MINUS) + (
+        _compact(abs(value)) if largest is None else _in_scale_of(abs(value), largest)
+    )
 
 
 #: A net total smaller than this share of the groups' gains and losses is their rounding: where a
@@ -833,8 +853,8 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
     cells = list(grid.flat)
     for ax in cells[len(names) :]:
         ax.set_axis_off()
-    reach = float(np.abs(values).max()) if values.size else 0.0
-    reach = reach * 1.45 if reach > 0 else 1.0  # room for the value labels, zero in the middle
+    largest = float(np.abs(values).max()) if values.size else 0.0  # every bar label on its scale
+    reach = largest * 1.45 if largest > 0 else 1.0  # room for the value labels, zero in the middle
     colours = [c for c, _ in GROUP_STYLES]
     hatches = [h for _, h in GROUP_STYLES]
     rows_y = np.arange(len(GROUPS))
@@ -861,7 +881,7 @@ def _gains_figure(body: dict, values: np.ndarray, units: dict, note: str, title:
             continue
         for bar, value in zip(bars, row, strict=True):
             ax.annotate(
-                _signed(value),
+                _signed(value, largest),
                 xy=(value, bar.get_y() + bar.get_height() / 2),
                 xytext=(3 if value >= 0 else -3, 0),
                 textcoords="offset points",
@@ -901,8 +921,8 @@ def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, t
     horizon = len(body["periods"]) - 1
     lines = [
         EFFICIENT,
-        f"Summed over periods 1 to {horizon}, {_discounting(request, period)}; one scale for every panel; "
-        "the groups add up to minus the deadweight loss (the net in each title).",
+        f"Summed over {_plural(period)} 1 to {horizon}, {_discounting(request, period)}; "
+        "one scale for every panel; the groups add up to minus the deadweight loss (the net in each title).",
         footnote(form, body["cautions"]),
     ]
     basis = gains_basis(request, horizon, period)
@@ -910,8 +930,14 @@ def gains_and_losses_figure(body: dict, request: dict, units: dict, form: str, t
 
 
 def gains_basis(request: dict, horizon: int, period: str = "period") -> str:
-    """The basis of the who-gains bars in words: the total, its periods and its discounting."""
-    return f"total over periods 1 to {horizon}, {_discounting(request, period)}"
+    """The basis of the who-gains bars in words: the total, its periods (in the period's word:
+    years 1 to 15) and its discounting."""
+    return f"total over {_plural(period)} 1 to {horizon}, {_discounting(request, period)}"
+
+
+def _plural(period: str) -> str:
+    """years, months, quarters, periods: the period's word for more than one."""
+    return period if period.endswith("s") else period + "s"
 
 
 def render_gains_and_losses(

@@ -200,7 +200,7 @@ def test_the_gains_and_losses_chart_answers_svg_and_png(client, fmt):
         "Households priced or rationed out",
         "Government",
         "EUR, today's money (period 0)",
-        "total over periods 1 to",
+        "total over years 1 to",  # the period's own word (HOUSING: years)
         "efficient allocation",
         "free market of the same period",
         "discounted at 3.5 % per year",
@@ -486,7 +486,19 @@ def test_tick_labels_read_rents_and_homes_in_full_and_large_sums_short():
     from service.charts import _compact
 
     labels = [_compact(v) for v in (0.025, 12.5, 1350.0, 54000.0, 999_999.0, 2_500_000.0, -3.2e9)]
-    assert labels == ["0.025", "12.5", "1,350", "54,000", "999,999", "2.5M", "-3.2B"]
+    assert labels == ["0.025", "12.5", "1,350", "54,000", "999,999", "2.5M", "\u22123.2B"]  # a minus sign
+
+
+def test_the_bar_labels_of_one_chart_read_alike():
+    """Beside -128M a loss of 828,917 reads -829k (a helper's trial saw both forms in one
+    who-gains chart); where nothing reaches a million, thousands stay in full."""
+    from service.charts import _in_scale_of, _signed
+
+    assert _in_scale_of(-828_917.0, 128e6) == "\u2212829k"
+    assert _signed(-828_917.0, 128e6) == "\u2212829k" and _signed(-5.25e6, 4.19e9) == "\u22125.25M"
+    assert _signed(3.1e9, 3.1e9) == "+3.1B" and _signed(412.0, 3.1e9) == "+412"
+    assert _signed(828_917.0, 900_000.0) == "+828,917"
+    assert _signed(0.0, 1e9) == "0"
 
 
 def test_the_percentile_words_read_as_ordinals():
