@@ -59,9 +59,35 @@ def label(max_length: int, **kwargs) -> fields.String:
 
 def in_range(low=None, high=None, low_ok=True, high_ok=True, error: str | None = None) -> validate.Range:
     """A Range validator; low_ok / high_ok say whether each end itself is allowed; `error`, a
-    message in the analyst's words where marshmallow's ("Must be greater than ...") says too
-    little about the usual mistake."""
-    return validate.Range(min=low, max=high, min_inclusive=low_ok, max_inclusive=high_ok, error=error)
+    message in the analyst's words where the plain one (range_words) says too little about the
+    usual mistake."""
+    return validate.Range(
+        min=low,
+        max=high,
+        min_inclusive=low_ok,
+        max_inclusive=high_ok,
+        error=error or range_words(low, high, low_ok, high_ok),
+    )
+
+
+def range_words(low=None, high=None, low_ok=True, high_ok=True) -> str:
+    """What a range allows, in words and plain numbers: "Must be above 0 and at most
+    1,000,000,000,000." (marshmallow's own reads "greater than 0.0 and less than or equal to
+    1000000000000.0")."""
+    parts = []
+    if low is not None:
+        parts.append(f"{'at least' if low_ok else 'above'} {plain_number(low)}")
+    if high is not None:
+        parts.append(f"{'at most' if high_ok else 'below'} {plain_number(high)}")
+    return f"Must be {' and '.join(parts)}." if parts else "Must be a number."
+
+
+def plain_number(x: float) -> str:
+    """1,000,000, 0.25, -100, 1e-300: whole numbers with thousands separators up to 10**15,
+    others as Python's shortest form."""
+    if float(x).is_integer() and abs(x) < 1e15:
+        return f"{int(x):,}"
+    return f"{x:g}"
 
 
 class Real(fields.Float):

@@ -129,3 +129,21 @@ def test_a_request_without_welfare_is_the_request_with_empty_welfare_and_shares_
     assert scenario_id(left_out) == scenario_id(empty)
     # One frozen value for every request that leaves welfare out, not a schema built per request.
     assert left_out.welfare is also_left_out.welfare
+
+
+def test_a_number_out_of_range_is_told_in_plain_words_and_numbers():
+    """An analyst reads 'Must be above 0 and at most 1,000,000,000,000.', not marshmallow's
+    'greater than 0.0 and less than or equal to 1000000000000.0' (a helper's trial of the page)."""
+    from service import ProblemError, simulate
+    from service.examples import example_request
+
+    request = example_request("quillbrook-rent-freeze")
+    request["market"]["price"] = -5
+    request["horizon"] = 5000
+    with pytest.raises(ProblemError) as refused:
+        simulate(request)
+    messages = {e["pointer"]: e["message"] for e in refused.value.problem["errors"]}
+    assert messages == {
+        "/market/price": "Must be above 0 and at most 1,000,000,000,000.",
+        "/horizon": "Must be at least 1 and at most 600.",
+    }
