@@ -251,10 +251,11 @@ def simulate_many(
         for i, request in enumerate(requests):
             try:
                 if isinstance(request, dict) and "id" in request:
-                    ids[i] = request["id"]
+                    ident = request["id"]
                     request = {k: v for k, v in request.items() if k != "id"}
-                    _check_id(ids[i], prefix.format(i=i))
-                    _check_unique(ids[i], first_with.setdefault(ids[i], i), i, prefix.format(i=i))
+                    _check_id(ident, prefix.format(i=i))  # an id refused is not echoed back
+                    ids[i] = ident
+                    _check_unique(ident, first_with.setdefault(ident, i), i, prefix.format(i=i))
                 loaded.append(load_scenario(request, prefix.format(i=i)))
                 where.append(i)
             except ProblemError as error:

@@ -285,3 +285,20 @@ def test_the_batch_limits_count_scenarios_that_are_not_objects(client):
     assert [r["errors"][0]["pointer"] for r in at_the_limit.get_json()["results"]] == [
         f"/scenarios/{i}" for i in range(limits.MAX_BATCH_SCENARIOS)
     ]
+
+
+def test_a_batch_id_refused_is_not_echoed_back(client, contract_request):
+    """Ids are checked (printable, at most their length limit) to keep such text out of the
+    answers and the CSV: a refused id gets its problem at /scenarios/i/id and is not written
+    back in that problem (a caller's trial saw it echoed), while a valid id is."""
+    scenarios = [
+        {**contract_request, "id": "ok"},
+        {**contract_request, "id": "bell\u0007"},
+        {**contract_request, "id": "x" * 10_000},
+        {**contract_request, "id": 7},
+    ]
+    results = client.post("/v1/paths/batch", json={"scenarios": scenarios}).get_json()["results"]
+    assert results[0]["id"] == "ok" and "scenario_id" in results[0]
+    for i, result in enumerate(results[1:], start=1):
+        assert "id" not in result, result
+        assert [e["pointer"] for e in result["errors"]] == [f"/scenarios/{i}/id"]
