@@ -33,6 +33,10 @@ EXPOSED_HEADERS = (
     "Content-Disposition",
     "X-Request-ID",
     "Content-Encoding",
+    # what a refusal tells a caller to do: the methods a path takes (405), how to authenticate
+    # (401; service/http/auth.py)
+    "Allow",
+    "WWW-Authenticate",
     # the scenario library's (service/http/library.py)
     "Location",
     "Retry-After",

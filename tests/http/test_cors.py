@@ -53,6 +53,9 @@ def test_a_preflight_needs_no_key_but_the_call_does(contract_request):
     refused = client.post("/v1/paths", json=contract_request, headers={"Origin": DASHBOARD})
     assert refused.status_code == 401
     assert refused.headers["Access-Control-Allow-Origin"] == DASHBOARD  # the page can read the 401
+    # ... and the header that says how to authenticate
+    assert "WWW-Authenticate" in refused.headers
+    assert "WWW-Authenticate" in refused.headers["Access-Control-Expose-Headers"]
     ok = client.post(
         "/v1/paths", json=contract_request, headers={"Origin": DASHBOARD, "Authorization": f"Bearer {key}"}
     )
@@ -157,3 +160,11 @@ def test_an_allowed_origin_can_read_every_answer_the_error_ones_too(
     assert response.headers["Access-Control-Allow-Origin"] == DASHBOARD
     assert "ETag" in response.headers["Access-Control-Expose-Headers"]
     assert "Origin" in response.vary
+
+
+def test_a_dashboard_can_read_which_methods_a_path_takes():
+    """A 405's Allow header says what to send instead; another origin reads it only if exposed."""
+    client = create_app({"TESTING": True, "cors_origins": DASHBOARD}).test_client()
+    refused = client.delete("/v1/paths", headers={"Origin": DASHBOARD})
+    assert refused.status_code == 405 and "POST" in refused.headers["Allow"]
+    assert "Allow" in [h.strip() for h in refused.headers["Access-Control-Expose-Headers"].split(",")]
