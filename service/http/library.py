@@ -304,7 +304,7 @@ def _compute_responses(schema: str, what: str) -> dict:
     summary="Run a saved paths scenario under the running model (as POST /v1/paths)",
     answers_of="postPaths",
     responses=_compute_responses("PathsResponse", "paths"),
-    parameters=[*COMPUTE_PARAMETERS, REVISION],
+    parameters=[*COMPUTE_PARAMETERS, "layout", REVISION],  # CSV as POST /v1/paths writes it
     path_parameters=[ID],
 )
 def get_scenario_paths(id: str) -> Response:
