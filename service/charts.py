@@ -141,11 +141,19 @@ def _compact(value: float, _position=None) -> str:
     money and quantities without an offset label, negatives with a minus sign."""
     if value < 0:
         return MINUS + _compact(-value)
-    for size, suffix in _SHORT:
-        if value >= size:
-            return f"{value / size:.3g}{suffix}"
-    if value >= 1e3:
+    if value >= 1e6:
+        return _short(value, _SHORT)
+    if value >= 999.5:
         return f"{value:,.0f}"
+    return f"{value:.3g}"
+
+
+def _short(value: float, forms) -> str:
+    """A positive value in the first of `forms` ((size, suffix), largest first) it reaches at
+    three significant figures: 999.7M rounds to 1B, not 1e+03M."""
+    for size, suffix in forms:
+        if value >= size * (1.0 - 5e-4):
+            return f"{value / size:.3g}{suffix}"
     return f"{value:.3g}"
 
 
@@ -153,8 +161,8 @@ def _in_scale_of(value: float, largest: float) -> str:
     """`value` among values as large as `largest`: where those run to millions, thousands too in
     a short form (\u2212829k beside \u2212128M, not \u2212828,917), so that one chart's labels
     read alike; otherwise as _compact writes it."""
-    if abs(largest) >= 1e6 and 1e3 <= abs(value) < 1e6:
-        text = f"{abs(value) / 1e3:.3g}k"
+    if abs(largest) >= 1e6 and abs(value) >= 999.5:
+        text = _short(abs(value), (*_SHORT, (1e3, "k")))
         return MINUS + text if value < 0 else text
     return _compact(value)
 

@@ -78,8 +78,9 @@ def misallocation_shares(
 
 
 def _percent(x: float) -> str:
-    """A share as a reader says it: 10 %, 37.5 %, 0.123 % (three significant figures)."""
-    return f"{100.0 * x:.3g} %"
+    """A share as a reader says it: 10 %, 37.5 %, 0.123 %; from 100 % whole (7,500 %)."""
+    value = 100.0 * x
+    return f"{value:,.0f} %" if abs(value) >= 99.95 else f"{value:.3g} %"
 
 
 #: Large figures in words (the page and the briefing write them so too).
@@ -88,17 +89,21 @@ _LARGE = ((1e12, "trillion"), (1e9, "billion"), (1e6, "million"))
 
 def _figure(x: float) -> str:
     """A figure to the precision an estimate has: four significant figures, from a million in
-    words (314.2 million, not 314,215,561)."""
+    words (314.2 million, not 314,215,561). A value that rounds up to the next word takes it
+    (999,950,000 is 1 billion, not 1000 million; 9,999.6 is 10,000)."""
     for size, word in _LARGE:
-        if abs(x) >= size:
+        if abs(x) >= size * (1.0 - 5e-5):  # rounds to at least 1 of this word at four figures
             return f"{x / size:.4g} {word}"
-    return f"{x:,.4g}" if abs(x) < 1e4 else f"{x:,.0f}"
+    return f"{x:,.0f}" if abs(x) >= 9999.5 else f"{x:,.4g}"
 
 
 def _homes(x: float) -> str:
-    """A number of homes, whole from half a home (292.5 is a model's number, not a count: 292);
-    below that two significant figures (0.31)."""
-    return f"{x:,.0f}" if abs(x) >= 0.5 else f"{x:.2g}"
+    """A number of homes, whole from half a home, halves rounded up (292.5 is a model's number,
+    not a count: 293 homes); below that two significant figures (0.31 homes)."""
+    if abs(x) < 0.5:
+        return f"{x:.2g} homes"
+    whole = math.floor(abs(x) + 0.5)
+    return f"{'-' if x < 0 else ''}{whole:,} {'home' if whole == 1 else 'homes'}"
 
 
 #: Figures smaller than this share of their scale (the base rent bill over the horizon for money,
@@ -367,7 +372,7 @@ def scenario_cautions(
         )
     held = dict(held_to_horizon or {}) if stock else {}
     if held:
-        which = ", ".join(f"'{name}' ({_homes(homes)} homes fewer)" for name, homes in held.items())
+        which = ", ".join(f"'{name}' ({_homes(homes)} fewer)" for name, homes in held.items())
         out.append(
             f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
             "The years after the horizon are not counted: when such a rule ends, its missing homes "

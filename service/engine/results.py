@@ -1,8 +1,8 @@
 """From path arrays to one answer per scenario: paths, summary, reduced form, cautions.
 
-`solve_scenarios` is the engine's entry point for a list of scenarios: it packs them, solves all
-of them in one vectorised pass, and returns, in order, a ScenarioResult or the EngineError
-that explains why that scenario has no answer. The summary figures are computed for all
+`solve_scenarios` is the engine's entry point for a list of scenarios: it packs them, solves
+them vectorised (a long list in a pipeline of chunks), and returns, in order, a ScenarioResult
+or the EngineError that explains why that scenario has no answer. The summary figures are computed for all
 policy rows at once; only the final slicing into per-scenario objects walks the list.
 """
 
@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from concurrent.futures import ThreadPoolExecutor
+from operator import itemgetter
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -79,10 +80,6 @@ def _contiguous(names: Sequence[str], index: dict[str, int]) -> slice:
 #: total, in the order of GROUP_NAMES.
 _GROUP_TOTALS = _contiguous(["total_" + name for name in GROUP_NAMES], SUMMARY_INDEX)
 _GROUP_DISCOUNTED = _contiguous(["discounted_" + name for name in GROUP_NAMES], SUMMARY_INDEX)
-#: The kept series an answer reads by position (reported_series keeps them first, in this order).
-_LEADING_SERIES = _REPORTED + DISTRIBUTION_GROUPS
-#: Where a row's kept series hold the groups of who gains and who loses.
-_GROUP_SERIES = slice(len(_REPORTED), len(_LEADING_SERIES))
 #: Their totals in the summary: answer key -> kernel summary figure.
 VS_FREE_PATH_TOTALS = {
     "renters": "vs_free_path_renters",
@@ -220,17 +217,18 @@ def _infeasible_message(scenario: Scenario, arrays: PathArrays, i: int, t: int, 
 
 
 #: A demand price elasticity closer to zero than this is named as the cause when a policy's
-#: numbers overflow (see _scenario_error): far below published housing estimates (from memory,
-#: most lie between about -0.1 and -1).
+#: numbers overflow (see _scenario_error): far closer to zero than published estimates for rented
+#: homes (cautions.INELASTIC_DEMAND gives the range, from memory, and cautions on it).
 NEAR_VERTICAL_DEMAND = 1e-3
 
 
 def _scenario_error(i: int, scenario: Scenario, arrays: PathArrays, row_index: np.ndarray) -> EngineError:
     """The first problem of a failed scenario, with the pointer of the input to change."""
     names = scenario.market.shifter_names
-    for j in np.flatnonzero(arrays.shift_out_of_range[i]):
-        name = names[j]
-        first = next(k for k, s in enumerate(scenario.shocks) if s.shifter == name)
+    failing = {names[j] for j in np.flatnonzero(arrays.shift_out_of_range[i])}
+    if failing:  # blamed on the first shock, in the request's order, of a shifter out of range
+        first = next(k for k, s in enumerate(scenario.shocks) if s.shifter in failing)
+        name = scenario.shocks[first].shifter
         return InputError(
             f"the shocks on '{name}' add up to a change of -100 % or less, or above a "
             f"million-fold rise, in some period; each shifter's summed change must stay above -1",
@@ -319,8 +317,13 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
 _FORM_FIGURES = tuple((key, SUMMARY_INDEX[key], SUMMARY_INDEX["other_" + key]) for key in OTHER_FORM_FIGURES)
 _FORM_HERE = np.array([here for _, here, _ in _FORM_FIGURES])
 _FORM_THERE = np.array([there for _, _, there in _FORM_FIGURES])
-#: What each of them is measured against: money summed, rent, homes.
-_FORM_SCALES = ("rent_bill", "price", "quantity")
+#: What each of them is measured against: money summed (the base rent bill over the horizon),
+#: rent (the base rent), homes (the base homes).
+_FORM_SCALES = {
+    "discounted_deadweight_loss": "rent_bill",
+    "final_consumer_price": "price",
+    "peak_shortage": "quantity",
+}
 
 
 def _form_gaps(
@@ -334,7 +337,7 @@ def _form_gaps(
     gaps = form_gaps(
         summary.take(_FORM_HERE, axis=1),
         summary.take(_FORM_THERE, axis=1),
-        np.column_stack([scale[name] for name in _FORM_SCALES])[rows.scenario],
+        np.column_stack([scale[_FORM_SCALES[key]] for key, _, _ in _FORM_FIGURES])[rows.scenario],
     )
     gaps &= other_ok[:, None]
     return [
@@ -508,9 +511,11 @@ def assemble(
     other_refused = any_per_scenario(refused, rows.scenario, batch.size)
     # The base rent bill over the horizon: the scale of money figures (what is rounding).
     rent_bills = batch.price * batch.quantity * batch.payments_per_period * (batch.horizon + 1)
-    form_gap = _form_gaps(arrays.summary, rows, batch, rent_bills, other_ok)
-    if tuple(arrays.series_names[: len(_LEADING_SERIES)]) != _LEADING_SERIES:
-        raise ValueError("assemble reads the series reported_series keeps first, in its order")
+    differing_figures = _form_gaps(arrays.summary, rows, batch, rent_bills, other_ok)
+    # Each row's kept series, picked in the answer's order around `binding` (one C call a row).
+    before_binding = itemgetter(*(position[name] for name in SERIES_NAMES[_BEFORE_BINDING]))
+    after_binding = itemgetter(*(position[name] for name in SERIES_NAMES[_AFTER_BINDING]))
+    group_series = itemgetter(*(position[name] for name in DISTRIBUTION_GROUPS))
     coverage_plan = _plan(COVERAGE_SERIES, position)
     stock_plan = _plan(STOCK_SERIES, position)
     conversion_plan = _plan(CONVERSION_SERIES, position)
@@ -544,7 +549,7 @@ def assemble(
             policy = scenario.policies[local]
             kept = list(_first_periods(block[r], end))  # one view (or list) per kept series
             path = dict(
-                zip(SERIES, (*kept[_BEFORE_BINDING], binding[r][:end], *kept[_AFTER_BINDING]), strict=True)
+                zip(SERIES, (*before_binding(kept), binding[r][:end], *after_binding(kept)), strict=True)
             )
             if inflated:
                 path["nominal_consumer_price"] = nominal[r][0][:end]
@@ -557,7 +562,7 @@ def assemble(
                 for name, j in stock_plan + conversion_plan if converting else stock_plan:
                     path[name] = kept[j]
                 vs_free_path = {key: kept[j] for key, j in vs_plan}
-            groups = None if random else dict(zip(DISTRIBUTION_GROUPS, kept[_GROUP_SERIES], strict=True))
+            groups = None if random else dict(zip(DISTRIBUTION_GROUPS, group_series(kept), strict=True))
             paths.append(PolicyPath(policy.name, policy.kind, path, groups, vs_free_path))
             f = figures[r]
             peak_period = int(f[at.peak_shortage_period])
@@ -567,7 +572,9 @@ def assemble(
                 partial_binds = partial_binds or (partial_row[r] and covers_part[r])
                 exempt_binds = exempt_binds or exempt_row[r]
             if other_ok_row[r]:
-                differing[policy.name] = {key: (f[here], f[there]) for key, here, there in form_gap[r]}
+                differing[policy.name] = {
+                    key: (f[here], f[there]) for key, here, there in differing_figures[r]
+                }
             else:
                 differing[policy.name] = None
             summaries.append(

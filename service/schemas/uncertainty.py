@@ -151,8 +151,8 @@ class UncertainMarketSchema(MarketSchema):
     @post_load
     def _build(self, data, **kwargs) -> tuple[Market, list[UncertainInput]]:
         """The market at the central values, and the uncertain inputs in a fixed order (demand
-        price elasticity, short run, long run, demand shifters, supply shifters): the order of
-        the draws' columns."""
+        price elasticity, short run, long run, demand shifters, supply shifters, each side's in
+        the order of their names): the order of the draws' columns."""
         inputs: list[UncertainInput] = []
 
         def central(target, pointer, value):
@@ -169,13 +169,15 @@ class UncertainMarketSchema(MarketSchema):
         long_run = central(
             "long_run_elasticity", "/market/supply/long_run_elasticity", supply["long_run_elasticity"]
         )
+        # In the order of the names, as the scenario reads a map (engine.Market.shifter_names) and
+        # the answer echoes it: one request, written in any order, draws alike and has one id.
         demand_shifters = {
-            n: central(("demand_shifter", n), f"/market/demand/shifters/{escape(n)}", v)
-            for n, v in demand["shifters"].items()
+            n: central(("demand_shifter", n), f"/market/demand/shifters/{escape(n)}", demand["shifters"][n])
+            for n in sorted(demand["shifters"])
         }
         supply_shifters = {
-            n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", v)
-            for n, v in supply["shifters"].items()
+            n: central(("supply_shifter", n), f"/market/supply/shifters/{escape(n)}", supply["shifters"][n])
+            for n in sorted(supply["shifters"])
         }
         inflation = data.get("inflation", 0.0)
         if not isinstance(inflation, list):

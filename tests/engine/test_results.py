@@ -44,6 +44,16 @@ def test_summed_shocks_at_minus_one_hundred_percent_point_at_the_first_shock():
         {"shifter": "income", "profile": "step", "change": -0.5, "start": 4},
     ]
     assert pointers(problem_of(request)) == ["/shocks/1"]
+    # Two shifters out of range: the first shock in the request's order is blamed, whatever the
+    # order of the shifters' names (the engine works in name order).
+    request["market"]["demand"]["shifters"]["zeta"] = 1.0
+    request["shocks"] = [
+        {"shifter": "zeta", "profile": "step", "change": -0.6},
+        {"shifter": "zeta", "profile": "step", "change": -0.5, "start": 4},
+        *request["shocks"],
+    ]
+    problem = problem_of(request)
+    assert pointers(problem) == ["/shocks/0"] and "'zeta'" in problem["detail"]
 
 
 def test_a_tax_that_fails_near_the_base_point_names_the_tax_not_the_linear_form():
@@ -113,3 +123,27 @@ def test_a_long_list_solved_in_a_pipeline_of_chunks_gives_the_bytes_of_one_pass(
     assert answers(engine.solve_scenarios(scenarios)) == one_pass
     assert answers(engine.solve_scenarios(scenarios, as_lists=True)) == one_pass
     assert sum(a.startswith("InfeasiblePolicyError") for a in one_pass if isinstance(a, str)) == 2
+
+
+def test_assemble_reads_the_arrays_of_any_solve():
+    """solve keeps every series by default (SERIES_NAMES), in another order than the answer's
+    own pass (reported_series): assemble finds each series by name, so both give one answer."""
+    import orjson
+
+    from service import engine
+    from service.engine import pack, solve
+    from service.examples import example_request
+    from service.simulation import load_scenario, render
+
+    for name in (
+        "tollbrae-decontrol-and-exempt-building",
+        "ostrand-vale-vouchers",
+        "corrowdale-older-buildings",
+    ):
+        scenario = load_scenario(example_request(name))
+        batch, rows = pack([scenario])
+        (every,) = engine.assemble([scenario], batch, rows, solve(batch, rows))
+        (answer,) = engine.solve_scenarios([scenario])
+        bodies = [render(scenario, result, "") for result in (every, answer)]
+        one, other = (orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY) for body in bodies)
+        assert one == other, name

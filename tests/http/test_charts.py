@@ -499,6 +499,8 @@ def test_the_bar_labels_of_one_chart_read_alike():
     assert _signed(3.1e9, 3.1e9) == "+3.1B" and _signed(412.0, 3.1e9) == "+412"
     assert _signed(828_917.0, 900_000.0) == "+828,917"
     assert _signed(0.0, 1e9) == "0"
+    # a value that rounds up takes the next short form: never 1e+03k or 1e+03M
+    assert _in_scale_of(999_600.0, 1e8) == "1M" and _signed(999_700_000.0) == "+1B"
 
 
 def test_the_percentile_words_read_as_ordinals():

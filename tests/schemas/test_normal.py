@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 
 from service import bands, simulate, simulate_many
-from service.examples import examples
+from service.examples import example_request, examples
 
 DEMOS = examples()
 PATHS_DEMOS = [n for n, e in DEMOS.items() if e.get("endpoint", "/v1/paths") == "/v1/paths"]
@@ -95,7 +95,6 @@ def test_maps_written_in_any_order_give_one_answer_byte_for_byte():
     import orjson
 
     from service import simulate
-    from service.examples import example_request
 
     rng = np.random.default_rng(5)
     for form in ("linear", "constant_elasticity"):
@@ -120,3 +119,28 @@ def test_maps_written_in_any_order_give_one_answer_byte_for_byte():
         assert dump(one) == dump(other)
         assert list(one["request"]["market"]["demand"]["shifters"]) == ["households", "income", "jobs"]
         assert list(one["reduced_form"]) == ["households", "income", "jobs"]
+
+
+def test_a_bands_request_written_in_any_order_draws_alike_and_its_echo_reruns_to_it():
+    """Two uncertain shifters on one curve: their draws' columns follow the order of the names,
+    as the echoed request writes them, so both spellings have one id and one answer, and the
+    echo re-runs to that answer (a review found the echo gave the other order's answer)."""
+    import copy
+
+    import orjson
+
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["draws"] = 300
+    shifters = request["market"]["demand"]["shifters"]
+    shifters["households"] = {"distribution": "uniform", "low": 0.8, "high": 1.2}
+    assert list(shifters) == ["income", "households"]  # not in name order
+    reordered = copy.deepcopy(request)
+    reordered["market"]["demand"]["shifters"] = dict(reversed(shifters.items()))
+    one, other = bands(request), bands(reordered)
+    dump = lambda body: orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY)  # noqa: E731
+    assert dump(one) == dump(other)
+    assert dump(bands(one["request"])) == dump(one)
+    pointers = [item["pointer"] for item in one["uncertain_inputs"]]
+    assert pointers.index("/market/demand/shifters/households") < pointers.index(
+        "/market/demand/shifters/income"
+    )
