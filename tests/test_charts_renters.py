@@ -8,15 +8,9 @@ import pytest
 from service import simulate
 from service.examples import example_request
 
-pytest.importorskip("matplotlib")
+from .http.test_charts import HOUSING
 
-HOUSING = {
-    "currency": "EUR",
-    "quantity": "homes",
-    "unit": "home",
-    "price_interval": "month",
-    "period": "year",
-}
+pytest.importorskip("matplotlib")
 
 
 def _drawn_figure(copies: int = 1):
