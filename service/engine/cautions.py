@@ -21,6 +21,7 @@ __all__ = [
     "FORM_GAP",
     "GENERAL_CAUTION",
     "INELASTIC_DEMAND",
+    "LARGE_LOSS",
     "MISALLOCATION_SHARE",
     "OTHER_FORM_FIGURES",
     "form_gaps",
@@ -51,6 +52,10 @@ HIGH_CONVERSION = 0.1
 #: of Urban Economics 10, and Hanushek & Quigley 1980, not read from the papers); this is a
 #: quarter of the lowest of them.
 INELASTIC_DEMAND = 0.05
+#: A policy whose deadweight loss over the horizon passes this share of the base rent bill over
+#: the horizon (P Q k (T + 1)) is named: a loss that large rests on what households would pay for
+#: the last homes, the part of demand known least well (MODEL.md 20).
+LARGE_LOSS = 0.25
 #: The figures compared between the two curve forms, with the words a reader sees.
 OTHER_FORM_FIGURES = {
     "discounted_deadweight_loss": "discounted deadweight loss",
@@ -143,7 +148,9 @@ RATIONING_REFUSED = (
 )
 
 
-def _other_form_caution(form: str, other_form: OtherForm, refused: bool = False) -> str | None:
+def _other_form_caution(
+    form: str, other_form: OtherForm, refused: bool = False, refusing: Sequence[str] = ()
+) -> str | None:
     if refused:
         return RATIONING_REFUSED
     other = "constant-elasticity" if form == "linear" else "linear"
@@ -166,7 +173,13 @@ def _other_form_caution(form: str, other_form: OtherForm, refused: bool = False)
             "small changes; read such figures as a range, not a point (the answer gives both forms' "
             "figures for each policy)."
         )
-    if missing:
+    if missing and refusing:
+        verb = "leaves" if len(refusing) == 1 else "leave"
+        parts.append(
+            f"The {other} form refuses this request: there {_names(refusing)} {verb} zero or "
+            "negative quantity or price. So the figures shown rest on this form alone."
+        )
+    elif missing:
         parts.append(
             f"The {other} form has no answer for {_names(missing)} (it leaves zero or negative "
             "quantity or price), so the figures shown rest on this form alone."
@@ -191,6 +204,9 @@ def scenario_cautions(
     conversion: bool = False,
     conversion_rate: float = 0.0,
     demand_elasticity: float | None = None,
+    other_form_refusing: Sequence[str] = (),
+    large_losses: Mapping[str, float] | None = None,
+    caps_below_stock: Mapping[str, tuple[float, float]] | None = None,
     short_run_elasticity: float | None = None,
     impact_elasticity: float | None = None,
     other_form_refused: bool = False,
@@ -232,6 +248,12 @@ def scenario_cautions(
         HIGH_CONVERSION is named as far above published estimates.
     demand_elasticity: the demand's price elasticity eta (None: not known here); |eta| below
         INELASTIC_DEMAND is named as far from published estimates, with what it inflates.
+    other_form_refusing: where the other form refuses the whole request because of some of its
+        policies (its free market has an answer), those policies: named instead of every one.
+    large_losses: per policy whose deadweight loss over the horizon passes LARGE_LOSS of the
+        base rent bill over the horizon, that share: named, with what such a loss rests on.
+    caps_below_stock: under `stock`, per quantity cap whose level is below the homes standing at
+        the start, (its level, those homes): homes already built would stand empty under it.
     other_form_refused: the other form (constant elasticity, for a linear request) refuses the
         whole request: a price ceiling under random rationing with |eta| <= 1 (MODEL.md 11); the
         caution says so instead of naming every policy as without an answer.
@@ -259,9 +281,19 @@ def scenario_cautions(
         half-life); under `stock`, a caution when they differ (MODEL.md 20).
     """
     out: list[str] = []
-    head = _other_form_caution(form, other_form, other_form_refused)
+    head = _other_form_caution(form, other_form, other_form_refused, other_form_refusing)
     if head is not None:
         out.append(head)
+    large = dict(large_losses or {})
+    if large:
+        which = ", ".join(f"'{name}' ({_percent(share)})" for name, share in large.items())
+        out.append(
+            f"Deadweight loss larger than a quarter of all the rent the homes would bring over the "
+            f"horizon: {which}. A loss this large rests on what households would pay for the last "
+            "homes, the part of demand known least well (with constant-elasticity demand less "
+            "responsive than -1 that value has no limit): read it as a sign that the rule "
+            "holds the market far from where it would be, not as a measured cost."
+        )
     if demand_elasticity is not None and abs(demand_elasticity) < INELASTIC_DEMAND:
         out.append(
             f"The demand price elasticity given, {demand_elasticity:g}, is far closer to zero than "
@@ -350,12 +382,14 @@ def scenario_cautions(
         out.append(
             "Under the stock schedule homes not built stay missing, while a rule lasts and after it "
             "ends. The deadweight loss, and who gains and who loses within each year, count only each "
-            "period's change against that period's free market on the same, already smaller, stock: "
-            "for a rule that lasts the loss stays near its first-year size, while the loss with "
-            "supply fully adjusted is larger, and the split between tenants and owners is that of "
-            "the short run. So the full cost of homes never built is larger than the deadweight "
-            "loss shown; renters' gains and losses against the market that never had the rule, the "
-            "years after the rule ends included, are reported separately (owners' are not)."
+            "year's change against that year's free market on the same, already smaller, stock: "
+            "they do not count the homes never built, so for a rule that lasts they need not grow as "
+            "supply catches up (they can stay at the first year's size, shrink to nothing where "
+            "building is limited, or grow with demand), and the split between tenants and owners is "
+            "that of the short run. So the full cost of homes never built is larger than the "
+            "deadweight loss shown; renters' gains and losses against the market that never had the "
+            "rule, the years after the rule ends included, are reported separately (owners' are "
+            "not), and the rents and homes against the free path show the rest."
         )
     if (
         stock
@@ -388,6 +422,17 @@ def scenario_cautions(
             "so within a year such a rule only moves money from owners to tenants. Its cost lies in the "
             "homes converted or never built, which that loss does not count: compare the homes and rents "
             "with the free market path."
+        )
+    below = dict(caps_below_stock or {}) if stock else {}
+    if below:
+        which = ", ".join(
+            f"'{name}' ({_figure(level)} homes against {_figure(homes)})"
+            for name, (level, homes) in below.items()
+        )
+        out.append(
+            f"A quantity cap below the homes standing at the start: {which}. Here the cap limits the "
+            "homes let, so homes already built stand empty under it; a permit cap that limits only "
+            "new building would leave them let, and its rents and losses would be smaller."
         )
     if stock and unlet_homes_removed:
         out.append(

@@ -16,7 +16,14 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from .batch import PolicyRows, ScenarioBatch, pack
-from .cautions import NEGLIGIBLE, OTHER_FORM_FIGURES, form_gaps, misallocation_shares, scenario_cautions
+from .cautions import (
+    LARGE_LOSS,
+    NEGLIGIBLE,
+    OTHER_FORM_FIGURES,
+    form_gaps,
+    misallocation_shares,
+    scenario_cautions,
+)
 from .errors import (
     EngineError,
     InfeasiblePolicyError,
@@ -308,8 +315,13 @@ def _other_form_answers(batch: ScenarioBatch, rows: PolicyRows, arrays: PathArra
     20): its free path stays in the linear form's range, every policy is feasible and finite in
     it, and no row is `refused` there (_rationing_refused_in_other_form: random rationing of a
     ceiling needs finite willingness to pay)."""
-    row_ok = (arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0) & ~refused
+    row_ok = _other_form_rows_ok(arrays, refused)
     return arrays.alternate_feasible & ~any_per_scenario(~row_ok, rows.scenario, batch.size)
+
+
+def _other_form_rows_ok(arrays: PathArrays, refused: np.ndarray) -> np.ndarray:
+    """(R,) True where a row is feasible and finite in the other curve form and not `refused`."""
+    return (arrays.summary[:, SUMMARY_INDEX["other_feasible"]] > 0.0) & ~refused
 
 
 #: Per figure compared between the curve forms (OTHER_FORM_FIGURES): its name and its summary
@@ -509,6 +521,9 @@ def assemble(
     refused = _rationing_refused_in_other_form(batch, rows, ceiling)
     other_ok = _other_form_answers(batch, rows, arrays, refused)[rows.scenario]
     other_refused = any_per_scenario(refused, rows.scenario, batch.size)
+    # Rows that make the other form refuse their whole request (where its free market answers).
+    other_row_failed = (~_other_form_rows_ok(arrays, refused)).tolist()
+    alternate_feasible = arrays.alternate_feasible.tolist()
     # The base rent bill over the horizon: the scale of money figures (what is rounding).
     rent_bills = batch.price * batch.quantity * batch.payments_per_period * (batch.horizon + 1)
     differing_figures = _form_gaps(arrays.summary, rows, batch, rent_bills, other_ok)
@@ -662,6 +677,21 @@ def assemble(
             else None,
             exempt_binds=exempt_binds,
             other_form_refused=bool(other_refused[i]),
+            other_form_refusing=[
+                p.name
+                for p, r in zip(scenario.policies, row_index, strict=True)
+                if other_row_failed[r] and alternate_feasible[i]
+            ],
+            large_losses={
+                s.name: s.total_deadweight_loss / rent_bill
+                for s in summaries
+                if rent_bill > 0.0 and s.total_deadweight_loss > LARGE_LOSS * rent_bill
+            },
+            caps_below_stock={
+                p.name: (float(p.level), float(batch.quantity[i]))
+                for p in scenario.policies
+                if stock and p.kind == "quantity_cap" and p.level is not None and p.level < batch.quantity[i]
+            },
             held_to_horizon={
                 p.name: _homes_not_standing(s)
                 for p, s in zip(scenario.policies, summaries, strict=True)

@@ -13,6 +13,7 @@ from service.engine.cautions import (
     GENERAL_CAUTION,
     INELASTIC_DEMAND,
     MISALLOCATION_SHARE,
+    _percent,
     form_gaps,
     misallocation_shares,
     scenario_cautions,
@@ -40,6 +41,8 @@ MARKS = {
     "uncontrolled rents": "Fallis & Smith 1984",
     "conversion": "upper bound",
     "inelastic demand": "far closer to zero than published estimates",
+    "large loss": "larger than a quarter of all the rent",
+    "cap below stock": "A quantity cap below the homes standing",
     "high conversion": "more than three times the largest",
     "no distribution": "is not reported under random rationing",
     "inflation": "nominal rules",
@@ -76,6 +79,8 @@ EVERY_CONDITION = {
     "more_homes": {"exempt cap": (259.0, 10)},
     "unbound_changed": ["loose cap"],
     "demand_elasticity": -0.01,
+    "large_losses": {"freeze": 2.4},
+    "caps_below_stock": {"permits": (9500.0, 10000.0)},
 }
 
 
@@ -130,6 +135,9 @@ def test_a_quiet_scenario_gets_only_the_general_cautions():
         ({"lossless_ceilings": ["cap"], "stock": True}, {"stock", "lossless ceiling"}),
         ({"more_homes": {"cap": (12.0, 3)}}, set()),
         ({"more_homes": {"cap": (12.0, 3)}, "stock": True}, {"stock", "more homes"}),
+        ({"large_losses": {"freeze": 0.3}}, {"large loss"}),
+        ({"caps_below_stock": {"permits": (9500.0, 10000.0)}, "stock": True}, {"stock", "cap below stock"}),
+        ({"caps_below_stock": {"permits": (9500.0, 10000.0)}}, set()),
         ({"demand_elasticity": -0.01}, {"inelastic demand"}),
         ({"demand_elasticity": -1e-12}, {"inelastic demand"}),
         ({"demand_elasticity": -INELASTIC_DEMAND}, set()),
@@ -549,3 +557,86 @@ def test_homes_in_cautions_are_whole():
     held = _cautions(stock=True, held_to_horizon={"cap": 292.5, "tiny": 0.3})
     (text,) = [c for c in held if MARKS["held to horizon"] in c]
     assert "'cap' (293 homes fewer)" in text and "'tiny' (0.3 homes fewer)" in text  # halves up
+
+
+def _economist_market(**changes):
+    """A linear market of 10,000 homes at 1,000 a month (k = 12), eta = -0.5 (a reviewing
+    economist's base)."""
+    request = {
+        "market": {
+            "price": 1000.0,
+            "quantity": 10000,
+            "payments_per_period": 12,
+            "form": "linear",
+            "demand": {"price_elasticity": -0.5, "shifters": {"income": 1.0}},
+            "supply": {"short_run_elasticity": 0.2, "long_run_elasticity": 0.2, "shifters": {"cost": -1.0}},
+        },
+        "shocks": [],
+        "horizon": 5,
+        "policies": [{"name": "free", "kind": "none"}],
+    }
+    request.update(changes)
+    return request
+
+
+def test_a_loss_larger_than_a_quarter_of_the_rent_bill_is_named():
+    """Constant-elasticity demand with |eta| < 1 values the last homes without bound: a ceiling
+    at half the rent with eta = -0.5 and eps = 2 lost 2.4 times the whole rent bill with no
+    caution (a reviewing economist's case). Named with its share; a mild cap is not."""
+    from service import simulate
+
+    request = _economist_market(horizon=1)
+    request["market"].update(form="constant_elasticity")
+    request["market"]["supply"].update(short_run_elasticity=2.0, long_run_elasticity=2.0)
+    request["policies"] += [
+        {"name": "half rent", "kind": "price_ceiling", "level": 500.0},
+        {"name": "mild", "kind": "price_ceiling", "level": 990.0},
+    ]
+    request["shocks"] = [{"shifter": "income", "profile": "step", "change": 0.02}]
+    body = simulate(request)
+    market = request["market"]
+    bill = market["price"] * market["quantity"] * market["payments_per_period"] * (request["horizon"] + 1)
+    share = body["summary"][1]["total_deadweight_loss"] / bill
+    assert share > 1.0
+    (text,) = [c for c in body["cautions"] if MARKS["large loss"] in c]
+    assert f"'half rent' ({_percent(share)})" in text and "'mild'" not in text
+
+
+def test_the_other_form_refusing_a_request_names_the_policies_that_make_it():
+    """With eta = -100 the linear form has no answer for a floor at 1,300, and so refuses the
+    whole request: the caution names the floor, not every policy (a reviewing economist saw
+    'no answer for 'free', 'freeze', 'tax', ...')."""
+    from service import simulate
+
+    request = _economist_market()
+    request["market"].update(form="constant_elasticity")
+    request["market"]["demand"]["price_elasticity"] = -100.0
+    request["policies"] += [
+        {"name": "tax", "kind": "unit_tax", "amount": 50.0},
+        {"name": "floor", "kind": "price_floor", "level": 1300.0},
+    ]
+    body = simulate(request)
+    assert all(s["other_form"] is None for s in body["summary"])
+    (text,) = [c for c in body["cautions"] if "linear form" in c]
+    assert "refuses this request: there 'floor' leaves zero or negative quantity" in text
+    assert "'free'" not in text and "'tax'" not in text
+
+
+def test_a_quantity_cap_below_the_standing_homes_is_named_under_stock():
+    """Under stock a quantity cap limits the homes let: at 9,500 of 10,000 standing homes, 400
+    stood empty in year 1 with only the general stock caution (a reviewing economist's case)."""
+    from service import simulate
+
+    request = _economist_market(horizon=8)
+    request["adjustment"] = {"schedule": "stock", "depreciation": 0.01}
+    request["shocks"] = [{"shifter": "income", "profile": "growth", "rate": 0.02}]
+    request["policies"] += [
+        {"name": "permits", "kind": "quantity_cap", "level": 9500.0, "end": 4},
+        {"name": "loose", "kind": "quantity_cap", "level": 12000.0},
+    ]
+    body = simulate(request)
+    assert max(body["paths"][1]["vacant_homes"]) > 0
+    (text,) = [c for c in body["cautions"] if MARKS["cap below stock"] in c]
+    assert "'permits' (9,500 homes against 10,000)" in text and "'loose'" not in text
+    request["adjustment"] = {"schedule": "linear", "periods": 3}
+    assert not any(MARKS["cap below stock"] in c for c in simulate(request)["cautions"])
