@@ -1292,7 +1292,7 @@ async function fromFragment() {
 
 // Where the library keeps the API key typed in its panel for this browser session (library.js).
 const KEY_STORE = "shockpath-library-key";
-const NEEDS_KEY = "This service needs an API key: enter yours in the scenario library's \"API key\" field (below the results), then try again.";
+const NEEDS_KEY = "This service needs an API key: enter yours in the scenario library's \"API key\" field (between the inputs and the results), then try again.";
 
 // Every call to the service carries that key when one is given (a service with keys switched on
 // answers 401 without it): the field once the library panel is built, the session's copy before.
