@@ -199,7 +199,10 @@ function fieldKey(pointer) {
 
 function inputWords(pointer) {
   const key = fieldKey(pointer);
-  const found = state.labels.inputs[key] || state.labels.inputs[key.split(".").pop()];
+  // A policy's field in the words of its kind where they differ (a floor's or a cap's level).
+  const kind = key.startsWith("policies.") ? getAt(state.request, `${pointer.split("/").slice(0, 3).join("/")}/kind`) : null;
+  const found = (kind && state.labels.inputs[`${kind}.${key.split(".").pop()}`]) || state.labels.inputs[key]
+    || state.labels.inputs[key.split(".").pop()];
   const leaf = unescape(pointer.split("/").pop());
   if (key === "shifters") return { label: `Response to ${leaf.replace(/_/g, " ")} (shifter elasticity)`, hint: found ? found[2] : "" };
   if (!found) return { label: leaf.replace(/_/g, " "), hint: "" };
