@@ -91,6 +91,14 @@ def _number(value: Any, scale: float = 1.0) -> str:
     return _e(str(value).replace("_", " "))  # a choice in words: constant elasticity
 
 
+def _given(value: Any) -> str:
+    """An input as the analyst gave it: every digit typed, none added (12, not 12.00; 1,250.5,
+    not 1,250), thousands grouped; a choice in words."""
+    if isinstance(value, float) and not isinstance(value, bool):
+        return f"{value:,.15g}"
+    return _number(value)
+
+
 def _pct(x: float) -> str:
     return f"{x * 100:.3g} %"
 
@@ -118,7 +126,7 @@ def _policy_words(policy: dict, units: dict) -> str:
         elif policy.get("level") == "base" or policy.get("base_level"):
             text = "rents frozen at today's rent"
         else:
-            text = f"rents at most {_number(policy['level'])} {money}"
+            text = f"rents at most {_given(policy['level'])} {money}"
         if policy.get("indexed"):
             text += " (indexed to inflation)"
         coverage = policy.get("coverage", 1.0)
@@ -130,13 +138,13 @@ def _policy_words(policy: dict, units: dict) -> str:
             share = _pct(policy["vacancy_decontrol"])
             text += f", {share} of tenancies re-let at market rent each {units['period']}"
     elif kind == "price_floor":
-        text = f"rents at least {_number(policy['level'])} {money}"
+        text = f"rents at least {_given(policy['level'])} {money}"
     elif kind == "quantity_cap":
-        text = f"at most {_number(policy['level'])} {units['quantity']}"
+        text = f"at most {_given(policy['level'])} {units['quantity']}"
     elif kind == "unit_tax":
-        text = f"a tax of {_number(policy['amount'])} {money}"
+        text = f"a tax of {_given(policy['amount'])} {money}"
     elif kind == "unit_subsidy":
-        text = f"a subsidy of {_number(policy['amount'])} {money}"
+        text = f"a subsidy of {_given(policy['amount'])} {money}"
     elif kind == "ad_valorem_tax":
         text = f"a tax of {_pct(policy['rate'])} of the rent"
     else:
@@ -235,7 +243,7 @@ def briefing_html(
             f"<ul>{''.join(shocks)}</ul>"
         )
     rows = [
-        [_e(words), _number(value) if not isinstance(value, list) else _e(", ".join(str(v) for v in value))]
+        [_e(words), _given(value) if not isinstance(value, list) else _e(", ".join(str(v) for v in value))]
         for pointer, words, value in labels.input_rows(request, units)
         if not pointer.startswith(("/policies", "/shocks", "/output"))  # /output: the answer's shape only
     ]

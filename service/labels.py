@@ -273,8 +273,11 @@ INPUTS: dict[str, tuple[str, str, str]] = {
     "policies.level": (
         "Rent limit",
         "ceiling level",
-        "{currency} per {unit} per {price_interval}, or base (today's rent)",
+        "{currency} per {unit} per {price_interval}, or base (today's rent); empty for a largest rent rise",
     ),
+    # A level is a rent floor or a count of homes under those kinds (`<kind>.level`).
+    "price_floor.level": ("Lowest rent allowed", "price floor", "{currency} per {unit} per {price_interval}"),
+    "quantity_cap.level": ("Most homes let", "quantity cap, e.g. a permit cap", "{quantity}"),
     "policies.growth": ("Largest rent rise per period", "growth cap", _PCT),
     "policies.amount": (
         "Amount per home",
@@ -399,13 +402,14 @@ DRAWN = {
 }
 
 
-def _input_words(pointer: str, units: dict | None) -> tuple[str, str]:
-    """A request field in plain words with its trade term, and its hint ("" for none)."""
+def _input_words(pointer: str, units: dict | None, kind: str | None = None) -> tuple[str, str]:
+    """A request field in plain words with its trade term, and its hint ("" for none); `kind`,
+    a policy's, where a field means something else under it (a floor's or a cap's level)."""
     parts = pointer.strip("/").split("/")
     field = parts[-1]
     if field in DRAWN and len(parts) > 1 and parts[-2] != "shifters":
         # /market/demand/price_elasticity/sd: the input's own words, then the part's.
-        words, hint = _input_words("/" + "/".join(parts[:-1]), units)
+        words, hint = _input_words("/" + "/".join(parts[:-1]), units, kind)
         return f"{words}, {DRAWN[field]}", hint
     section = {"demand": "demand", "supply": "supply", "market": "market"}.get(
         parts[-2] if len(parts) > 1 else ""
@@ -419,22 +423,40 @@ def _input_words(pointer: str, units: dict | None) -> tuple[str, str]:
     if len(parts) > 1 and parts[-2] == "shifters":
         plain, trade, _ = INPUTS["shifters"]
         return f"{plain} {field.replace('_', ' ')} ({trade})", ""
-    found = INPUTS.get(f"{section}.{field}") or INPUTS.get(field)
+    found = (
+        (INPUTS.get(f"{kind}.{field}") if section == "policies" and kind else None)
+        or INPUTS.get(f"{section}.{field}")
+        or INPUTS.get(field)
+    )
     if found is None:
         return field.replace("_", " "), ""
     plain, trade, hint = found
     return (f"{plain} ({trade})" if trade else plain), hint.format(**{**DEFAULT_UNITS, **(units or {})})
 
 
-def _input_label(pointer: str, units: dict | None) -> str:
-    words, hint = _input_words(pointer, units)
+def _input_label(pointer: str, units: dict | None, kind: str | None = None) -> str:
+    words, hint = _input_words(pointer, units, kind)
     return words + (f" [{hint}]" if hint else "")
+
+
+def _policy_kind(request: dict[str, Any], pointer: str) -> str | None:
+    """The kind of the policy a pointer is in (/policies/2/level), None elsewhere."""
+    parts = pointer.split("/")
+    policies = request.get("policies")
+    if len(parts) > 3 and parts[1] == "policies" and parts[2].isdigit() and isinstance(policies, list):
+        index = int(parts[2])
+        policy = policies[index] if index < len(policies) else None
+        return policy.get("kind") if isinstance(policy, dict) else None
+    return None
 
 
 def input_rows(request: dict[str, Any], units: dict[str, str] | None = None) -> list[tuple[str, str, Any]]:
     """(JSON Pointer, the field in plain words with its trade term and unit, value) of every
-    leaf of a request (a list of numbers is one leaf)."""
-    return [(pointer, _input_label(pointer, units), value) for pointer, value in _pointers(request)]
+    leaf of a request (a list of numbers is one leaf); a policy's fields in the words of its kind."""
+    return [
+        (pointer, _input_label(pointer, units, _policy_kind(request, pointer)), value)
+        for pointer, value in _pointers(request)
+    ]
 
 
 def table() -> dict[str, Any]:

@@ -215,3 +215,124 @@ def test_a_saved_scenario_keeps_the_units_typed_and_opening_it_sets_them_back(br
             }
     finally:
         page.close()
+
+
+def _opened(page, revision: int) -> None:
+    page.wait_for_function(
+        f"document.querySelector('#library').dataset.revision === '{revision}'"
+        " && document.querySelector('#lib-status').textContent.startsWith('Opened')"
+    )
+
+
+def test_an_earlier_revision_opens_from_the_page_shares_by_its_own_link_and_saves_after_the_latest(
+    browser, tmp_path
+):
+    database = {"library_path": str(tmp_path / "library.sqlite3")}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    colleague = browser.new_context().new_page()
+    try:
+        with serving(**database) as (base, _):
+            _page_ready(page, base + "/")
+            first = _request(page)
+            _save(page, "Freeze, three drafts")
+            page.fill("#f-price", str(first["market"]["price"] + 100))
+            page.click("#lib-revise")
+            page.wait_for_function("document.querySelector('#lib-status').textContent.includes('revision 2')")
+            # The revisions are offered on the page, the latest first; revision 1 opens as it was.
+            assert page.eval_on_selector_all("#lib-revision option", "os => os.map((o) => o.value)") == [
+                "2",
+                "1",
+            ]
+            page.select_option("#lib-revision", "1")
+            page.click("#lib-open-revision")
+            _opened(page, 1)
+            assert page.text_content("#lib-status").startswith(
+                'Opened "Freeze, three drafts" (revision 1 of 2'
+            )
+            assert _request(page) == first
+            # Its link opens revision 1 for whoever follows it, not the latest.
+            link = page.input_value("#lib-link")
+            colleague.goto(link)
+            _opened(colleague, 1)
+            assert _request(colleague) == first
+            # Changes made from revision 1 are saved as revision 3 (no one else changed it).
+            page.fill("#lib-notes", "back to the first draft")
+            page.click("#lib-revise")
+            page.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Saved')")
+            assert page.text_content("#lib-status") == 'Saved "Freeze, three drafts" as revision 3.'
+            stored = page.evaluate(
+                "(id) => fetch('/v1/scenarios/' + id).then((r) => r.json())",
+                page.get_attribute("#library", "data-scenario"),
+            )
+            assert (stored["revision"], stored["notes"], stored["request"]) == (
+                3,
+                "back to the first draft",
+                first,
+            )
+    finally:
+        page.close()
+        colleague.context.close()
+
+
+def test_the_owner_deletes_a_scenario_from_the_page_and_its_link_no_longer_opens(browser, tmp_path):
+    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": f"{KEY_A},{KEY_B}"}
+    owner = browser.new_page(viewport={"width": 1280, "height": 1800})
+    colleague = browser.new_context().new_page()
+    try:
+        with serving(**settings) as (base, _):
+            owner.goto(base + "/")
+            owner.wait_for_selector("#lib-save")
+            owner.fill("#lib-key", KEY_A)
+            owner.dispatch_event("#lib-key", "change")
+            owner.eval_on_selector(
+                "#request-json",
+                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+                json.dumps(example_request("quillbrook-rent-freeze")),
+            )
+            link = _save(owner, "Freeze to withdraw", shared=True)
+            # A colleague may read the shared scenario but is offered no delete.
+            colleague.goto(link)
+            colleague.wait_for_selector("#lib-key")
+            colleague.fill("#lib-key", KEY_B)
+            colleague.dispatch_event("#lib-key", "change")
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.startsWith('Opened')"
+            )
+            assert colleague.is_hidden("#lib-delete")
+            # The owner finds it in the list and deletes it, after confirming.
+            owner.click("#lib-search")
+            owner.wait_for_selector("#lib-results li")
+            questions = []
+            owner.once("dialog", lambda dialog: (questions.append(dialog.message), dialog.accept()))
+            owner.click("#lib-delete")
+            owner.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('Deleted')")
+            assert questions and "Freeze to withdraw" in questions[0]
+            assert owner.eval_on_selector_all("#lib-results li", "items => items.length") == 0
+            assert owner.is_hidden("#lib-share") and owner.is_hidden("#lib-revise")
+            assert _request(owner)["market"] == example_request("quillbrook-rent-freeze")["market"]
+            colleague.goto(link)
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.startsWith('No such')"
+            )
+    finally:
+        owner.close()
+        colleague.context.close()
+
+
+def test_the_message_asking_for_a_key_says_where_the_key_field_is(browser, tmp_path):
+    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": KEY_A}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(**settings) as (base, _):
+            page.goto(base + "/")
+            page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
+            message = page.text_content("#status")
+            tops = page.evaluate(
+                "['run', 'lib-key', 'results-heading'].map((id) =>"
+                " document.getElementById(id).getBoundingClientRect().top + window.scrollY)"
+            )
+            # The field lies between the form (its Run button) and the results, as the message says.
+            assert tops[0] < tops[1] < tops[2]
+            assert "between the inputs and the results" in message
+    finally:
+        page.close()

@@ -865,3 +865,42 @@ def test_a_refused_run_says_in_words_that_the_messages_stand_by_their_fields(pag
     page.wait_for_function("document.querySelector('#f-price').getAttribute('aria-invalid') === null")
     page.wait_for_function("document.querySelector('#status').textContent.startsWith('Not run: one value')")
     assert page.text_content("#status") == "Not run: one value needs a change, each marked next to its field."
+
+
+def _label_of(page, pointer: str) -> str:
+    return page.eval_on_selector(f"[data-pointer='{pointer}']", "input => input.labels[0].textContent")
+
+
+def test_a_level_is_worded_by_its_policy_kind_in_a_scenario_built_by_hand(page, base_url):
+    _load(page, base_url, "quillbrook-rent-freeze")
+    while page.locator("[data-action^='remove-policy']").count():
+        page.locator("[data-action^='remove-policy']").first.click()
+    page.select_option("#f-schedule", "stock")
+    for kind in ("price_ceiling", "unit_tax", "quantity_cap", "price_floor"):
+        page.click("#add-policy")
+        index = len(_request(page)["policies"]) - 1
+        page.select_option(f"[data-pointer='/policies/{index}/kind']", kind)
+    # A freeze that lets rents reset between tenants is a cap of 0 % on rises: no level.
+    page.fill("[data-pointer='/policies/0/level']", "")
+    page.fill("[data-pointer='/policies/0/growth']", "0")
+    page.fill("[data-pointer='/policies/0/vacancy_decontrol']", "10 %")
+    page.select_option("[data-pointer='/policies/0/new_homes']", "exempt")
+    page.fill("#u-quantity", "homes")
+    page.dispatch_event("#u-quantity", "change")
+    assert _label_of(page, "/policies/0/level") == "Rent limit (ceiling level)"
+    assert "empty for a largest rent rise" in page.text_content(
+        "#" + page.get_attribute("[data-pointer='/policies/0/level']", "aria-describedby")
+    )
+    # A permit cap's level counts homes, a floor's is the lowest rent: neither is a rent limit.
+    assert _label_of(page, "/policies/2/level") == "Most homes let (quantity cap, e.g. a permit cap)"
+    assert (
+        page.text_content("#" + page.get_attribute("[data-pointer='/policies/2/level']", "aria-describedby"))
+        == "homes"
+    )
+    assert _label_of(page, "/policies/3/level") == "Lowest rent allowed (price floor)"
+    page.locator("[data-action='remove-policy:3']").click()
+    request = _request(page)
+    assert [p["kind"] for p in request["policies"]] == ["price_ceiling", "unit_tax", "quantity_cap"]
+    assert request["adjustment"] == {"schedule": "stock"}
+    run_scenario(page)
+    assert [p["name"] for p in _answer(page)["summary"]] == [p["name"] for p in request["policies"]]

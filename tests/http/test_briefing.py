@@ -160,3 +160,23 @@ def test_a_briefing_writes_rounding_as_about_zero_and_choices_in_words_as_the_pa
     text = briefing_html(simulate(request))
     assert ">constant elasticity</td>" in text and ">constant_elasticity</td>" not in text
     assert "Answer with" not in text
+
+
+def test_the_inputs_read_as_the_analyst_gave_them_with_no_digit_added_or_lost(client):
+    request = example_request("quillbrook-rent-freeze")
+    request["policies"] = [
+        {"name": "free market", "kind": "none"},
+        {"name": "limit", "kind": "price_ceiling", "level": 1250.5},
+        {"name": "tax", "kind": "unit_tax", "amount": 59.5},
+    ]
+    text = client.post("/v1/briefing", json={**request, "units": UNITS}).get_data(as_text=True)
+    assert "rents at most 1,250.5 EUR per home per month" in text
+    assert "a tax of 59.5 EUR per home per month" in text
+    tables = _Tables()
+    tables.feed(text)
+    given = {row[0].split(" (")[0]: row[1] for row in tables.tables[0][1:]}
+    market = request["market"]
+    assert market["payments_per_period"] == 12 and given["Rent payments per period"] == "12"
+    assert given["Response to households"] == "1" and given["Response to income"] == "0.8"
+    assert given["How homes offered respond to rent, in the long run"] == "1.5"
+    assert given["Rent today"] == "1,180"

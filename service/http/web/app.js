@@ -199,7 +199,10 @@ function fieldKey(pointer) {
 
 function inputWords(pointer) {
   const key = fieldKey(pointer);
-  const found = state.labels.inputs[key] || state.labels.inputs[key.split(".").pop()];
+  // A policy's field in the words of its kind where they differ (a floor's or a cap's level).
+  const kind = key.startsWith("policies.") ? getAt(state.request, `${pointer.split("/").slice(0, 3).join("/")}/kind`) : null;
+  const found = (kind && state.labels.inputs[`${kind}.${key.split(".").pop()}`]) || state.labels.inputs[key]
+    || state.labels.inputs[key.split(".").pop()];
   const leaf = unescape(pointer.split("/").pop());
   if (key === "shifters") return { label: `Response to ${leaf.replace(/_/g, " ")} (shifter elasticity)`, hint: found ? found[2] : "" };
   if (!found) return { label: leaf.replace(/_/g, " "), hint: "" };
@@ -1292,7 +1295,7 @@ async function fromFragment() {
 
 // Where the library keeps the API key typed in its panel for this browser session (library.js).
 const KEY_STORE = "shockpath-library-key";
-const NEEDS_KEY = "This service needs an API key: enter yours in the scenario library's \"API key\" field (below the results), then try again.";
+const NEEDS_KEY = "This service needs an API key: enter yours in the scenario library's \"API key\" field (between the inputs and the results), then try again.";
 
 // Every call to the service carries that key when one is given (a service with keys switched on
 // answers 401 without it): the field once the library panel is built, the session's copy before.

@@ -50,6 +50,13 @@
         el("input", { id: "lib-link", readonly: true, size: "60" }),
         " ",
         el("button", { type: "button", id: "lib-copy", text: "Copy link" })),
+      // The open record's revisions (each change is one; the earlier ones stay readable) and,
+      // for its owner, deleting it.
+      el("div", { id: "lib-record", class: "row", hidden: true },
+        el("label", { for: "lib-revision", text: "Revision" }),
+        el("select", { id: "lib-revision" }),
+        el("button", { type: "button", id: "lib-open-revision", class: "secondary", text: "Open this revision" }),
+        el("button", { type: "button", id: "lib-delete", class: "secondary", text: "Delete this scenario", hidden: true })),
       el("fieldset", {},
         el("legend", { text: "Open" }),
         el("div", { class: "row" },
@@ -117,9 +124,18 @@
     $("lib-shared").checked = record.shared;
     setUnits(record.units || {});
     $("lib-revise").hidden = !record.mine;
-    const link = new URL(record.links.page, window.location.href).href;
-    $("lib-link").value = link;
+    // An earlier revision's link opens that revision, as the one on the screen; the latest's
+    // opens whatever is latest when it is followed.
+    const link = new URL(record.links.page, window.location.href);
+    if (record.revision !== record.latest_revision) link.searchParams.set("revision", String(record.revision));
+    $("lib-link").value = link.href;
     $("lib-share").hidden = false;
+    const revisions = $("lib-revision");
+    revisions.replaceChildren(...Array.from({ length: record.latest_revision }, (_, i) => record.latest_revision - i).map((n) =>
+      el("option", { value: String(n), text: n === record.latest_revision ? `${n} (latest)` : String(n) })));
+    revisions.value = String(record.revision);
+    $("lib-delete").hidden = !record.mine;
+    $("lib-record").hidden = false;
     $("library").dataset.scenario = record.id;
     $("library").dataset.revision = String(record.revision);
   }
@@ -133,7 +149,10 @@
       return;
     }
     const target = revise && lib.current ? `/v1/scenarios/${encodeURIComponent(lib.current.id)}` : "/v1/scenarios";
-    const extra = revise && lib.current ? { "If-Match": `"${lib.current.id}.${lib.current.revision}"` } : {};
+    // The ETag of the latest revision when the record was opened: changes made from an earlier
+    // revision are saved after it, and a revision someone saved since is still caught (412).
+    const latest = lib.current && (lib.current.latest_revision || lib.current.revision);
+    const extra = revise && lib.current ? { "If-Match": `"${lib.current.id}.${latest}"` } : {};
     say("Saving...");
     const { response, body: answer } = await call(revise ? "PUT" : "POST", target, body, extra);
     if (response.status === 412) {
@@ -158,6 +177,23 @@
     const version = body.model_version;
     say(`Opened "${body.name}" (revision ${body.revision} of ${body.latest_revision}, saved under model ${version}). `
       + "Run it to see its paths.");
+  }
+
+  async function remove() {
+    const record = lib.current;
+    if (!record || !window.confirm(`Delete "${record.name}" and all its ${record.latest_revision} revision(s)? `
+      + "Its link will no longer open it.")) return;
+    const { response, body } = await call("DELETE", `/v1/scenarios/${encodeURIComponent(record.id)}`);
+    if (!response.ok) { say(explain(response, body)); return; }
+    lib.current = null;
+    for (const id of ["lib-share", "lib-record", "lib-revise"]) $(id).hidden = true;
+    delete $("library").dataset.scenario;
+    delete $("library").dataset.revision;
+    const item = $("lib-results").querySelector(`li[data-id="${CSS.escape(record.id)}"]`);
+    if (item) item.remove();
+    // The request stays in the form: it can be saved again as a new scenario.
+    say(`Deleted "${record.name}". The request is still in the form above.`);
+    $("lib-save").focus();
   }
 
   function listItem(record) {
@@ -210,6 +246,8 @@
     $("lib-revise").addEventListener("click", () => save(true));
     $("lib-search").addEventListener("click", () => search(false));
     $("lib-more").addEventListener("click", () => search(true));
+    $("lib-open-revision").addEventListener("click", () => lib.current && open(lib.current.id, $("lib-revision").value));
+    $("lib-delete").addEventListener("click", remove);
     $("lib-copy").addEventListener("click", async () => {
       try { await navigator.clipboard.writeText($("lib-link").value); say("Link copied."); }
       catch (e) { $("lib-link").select(); say("Select the link and copy it."); }
