@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from . import engine
+from .engine.cautions import INELASTIC_DEMAND
 from .engine.uncertainty import (
     default_rate_coupled,
     headlines,
@@ -106,6 +107,41 @@ def _coupling_caution(req: UncertainRequest) -> list[str]:
     ]
 
 
+#: Bands caution on near-vertical demand where more than this share of the draws has it.
+INELASTIC_DRAWS = 0.001
+
+
+def _inelastic_demand_caution(req: UncertainRequest, sensitivity: bool = False) -> list[str]:
+    """The engine cautions on a demand price elasticity closer to zero than INELASTIC_DEMAND at
+    the central values only; an uncertain one may reach there in its draws (bands) or at an end
+    of its range (sensitivity), where losses become very large (MODEL.md 20)."""
+    for item in req.inputs:
+        if item.target != "demand_elasticity":
+            continue
+        words = (
+            "With demand that unresponsive, the figures that rest on what households would pay for "
+            "homes they cannot get (the deadweight loss, the losses of households priced out) become "
+            "very large and very uncertain"
+        )
+        if sensitivity:
+            nearest = max(item.distribution.range())  # eta < 0: the end nearer zero
+            if abs(nearest) < INELASTIC_DEMAND:
+                return [
+                    f"The demand price elasticity's range reaches {nearest:g}, far closer to zero than "
+                    f"published estimates for rented homes (most between about -0.2 and -1). {words}: "
+                    "the swings toward that end rest on it."
+                ]
+            return []
+        share = item.distribution.share_between(-INELASTIC_DEMAND, 0.0)
+        if share > INELASTIC_DRAWS:
+            return [
+                f"About {100.0 * share:.3g} % of the draws have a demand price elasticity closer to zero "
+                f"than -{INELASTIC_DEMAND:g}, far from published estimates for rented homes (most between "
+                f"about -0.2 and -1). {words}: the upper percentiles of the losses rest on those draws."
+            ]
+    return []
+
+
 def _key(q: float) -> str:
     return f"{q:g}"
 
@@ -183,6 +219,7 @@ def bands(request: dict[str, Any], threads: int = 1) -> dict[str, Any]:
             "for each policy and left out of its percentiles."
         )
     cautions += _coupling_caution(req)
+    cautions += _inelastic_demand_caution(req)
     cautions += central["cautions"]
     return {
         "scenario_id": _answer_id("bands", req),
@@ -243,6 +280,7 @@ def sensitivity(request: dict[str, Any]) -> dict[str, Any]:
             "stock schedule the homes below the free path and renters' discounted gain or loss against "
             "the free path).",
             *_coupling_caution(req),
+            *_inelastic_demand_caution(req, sensitivity=True),
             *central["cautions"],
         ],
     }

@@ -193,6 +193,14 @@ class Distribution:
             x = np.where(x <= self.lower, np.nextafter(self.lower, np.inf), x)
         return x
 
+    def share_between(self, low: float, high: float) -> float:
+        """The probability of a draw strictly between `low` and `high` (the distribution's CDF;
+        a degenerate one: 1 where its value lies between, else 0)."""
+        frozen = self.frozen()
+        if frozen is None:
+            return 1.0 if low < self.central < high else 0.0
+        return float(max(frozen.cdf(high) - frozen.cdf(low), 0.0))
+
     def range(self) -> tuple[float, float]:
         """Low and high for sensitivity: the range given, or the 5th and 95th percentiles."""
         if self.kind != "normal":
