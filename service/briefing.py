@@ -13,6 +13,7 @@ to PDF in Chromium and reads the pages back).
 from __future__ import annotations
 
 import html
+import math
 import re
 from typing import Any
 
@@ -85,10 +86,29 @@ def _number(value: Any, scale: float = 1.0) -> str:
             return "0"
         if abs(value) < ROUNDING * scale:  # the rounding of a difference, as the page shows it
             return "\u2248 0"
+        if scale != 1.0 and abs(value) >= 1:  # a figure against its scale: an estimate's precision
+            return _estimate(value, scale)
         if abs(value) >= 100:
             return f"{value:,.0f}"
         return f"{value:,.3g}" if abs(value) < 1 else f"{value:,.2f}"
     return _e(str(value).replace("_", " "))  # a choice in words: constant elasticity
+
+
+#: Large figures in words, as the page writes them (app.js `number`).
+_LARGE = ((1e12, "trillion"), (1e9, "billion"), (1e6, "million"))
+
+
+def _estimate(value: float, scale: float) -> str:
+    """A figure measured against `scale` (a rent, homes, a rent bill) to the precision a model
+    estimate has, as the page shows it: from a million in words with four figures (1.057
+    billion, not 1,056,999,393), below that to about a thousandth of the scale (48 homes, not
+    47.98; a rent of 12.35 on a base rent of 12.50), trailing zeros dropped."""
+    for size, word in _LARGE:
+        if abs(value) >= size * (1.0 - 5e-5):  # rounds to at least 1 of this word
+            return f"{value / size:.4g} {word}"
+    digits = max(0, min(3, 3 - math.floor(math.log10(scale))))
+    text = f"{value:,.{digits}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
 
 
 def _given(value: Any) -> str:

@@ -53,7 +53,7 @@ def test_a_bands_briefing_shows_the_ranges_that_the_bands_answer_holds():
     assert len(ranges) == 1 + len(RANGE_FIGURES)
     row = next(r for r in ranges if "(discounted deadweight loss)" in r[0])
     for cell, band in zip(row[1:], answer["bands"], strict=True):
-        low, high, median = re.fullmatch(r"(\S+) to (\S+)\s*\(median (\S+)\)", cell).groups()
+        low, high, median = re.fullmatch(r"(.+?) to (.+?)\s*\(median (.+?)\)", cell).groups()
         by_q = band["summary"]["discounted_deadweight_loss"]
         assert _number(low) == pytest.approx(by_q["5"], rel=5e-3, abs=0.5)
         assert _number(high) == pytest.approx(by_q["95"], rel=5e-3, abs=0.5)
