@@ -904,3 +904,26 @@ def test_a_level_is_worded_by_its_policy_kind_in_a_scenario_built_by_hand(page, 
     assert request["adjustment"] == {"schedule": "stock"}
     run_scenario(page)
     assert [p["name"] for p in _answer(page)["summary"]] == [p["name"] for p in request["policies"]]
+
+
+def test_a_paths_answer_downloads_as_a_wide_csv_too(page, base_url):
+    """A spreadsheet reads the wide form as a table (one row per policy and period, a column per
+    variable); the page offered the long form only (a helper's trial). Bands keep the long form."""
+    import csv
+    import io
+
+    _load(page, base_url, "quillbrook-rent-freeze")
+    run_scenario(page)
+    page.wait_for_function("!document.querySelector('#download-csv-wide').hidden")
+    text = page.evaluate("fetch(document.querySelector('#download-csv-wide').href).then(r => r.text())")
+    rows = list(csv.reader(io.StringIO(text)))
+    answer = _answer(page)
+    header = rows[0]
+    assert "policy" in header and "period" in header and any(h.startswith("consumer_price") for h in header)
+    periods = len(answer["periods"])
+    assert len(rows) - 1 == periods * len(answer["paths"])  # one row per policy and period
+    _load(page, base_url, "quillbrook-uncertain-elasticities")
+    page.fill("input[data-pointer='/draws']", "200")
+    run_scenario(page)
+    assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
+    assert page.is_hidden("#download-csv-wide")

@@ -1188,11 +1188,23 @@ function showTables() {
   showYears(body);
 }
 
+// The CSV downloads: the long form (one value per row, its unit beside it) and, for paths, the
+// wide form a spreadsheet reads as a table (one row per policy and period, a column per
+// variable: `?layout=wide`); bands have the long form only.
 async function csvLink(request) {
-  const response = await call(state.endpoint, { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
-  if (response.ok) {
-    $("download-csv").href = blobUrl(await response.blob());
+  const post = (layout) => call(`${state.endpoint}${layout ? `?layout=${layout}` : ""}`,
+    { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
+  const wide = state.endpoint === "/v1/paths";
+  $("download-csv-wide").hidden = true;
+  const [long, table] = await Promise.all([post(""), wide ? post("wide") : null]);
+  if (long.ok) {
+    $("download-csv").href = blobUrl(await long.blob());
     $("download-csv").download = `${slug(scenarioName())}.csv`;
+  }
+  if (table && table.ok) {
+    $("download-csv-wide").href = blobUrl(await table.blob());
+    $("download-csv-wide").download = `${slug(scenarioName())}-wide.csv`;
+    $("download-csv-wide").hidden = false;
   }
 }
 
