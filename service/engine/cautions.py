@@ -310,7 +310,9 @@ def scenario_cautions(
     if ceiling_binds and random_rationing:
         out.append(
             "Binding price ceilings ration units at random among willing buyers; the misallocation "
-            "loss is included in the deadweight loss and in the consumers' loss."
+            "loss is included in the deadweight loss and in the consumers' loss. Each year's homes "
+            "are handed out afresh: in practice sitting tenants keep their homes, so who holds a "
+            "controlled home also depends on earlier years, which the model does not follow."
         )
     if shortage:
         text = (

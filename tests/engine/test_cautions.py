@@ -640,3 +640,12 @@ def test_a_quantity_cap_below_the_standing_homes_is_named_under_stock():
     assert "'permits' (9,500 homes against 10,000)" in text and "'loose'" not in text
     request["adjustment"] = {"schedule": "linear", "periods": 3}
     assert not any(MARKS["cap below stock"] in c for c in simulate(request)["cautions"])
+
+
+def test_random_rationing_says_each_year_is_handed_out_afresh():
+    """Glaeser & Luttmer (2003) allocate a controlled stock once; the model does so every year,
+    which sitting tenants do not see (a reviewing economist's point): the caution says so."""
+    (text,) = [
+        c for c in _cautions(ceiling_binds=True, random_rationing=True) if MARKS["random ceiling"] in c
+    ]
+    assert "handed out afresh" in text and "sitting tenants keep their homes" in text
