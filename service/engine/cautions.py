@@ -412,8 +412,9 @@ def scenario_cautions(
         out.append(
             f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
             "The years after the horizon are not counted: when such a rule ends, its missing homes "
-            "take years to be built again, so its totals look better than those of a rule that "
-            "ends within the horizon."
+            "take years to be built again (where a build limit holds building back in the market "
+            "without the rule too, some never are), so its totals look better than those of a rule "
+            "that ends within the horizon."
         )
     lossless = list(lossless_ceilings) if stock else []
     if lossless:
