@@ -57,6 +57,24 @@ def _request(page):
     return json.loads(page.input_value("#request-json"))
 
 
+def _enter_key(page, key):
+    """Type an API key in the library panel, as an analyst does (the page reads it on change)."""
+    page.fill("#lib-key", key)
+    page.dispatch_event("#lib-key", "change")
+
+
+def _paste_with_key(page, base, key, request):
+    """Open the page with `key` and paste `request` (with keys on, the demos need a key too)."""
+    page.goto(base + "/")
+    page.wait_for_selector("#lib-save")
+    _enter_key(page, key)
+    page.eval_on_selector(
+        "#request-json",
+        "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+        json.dumps(request),
+    )
+
+
 def test_save_restart_and_reopen_by_link(browser, tmp_path):
     ARTIFACTS.mkdir(exist_ok=True)
     database = {"library_path": str(tmp_path / "library.sqlite3")}
@@ -105,8 +123,7 @@ def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(
             page.goto(base + "/")
             page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
             assert page.eval_on_selector_all("#demo option", "options => options.length") == 1  # no demos yet
-            page.fill("#lib-key", KEY_A)
-            page.dispatch_event("#lib-key", "change")
+            _enter_key(page, KEY_A)
             page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
             page.select_option("#demo", "quillbrook-rent-freeze")
             page.click("#load-demo")
@@ -126,23 +143,13 @@ def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
     colleague = browser.new_context().new_page()
     try:
         with serving(**settings) as (base, _):
-            # With keys on, the page's demos need a key too: the owner pastes a request.
-            owner.goto(base + "/")
-            owner.wait_for_selector("#lib-save")
-            owner.fill("#lib-key", KEY_A)
-            owner.dispatch_event("#lib-key", "change")
-            owner.eval_on_selector(
-                "#request-json",
-                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
-                json.dumps(example_request("quillbrook-rent-freeze")),
-            )
+            _paste_with_key(owner, base, KEY_A, example_request("quillbrook-rent-freeze"))
             link = _save(owner, "Draft freeze")
             colleague.goto(link)
             colleague.wait_for_function(
                 "document.querySelector('#lib-status').textContent.includes('API key')"
             )
-            colleague.fill("#lib-key", KEY_B)
-            colleague.dispatch_event("#lib-key", "change")
+            _enter_key(colleague, KEY_B)
             colleague.wait_for_function(
                 "document.querySelector('#lib-status').textContent.startsWith('No such')"
             )
@@ -280,21 +287,12 @@ def test_the_owner_deletes_a_scenario_from_the_page_and_its_link_no_longer_opens
     colleague = browser.new_context().new_page()
     try:
         with serving(**settings) as (base, _):
-            owner.goto(base + "/")
-            owner.wait_for_selector("#lib-save")
-            owner.fill("#lib-key", KEY_A)
-            owner.dispatch_event("#lib-key", "change")
-            owner.eval_on_selector(
-                "#request-json",
-                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
-                json.dumps(example_request("quillbrook-rent-freeze")),
-            )
+            _paste_with_key(owner, base, KEY_A, example_request("quillbrook-rent-freeze"))
             link = _save(owner, "Freeze to withdraw", shared=True)
             # A colleague may read the shared scenario but is offered no delete.
             colleague.goto(link)
             colleague.wait_for_selector("#lib-key")
-            colleague.fill("#lib-key", KEY_B)
-            colleague.dispatch_event("#lib-key", "change")
+            _enter_key(colleague, KEY_B)
             colleague.wait_for_function(
                 "document.querySelector('#lib-status').textContent.startsWith('Opened')"
             )
