@@ -19,6 +19,8 @@ from typing import Any
 
 from . import charts, labels
 from .engine.cautions import NEGLIGIBLE
+from .problems import ProblemError, validation_problem
+from .schemas.paths import FULL_ONLY
 from .simulation import simulate
 from .uncertainty import bands, central_request, is_bands_request
 
@@ -434,7 +436,10 @@ def briefing(
 ) -> str:
     """The briefing of a /v1/paths request, or of a /v1/bands request (its central answer and
     how uncertain it is; `threads` as for bands); ProblemError on invalid input, as the
-    endpoint of the request's kind."""
+    endpoint of the request's kind. A briefing is drawn from every series: it has no summary
+    form (422 at /output, as bands answer)."""
+    if isinstance(request, dict) and request.get("output", "full") != "full":
+        raise ProblemError(validation_problem({"output": [FULL_ONLY]}))
     if not is_bands_request(request):
         return briefing_html(simulate(request), units, title)
     ranges = bands(request, threads=threads)

@@ -12,7 +12,6 @@ from .conditional import conditional, request_tag
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import read_json
 from .negotiation import negotiate
-from .uncertainty import full_output_only
 
 __all__ = ["blueprint"]
 
@@ -50,8 +49,7 @@ def post_briefing() -> Response:
     if not isinstance(raw, dict):
         raise ProblemError(problem(422, "The request is not valid", "Must be a JSON object."))
     options = load_request(_OPTIONS, {k: raw[k] for k in OPTIONS if k in raw})
-    # Drawn from every series: a briefing has no summary form (422 at /output, as for bands).
-    scenario = full_output_only({k: v for k, v in raw.items() if k not in OPTIONS})
+    scenario = {k: v for k, v in raw.items() if k not in OPTIONS}
     if not charts.available():
         raise ProblemError(
             problem(503, "Service Unavailable", "Briefings need the charts extra (matplotlib).")

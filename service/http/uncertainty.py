@@ -8,8 +8,6 @@ from __future__ import annotations
 
 from flask import Response, current_app, g
 
-from ..problems import ProblemError, validation_problem
-from ..schemas.paths import FULL_ONLY
 from ..uncertainty import bands, sensitivity
 from ..workbook import bands_workbook
 from .conditional import attachment, conditional, request_tag
@@ -66,7 +64,6 @@ def post_bands_csv() -> Response:
 
 def _bands(chosen: str, raw: object) -> Response:
     as_csv, as_xlsx = chosen == CSV, chosen == XLSX
-    raw = full_output_only(raw)
     tag = request_tag("/v1/bands", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
@@ -103,7 +100,7 @@ def _bands(chosen: str, raw: object) -> Response:
 )
 def post_sensitivity() -> Response:
     negotiate(JSON_ONLY)
-    raw = full_output_only(read_json())
+    raw = read_json()
 
     def produce() -> Response:
         body = sensitivity(raw)
@@ -112,10 +109,3 @@ def post_sensitivity() -> Response:
         return json_response(body)
 
     return conditional(request_tag("/v1/sensitivity", raw, "json"), produce)
-
-
-def full_output_only(raw):
-    """Bands and sensitivity have no summary form: "output" may only be "full" (422 otherwise)."""
-    if isinstance(raw, dict) and raw.get("output", "full") != "full":
-        raise ProblemError(validation_problem({"output": [FULL_ONLY]}))
-    return raw

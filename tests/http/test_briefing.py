@@ -192,3 +192,16 @@ def test_the_inputs_read_as_the_analyst_gave_them_with_no_digit_added_or_lost(cl
     assert given["Response to households"] == "1" and given["Response to income"] == "0.8"
     assert given["How homes offered respond to rent, in the long run"] == "1.5"
     assert given["Rent today"] == "1,180"
+
+
+@pytest.mark.parametrize("name", ["quillbrook-rent-freeze", "quillbrook-uncertain-elasticities"])
+def test_the_python_briefing_refuses_a_summary_at_its_output_as_the_endpoint_does(name):
+    """The rule lives in service.briefing itself, so a Python caller gets the 422 the endpoint
+    gives (a summary answer has no series to draw), not a KeyError."""
+    from service import ProblemError
+    from service.briefing import briefing
+
+    with pytest.raises(ProblemError) as refused:
+        briefing({**example_request(name), "output": "summary"})
+    assert refused.value.status == 422
+    assert [e["pointer"] for e in refused.value.problem["errors"]] == ["/output"]
