@@ -429,7 +429,7 @@ def scenario_cautions(
     below = dict(caps_below_stock or {}) if stock else {}
     if below:
         which = ", ".join(
-            f"'{name}' ({_figure(level)} homes against {_figure(homes)})"
+            f"'{name}' ({_homes(level)} against {_homes(homes)} standing)"
             for name, (level, homes) in below.items()
         )
         out.append(

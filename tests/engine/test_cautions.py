@@ -640,7 +640,7 @@ def test_a_quantity_cap_below_the_standing_homes_is_named_under_stock():
     body = simulate(request)
     assert max(body["paths"][1]["vacant_homes"]) > 0
     (text,) = [c for c in body["cautions"] if MARKS["cap below stock"] in c]
-    assert "'permits' (9,500 homes against 10,000)" in text and "'loose'" not in text
+    assert "'permits' (9,500 homes against 10,000 homes standing)" in text and "'loose'" not in text
     request["adjustment"] = {"schedule": "linear", "periods": 3}
     assert not any(MARKS["cap below stock"] in c for c in simulate(request)["cautions"])
 
