@@ -186,6 +186,21 @@ FLAG_INDEX, _F = _positions("FlagIndex", FLAG_NAMES)
 FREE_PATH_NAMES = ("price", "quantity", "supply_elasticity")
 FREE_PATH_INDEX, _FP = _positions("FreePathIndex", FREE_PATH_NAMES)
 
+#: A path's inputs per period, gathered once per walk into one block (T+1, these) in this order:
+#: the shifts of the walk's form, the schedule's supply elasticity, the price index and
+#: inflation, the discount factor, and the free path of the walk's form.
+PERIOD_INPUT_NAMES = (
+    "demand_shift",
+    "supply_shift",
+    "supply_elasticity",
+    "price_index",
+    "inflation",
+    "discount_factor",
+    "free_price",
+    "free_quantity",
+)
+PERIOD_INPUT_INDEX, _PI = _positions("PeriodInputIndex", PERIOD_INPUT_NAMES)
+
 #: The two curves a shifter moves, in the order of the shift arrays' second axis.
 SHIFTED_CURVES = ("demand", "supply")
 _, _SC = _positions("ShiftedCurve", SHIFTED_CURVES)
@@ -269,6 +284,14 @@ RowInputs = namedtuple(
     ),
 )
 
+#: One path's market and schedule as scalars, read once per path. The per-period functions
+#: take these and the period's values, never the input arrays: a compiled call that receives a
+#: tuple of arrays updates the reference count of each of them, per call.
+Path = namedtuple(
+    "Path", "ce p0 q0 eta k_pay stock rate floor_share build_limit conversion long_run random horizon"
+)
+#: One policy row's rule as scalars (see RowInputs).
+Rule = namedtuple("Rule", "code value start end indexed share exempt tau")
 #: The curves of one period on one path (see the module docstring).
 Curves = namedtuple("Curves", "ce p0 q0 eta d e s a b f h")
 #: One policy's outcome in a period (prices per price interval, quantities per interval).
@@ -615,30 +638,48 @@ def _free_point(c, guess):
 
 
 @njit(**_JIT)
-def _period_curves(m, i, ce, t, stock_prev):
-    """The curves of period t on a path whose homes standing at the end of t-1 are
-    `stock_prev` (used only under the stock schedule; MODEL.md 13 and 16)."""
-    shifts = m.constant_shifts if ce else m.linear_shifts
-    d, s = shifts[i, _SC.demand, t], shifts[i, _SC.supply, t]
-    if m.stock[i]:
-        rate = m.stock_rate[i]
-        top = (1.0 + m.build_limit[i]) * stock_prev if m.build_limit[i] > 0.0 else math.inf
+def _path_of(m, i, ce):
+    """Scenario i's market and schedule as scalars, for a walk in the form `ce`."""
+    return Path(
+        ce,
+        m.price[i],
+        m.quantity[i],
+        m.demand_elasticity[i],
+        m.payments_per_period[i],
+        m.stock[i],
+        m.stock_rate[i],
+        m.floor_share[i],
+        m.build_limit[i],
+        m.conversion[i],
+        m.long_run_elasticity[i],
+        m.random_rationing[i],
+        m.horizon[i],
+    )
+
+
+@njit(**_JIT)
+def _period_curves(path, d, s, e, stock_prev):
+    """The curves of a period with shifts d, s (of the path's form) and the schedule's supply
+    elasticity e, on a path whose homes standing at the end of the period before are
+    `stock_prev` (used only under the stock schedule, whose supply has the long-run
+    elasticity; MODEL.md 13 and 16)."""
+    if path.stock:
+        rate = path.rate
+        top = (1.0 + path.build_limit) * stock_prev if path.build_limit > 0.0 else math.inf
         return Curves(
-            ce,
-            m.price[i],
-            m.quantity[i],
-            m.demand_elasticity[i],
+            path.ce,
+            path.p0,
+            path.q0,
+            path.eta,
             d,
-            m.long_run_elasticity[i],
+            path.long_run,
             s,
             (1.0 - rate) * stock_prev,
             rate,
-            m.floor_share[i] * stock_prev,
+            path.floor_share * stock_prev,
             top,
         )
-    return Curves(
-        ce, m.price[i], m.quantity[i], m.demand_elasticity[i], d, m.eps[i, t], s, 0.0, 1.0, 0.0, math.inf
-    )
+    return Curves(path.ce, path.p0, path.q0, path.eta, d, e, s, 0.0, 1.0, 0.0, math.inf)
 
 
 @njit(**_JIT)
@@ -1215,14 +1256,17 @@ def _free_path_kernel(m, form_ce, out):
     """out[i] = (P*_t, Q*_t, supply elasticity_t) of scenario i in the form form_ce[i]."""
     for i in range(m.price.shape[0]):
         ce = form_ce[i]
-        p0, q0 = m.price[i], m.quantity[i]
+        path = _path_of(m, i, ce)
+        shifts = m.constant_shifts if ce else m.linear_shifts
+        p0, q0 = path.p0, path.q0
         out[i, _FP.price, 0] = p0
         out[i, _FP.quantity, 0] = q0
         out[i, _FP.supply_elasticity, 0] = m.eps[i, 0]
         stock_prev = q0
         guess = p0
         for t in range(1, m.horizon[i] + 1):
-            c = _period_curves(m, i, ce, t, stock_prev)
+            d, s = shifts[i, _SC.demand, t], shifts[i, _SC.supply, t]
+            c = _period_curves(path, d, s, m.eps[i, t], stock_prev)
             price, quantity = _free_point(c, guess)
             out[i, _FP.price, t] = price
             out[i, _FP.quantity, t] = quantity
@@ -1251,11 +1295,10 @@ def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -
 # --- every policy row -----------------------------------------------------------------------
 
 
-#: Where a row's series go once its periods are walked: `out` (kept series, T+1) gets the
-#: cells `kept`, cell j in row column[j]; stage[row, s, t] (float32) gets the s-th of the cells
-#: `banded` (see _flush_band); `checked` lists the cells whose values must be finite (the
-#: sixteen core series, the kept and the banded ones).
-Target = namedtuple("Target", "kept column out checked banded stage row")
+#: Where a row's series go once its periods are walked: out[r] (kept series, T+1) gets the
+#: cells `kept`, cell j in column[j]; stage[row, s, t] (float32) gets the s-th of the
+#: `counts[policy]` cells banded[policy] (see _flush_band).
+Target = namedtuple("Target", "kept column out banded counts stage")
 
 #: Rows of consecutive draws whose banded series are gathered before they go to the band
 #: target together: each (slot, period) then gets one run of draws instead of one value per
@@ -1264,82 +1307,112 @@ BAND_STAGE = 16
 
 
 @njit(**_JIT)
-def _start_row(cell, p0, q0, share):
-    """Period 0: the base point."""
-    for j in range(cell.shape[0]):
-        cell[j] = 0.0
+def _start_row(cells, p0, q0, share):
+    """Period 0: the base point, into cells[0]."""
+    for j in range(cells.shape[1]):
+        cells[0, j] = 0.0
     for name in (_S.consumer_price, _S.producer_price, _S.marginal_value, _S.marginal_cost):
-        cell[name] = p0
+        cells[0, name] = p0
     for name in (_S.quantity, _S.quantity_demanded, _S.quantity_supplied, _S.free_quantity):
-        cell[name] = q0
+        cells[0, name] = q0
     for name in (_S.covered_price, _S.uncovered_price, _S.free_price, _S.nominal_consumer_price):
-        cell[name] = p0
-    cell[_S.covered_quantity] = share * q0
-    cell[_S.uncovered_quantity] = (1.0 - share) * q0
-    cell[_S.homes_standing] = q0
+        cells[0, name] = p0
+    cells[0, _S.covered_quantity] = share * q0
+    cells[0, _S.uncovered_quantity] = (1.0 - share) * q0
+    cells[0, _S.homes_standing] = q0
 
 
 @njit(**_JIT)
-def _fill_cell(cell, o, w, p_star, q_star, free_price, free_quantity, index, cumulative, discounted):
-    cell[_S.consumer_price] = o.pc
-    cell[_S.producer_price] = o.pp
-    cell[_S.quantity] = o.q
-    cell[_S.quantity_demanded] = o.qd
-    cell[_S.quantity_supplied] = o.qs
-    cell[_S.shortage] = o.shortage
-    cell[_S.excess_supply] = o.excess
-    cell[_S.marginal_value] = o.mv
-    cell[_S.marginal_cost] = o.mc
-    cell[_S.consumer_surplus_change] = w.dcs
-    cell[_S.producer_surplus_change] = w.dps
-    cell[_S.government_revenue] = w.rev
-    cell[_S.deadweight_loss] = w.dwl
-    cell[_S.misallocation_loss] = w.mis
-    cell[_S.cumulative_deadweight_loss] = cumulative
-    cell[_S.discounted_deadweight_loss] = discounted
-    cell[_S.covered_price] = o.covered_price
-    cell[_S.uncovered_price] = o.uncovered_price
-    cell[_S.covered_quantity] = o.covered_q
-    cell[_S.uncovered_quantity] = o.uncovered_q
-    cell[_S.tenants_in_controlled_homes] = w.tenants_c
-    cell[_S.tenants_in_uncontrolled_homes] = w.tenants_u
-    cell[_S.households_priced_out] = w.priced_out
-    cell[_S.owners_of_controlled_homes] = w.owners_c
-    cell[_S.owners_of_uncontrolled_homes] = w.owners_u
-    cell[_S.government] = w.government
-    cell[_S.households_drawn_in] = w.drawn_in
-    cell[_S.free_price] = p_star
-    cell[_S.free_quantity] = q_star
+def _fill_cell(cells, t, o, w, p_star, q_star, free_price, free_quantity, index, cumulative, discounted):
+    """Period t's outcome and welfare into cells[t] (indexed in place: a view of each period's
+    row would update the buffer's reference count twice a period)."""
+    cells[t, _S.consumer_price] = o.pc
+    cells[t, _S.producer_price] = o.pp
+    cells[t, _S.quantity] = o.q
+    cells[t, _S.quantity_demanded] = o.qd
+    cells[t, _S.quantity_supplied] = o.qs
+    cells[t, _S.shortage] = o.shortage
+    cells[t, _S.excess_supply] = o.excess
+    cells[t, _S.marginal_value] = o.mv
+    cells[t, _S.marginal_cost] = o.mc
+    cells[t, _S.consumer_surplus_change] = w.dcs
+    cells[t, _S.producer_surplus_change] = w.dps
+    cells[t, _S.government_revenue] = w.rev
+    cells[t, _S.deadweight_loss] = w.dwl
+    cells[t, _S.misallocation_loss] = w.mis
+    cells[t, _S.cumulative_deadweight_loss] = cumulative
+    cells[t, _S.discounted_deadweight_loss] = discounted
+    cells[t, _S.covered_price] = o.covered_price
+    cells[t, _S.uncovered_price] = o.uncovered_price
+    cells[t, _S.covered_quantity] = o.covered_q
+    cells[t, _S.uncovered_quantity] = o.uncovered_q
+    cells[t, _S.tenants_in_controlled_homes] = w.tenants_c
+    cells[t, _S.tenants_in_uncontrolled_homes] = w.tenants_u
+    cells[t, _S.households_priced_out] = w.priced_out
+    cells[t, _S.owners_of_controlled_homes] = w.owners_c
+    cells[t, _S.owners_of_uncontrolled_homes] = w.owners_u
+    cells[t, _S.government] = w.government
+    cells[t, _S.households_drawn_in] = w.drawn_in
+    cells[t, _S.free_price] = p_star
+    cells[t, _S.free_quantity] = q_star
     # Against the free path (its own stock history), not this path's free point.
-    cell[_S.homes_below_free_path] = free_quantity - o.q
-    cell[_S.rent_above_free_path] = o.pc - free_price
-    cell[_S.nominal_consumer_price] = o.pc * index
+    cells[t, _S.homes_below_free_path] = free_quantity - o.q
+    cells[t, _S.rent_above_free_path] = o.pc - free_price
+    cells[t, _S.nominal_consumer_price] = o.pc * index
 
 
 @njit(**_JIT)
-def _walk_row(m, rows, r, ce, free, cells, flags):
-    """One policy row's periods in order, in the form `ce`, against the free path `free`
-    (n, 2+, T+1) of that form: period t's series into cells[t] (T+1, series; 0 after the
-    scenario's horizon) and its flags into `flags` (3, T+1)."""
+def _gather_walk(m, rows, r, ce, free, period):
+    """Row r's walk in the form `ce` against the free path `free` (n, 3, T+1) of that form: its
+    path and rule as scalars, and its inputs per period into `period` (T+1, PERIOD_INPUT_NAMES),
+    so that the walk itself reads no input array."""
     i = rows.scenario[r]
-    p0, q0, eta, k_pay = m.price[i], m.quantity[i], m.demand_elasticity[i], m.payments_per_period[i]
-    code, v, share = rows.kind[r], rows.value[r], rows.coverage[r]
-    start, end = rows.start[r], rows.end[r]
+    shifts = m.constant_shifts if ce else m.linear_shifts
+    for t in range(period.shape[0]):
+        period[t, _PI.demand_shift] = shifts[i, _SC.demand, t]
+        period[t, _PI.supply_shift] = shifts[i, _SC.supply, t]
+        period[t, _PI.supply_elasticity] = m.eps[i, t]
+        period[t, _PI.price_index] = m.price_index[i, t]
+        period[t, _PI.inflation] = m.inflation[i, t]
+        period[t, _PI.discount_factor] = m.discount_factor[i, t]
+        period[t, _PI.free_price] = free[i, _FP.price, t]
+        period[t, _PI.free_quantity] = free[i, _FP.quantity, t]
+    rule = Rule(
+        rows.kind[r],
+        rows.value[r],
+        rows.start[r],
+        rows.end[r],
+        rows.indexed[r],
+        rows.coverage[r],
+        rows.exempt_new[r],
+        rows.decontrol[r],
+    )
+    return _path_of(m, i, ce), rule
+
+
+@njit(**_JIT)
+def _walk_row(path, rule, period, cells, flags, r):
+    """One policy row's periods in order, on its path (scalars) with its inputs per period
+    `period` (_gather_walk): period t's series into cells[t] (T+1, series; 0 after the
+    scenario's horizon) and its flags into flags[r] (3, T+1)."""
+    p0, q0, eta, k_pay = path.p0, path.q0, path.eta, path.k_pay
+    code, v, share = rule.code, rule.value, rule.share
+    start, end = rule.start, rule.end
     ceiling = code == _CEILING or code == _GROWTH_CAP
-    stock = m.stock[i]
-    exempt = ceiling and rows.exempt_new[r]
-    tau = rows.decontrol[r] if ceiling else 0.0
-    kappa = m.conversion[i] if ceiling and stock else 0.0
+    stock = path.stock
+    exempt = ceiling and rule.exempt
+    tau = rule.tau if ceiling else 0.0
+    kappa = path.conversion if ceiling and stock else 0.0
     # A ceiling whose controlled homes are a group of their own (MODEL.md 17, 18).
     grouped = ceiling and ((stock and (share < 1.0 or exempt or kappa > 0.0)) or tau > 0.0)
     whole = share >= 1.0 and not exempt and tau == 0.0
     vacancies = stock and (code == _FLOOR or code == _QUANTITY_CAP)
-    random = m.random_rationing[i]
-    m_divisor = 1.0 + 1.0 / eta if random and ce else 2.0
+    random = path.random
+    m_divisor = 1.0 + 1.0 / eta if random and path.ce else 2.0
 
-    _start_row(cells[0], p0, q0, share)
+    _start_row(cells, p0, q0, share)
     for j in range(len(FLAG_NAMES)):
-        flags[j, 0] = False
+        flags[r, j, 0] = False
     stock_prev = q0  # homes standing at the end of the period before
     previous_rent = p0  # the controlled rent of the period before
     guess = p0
@@ -1347,19 +1420,26 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
     controlled_prev = others_prev = 0.0
     in_groups = prev_bound = False
     controlled = others = Group(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, math.inf)
-    for t in range(1, m.eps.shape[1]):
-        cell = cells[t]
-        if t > m.horizon[i]:
-            for j in range(cell.shape[0]):
-                cell[j] = 0.0
+    for t in range(1, cells.shape[0]):
+        if t > path.horizon:
+            for j in range(cells.shape[1]):
+                cells[t, j] = 0.0
             for j in range(len(FLAG_NAMES)):
-                flags[j, t] = False
+                flags[r, j, t] = False
             continue
-        c = _period_curves(m, i, ce, t, stock_prev)
+        free_price, free_quantity = period[t, _PI.free_price], period[t, _PI.free_quantity]
+        index = period[t, _PI.price_index]
+        c = _period_curves(
+            path,
+            period[t, _PI.demand_shift],
+            period[t, _PI.supply_shift],
+            period[t, _PI.supply_elasticity],
+            stock_prev,
+        )
         active = start <= t and t <= end
         # Money rules are nominal: their real value falls with the price index.
-        real = v if rows.indexed[r] else v / m.price_index[i, t]
-        level = _rule_rent(code, real, v, rows.indexed[r], m.inflation[i, t], previous_rent)
+        real = v if rule.indexed else v / index
+        level = _rule_rent(code, real, v, rule.indexed, period[t, _PI.inflation], previous_rent)
         converted = 0.0
         if grouped and active:
             conversion_share = 0.0
@@ -1367,7 +1447,7 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
                 controlled_prev, others_prev = share * stock_prev, (1.0 - share) * stock_prev
                 in_groups = True
             elif kappa > 0.0 and prev_bound:
-                gap = math.log(free[i, _FP.price, t - 1] / previous_rent)
+                gap = math.log(period[t - 1, _PI.free_price] / previous_rent)
                 conversion_share = min(1.0, kappa * max(0.0, gap))
             converted = conversion_share * controlled_prev
             controlled, others = _group_supplies(
@@ -1378,8 +1458,8 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
                 controlled_prev,
                 others_prev,
                 conversion_share,
-                m.floor_share[i],
-                m.build_limit[i],
+                path.floor_share,
+                path.build_limit,
             )
             o, p_star, q_star = _controlled_groups(c, controlled, others, level, tau, whole, guess)
         else:
@@ -1387,7 +1467,7 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
             if stock:
                 p_star, q_star = _free_point(c, guess)
             else:
-                p_star, q_star = free[i, _FP.price, t], free[i, _FP.quantity, t]
+                p_star, q_star = free_price, free_quantity
             o = _policy_outcome(c, code, v, real, level, active, p_star, q_star, share)
         infeasible = o.binding and not (o.q > 0.0 and o.pc > 0.0 and o.pp > 0.0)
         if stock and not (p_star > 0.0 and q_star > 0.0):
@@ -1399,37 +1479,23 @@ def _walk_row(m, rows, r, ce, free, cells, flags):
         else:
             w = _welfare(c, o, p_star, q_star, k_pay, share, ceiling, code == _SUBSIDY, random, m_divisor)
         cumulative += w.dwl
-        factor = m.discount_factor[i, t]
-        discounted += w.dwl * factor
-        _fill_cell(
-            cell,
-            o,
-            w,
-            p_star,
-            q_star,
-            free[i, _FP.price, t],
-            free[i, _FP.quantity, t],
-            m.price_index[i, t],
-            cumulative,
-            discounted,
-        )
+        discounted += w.dwl * period[t, _PI.discount_factor]
+        _fill_cell(cells, t, o, w, p_star, q_star, free_price, free_quantity, index, cumulative, discounted)
         standing = o.q
         if vacancies and o.binding:  # homes offered and not let stand empty (MODEL.md 16)
             standing = max(o.q, c.f)
-        cell[_S.homes_standing] = standing
-        cell[_S.vacant_homes] = standing - o.q
-        cell[_S.converted_homes] = converted
+        cells[t, _S.homes_standing] = standing
+        cells[t, _S.vacant_homes] = standing - o.q
+        cells[t, _S.converted_homes] = converted
         if stock and code != _NONE and t >= start:
-            renters, extra = _vs_free_path(
-                c, o, free[i, _FP.price, t], free[i, _FP.quantity, t], k_pay, w.mis
-            )
-            cell[_S.renters_vs_free_path] = renters
-            cell[_S.extra_rent_vs_free_path] = extra
+            renters, extra = _vs_free_path(c, o, free_price, free_quantity, k_pay, w.mis)
+            cells[t, _S.renters_vs_free_path] = renters
+            cells[t, _S.extra_rent_vs_free_path] = extra
         else:
-            cell[_S.renters_vs_free_path] = cell[_S.extra_rent_vs_free_path] = 0.0
-        flags[_F.binding, t] = o.binding
-        flags[_F.rationed, t] = o.rationed
-        flags[_F.infeasible, t] = infeasible
+            cells[t, _S.renters_vs_free_path] = cells[t, _S.extra_rent_vs_free_path] = 0.0
+        flags[r, _F.binding, t] = o.binding
+        flags[r, _F.rationed, t] = o.rationed
+        flags[r, _F.infeasible, t] = infeasible
         stock_prev = standing
         if in_groups:
             controlled_prev, others_prev = o.covered_q, o.uncovered_q
@@ -1447,10 +1513,10 @@ def _all_finite(cells, checked, last):
     """Whether every `checked` cell of periods 1..last is finite: first every cell of those
     periods at once (one contiguous block, a loop the compiler vectorises), and only where
     that finds a value that is not finite, the checked cells one by one."""
-    block = cells[1 : last + 1].reshape(-1)
     everything = True
-    for k in range(block.shape[0]):
-        everything &= math.isfinite(block[k])
+    for t in range(1, last + 1):
+        for j in range(cells.shape[1]):
+            everything &= math.isfinite(cells[t, j])
     if everything:
         return True
     for t in range(1, last + 1):
@@ -1470,72 +1536,74 @@ def _sum_over(cells, j, first, last):
 
 
 @njit(**_JIT)
-def _discounted_sum(cells, j, factor, last):
-    """sum_(t = 1..last) cells[t, j] f_t, in period order (f_t: the discount factor)."""
+def _discounted_sum(cells, j, period, last):
+    """sum_(t = 1..last) cells[t, j] f_t, in period order (f_t: the discount factor, from the
+    walk's inputs per period)."""
     total = 0.0
     for t in range(1, last + 1):
-        total += cells[t, j] * factor[t]
+        total += cells[t, j] * period[t, _PI.discount_factor]
     return total
 
 
 @njit(**_JIT)
-def _row_totals(cells, flags, last, end, factor, checked, total):
+def _row_totals(cells, period, flags, totals, r, last, end, checked):
     """A walked row's summary over its periods 1..last (the horizon; `end` the rule's last
     active period), money summed in period order: totals of welfare and of each group (plain
     and discounted), peaks, periods bound, renters against the free path (in all and after
     the rule ends), homes converted, whether every checked value is finite, and the figures of
-    the last period (for last = 0, the base point)."""
-    for k in range(total.shape[0]):
-        total[k] = 0.0
-    total[_T.non_finite] = 0.0 if _all_finite(cells, checked, last) else 1.0
+    the last period (for last = 0, the base point); into totals[r], from flags[r] and the walk's
+    inputs per period `period` (discount factors)."""
+    for k in range(totals.shape[1]):
+        totals[r, k] = 0.0
+    totals[r, _T.non_finite] = 0.0 if _all_finite(cells, checked, last) else 1.0
     peak, peak_at, peak_below, bound = 0.0, -1.0, 0.0, 0.0
     for t in range(1, last + 1):
         if cells[t, _S.shortage] > peak:
             peak, peak_at = cells[t, _S.shortage], float(t)
         if cells[t, _S.homes_below_free_path] > peak_below:
             peak_below = cells[t, _S.homes_below_free_path]
-        if flags[_F.binding, t]:
+        if flags[r, _F.binding, t]:
             bound += 1.0
-    total[_T.peak_shortage] = peak
-    total[_T.peak_shortage_period] = peak_at
-    total[_T.peak_homes_below_free_path] = peak_below
-    total[_T.binding_periods] = bound
-    total[_T.total_consumer_surplus_change] = _sum_over(cells, _S.consumer_surplus_change, 1, last)
-    total[_T.total_producer_surplus_change] = _sum_over(cells, _S.producer_surplus_change, 1, last)
-    total[_T.total_government_revenue] = _sum_over(cells, _S.government_revenue, 1, last)
+    totals[r, _T.peak_shortage] = peak
+    totals[r, _T.peak_shortage_period] = peak_at
+    totals[r, _T.peak_homes_below_free_path] = peak_below
+    totals[r, _T.binding_periods] = bound
+    totals[r, _T.total_consumer_surplus_change] = _sum_over(cells, _S.consumer_surplus_change, 1, last)
+    totals[r, _T.total_producer_surplus_change] = _sum_over(cells, _S.producer_surplus_change, 1, last)
+    totals[r, _T.total_government_revenue] = _sum_over(cells, _S.government_revenue, 1, last)
     for g in range(_GROUP_SERIES.shape[0]):
-        total[_GROUP_TOTALS[g]] = _sum_over(cells, _GROUP_SERIES[g], 1, last)
-        total[_GROUP_DISCOUNTED[g]] = _discounted_sum(cells, _GROUP_SERIES[g], factor, last)
+        totals[r, _GROUP_TOTALS[g]] = _sum_over(cells, _GROUP_SERIES[g], 1, last)
+        totals[r, _GROUP_DISCOUNTED[g]] = _discounted_sum(cells, _GROUP_SERIES[g], period, last)
     after_end = max(min(end, last) + 1, 1)  # the periods t > end of 1..last (end may be any int)
     renters, extra = _S.renters_vs_free_path, _S.extra_rent_vs_free_path
-    total[_T.vs_free_path_renters] = _sum_over(cells, renters, 1, last)
-    total[_T.vs_free_path_renters_discounted] = _discounted_sum(cells, renters, factor, last)
-    total[_T.vs_free_path_extra_rent] = _sum_over(cells, extra, 1, last)
-    total[_T.vs_free_path_renters_after_end] = _sum_over(cells, renters, after_end, last)
-    total[_T.vs_free_path_extra_rent_after_end] = _sum_over(cells, extra, after_end, last)
-    total[_T.total_converted_homes] = _sum_over(cells, _S.converted_homes, 1, last)
-    final = cells[last]
-    total[_T.final_homes_below_free_path] = final[_S.homes_below_free_path]
-    total[_T.total_deadweight_loss] = final[_S.cumulative_deadweight_loss]
-    total[_T.discounted_deadweight_loss] = final[_S.discounted_deadweight_loss]
-    total[_T.final_consumer_price] = final[_S.consumer_price]
-    total[_T.final_quantity] = final[_S.quantity]
-    total[_T.final_vacant_homes] = final[_S.vacant_homes]
+    totals[r, _T.vs_free_path_renters] = _sum_over(cells, renters, 1, last)
+    totals[r, _T.vs_free_path_renters_discounted] = _discounted_sum(cells, renters, period, last)
+    totals[r, _T.vs_free_path_extra_rent] = _sum_over(cells, extra, 1, last)
+    totals[r, _T.vs_free_path_renters_after_end] = _sum_over(cells, renters, after_end, last)
+    totals[r, _T.vs_free_path_extra_rent_after_end] = _sum_over(cells, extra, after_end, last)
+    totals[r, _T.total_converted_homes] = _sum_over(cells, _S.converted_homes, 1, last)
+    totals[r, _T.final_homes_below_free_path] = cells[last, _S.homes_below_free_path]
+    totals[r, _T.total_deadweight_loss] = cells[last, _S.cumulative_deadweight_loss]
+    totals[r, _T.discounted_deadweight_loss] = cells[last, _S.discounted_deadweight_loss]
+    totals[r, _T.final_consumer_price] = cells[last, _S.consumer_price]
+    totals[r, _T.final_quantity] = cells[last, _S.quantity]
+    totals[r, _T.final_vacant_homes] = cells[last, _S.vacant_homes]
 
 
 @njit(**_JIT)
-def _emit(cells, last, target):
-    """A walked row's kept series into target.out (every period) and its banded ones into
-    row `target.row` of the band stage (periods 0..last), each series one contiguous run."""
+def _emit(cells, last, target, r, policy, row):
+    """Row r's kept series into target.out[r] (every period) and, for a band `policy` >= 0, its
+    banded ones into row `row` of the band stage (periods 0..last), each series one run."""
+    out, column, stage, banded = target.out, target.column, target.stage, target.banded
     for j in target.kept:
-        series = target.out[target.column[j]]
         for t in range(cells.shape[0]):
-            series[t] = cells[t, j]
-    stage = target.stage[target.row]
-    for s in range(target.banded.shape[0]):
-        j = target.banded[s]
+            out[r, column[j], t] = cells[t, j]
+    if policy < 0:
+        return
+    for s in range(target.counts[policy]):
+        j = banded[policy, s]
         for t in range(last + 1):
-            stage[s, t] = cells[t, j]
+            stage[row, s, t] = cells[t, j]
 
 
 @njit(**_JIT)
@@ -1543,13 +1611,12 @@ def _flush_band(stage, staged, x, policy, first_draw, last):
     """The first `staged` rows of the stage (draws first_draw, first_draw + 1, ...), all of
     `policy`, into the band target of the outputs `x`: band_out[band_slot[policy, j], t,
     first_draw + k] = stage[k, s, t] for the policy's s-th banded cell j, periods 0..last."""
-    banded, slots = x.banded[policy, : x.counts[policy]], x.band_slot[policy]
-    for s in range(banded.shape[0]):
-        row = x.band_out[slots[banded[s]]]
+    band_out = x.band_out  # indexed in place: a view per period would count references
+    for s in range(x.counts[policy]):
+        slot = x.band_slot[policy, x.banded[policy, s]]
         for t in range(last + 1):
-            runs = row[t, first_draw : first_draw + staged]
             for k in range(staged):
-                runs[k] = stage[k, s, t]
+                band_out[slot, t, first_draw + k] = stage[k, s, t]
 
 
 #: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
@@ -1570,22 +1637,27 @@ _OTHER_FORM_CHECKED = np.arange(SERIES_INDEX["discounted_deadweight_loss"] + 1)
 def _policy_rows(m, rows, free, free_other, other, x):
     """Every row in its scenario's form; with `other`, also in the other form (summary figures
     only: discounted deadweight loss, final consumer price, peak shortage; MODEL.md 20)."""
-    kept, column, out, flags, summary = x.kept, x.column, x.out, x.flags, x.summary
+    flags, summary = x.flags, x.summary
     band_rows = x.band_rows
     periods = m.eps.shape[1]
     cells = np.empty((periods, len(SERIES_NAMES)))
-    nothing = np.empty(0, dtype=np.int64)
+    period = np.empty((periods, len(PERIOD_INPUT_NAMES)))
     core = _OTHER_FORM_CHECKED
-    scratch_flags = np.empty((len(FLAG_NAMES), periods), dtype=np.bool_)
-    scratch_total = np.empty(summary.shape[1])
+    # The other form's walk: its flags and totals in a one-row scratch (row 0).
+    scratch_flags = np.empty((1, len(FLAG_NAMES), periods), dtype=np.bool_)
+    scratch_totals = np.empty((1, summary.shape[1]))
     every_banded = x.banded.ravel()
-    checked = np.unique(np.concatenate((core, kept, every_banded[every_banded >= 0])))
+    checked = np.unique(np.concatenate((core, x.kept, every_banded[every_banded >= 0])))
     stage = np.empty((BAND_STAGE if band_rows > 0 else 1, x.banded.shape[1], periods), dtype=np.float32)
+    target = Target(x.kept, x.column, x.out, x.banded, x.counts, stage)
     staged = staged_policy = staged_first = staged_last = 0  # the rows in the stage, and theirs
+    # Per row only indices and scalars change hands: no views and no tuples of arrays are
+    # made in the loop (each would update reference counts, atomically, every row).
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
         ce = m.constant_elasticity[i]
-        last, end, factor = m.horizon[i], rows.end[r], m.discount_factor[i]
+        last, end = m.horizon[i], rows.end[r]
+        policy, row = -1, 0  # no bands
         if band_rows > 0:
             policy = r // band_rows
             if staged > 0 and (staged == BAND_STAGE or policy != staged_policy or last != staged_last):
@@ -1593,25 +1665,23 @@ def _policy_rows(m, rows, free, free_other, other, x):
                 staged = 0
             if staged == 0:
                 staged_policy, staged_first, staged_last = policy, x.band_start + r % band_rows, last
-            target = Target(
-                kept, column, out[r], checked, x.banded[policy, : x.counts[policy]], stage, staged
-            )
+            row = staged
             staged += 1
-        else:
-            target = Target(kept, column, out[r], checked, nothing, stage, 0)
-        _walk_row(m, rows, r, ce, free, cells, flags[r])
-        _row_totals(cells, flags[r], last, end, factor, checked, summary[r])
-        _emit(cells, last, target)
+        path, rule = _gather_walk(m, rows, r, ce, free, period)
+        _walk_row(path, rule, period, cells, flags, r)
+        _row_totals(cells, period, flags, summary, r, last, end, checked)
+        _emit(cells, last, target, r, policy, row)
         if other:
-            _walk_row(m, rows, r, not ce, free_other, cells, scratch_flags)
-            _row_totals(cells, scratch_flags, last, end, factor, core, scratch_total)
-            feasible = scratch_total[_T.non_finite] == 0.0
+            path, rule = _gather_walk(m, rows, r, not ce, free_other, period)
+            _walk_row(path, rule, period, cells, scratch_flags, 0)
+            _row_totals(cells, period, scratch_flags, scratch_totals, 0, last, end, core)
+            feasible = scratch_totals[0, _T.non_finite] == 0.0
             for t in range(last + 1):
-                if scratch_flags[_F.infeasible, t]:
+                if scratch_flags[0, _F.infeasible, t]:
                     feasible = False
-            summary[r, _T.other_discounted_deadweight_loss] = scratch_total[_T.discounted_deadweight_loss]
-            summary[r, _T.other_final_consumer_price] = scratch_total[_T.final_consumer_price]
-            summary[r, _T.other_peak_shortage] = scratch_total[_T.peak_shortage]
+            summary[r, _T.other_discounted_deadweight_loss] = scratch_totals[0, _T.discounted_deadweight_loss]
+            summary[r, _T.other_final_consumer_price] = scratch_totals[0, _T.final_consumer_price]
+            summary[r, _T.other_peak_shortage] = scratch_totals[0, _T.peak_shortage]
             summary[r, _T.other_feasible] = 1.0 if feasible else 0.0
     if staged > 0:
         _flush_band(stage, staged, x, staged_policy, staged_first, staged_last)

@@ -254,13 +254,17 @@ def _walked_row(seed: int, periods: int = 12) -> np.ndarray:
 
 
 def _totals(cells, last, end, checked, binding=None):
-    flags = np.zeros((3, cells.shape[0]), dtype=bool)
+    """Row 1 of three rows of flags and totals (the kernel's own row index), summed."""
+    flags = np.zeros((3, 3, cells.shape[0]), dtype=bool)
     if binding is not None:
-        flags[0] = binding
+        flags[1, kernel.FLAG_INDEX["binding"]] = binding
     factor = 1.0 / 1.035 ** np.arange(cells.shape[0])
-    total = np.full(len(kernel.SUMMARY_NAMES), np.nan)
-    kernel._row_totals(cells, flags, last, end, factor, np.asarray(checked, dtype=np.int64), total)
-    return dict(zip(kernel.SUMMARY_NAMES, total, strict=True)), factor
+    period = np.full((cells.shape[0], len(kernel.PERIOD_INPUT_NAMES)), np.nan)
+    period[:, kernel.PERIOD_INPUT_INDEX["discount_factor"]] = factor
+    totals = np.full((3, len(kernel.SUMMARY_NAMES)), np.nan)
+    kernel._row_totals(cells, period, flags, totals, 1, last, end, np.asarray(checked, dtype=np.int64))
+    assert np.isnan(totals[[0, 2]]).all()  # the other rows are not touched
+    return dict(zip(kernel.SUMMARY_NAMES, totals[1], strict=True)), factor
 
 
 def _in_order(values) -> float:
