@@ -564,7 +564,9 @@ def _log_root(lo, hi, c, alpha, beta, scale, gap):
 @njit(**_JIT)
 def _on_bounds(c, price, alpha, beta, scale, gap):
     """The price where supply sits on a bound at the producer price of `price` (a kink:
-    vertical supply), else `price` itself."""
+    vertical supply), else `price` itself (always, without bounds: no supply to evaluate)."""
+    if not (c.f > 0.0 or c.h < math.inf):
+        return price
     sloped = c.a + c.b * _base_supply(c, scale * price - gap)
     if c.f > 0.0 and sloped < c.f:
         return _inverse_demand(c, alpha * c.f + beta)
@@ -1296,7 +1298,7 @@ def free_paths(m: MarketInputs, constant_elasticity: np.ndarray | None = None) -
 
 
 #: Where a row's series go once its periods are walked: out[r] (kept series, T+1) gets the
-#: cells `kept`, cell j in column[j]; stage[row, s, t] (float32) gets the s-th of the
+#: cells `kept`, cell j in column[j]; stage[s, t, row] (float32) gets the s-th of the
 #: `counts[policy]` cells banded[policy] (see _flush_band).
 Target = namedtuple("Target", "kept column out banded counts stage")
 
@@ -1513,10 +1515,10 @@ def _all_finite(cells, checked, last):
     """Whether every `checked` cell of periods 1..last is finite: first every cell of those
     periods at once (one contiguous block, a loop the compiler vectorises), and only where
     that finds a value that is not finite, the checked cells one by one."""
+    block = cells[1 : last + 1].reshape(-1)
     everything = True
-    for t in range(1, last + 1):
-        for j in range(cells.shape[1]):
-            everything &= math.isfinite(cells[t, j])
+    for k in range(block.shape[0]):
+        everything &= math.isfinite(block[k])
     if everything:
         return True
     for t in range(1, last + 1):
@@ -1603,20 +1605,21 @@ def _emit(cells, last, target, r, policy, row):
     for s in range(target.counts[policy]):
         j = banded[policy, s]
         for t in range(last + 1):
-            stage[row, s, t] = cells[t, j]
+            stage[s, t, row] = cells[t, j]
 
 
 @njit(**_JIT)
 def _flush_band(stage, staged, x, policy, first_draw, last):
     """The first `staged` rows of the stage (draws first_draw, first_draw + 1, ...), all of
     `policy`, into the band target of the outputs `x`: band_out[band_slot[policy, j], t,
-    first_draw + k] = stage[k, s, t] for the policy's s-th banded cell j, periods 0..last."""
+    first_draw + k] = stage[s, t, k] for the policy's s-th banded cell j, periods 0..last: one
+    contiguous run of draws from the stage to the target per series and period."""
     band_out = x.band_out  # indexed in place: a view per period would count references
     for s in range(x.counts[policy]):
         slot = x.band_slot[policy, x.banded[policy, s]]
         for t in range(last + 1):
             for k in range(staged):
-                band_out[slot, t, first_draw + k] = stage[k, s, t]
+                band_out[slot, t, first_draw + k] = stage[s, t, k]
 
 
 #: The policy pass's outputs: series `out` (R, kept, T+1) with `kept` cell indices and their
@@ -1648,7 +1651,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
     scratch_totals = np.empty((1, summary.shape[1]))
     every_banded = x.banded.ravel()
     checked = np.unique(np.concatenate((core, x.kept, every_banded[every_banded >= 0])))
-    stage = np.empty((BAND_STAGE if band_rows > 0 else 1, x.banded.shape[1], periods), dtype=np.float32)
+    stage = np.empty((x.banded.shape[1], periods, BAND_STAGE if band_rows > 0 else 1), dtype=np.float32)
     target = Target(x.kept, x.column, x.out, x.banded, x.counts, stage)
     staged = staged_policy = staged_first = staged_last = 0  # the rows in the stage, and theirs
     # Per row only indices and scalars change hands: no views and no tuples of arrays are
