@@ -2024,6 +2024,53 @@ def _bin_of_each(values, low, scale, bins, value_bins):
 
 
 @njit(**_JIT)
+def _range_of(values):
+    """(min, max) of values as float64: four running pairs side by side (no single chain of
+    dependent comparisons), each started at values[0], so a NaN there gives NaN as one pair
+    would, and NaNs elsewhere are skipped."""
+    first = np.float64(values[0])
+    low0 = low1 = low2 = low3 = high0 = high1 = high2 = high3 = first
+    n = values.shape[0]
+    whole = n - n % 4
+    for d in range(0, whole, 4):
+        x0, x1 = np.float64(values[d]), np.float64(values[d + 1])
+        x2, x3 = np.float64(values[d + 2]), np.float64(values[d + 3])
+        low0, high0 = x0 if x0 < low0 else low0, x0 if x0 > high0 else high0
+        low1, high1 = x1 if x1 < low1 else low1, x1 if x1 > high1 else high1
+        low2, high2 = x2 if x2 < low2 else low2, x2 if x2 > high2 else high2
+        low3, high3 = x3 if x3 < low3 else low3, x3 if x3 > high3 else high3
+    for d in range(whole, n):
+        x = np.float64(values[d])
+        low0, high0 = x if x < low0 else low0, x if x > high0 else high0
+    low = low0
+    for x in (low1, low2, low3):
+        low = x if x < low else low
+    high = high0
+    for x in (high1, high2, high3):
+        high = x if x > high else high
+    return low, high
+
+
+@njit(**_JIT)
+def _bin_counts(value_bins, n, bins):
+    """How many of value_bins[:n] fall in each bin: four histograms filled in turn and summed
+    (one alone chains every increment of a crowded bin to the one before)."""
+    parts = np.zeros((4, bins), dtype=np.int64)
+    whole = n - n % 4
+    for d in range(0, whole, 4):
+        parts[0, value_bins[d]] += 1
+        parts[1, value_bins[d + 1]] += 1
+        parts[2, value_bins[d + 2]] += 1
+        parts[3, value_bins[d + 3]] += 1
+    for d in range(whole, n):
+        parts[0, value_bins[d]] += 1
+    counts = np.empty(bins, dtype=np.int64)
+    for b in range(bins):
+        counts[b] = parts[0, b] + parts[1, b] + parts[2, b] + parts[3, b]
+    return counts
+
+
+@njit(**_JIT)
 def _order_statistics(values, ks, out, value_bins):
     """out[n] = the ks[n]-th smallest of `values` (ks sorted, unique). One pass puts the values
     into equal-width bins between their minimum and maximum (their bins kept in `value_bins`,
@@ -2032,12 +2079,7 @@ def _order_statistics(values, ks, out, value_bins):
     holds few, else by binning that bin's values again (heavy tails: one far draw stretches
     the bins until nearly all values share the first). `values` is only read (float32 or
     float64); bins are computed in float64 either way."""
-    low = high = np.float64(values[0])
-    for x in values:
-        if x < low:
-            low = x
-        if x > high:
-            high = x
+    low, high = _range_of(values)
     if low == high:
         for n in range(ks.shape[0]):
             out[n] = low
@@ -2050,9 +2092,7 @@ def _order_statistics(values, ks, out, value_bins):
             out[n] = ordered[ks[n]]
         return
     _bin_of_each(values, low, scale, bins, value_bins)
-    counts = np.zeros(bins, dtype=np.int64)
-    for d in range(values.shape[0]):
-        counts[value_bins[d]] += 1
+    counts = _bin_counts(value_bins, values.shape[0], bins)
     slot = np.full(bins, -1, dtype=np.int64)
     first = np.empty(ks.shape[0], dtype=np.int64)  # first rank held by each wanted bin
     size = np.empty(ks.shape[0], dtype=np.int64)

@@ -163,6 +163,23 @@ def test_order_statistics_give_numpy_percentiles(rows, dtype):
     )
 
 
+@pytest.mark.parametrize("n", [1, 3, 4, 5, 1001])
+def test_the_range_and_bin_counts_of_a_row_are_numpys(n):
+    """The selection's range (four running pairs) is numpy's nanmin and nanmax where the first
+    value is a number, and NaN where the first value is NaN (one running pair's rule); its bin
+    counts (four histograms summed) are numpy's bincount."""
+    rng = np.random.default_rng(n)
+    values = rng.standard_normal(n).astype(np.float32)
+    values[rng.random(n) < 0.2] = np.nan
+    values[0] = 0.25
+    low, high = kernel._range_of(values)
+    assert (low, high) == (np.nanmin(values), np.nanmax(values))
+    values[0] = np.nan
+    assert all(math.isnan(x) for x in kernel._range_of(values))
+    bins = rng.integers(0, 7, n).astype(np.int32)
+    np.testing.assert_array_equal(kernel._bin_counts(bins, n, 7), np.bincount(bins, minlength=7))
+
+
 @pytest.mark.parametrize("ce", [False, True])
 @pytest.mark.parametrize(("build", "depreciation"), [(0.02, None), (0.02, 0.01), (0.5, 0.3)])
 def test_a_stock_supply_with_a_build_limit_clears_where_brentq_says(ce, build, depreciation):
