@@ -178,6 +178,17 @@ def _positions(typename: str, names: tuple[str, ...]):
 
 SERIES_INDEX, _S = _positions("SeriesIndex", SERIES_NAMES)
 
+#: The series each field of a period's Welfare goes to, in the order of its fields.
+WELFARE_SERIES = (
+    "consumer_surplus_change",
+    "producer_surplus_change",
+    "government_revenue",
+    "deadweight_loss",
+    "misallocation_loss",
+    *GROUP_NAMES,
+)
+_WELFARE_CELLS = np.array([SERIES_INDEX[name] for name in WELFARE_SERIES], dtype=np.int64)
+
 #: Per-period flags of a policy row, in the order of the first axis of its flags.
 FLAG_NAMES = ("binding", "rationed", "infeasible")
 FLAG_INDEX, _F = _positions("FlagIndex", FLAG_NAMES)
@@ -305,7 +316,8 @@ Outcome = namedtuple(
 #: A group's supply as a function of the rent it receives (MODEL.md 17):
 #: G(P) = min(max(A + B K(P) + C max(0, D K(P) - E), lo), hi), K the period's base curve.
 Group = namedtuple("Group", "A B C D E lo hi")
-#: Welfare of a period, money per model period (x k), and its split between groups.
+#: Welfare of a period, money per model period (x k), and its split between groups: all floats,
+#: each written to the series of WELFARE_SERIES in the same order.
 Welfare = namedtuple(
     "Welfare", "dcs dps rev dwl mis tenants_c tenants_u priced_out owners_c owners_u government drawn_in"
 )
@@ -1337,24 +1349,14 @@ def _fill_cell(cells, t, o, w, p_star, q_star, free_price, free_quantity, index,
     cells[t, _S.excess_supply] = o.excess
     cells[t, _S.marginal_value] = o.mv
     cells[t, _S.marginal_cost] = o.mc
-    cells[t, _S.consumer_surplus_change] = w.dcs
-    cells[t, _S.producer_surplus_change] = w.dps
-    cells[t, _S.government_revenue] = w.rev
-    cells[t, _S.deadweight_loss] = w.dwl
-    cells[t, _S.misallocation_loss] = w.mis
+    for k in range(_WELFARE_CELLS.shape[0]):  # Welfare's fields are all floats: w[k] by index
+        cells[t, _WELFARE_CELLS[k]] = w[k]
     cells[t, _S.cumulative_deadweight_loss] = cumulative
     cells[t, _S.discounted_deadweight_loss] = discounted
     cells[t, _S.covered_price] = o.covered_price
     cells[t, _S.uncovered_price] = o.uncovered_price
     cells[t, _S.covered_quantity] = o.covered_q
     cells[t, _S.uncovered_quantity] = o.uncovered_q
-    cells[t, _S.tenants_in_controlled_homes] = w.tenants_c
-    cells[t, _S.tenants_in_uncontrolled_homes] = w.tenants_u
-    cells[t, _S.households_priced_out] = w.priced_out
-    cells[t, _S.owners_of_controlled_homes] = w.owners_c
-    cells[t, _S.owners_of_uncontrolled_homes] = w.owners_u
-    cells[t, _S.government] = w.government
-    cells[t, _S.households_drawn_in] = w.drawn_in
     cells[t, _S.free_price] = p_star
     cells[t, _S.free_quantity] = q_star
     # Against the free path (its own stock history), not this path's free point.

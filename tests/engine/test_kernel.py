@@ -264,6 +264,27 @@ def test_python_and_the_kernel_share_every_code():
     )
 
 
+def test_each_welfare_field_goes_to_its_own_series():
+    """The period's Welfare is written to the cells by position (WELFARE_SERIES): field and
+    series pair up one to one, in the order written here by hand."""
+    pairs = {
+        "dcs": "consumer_surplus_change",
+        "dps": "producer_surplus_change",
+        "rev": "government_revenue",
+        "dwl": "deadweight_loss",
+        "mis": "misallocation_loss",
+        "tenants_c": "tenants_in_controlled_homes",
+        "tenants_u": "tenants_in_uncontrolled_homes",
+        "priced_out": "households_priced_out",
+        "owners_c": "owners_of_controlled_homes",
+        "owners_u": "owners_of_uncontrolled_homes",
+        "government": "government",
+        "drawn_in": "households_drawn_in",
+    }
+    assert list(kernel.Welfare._fields) == list(pairs)
+    assert list(kernel.WELFARE_SERIES) == list(pairs.values())
+
+
 def _walked_row(seed: int, periods: int = 12) -> np.ndarray:
     """A row's cells as _walk_row leaves them (periods x series), random but finite."""
     rng = np.random.default_rng(seed)
