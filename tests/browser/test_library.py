@@ -334,3 +334,46 @@ def test_the_message_asking_for_a_key_says_where_the_key_field_is(browser, tmp_p
             assert "between the inputs and the results" in message
     finally:
         page.close()
+
+
+def test_saving_under_another_name_retitles_the_charts_on_the_page_and_keeps_their_panel(browser, tmp_path):
+    """The charts drawn before a save are titled by the scenario's name: saved as a new scenario
+    under another name, the page takes that name and the charts already drawn are retitled,
+    each with the panel the analyst chose; a name typed on the page retitles them too."""
+    database = {"library_path": str(tmp_path / "library.sqlite3")}
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(**database) as (base, _):
+            _page_ready(page, base + "/")
+            page.select_option("#demo", "quillbrook-rent-freeze")
+            page.click("#load-demo")
+            page.wait_for_function(
+                "document.querySelector('#status').textContent.startsWith('Loaded quillbrook-rent-freeze')"
+            )
+            run_scenario(page)
+            old = page.input_value("#scenario-name")
+            assert page.get_attribute("#chart-figure img", "data-title").startswith(f"{old}: ")
+            page.select_option("#chart-figure-panel", "quantity")
+            page.wait_for_function(
+                "!document.querySelector('#chart-figure img').dataset.title.endsWith('paths by policy')"
+            )
+            panel = page.get_attribute("#chart-figure img", "data-title").split(": ", 1)[1]
+            assert panel.startswith("Homes let")
+            _save(page, "Freeze for the March council")
+            assert page.input_value("#scenario-name") == "Freeze for the March council"
+            page.wait_for_function(
+                "(t) => document.querySelector('#chart-figure img').dataset.title === t",
+                arg=f"Freeze for the March council: {panel}",
+            )
+            page.wait_for_function(
+                "document.querySelector('#gains-figure img').dataset.title"
+                " === 'Freeze for the March council: who gains and who loses'"
+            )
+            page.fill("#scenario-name", "Freeze, second look")
+            page.dispatch_event("#scenario-name", "change")
+            page.wait_for_function(
+                "(t) => document.querySelector('#chart-figure img').dataset.title === t",
+                arg=f"Freeze, second look: {panel}",
+            )
+    finally:
+        page.close()

@@ -917,6 +917,12 @@ function titled(text) {
   return shortened(name ? `${name}: ${text}` : text);
 }
 
+// The charts on the page drawn again under the scenario's name as it now is (typed, or saved
+// under another name in the library): each keeps its panel.
+function retitleCharts() {
+  for (const fig of document.querySelectorAll("figure")) if (fig.redraw) fig.redraw();
+}
+
 function download(url, filename) {
   const a = document.createElement("a");
   a.href = url;
@@ -944,6 +950,9 @@ async function chartImage(spec, format) {
 }
 
 // A figure: the chart as SVG, a panel choice where it has panels, and its downloads.
+// A chart of `spec`, whose `topic` says what it shows: its title is the scenario's name and the
+// topic, worked out each time it is drawn, so that a name typed or saved later retitles the
+// charts already on the page (retitleCharts) with the panel chosen kept.
 function figure(id, spec, caption, panels = null, container = $("charts")) {
   const fig = document.createElement("figure");
   fig.id = id;
@@ -956,16 +965,22 @@ function figure(id, spec, caption, panels = null, container = $("charts")) {
   const row = document.createElement("div");
   row.className = "row chart-tools";
   let current = { ...spec };
+  const drawn = () => {
+    const { topic, ...rest } = current;
+    return { ...rest, title: titled(topic) };
+  };
   const draw = async () => {
     try {
-      const url = blobUrl(await chartImage(current, "svg"));
+      const chart = drawn();
+      const url = blobUrl(await chartImage(chart, "svg"));
       await new Promise((resolve) => { img.onload = resolve; img.onerror = resolve; img.src = url; });
       img.dataset.scenario = $("results").dataset.scenario;
-      img.dataset.title = current.title;
+      img.dataset.title = chart.title;
     } catch (e) {
       cap.textContent = `${caption} (not drawn: ${e.message})`;
     }
   };
+  fig.redraw = draw;
   if (panels && panels.length > 1) {
     const select = document.createElement("select");
     select.id = `${id}-panel`;
@@ -980,7 +995,7 @@ function figure(id, spec, caption, panels = null, container = $("charts")) {
     }
     select.addEventListener("change", () => {
       current = select.value
-        ? { ...spec, panels: [select.value], title: titled(select.selectedOptions[0].textContent) }
+        ? { ...spec, panels: [select.value], topic: select.selectedOptions[0].textContent }
         : { ...spec };
       draw();
     });
@@ -988,8 +1003,9 @@ function figure(id, spec, caption, panels = null, container = $("charts")) {
   }
   for (const format of ["png", "svg"]) {
     row.append(button(`Download ${format.toUpperCase()}`, `${id}-${format}`, async () => {
-      const blob = await chartImage(current, format);
-      download(blobUrl(blob), `${slug(current.title)}.${format}`);
+      const chart = drawn();
+      const blob = await chartImage(chart, format);
+      download(blobUrl(blob), `${slug(chart.title)}.${format}`);
     }, "secondary"));
   }
   fig.append(img, cap, row);
@@ -1027,15 +1043,15 @@ async function drawCharts(body, request) {
   // answer carries; the others (homes standing empty, renters against the free path...) are
   // in the "Show" choice.
   const drawn = panels.filter((p) => state.labels.default_panels.includes(p));
-  jobs.push(figure("chart-figure", { chart: bands ? "bands" : "paths", scenario: request, title: titled(bands ? "central paths with percentile bands" : "paths by policy") },
+  jobs.push(figure("chart-figure", { chart: bands ? "bands" : "paths", scenario: request, topic: bands ? "central paths with percentile bands" : "paths by policy" },
     `${drawn.map((p) => (p === "controlled_and_uncontrolled_rents" ? "rents of controlled and uncontrolled homes" : labelOf(p, false).split(" (")[0])).join(", ")} over the periods, one line per policy.${bands ? ` ${bandKeyWords(body.percentiles, body.draws)}.` : ""} Money in ${state.labels.real} unless a panel says ${state.labels.nominal}.`,
     panels));
   if (answer.paths.every((p) => p.distribution)) {
-    jobs.push(figure("gains-figure", { chart: "gains_and_losses", scenario: paths, title: titled("who gains and who loses") },
+    jobs.push(figure("gains-figure", { chart: "gains_and_losses", scenario: paths, topic: "who gains and who loses" },
       `Who gains and who loses: each group against the free market of the same ${units().period}, total over ${units().period}s 1 to ${answer.periods.length - 1}, ${discounting(request)}; the table below is on the same basis.`));
   }
   if (answer.paths.some((p) => p.vs_free_path)) {
-    jobs.push(figure("renters-figure", { chart: "renters_vs_free_path", scenario: paths, title: titled("renters against the free path") },
+    jobs.push(figure("renters-figure", { chart: "renters_vs_free_path", scenario: paths, topic: "renters against the free path" },
       "Renters' gain or loss against the free market path, per period: while the rule lasts and after it ends."));
   }
   await Promise.all(jobs);
@@ -1091,7 +1107,7 @@ async function drawTornado() {
   const policy = $("tornado-policy").value;
   const box = $("tornado-chart");
   box.replaceChildren();
-  await figure("tornado-figure", { chart: "sensitivity", scenario: request, output, policy, title: titled(`what moves ${headlineLabel(output).split(" (")[0].toLowerCase()} under ${policy}`) },
+  await figure("tornado-figure", { chart: "sensitivity", scenario: request, output, policy, topic: `what moves ${headlineLabel(output).split(" (")[0].toLowerCase()} under ${policy}` },
     `Each input alone at its low and high, every other input at its central value; bar ends show ${headlineLabel(output)}.`, null, box);
 }
 
@@ -1403,6 +1419,7 @@ async function start() {
   $("download-briefing").addEventListener("click", downloadBriefing);
   $("tornado-output").addEventListener("change", drawTornado);
   $("tornado-policy").addEventListener("change", drawTornado);
+  $("scenario-name").addEventListener("change", retitleCharts);
   $("all-series").addEventListener("change", () => state.answer && showYears(state.answer.body));
   for (const id of ["u-currency", "u-quantity", "u-unit", "u-interval", "u-period"]) $(id).addEventListener("change", showTables);
   const json = $("request-json");

@@ -161,6 +161,12 @@
     }
     if (!response.ok) { say(explain(response, answer)); return; }
     show(answer);
+    // The scenario on the page is now this record: its name titles the charts, as on opening.
+    const name = $("scenario-name");
+    if (name.value !== answer.name) {
+      name.value = answer.name;
+      name.dispatchEvent(new Event("change"));
+    }
     say(`Saved "${answer.name}" as revision ${answer.revision}.`);
   }
 
