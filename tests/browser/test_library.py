@@ -166,6 +166,19 @@ def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
             assert colleague.input_value("#lib-name") == "Draft freeze"
             assert colleague.is_hidden("#lib-revise")  # only the owner changes it
             assert _request(colleague) == _request(owner)
+            # Saved by the colleague, it is their own private copy, named as one.
+            assert not colleague.is_checked("#lib-shared")
+            colleague.click("#lib-save")
+            colleague.wait_for_function(
+                "document.querySelector('#lib-status').textContent.startsWith('Saved')"
+            )
+            assert colleague.text_content("#lib-status").startswith('Saved "Draft freeze (copy)"')
+            assert colleague.input_value("#scenario-name") == "Draft freeze (copy)"
+            assert not colleague.is_checked("#lib-shared")
+            copy_id = colleague.get_attribute("#library", "data-scenario")
+            assert copy_id not in link
+            owner.goto(f"{base}/?scenario={copy_id}")
+            owner.wait_for_function("document.querySelector('#lib-status').textContent.startsWith('No such')")
     finally:
         owner.close()
         colleague.context.close()

@@ -121,7 +121,9 @@
     $("lib-name").value = record.name;
     $("lib-notes").value = record.notes;
     $("lib-tags").value = record.tags.join(", ");
-    $("lib-shared").checked = record.shared;
+    // "Shared" is what saving from here will do: a colleague's record is theirs to share, and
+    // a copy saved from it starts private.
+    $("lib-shared").checked = record.mine && record.shared;
     setUnits(record.units || {});
     $("lib-revise").hidden = !record.mine;
     // An earlier revision's link opens that revision, as the one on the screen; the latest's
@@ -148,6 +150,9 @@
       say(`Not saved: the whole request is not valid JSON (${e.message}).`);
       return;
     }
+    // A copy of a colleague's record under its own name would stand beside it in every search
+    // with nothing to tell them apart: unless renamed, it is called a copy.
+    if (!revise && lib.current && !lib.current.mine && body.name === lib.current.name) body.name = `${body.name} (copy)`;
     const target = revise && lib.current ? `/v1/scenarios/${encodeURIComponent(lib.current.id)}` : "/v1/scenarios";
     // The ETag of the latest revision when the record was opened: changes made from an earlier
     // revision are saved after it, and a revision someone saved since is still caught (412).
