@@ -488,8 +488,11 @@ def _text(rows: Iterable[Iterable[Any]], header: list[str]) -> str:
     return out.getvalue()
 
 
-def bands_csv(body: dict[str, Any]) -> str:
-    """CSV text (policy,period,variable,percentile,value,unit) from a /v1/bands body."""
+def bands_csv(body: dict[str, Any], layout: str = "long") -> str:
+    """CSV text from a /v1/bands body: long (policy,period,variable,percentile,value,unit) or
+    wide (one row per policy and period, one column per variable and percentile)."""
+    if layout == "wide":
+        return _bands_wide(body)
     periods = body["periods"]
 
     def rows():
@@ -502,3 +505,23 @@ def bands_csv(body: dict[str, Any]) -> str:
                         yield (name, t, variable, key, value, unit)
 
     return _text(rows(), ["policy", "period", "variable", "percentile", "value", "unit"])
+
+
+def _bands_wide(body: dict[str, Any]) -> str:
+    """Wide form of a /v1/bands body: `policy,period`, then a column `variable pQ [unit]` per
+    banded series and percentile of any policy, in the answer's order (empty where a policy
+    has no such band: the coverage series belong to partial ceilings only)."""
+    columns: dict[tuple[str, str], None] = {}
+    for band in body["bands"]:
+        columns.update(((variable, q), None) for variable, by_q in band["series"].items() for q in by_q)
+    header = ["policy", "period"] + [f"{variable} p{q} [{wide_unit(variable)}]" for variable, q in columns]
+
+    def rows():
+        for band in body["bands"]:
+            name = neutralise(band["name"])
+            series = band["series"]
+            for t, period in enumerate(body["periods"]):
+                cells = [series[v][q][t] if v in series and q in series[v] else "" for v, q in columns]
+                yield (name, period, *cells)
+
+    return _text(rows(), header)

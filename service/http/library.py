@@ -318,7 +318,7 @@ def get_scenario_paths(id: str) -> Response:
     summary="Run a saved bands scenario under the running model (as POST /v1/bands)",
     answers_of="postBands",
     responses=_compute_responses("BandsResponse", "bands"),
-    parameters=[*COMPUTE_PARAMETERS, REVISION],
+    parameters=[*COMPUTE_PARAMETERS, "layout", REVISION],  # CSV as POST /v1/bands writes it
     path_parameters=[ID],
 )
 def get_scenario_bands(id: str) -> Response:

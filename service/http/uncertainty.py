@@ -16,6 +16,7 @@ from .documented import NOT_MODIFIED, DocumentedBlueprint, csv_twin_responses, p
 from .jsonio import json_response, read_json
 from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
+from .paths import csv_layout
 
 __all__ = ["bands_answer", "blueprint"]
 
@@ -30,14 +31,15 @@ blueprint = DocumentedBlueprint("uncertainty", __name__)
     request="BandsRequest",
     responses={
         "200": {
-            "description": "Bands per policy and the central path (CSV: the bands in long form).",
+            "description": "Bands per policy and the central path (CSV: the bands in long form by "
+            "default; `layout=wide`: one row per policy and period, a column per series and percentile).",
             "content": {"application/json": "BandsResponse", "text/csv": "csv", XLSX: "xlsx"},
             "headers": ["ETag", "Content-Disposition"],
         },
         **NOT_MODIFIED,
         **problem_responses("400", "406", "413", "415", "422"),
     },
-    parameters=["If-None-Match"],
+    parameters=["If-None-Match", "layout"],
 )
 def post_bands() -> Response:
     return _bands(negotiate(TABULAR), read_json())
@@ -55,8 +57,10 @@ def bands_answer(raw: object) -> Response:
     operationId="postBandsCsv",
     summary="POST /v1/bands answered as CSV whatever the Accept header (for generated clients)",
     request="BandsRequest",
-    responses=csv_twin_responses("The bands in long form."),
-    parameters=["If-None-Match"],
+    responses=csv_twin_responses(
+        "The bands in long form by default; `layout=wide`: one row per policy and period."
+    ),
+    parameters=["If-None-Match", "layout"],
 )
 def post_bands_csv() -> Response:
     return _bands(CSV, read_json())  # CSV whatever the Accept header
@@ -64,7 +68,9 @@ def post_bands_csv() -> Response:
 
 def _bands(chosen: str, raw: object) -> Response:
     as_csv, as_xlsx = chosen == CSV, chosen == XLSX
-    tag = request_tag("/v1/bands", raw, "csv" if as_csv else "xlsx" if as_xlsx else "json")
+    layout = csv_layout()  # checked whatever the format, as /v1/paths does (400 if unknown)
+    csv_form = "csv" if layout == "long" else "wide.csv"
+    tag = request_tag("/v1/bands", raw, csv_form if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
         threads = current_app.extensions["shockpath.settings"].band_threads
@@ -75,7 +81,7 @@ def _bands(chosen: str, raw: object) -> Response:
         if as_xlsx:
             return attachment(Response(bands_workbook(body), mimetype=XLSX), f"bands-{tag[:12]}.xlsx")
         if as_csv:
-            return attachment(Response(bands_csv(body), mimetype=CSV), f"bands-{tag[:12]}.csv")
+            return attachment(Response(bands_csv(body, layout), mimetype=CSV), f"bands-{tag[:12]}.csv")
         return json_response(body)
 
     return conditional(tag, produce)

@@ -182,6 +182,49 @@ def test_the_bands_csv_carries_every_banded_series_with_its_unit(client):
     assert all(units[v] == UNITS[v] for v in units)
 
 
+def test_the_wide_bands_csv_has_a_row_per_policy_and_period_and_a_column_per_band(client):
+    """`?layout=wide` on /v1/bands (and its CSV twin): one row per policy and period, one column
+    `variable pQ [unit]` per banded series and percentile of any policy (empty where a policy
+    has no such band: the coverage series are a partial ceiling's only), the JSON's numbers;
+    its ETag differs from the long form's, and an unknown layout is a 400 that names it."""
+    from service.examples import example_request
+
+    request = example_request("quillbrook-uncertain-elasticities")
+    request["policies"][1]["coverage"] = 0.5
+    request.update(draws=200, percentiles=[10, 50, 90])
+    body = client.post("/v1/bands", json=request).get_json()
+    wide = client.post("/v1/bands?layout=wide", json=request, headers={"Accept": "text/csv"})
+    twin = client.post("/v1/bands/csv?layout=wide", json=request)
+    assert wide.status_code == twin.status_code == 200
+    assert wide.get_data() == twin.get_data()
+    long = client.post("/v1/bands", json=request, headers={"Accept": "text/csv"})
+    assert wide.headers["ETag"] != long.headers["ETag"]
+    rows = _rows(wide)
+    assert len(rows) == len(body["bands"]) * len(body["periods"])
+    header = list(rows[0])
+    assert header[:2] == ["policy", "period"]
+    assert f"consumer_price p50 [{unit_of('consumer_price')}]" in header
+    checked = 0
+    for k, band in enumerate(body["bands"]):
+        for t, period in enumerate(body["periods"]):
+            row = rows[k * len(body["periods"]) + t]
+            assert row["policy"] == neutralise(band["name"]) and int(row["period"]) == period
+            for column in header[2:]:
+                variable, q = column.split(" [")[0].split(" p")
+                if variable in band["series"]:
+                    assert float(row[column]) == band["series"][variable][q][t]
+                    checked += 1
+                else:
+                    assert row[column] == ""
+    assert checked == sum(
+        len(by_q) * len(body["periods"]) for b in body["bands"] for by_q in b["series"].values()
+    )
+    assert any(row[h] == "" for row in rows for h in header if h.startswith("covered_price"))
+    refused = client.post("/v1/bands?layout=tall", json=request, headers={"Accept": "text/csv"})
+    assert refused.status_code == 400
+    assert "layout must be one of" in refused.get_json()["detail"]
+
+
 def test_every_series_of_the_json_answer_is_in_the_csv_with_the_same_numbers(client, additions):
     request = additions
     body = client.post("/v1/paths", json=request).get_json()
