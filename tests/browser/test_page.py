@@ -908,7 +908,8 @@ def test_a_level_is_worded_by_its_policy_kind_in_a_scenario_built_by_hand(page, 
 
 def test_a_paths_answer_downloads_as_a_wide_csv_too(page, base_url):
     """A spreadsheet reads the wide form as a table (one row per policy and period, a column per
-    variable); the page offered the long form only (a helper's trial). Bands keep the long form."""
+    variable); the page offered the long form only (a helper's trial). Bands too: a column per
+    series and percentile."""
     import csv
     import io
 
@@ -926,4 +927,9 @@ def test_a_paths_answer_downloads_as_a_wide_csv_too(page, base_url):
     page.fill("input[data-pointer='/draws']", "200")
     run_scenario(page)
     assert page.get_attribute("#results", "data-endpoint") == "/v1/bands"
-    assert page.is_hidden("#download-csv-wide")
+    page.wait_for_function("!document.querySelector('#download-csv-wide').hidden")
+    text = page.evaluate("fetch(document.querySelector('#download-csv-wide').href).then(r => r.text())")
+    rows = list(csv.reader(io.StringIO(text)))
+    answer = _answer(page)
+    assert rows[0][:2] == ["policy", "period"] and any(h.startswith("consumer_price p50 [") for h in rows[0])
+    assert len(rows) - 1 == len(answer["periods"]) * len(answer["bands"])

@@ -1204,15 +1204,14 @@ function showTables() {
   showYears(body);
 }
 
-// The CSV downloads: the long form (one value per row, its unit beside it) and, for paths, the
-// wide form a spreadsheet reads as a table (one row per policy and period, a column per
-// variable: `?layout=wide`); bands have the long form only.
+// The CSV downloads: the long form (one value per row, its unit beside it) and the wide form a
+// spreadsheet reads as a table (one row per policy and period, a column per variable, or per
+// variable and percentile for bands: `?layout=wide`).
 async function csvLink(request) {
   const post = (layout) => call(`${state.endpoint}${layout ? `?layout=${layout}` : ""}`,
     { method: "POST", headers: { "Content-Type": "application/json", Accept: "text/csv" }, body: JSON.stringify(request) });
-  const wide = state.endpoint === "/v1/paths";
   $("download-csv-wide").hidden = true;
-  const [long, table] = await Promise.all([post(""), wide ? post("wide") : null]);
+  const [long, table] = await Promise.all([post(""), post("wide")]);
   if (long.ok) {
     $("download-csv").href = blobUrl(await long.blob());
     $("download-csv").download = `${slug(scenarioName())}.csv`;
