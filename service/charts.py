@@ -544,15 +544,14 @@ def band_key(percentiles, draws: int) -> list[str]:
     outermost pair of percentiles, then each pair inside it darker) and the line."""
     keys = sorted(percentiles, key=float)
     pairs = [(keys[d], keys[-1 - d]) for d in range(len(keys) // 2)]
+    key = labels.BAND_KEY  # the words, shared with the page's caption
     words = [
-        (
-            f"shaded: {ordinal(low)} to {ordinal(high)} percentile of {draws:,} draws"
-            if depth == 0
-            else f"{'darker' if depth == 1 else 'darker still'}: {ordinal(low)} to {ordinal(high)}"
+        (key["outer"] if depth == 0 else key["inner"][min(depth, 2) - 1]).format(
+            low=ordinal(low), high=ordinal(high), draws=f"{draws:,}"
         )
         for depth, (low, high) in enumerate(pairs)
     ]
-    return [*words, "line: each policy at the central values"]
+    return [*words, key["line"]]
 
 
 def _band_key_handles(percentiles, draws: int) -> dict:

@@ -20,6 +20,7 @@ from collections.abc import Iterable
 from typing import Any
 
 __all__ = [
+    "BAND_KEY",
     "DEFAULT_UNITS",
     "INPUTS",
     "NOMINAL",
@@ -35,6 +36,15 @@ __all__ = [
 ]
 
 REAL = "today's money (period 0)"
+
+#: How a band chart's marks are worded, in the chart's own key (charts.band_key) and in the
+#: page's caption of it alike: the outermost pair of percentiles shaded, each pair inside it
+#: darker ("darker still" from the third on), and the line.
+BAND_KEY = {
+    "outer": "shaded: {low} to {high} percentile of {draws} draws",
+    "inner": ("darker: {low} to {high}", "darker still: {low} to {high}"),
+    "line": "line: each policy at the central values",
+}
 NOMINAL = "money of the day"
 DEFAULT_UNITS = {
     "currency": "money",
@@ -471,4 +481,5 @@ def table() -> dict[str, Any]:
         "drawn": DRAWN,
         "flat_names": FLAT_NAMES,
         "scale_kinds": SCALE_KINDS,
+        "band_key": BAND_KEY,
     }

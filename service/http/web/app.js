@@ -1021,15 +1021,16 @@ function availablePanels(answer) {
   return [...out, ...["quantity", "homes_below_free_path", "vacant_homes", "converted_homes", "shortage", "vs_free_path.renters", "cumulative_deadweight_loss"].filter(carries)];
 }
 
-// What a band chart's marks are, worded from the percentiles asked for, as the chart's own key
-// (service/charts.py band_key): the outer pair shaded, each pair inside it darker, the line.
+// What a band chart's marks are, worded from the percentiles asked for in the chart key's own
+// words (service/labels.py BAND_KEY, as charts.band_key draws them): the outer pair shaded, each
+// pair inside it darker, the line.
 function bandKeyWords(percentiles, draws) {
+  const key = state.labels.band_key;
   const qs = [...percentiles].sort((a, b) => a - b);
   const pairs = qs.slice(0, Math.floor(qs.length / 2)).map((q, d) => [q, qs[qs.length - 1 - d]]);
-  const shaded = pairs.map(([lo, hi], d) => (d === 0
-    ? `Shaded: ${ordinal(lo)} to ${ordinal(hi)} percentile of ${fmt.format(draws)} draws`
-    : `${d === 1 ? "darker" : "darker still"}: ${ordinal(lo)} to ${ordinal(hi)}`));
-  return [...shaded, `${shaded.length ? "line" : "Line"}: each policy at the central values`].join("; ");
+  const fill = (text, lo, hi) => text.replace("{low}", ordinal(lo)).replace("{high}", ordinal(hi)).replace("{draws}", fmt.format(draws));
+  const words = [...pairs.map(([lo, hi], d) => fill(d === 0 ? key.outer : key.inner[Math.min(d, 2) - 1], lo, hi)), key.line];
+  return words.map((w, i) => (i === 0 ? w[0].toUpperCase() + w.slice(1) : w)).join("; ");
 }
 
 async function drawCharts(body, request) {
