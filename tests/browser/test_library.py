@@ -388,5 +388,18 @@ def test_saving_under_another_name_retitles_the_charts_on_the_page_and_keeps_the
                 "(t) => document.querySelector('#chart-figure img').dataset.title === t",
                 arg=f"Freeze, second look: {panel}",
             )
+            # Inputs changed and not run: the charts are the last run's, and a save under another
+            # name leaves their titles alone (the page's name is the record's).
+            changed = _request(page)
+            changed["horizon"] = changed["horizon"] + 1
+            page.eval_on_selector(
+                "#request-json",
+                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+                json.dumps(changed),
+            )
+            _save(page, "A longer horizon")
+            assert page.input_value("#scenario-name") == "A longer horizon"
+            page.wait_for_timeout(500)
+            assert page.get_attribute("#chart-figure img", "data-title") == f"Freeze, second look: {panel}"
     finally:
         page.close()

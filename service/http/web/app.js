@@ -918,9 +918,13 @@ function titled(text) {
 }
 
 // The charts on the page drawn again under the scenario's name as it now is (typed, or saved
-// under another name in the library): each keeps its panel.
+// under another name in the library), each with its panel, and the downloads named after it.
 function retitleCharts() {
-  for (const fig of document.querySelectorAll("figure")) if (fig.redraw) fig.redraw();
+  for (const fig of document.querySelectorAll("figure")) if (fig.retitle) fig.retitle();
+  const name = slug(scenarioName());
+  for (const [id, suffix] of [["download-json", ".json"], ["download-csv", ".csv"], ["download-csv-wide", "-wide.csv"]]) {
+    if ($(id).getAttribute("href") !== "#") $(id).download = `${name}${suffix}`;
+  }
 }
 
 function download(url, filename) {
@@ -967,20 +971,27 @@ function figure(id, spec, caption, panels = null, container = $("charts")) {
   let current = { ...spec };
   const drawn = () => {
     const { topic, ...rest } = current;
-    return { ...rest, title: titled(topic) };
+    return topic === undefined ? rest : { ...rest, title: titled(topic) };
   };
+  // Each drawing is numbered: one that finishes after a later one started (a retitle while
+  // the first drawing, a panel chosen meanwhile) is dropped, so the newest choice shows.
+  let drawing = 0;
   const draw = async () => {
+    const number = ++drawing;
     try {
       const chart = drawn();
       const url = blobUrl(await chartImage(chart, "svg"));
+      if (number !== drawing) return;
       await new Promise((resolve) => { img.onload = resolve; img.onerror = resolve; img.src = url; });
       img.dataset.scenario = $("results").dataset.scenario;
       img.dataset.title = chart.title;
+      cap.textContent = caption;
     } catch (e) {
-      cap.textContent = `${caption} (not drawn: ${e.message})`;
+      if (number === drawing) cap.textContent = `${caption} (not drawn: ${e.message})`;
     }
   };
-  fig.redraw = draw;
+  // Drawn again only when its title would change (each drawing asks the chart service).
+  fig.retitle = () => (drawn().title === img.dataset.title ? null : draw());
   if (panels && panels.length > 1) {
     const select = document.createElement("select");
     select.id = `${id}-panel`;
@@ -1028,7 +1039,7 @@ function bandKeyWords(percentiles, draws) {
   const key = state.labels.band_key;
   const qs = [...percentiles].sort((a, b) => a - b);
   const pairs = qs.slice(0, Math.floor(qs.length / 2)).map((q, d) => [q, qs[qs.length - 1 - d]]);
-  const fill = (text, lo, hi) => text.replace("{low}", ordinal(lo)).replace("{high}", ordinal(hi)).replace("{draws}", fmt.format(draws));
+  const fill = (text, lo, hi) => text.replaceAll("{low}", ordinal(lo)).replaceAll("{high}", ordinal(hi)).replaceAll("{draws}", fmt.format(draws));
   const words = [...pairs.map(([lo, hi], d) => fill(d === 0 ? key.outer : key.inner[Math.min(d, 2) - 1], lo, hi)), key.line];
   return words.map((w, i) => (i === 0 ? w[0].toUpperCase() + w.slice(1) : w)).join("; ");
 }

@@ -17,6 +17,10 @@
   };
   // pending: a linked scenario not opened yet (the service asked for a key first).
   const lib = { current: null, cursor: null, query: "", pending: null };
+  // A record's name is at most NAME_LIMIT characters (the service's MAX_SCENARIO_NAME_LENGTH);
+  // a copy's name is cut to make room for its suffix.
+  const NAME_LIMIT = 200;
+  const COPY = " (copy)";
   const KEY_STORE = "shockpath-library-key";
 
   function field(id, label, input) {
@@ -35,7 +39,7 @@
       el("fieldset", {},
         el("legend", { text: "Save" }),
         el("div", { class: "grid" },
-          field("lib-name", "Name", el("input", { maxlength: "200" })),
+          field("lib-name", "Name", el("input", { maxlength: String(NAME_LIMIT) })),
           field("lib-tags", "Tags (comma-separated)", el("input", {})),
           el("div", { class: "field check" },
             el("input", { type: "checkbox", id: "lib-shared" }),
@@ -152,7 +156,9 @@
     }
     // A copy of a colleague's record under its own name would stand beside it in every search
     // with nothing to tell them apart: unless renamed, it is called a copy.
-    if (!revise && lib.current && !lib.current.mine && body.name === lib.current.name) body.name = `${body.name} (copy)`;
+    if (!revise && lib.current && !lib.current.mine && body.name === lib.current.name) {
+      body.name = `${body.name.slice(0, NAME_LIMIT - COPY.length)}${COPY}`;
+    }
     const target = revise && lib.current ? `/v1/scenarios/${encodeURIComponent(lib.current.id)}` : "/v1/scenarios";
     // The ETag of the latest revision when the record was opened: changes made from an earlier
     // revision are saved after it, and a revision someone saved since is still caught (412).
@@ -167,10 +173,13 @@
     if (!response.ok) { say(explain(response, answer)); return; }
     show(answer);
     // The scenario on the page is now this record: its name titles the charts, as on opening.
+    // The charts on the page are retitled only if they are this request's (inputs changed since
+    // the last run leave them another scenario's).
     const name = $("scenario-name");
     if (name.value !== answer.name) {
       name.value = answer.name;
-      name.dispatchEvent(new Event("change"));
+      const drawnFor = state.answer && JSON.stringify(state.answer.request);
+      if (drawnFor === JSON.stringify(body.request)) name.dispatchEvent(new Event("change"));
     }
     say(`Saved "${answer.name}" as revision ${answer.revision}.`);
   }
