@@ -295,9 +295,9 @@ RowInputs = namedtuple(
     ),
 )
 
-#: One path's market and schedule as scalars, read once per path. The per-period functions
-#: take these and the period's values, never the input arrays: a compiled call that receives a
-#: tuple of arrays updates the reference count of each of them, per call.
+#: One path's market and schedule as scalars, read once per walk (a row in one form). The
+#: per-period functions take these and the period's values, never the input arrays: a compiled
+#: call that receives a tuple of arrays updates the reference count of each of them, per call.
 Path = namedtuple(
     "Path", "ce p0 q0 eta k_pay stock rate floor_share build_limit conversion long_run random horizon"
 )
@@ -1646,7 +1646,7 @@ def _policy_rows(m, rows, free, free_other, other, x):
     band_rows = x.band_rows
     periods = m.eps.shape[1]
     cells = np.empty((periods, len(SERIES_NAMES)))
-    period = np.empty((periods, len(PERIOD_INPUT_NAMES)))
+    period = np.full((periods, len(PERIOD_INPUT_NAMES)), np.nan)  # an input not gathered shows
     core = _OTHER_FORM_CHECKED
     # The other form's walk: its flags and totals in a one-row scratch (row 0).
     scratch_flags = np.empty((1, len(FLAG_NAMES), periods), dtype=np.bool_)
@@ -1656,8 +1656,10 @@ def _policy_rows(m, rows, free, free_other, other, x):
     stage = np.empty((x.banded.shape[1], periods, BAND_STAGE if band_rows > 0 else 1), dtype=np.float32)
     target = Target(x.kept, x.column, x.out, x.banded, x.counts, stage)
     staged = staged_policy = staged_first = staged_last = 0  # the rows in the stage, and theirs
-    # Per row only indices and scalars change hands: no views and no tuples of arrays are
-    # made in the loop (each would update reference counts, atomically, every row).
+    # No views are made in the loop and the parts of a row take indices and scalars, not the
+    # tuples of input arrays: each would update reference counts, atomically, every row. Only
+    # _gather_walk reads MarketInputs and RowInputs; the compiler inlines it here, where those
+    # counts cancel (LLVM IR: no update left inside this loop).
     for r in range(rows.scenario.shape[0]):
         i = rows.scenario[r]
         ce = m.constant_elasticity[i]
@@ -2029,7 +2031,8 @@ def _bin_of_each(values, low, scale, bins, value_bins):
 def _range_of(values):
     """(min, max) of values as float64: four running pairs side by side (no single chain of
     dependent comparisons), each started at values[0], so a NaN there gives NaN as one pair
-    would, and NaNs elsewhere are skipped."""
+    would, and NaNs elsewhere are skipped. Where -0.0 and 0.0 tie for the minimum (or maximum)
+    either may come back: the bins and the selected values are the same either way."""
     first = np.float64(values[0])
     low0 = low1 = low2 = low3 = high0 = high1 = high2 = high3 = first
     n = values.shape[0]

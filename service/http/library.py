@@ -292,7 +292,7 @@ def _compute_responses(schema: str, what: str) -> dict:
         **NOT_MODIFIED,
         "404": PROBLEMS["404"],
         "409": PROBLEMS["409"],
-        **problem_responses("406", "422"),
+        **problem_responses("400", "406", "422"),  # 400: an unknown `layout`
         "503": PROBLEMS["503"],
     }
 

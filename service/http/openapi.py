@@ -131,8 +131,8 @@ _PARAMETERS = {
         "required": False,
         "description": (
             "CSV answers only: long (default; one value per row with its unit) or wide (one row per "
-            "scenario, policy and period, one column per variable, or per variable and percentile for "
-            "bands, units in the header row)."
+            "(scenario of a batch,) policy and period, one column per variable, or per variable and "
+            "percentile for bands, units in the header row)."
         ),
         "schema": {"type": "string", "enum": ["long", "wide"], "default": "long"},
     },
