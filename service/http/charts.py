@@ -3,17 +3,18 @@
 
 from __future__ import annotations
 
-from flask import Response, current_app, g
+from flask import Response, g
 
 from .. import charts
 from ..problems import ProblemError, is_problem, load_request, moved_under, problem
 from ..schemas.charts import ChartRequestSchema
 from ..simulation import simulate_many
-from ..uncertainty import bands, sensitivity
+from ..uncertainty import sensitivity
 from .conditional import conditional, request_tag
 from .documented import NOT_MODIFIED, DocumentedBlueprint, problem_responses
 from .jsonio import read_json
 from .negotiation import negotiate
+from .uncertainty import bands_body
 
 __all__ = ["blueprint"]
 
@@ -49,9 +50,8 @@ def _draw(spec: dict, fmt: str) -> tuple[bytes, str]:
             image = _scenario_problem(
                 charts.render_gains_and_losses, result, scenario, spec["units"], fmt, form, title
             )
-    elif spec["chart"] == "bands":
-        threads = current_app.extensions["shockpath.settings"].band_threads
-        result = _scenario_problem(bands, scenario, threads=threads)
+    elif spec["chart"] == "bands":  # the answer /v1/bands gave (or would give) this request
+        result, _ = _scenario_problem(bands_body, scenario, counted_as=None)
         image = charts.render_bands(result, spec["units"], fmt, form, title, panels)
     else:
         result = _scenario_problem(sensitivity, scenario)

@@ -19,7 +19,7 @@ from .metrics import DRAWS, SCENARIOS
 from .negotiation import CSV, JSON_ONLY, TABULAR, XLSX, negotiate
 from .paths import csv_layout
 
-__all__ = ["bands_answer", "blueprint"]
+__all__ = ["bands_answer", "bands_body", "blueprint"]
 
 blueprint = DocumentedBlueprint("uncertainty", __name__)
 
@@ -74,7 +74,7 @@ def _bands(chosen: str, raw: object) -> Response:
     tag = request_tag("/v1/bands", raw, csv_form if as_csv else "xlsx" if as_xlsx else "json")
 
     def produce() -> Response:
-        body, answer = _bands_body(raw)
+        body, answer = bands_body(raw)
         if as_xlsx:
             return attachment(Response(bands_workbook(body), mimetype=XLSX), f"bands-{tag[:12]}.xlsx")
         if as_csv:
@@ -84,11 +84,13 @@ def _bands(chosen: str, raw: object) -> Response:
     return conditional(tag, produce)
 
 
-def _bands_body(raw: object) -> tuple[dict, bytes]:
+def bands_body(raw: object, counted_as: str | None = "/v1/bands") -> tuple[dict, bytes]:
     """The bands answer of a request and its JSON, from the answer cache when the same request
-    was answered before in any format (a page asks for the JSON, then the long and the wide
-    CSV: one computation of the draws, not three). Cached as the JSON bytes, which read back
-    to the same numbers (orjson writes the shortest repr of each float)."""
+    was answered before in any format or drawn as a chart (a page asks for the JSON, the long
+    and the wide CSV and the band chart: one computation of the draws, not four). Cached as the
+    JSON bytes, which read back to the same numbers (orjson writes the shortest repr of each
+    float). `counted_as`: the endpoint whose metrics count a computation (None: not counted, as
+    a chart's drawing never was)."""
     cache = current_app.extensions["shockpath.cache"]
     key = request_tag("/v1/bands", raw, "json")
     if (answer := cache.get(key)) is not None:
@@ -96,8 +98,9 @@ def _bands_body(raw: object) -> tuple[dict, bytes]:
     else:
         threads = current_app.extensions["shockpath.settings"].band_threads
         body = bands(raw, threads=threads)
-        DRAWS.inc(body["draws"])
-        SCENARIOS.labels("/v1/bands").inc()
+        if counted_as is not None:
+            DRAWS.inc(body["draws"])
+            SCENARIOS.labels(counted_as).inc()
         answer = json_response(body).get_data()
         cache.put(key, answer)
     g.scenario_id = body["scenario_id"]

@@ -16,10 +16,10 @@ def test_the_cache_evicts_the_least_recently_used_beyond_its_bytes():
     assert cache.get("big") is None
 
 
-def test_a_bands_request_is_computed_once_for_its_json_csv_forms_and_workbook(monkeypatch):
-    """The page asks for a bands answer's JSON, then its long and wide CSV: the draws are run
-    once and every form reads the cached answer, with the same bytes as forms computed afresh
-    (a service without the cache)."""
+def test_a_bands_request_is_computed_once_for_its_json_csv_workbook_and_chart(monkeypatch):
+    """The page asks for a bands answer's JSON, then its long and wide CSV and its chart: the
+    draws are run once and every form reads the cached answer, with the same bytes as forms
+    computed afresh (a service without the cache)."""
     from service import create_app
     from service.examples import example_request
     from service.http import uncertainty as http_uncertainty
@@ -44,12 +44,15 @@ def test_a_bands_request_is_computed_once_for_its_json_csv_forms_and_workbook(mo
             response = client.post("/v1/bands" + query, json=request, headers={"Accept": accept})
             assert response.status_code == 200
             out.append((response.headers["ETag"], response.get_data()))
+        chart = client.post("/v1/charts", json={"chart": "bands", "format": "svg", "scenario": request})
+        assert chart.status_code == 200
+        out.append((chart.headers["ETag"], chart.get_data()))
         return out
 
     cached = answers({})
-    assert len(computed) == 1
+    assert len(computed) == 1  # the band chart drawn from the same answer too
     fresh = answers({"cache_bytes": 0})
-    assert len(computed) == 1 + len(forms)
+    assert len(computed) == 1 + len(forms) + 1
     assert [etag for etag, _ in cached] == [etag for etag, _ in fresh]
     assert [body for _, body in cached] == [body for _, body in fresh]
-    assert len({etag for etag, _ in cached}) == len(forms)
+    assert len({etag for etag, _ in cached}) == len(forms) + 1
