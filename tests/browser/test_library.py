@@ -43,6 +43,28 @@ def _page_ready(page, url):
     page.wait_for_selector("#lib-save")
 
 
+@contextlib.contextmanager
+def _library_page(browser, tmp_path, **settings):
+    """A page on a service whose library lies in tmp_path, its form filled and ready."""
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(library_path=str(tmp_path / "library.sqlite3"), **settings) as (base, _):
+            _page_ready(page, base + "/")
+            yield page
+    finally:
+        page.close()
+
+
+def _load_demo(page, name):
+    """Pick a demo and load it; wait for its own "Loaded <name>" (the start-up demo's "Loaded ..."
+    is on the page already)."""
+    page.select_option("#demo", name)
+    page.click("#load-demo")
+    page.wait_for_function(
+        "(name) => document.querySelector('#status').textContent.startsWith('Loaded ' + name)", arg=name
+    )
+
+
 def _save(page, name, tags="", shared=False):
     page.fill("#lib-name", name)
     page.fill("#lib-tags", tags)
@@ -82,12 +104,7 @@ def test_save_restart_and_reopen_by_link(browser, tmp_path):
     try:
         with serving(**database) as (base, port):
             _page_ready(page, base + "/")
-            page.select_option("#demo", "tamsin-reach-permits")
-            page.click("#load-demo")
-            # Its own name: the start-up demo's "Loaded ..." is on the page already.
-            page.wait_for_function(
-                "document.querySelector('#status').textContent.startsWith('Loaded tamsin-reach-permits')"
-            )
+            _load_demo(page, "tamsin-reach-permits")
             saved_request = _request(page)
             link = _save(page, "Tamsin Reach permits, council briefing", "briefing, permits")
             assert link == f"{base}/?scenario={page.get_attribute('#library', 'data-scenario')}"
@@ -125,11 +142,7 @@ def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(
             assert page.eval_on_selector_all("#demo option", "options => options.length") == 1  # no demos yet
             _enter_key(page, KEY_A)
             page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
-            page.select_option("#demo", "quillbrook-rent-freeze")
-            page.click("#load-demo")
-            page.wait_for_function(
-                "document.querySelector('#status').textContent.startsWith('Loaded quillbrook-rent-freeze')"
-            )
+            _load_demo(page, "quillbrook-rent-freeze")
             run_scenario(page)  # every call of the run (the paths, each chart, the CSV) carries the key
             assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
             assert "not drawn" not in page.inner_text("#charts")
@@ -353,53 +366,43 @@ def test_saving_under_another_name_retitles_the_charts_on_the_page_and_keeps_the
     """The charts drawn before a save are titled by the scenario's name: saved as a new scenario
     under another name, the page takes that name and the charts already drawn are retitled,
     each with the panel the analyst chose; a name typed on the page retitles them too."""
-    database = {"library_path": str(tmp_path / "library.sqlite3")}
-    page = browser.new_page(viewport={"width": 1280, "height": 1800})
-    try:
-        with serving(**database) as (base, _):
-            _page_ready(page, base + "/")
-            page.select_option("#demo", "quillbrook-rent-freeze")
-            page.click("#load-demo")
-            page.wait_for_function(
-                "document.querySelector('#status').textContent.startsWith('Loaded quillbrook-rent-freeze')"
-            )
-            run_scenario(page)
-            old = page.input_value("#scenario-name")
-            assert page.get_attribute("#chart-figure img", "data-title").startswith(f"{old}: ")
-            page.select_option("#chart-figure-panel", "quantity")
-            page.wait_for_function(
-                "!document.querySelector('#chart-figure img').dataset.title.endsWith('paths by policy')"
-            )
-            panel = page.get_attribute("#chart-figure img", "data-title").split(": ", 1)[1]
-            assert panel.startswith("Homes let")
-            _save(page, "Freeze for the March council")
-            assert page.input_value("#scenario-name") == "Freeze for the March council"
-            page.wait_for_function(
-                "(t) => document.querySelector('#chart-figure img').dataset.title === t",
-                arg=f"Freeze for the March council: {panel}",
-            )
-            page.wait_for_function(
-                "document.querySelector('#gains-figure img').dataset.title"
-                " === 'Freeze for the March council: who gains and who loses'"
-            )
-            page.fill("#scenario-name", "Freeze, second look")
-            page.dispatch_event("#scenario-name", "change")
-            page.wait_for_function(
-                "(t) => document.querySelector('#chart-figure img').dataset.title === t",
-                arg=f"Freeze, second look: {panel}",
-            )
-            # Inputs changed and not run: the charts are the last run's, and a save under another
-            # name leaves their titles alone (the page's name is the record's).
-            changed = _request(page)
-            changed["horizon"] = changed["horizon"] + 1
-            page.eval_on_selector(
-                "#request-json",
-                "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
-                json.dumps(changed),
-            )
-            _save(page, "A longer horizon")
-            assert page.input_value("#scenario-name") == "A longer horizon"
-            page.wait_for_timeout(500)
-            assert page.get_attribute("#chart-figure img", "data-title") == f"Freeze, second look: {panel}"
-    finally:
-        page.close()
+    with _library_page(browser, tmp_path) as page:
+        _load_demo(page, "quillbrook-rent-freeze")
+        run_scenario(page)
+        old = page.input_value("#scenario-name")
+        assert page.get_attribute("#chart-figure img", "data-title").startswith(f"{old}: ")
+        page.select_option("#chart-figure-panel", "quantity")
+        page.wait_for_function(
+            "!document.querySelector('#chart-figure img').dataset.title.endsWith('paths by policy')"
+        )
+        panel = page.get_attribute("#chart-figure img", "data-title").split(": ", 1)[1]
+        assert panel.startswith("Homes let")
+        _save(page, "Freeze for the March council")
+        assert page.input_value("#scenario-name") == "Freeze for the March council"
+        page.wait_for_function(
+            "(t) => document.querySelector('#chart-figure img').dataset.title === t",
+            arg=f"Freeze for the March council: {panel}",
+        )
+        page.wait_for_function(
+            "document.querySelector('#gains-figure img').dataset.title"
+            " === 'Freeze for the March council: who gains and who loses'"
+        )
+        page.fill("#scenario-name", "Freeze, second look")
+        page.dispatch_event("#scenario-name", "change")
+        page.wait_for_function(
+            "(t) => document.querySelector('#chart-figure img').dataset.title === t",
+            arg=f"Freeze, second look: {panel}",
+        )
+        # Inputs changed and not run: the charts are the last run's, and a save under another
+        # name leaves their titles alone (the page's name is the record's).
+        changed = _request(page)
+        changed["horizon"] = changed["horizon"] + 1
+        page.eval_on_selector(
+            "#request-json",
+            "(area, text) => { area.value = text; area.dispatchEvent(new Event('change')); }",
+            json.dumps(changed),
+        )
+        _save(page, "A longer horizon")
+        assert page.input_value("#scenario-name") == "A longer horizon"
+        page.wait_for_timeout(500)
+        assert page.get_attribute("#chart-figure img", "data-title") == f"Freeze, second look: {panel}"
