@@ -953,10 +953,10 @@ async function chartImage(spec, format) {
   return response.blob();
 }
 
-// A figure: the chart as SVG, a panel choice where it has panels, and its downloads.
-// A chart of `spec`, whose `topic` says what it shows: its title is the scenario's name and the
-// topic, worked out each time it is drawn, so that a name typed or saved later retitles the
-// charts already on the page (retitleCharts) with the panel chosen kept.
+// A figure: the chart of `spec` as SVG, a panel choice where it has panels, and its downloads.
+// `spec.topic` says what it shows: its title is the scenario's name and the topic, worked out
+// each time it is drawn, so that a name typed or saved later retitles the charts already on
+// the page (retitleCharts) with the panel chosen kept.
 function figure(id, spec, caption, panels = null, container = $("charts")) {
   const fig = document.createElement("figure");
   fig.id = id;
