@@ -40,7 +40,8 @@ class Settings:
     api_keys_file: str = ""
     #: Whether /metrics also needs a key when keys are configured.
     metrics_require_key: bool = False
-    #: Bytes of rendered /v1/paths answers each worker keeps for repeated requests (0: none).
+    #: Bytes of answers each worker keeps for repeated requests: rendered /v1/paths answers and
+    #: /v1/bands answers as JSON (read by their CSV forms, workbook and band chart); 0: none.
     cache_bytes: int = 64 * 1024 * 1024
     #: Serve POST /benchmark/echo (parse and echo a JSON body): the benchmarks' floor.
     benchmark_echo: bool = False
