@@ -13,7 +13,8 @@ long-run elasticity under partial adjustment (Nerlove 1958, *The Dynamics of Sup
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -131,6 +132,11 @@ def form_gaps(here: np.ndarray, there: np.ndarray, scale: np.ndarray) -> np.ndar
 
 def _names(names: Sequence[str]) -> str:
     return ", ".join(f"'{n}'" for n in names)
+
+
+def _named_with(values: Mapping[str, Any], detail: Callable[[Any], str]) -> str:
+    """Each policy named with its detail in brackets: "'freeze' (293 homes fewer), ..."."""
+    return ", ".join(f"'{name}' ({detail(value)})" for name, value in values.items())
 
 
 #: Per policy name, {figure: (this form's value, the other form's)} of the figures whose forms
@@ -286,7 +292,7 @@ def scenario_cautions(
         out.append(head)
     large = dict(large_losses or {})
     if large:
-        which = ", ".join(f"'{name}' ({_percent(share)})" for name, share in large.items())
+        which = _named_with(large, _percent)
         out.append(
             f"Deadweight loss larger than a quarter of all the rent the homes would bring over the "
             f"horizon: {which}. A loss this large rests on what households would pay for the last "
@@ -408,7 +414,7 @@ def scenario_cautions(
         )
     held = dict(held_to_horizon or {}) if stock else {}
     if held:
-        which = ", ".join(f"'{name}' ({_homes(homes)} fewer)" for name, homes in held.items())
+        which = _named_with(held, lambda homes: f"{_homes(homes)} fewer")
         out.append(
             f"Still in force at the end of the horizon, with fewer homes than without it: {which}. "
             "The years after the horizon are not counted: when such a rule ends, its missing homes "
@@ -428,10 +434,7 @@ def scenario_cautions(
         )
     below = dict(caps_below_stock or {}) if stock else {}
     if below:
-        which = ", ".join(
-            f"'{name}' ({_homes(level)} against {_homes(homes)} standing)"
-            for name, (level, homes) in below.items()
-        )
+        which = _named_with(below, lambda pair: f"{_homes(pair[0])} against {_homes(pair[1])} standing")
         out.append(
             f"A quantity cap below the homes standing at the start: {which}. Here the cap limits the "
             "homes let, so homes already built stand empty under it; a permit cap that limits only "
@@ -454,10 +457,7 @@ def scenario_cautions(
         )
     extra = dict(more_homes or {}) if stock else {}
     if extra:
-        which = ", ".join(
-            f"'{name}' (up to {_homes(homes)} more, in period {period})"
-            for name, (homes, period) in extra.items()
-        )
+        which = _named_with(extra, lambda pair: f"up to {_homes(pair[0])} more, in period {pair[1]}")
         out.append(
             f"More homes than the market without the rule in some years, whether or not it binds: "
             f"{which}. In this model the homes under the rule and the other homes are two groups from "
