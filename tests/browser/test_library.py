@@ -55,6 +55,20 @@ def _library_page(browser, tmp_path, **settings):
         page.close()
 
 
+@contextlib.contextmanager
+def _page_asking_for_a_key(browser, tmp_path):
+    """The page on a service with keys switched on (KEY_A) and a library in tmp_path, once it
+    has asked for a key."""
+    page = browser.new_page(viewport={"width": 1280, "height": 1800})
+    try:
+        with serving(library_path=str(tmp_path / "library.sqlite3"), api_keys=KEY_A) as (base, _):
+            page.goto(base + "/")
+            page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
+            yield page
+    finally:
+        page.close()
+
+
 def _load_demo(page, name):
     """Pick a demo and load it; wait for its own "Loaded <name>" (the start-up demo's "Loaded ..."
     is on the page already)."""
@@ -133,21 +147,14 @@ def test_save_restart_and_reopen_by_link(browser, tmp_path):
 
 
 def test_with_keys_on_the_page_asks_for_a_key_then_loads_runs_and_draws_with_it(browser, tmp_path):
-    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": KEY_A}
-    page = browser.new_page(viewport={"width": 1280, "height": 1800})
-    try:
-        with serving(**settings) as (base, _):
-            page.goto(base + "/")
-            page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
-            assert page.eval_on_selector_all("#demo option", "options => options.length") == 1  # no demos yet
-            _enter_key(page, KEY_A)
-            page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
-            _load_demo(page, "quillbrook-rent-freeze")
-            run_scenario(page)  # every call of the run (the paths, each chart, the CSV) carries the key
-            assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
-            assert "not drawn" not in page.inner_text("#charts")
-    finally:
-        page.close()
+    with _page_asking_for_a_key(browser, tmp_path) as page:
+        assert page.eval_on_selector_all("#demo option", "options => options.length") == 1  # no demos yet
+        _enter_key(page, KEY_A)
+        page.wait_for_function("document.querySelector('#status').textContent.startsWith('Key accepted')")
+        _load_demo(page, "quillbrook-rent-freeze")
+        run_scenario(page)  # every call of the run (the paths, each chart, the CSV) carries the key
+        assert page.eval_on_selector_all("#charts img, #charts svg", "charts => charts.length") > 0
+        assert "not drawn" not in page.inner_text("#charts")
 
 
 def test_a_link_opens_for_another_key_only_once_shared(browser, tmp_path):
@@ -344,22 +351,15 @@ def test_the_owner_deletes_a_scenario_from_the_page_and_its_link_no_longer_opens
 
 
 def test_the_message_asking_for_a_key_says_where_the_key_field_is(browser, tmp_path):
-    settings = {"library_path": str(tmp_path / "library.sqlite3"), "api_keys": KEY_A}
-    page = browser.new_page(viewport={"width": 1280, "height": 1800})
-    try:
-        with serving(**settings) as (base, _):
-            page.goto(base + "/")
-            page.wait_for_function("document.querySelector('#status').textContent.includes('API key')")
-            message = page.text_content("#status")
-            tops = page.evaluate(
-                "['run', 'lib-key', 'results-heading'].map((id) =>"
-                " document.getElementById(id).getBoundingClientRect().top + window.scrollY)"
-            )
-            # The field lies between the form (its Run button) and the results, as the message says.
-            assert tops[0] < tops[1] < tops[2]
-            assert "between the inputs and the results" in message
-    finally:
-        page.close()
+    with _page_asking_for_a_key(browser, tmp_path) as page:
+        message = page.text_content("#status")
+        tops = page.evaluate(
+            "['run', 'lib-key', 'results-heading'].map((id) =>"
+            " document.getElementById(id).getBoundingClientRect().top + window.scrollY)"
+        )
+        # The field lies between the form (its Run button) and the results, as the message says.
+        assert tops[0] < tops[1] < tops[2]
+        assert "between the inputs and the results" in message
 
 
 def test_saving_under_another_name_retitles_the_charts_on_the_page_and_keeps_their_panel(browser, tmp_path):
